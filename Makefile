@@ -1,0 +1,42 @@
+# wearplan build, demo and tests. lp_solve 5.5 comes from Debian's
+# liblpsolve55-dev (a static library) and is linked through golp with cgo;
+# GLPK's glpsol (glpk-utils) is the independent reference solver in tests.
+SHELL := /bin/bash
+export PATH := $(PATH):/usr/local/go/bin
+export CGO_ENABLED := 1
+export CGO_CFLAGS := -I/usr/include/lpsolve
+export CGO_LDFLAGS := -llpsolve55 -lm -ldl -lcolamd
+
+DEMO := scenarios/examples/marrowby.yaml
+SUDO := $(shell [ "$$(id -u)" = 0 ] || echo sudo)
+
+# apt_install PACKAGES: install Debian packages, refreshing the package
+# lists only when the first attempt fails (fresh machines have none).
+define apt_install
+$(SUDO) env DEBIAN_FRONTEND=noninteractive apt-get install -y -q --no-install-recommends $(1) >/dev/null 2>&1 || \
+  { $(SUDO) apt-get update -q >/dev/null && $(SUDO) env DEBIAN_FRONTEND=noninteractive apt-get install -y -q --no-install-recommends $(1); }
+endef
+
+.PHONY: demo test build deps deps-test bench clean
+
+deps:
+	@dpkg -s liblpsolve55-dev >/dev/null 2>&1 || { echo "installing liblpsolve55-dev"; $(call apt_install,liblpsolve55-dev); }
+
+deps-test: deps
+	@command -v glpsol >/dev/null 2>&1 || { echo "installing glpk-utils"; $(call apt_install,glpk-utils); }
+
+build: deps
+	go build -o bin/wearplan ./cmd/wearplan
+
+demo: build
+	./bin/wearplan plan $(DEMO)
+
+test: deps-test
+	go vet ./...
+	go test ./...
+
+bench: deps-test
+	go test -run '^$$' -bench . -benchmem ./...
+
+clean:
+	rm -rf bin

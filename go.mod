@@ -1,0 +1,15 @@
+module wearplan
+
+go 1.26
+
+require (
+	github.com/draffensperger/golp v0.0.0-20250721104811-2d405f0b4e68
+	github.com/spf13/cobra v1.10.2
+	gonum.org/v1/gonum v0.17.0
+	gopkg.in/yaml.v3 v3.0.1
+)
+
+require (
+	github.com/inconshreveable/mousetrap v1.1.0 // indirect
+	github.com/spf13/pflag v1.0.9 // indirect
+)
