@@ -1,0 +1,80 @@
+package optimize
+
+import (
+	"fmt"
+	"math/rand/v2"
+	"os"
+	"strconv"
+	"strings"
+	"testing"
+)
+
+// Benchmark sizes: classes x states x treatments x years.
+var benchSizes = []randomSpec{
+	{classes: 4, states: 5, treatments: 4, years: 20, targets: true, budgetShare: 0.15},
+	{classes: 20, states: 7, treatments: 6, years: 30, targets: true, budgetShare: 0.15},
+}
+
+func (s randomSpec) String() string {
+	return fmt.Sprintf("%dx%dx%dx%d", s.classes, s.states, s.treatments, s.years)
+}
+
+// peakRSS reads the process's resident-set high-water mark in MiB, which
+// includes lp_solve's C allocations that Go's -benchmem cannot see.
+func peakRSS() float64 {
+	b, err := os.ReadFile("/proc/self/status")
+	if err != nil {
+		return 0
+	}
+	for _, line := range strings.Split(string(b), "\n") {
+		if strings.HasPrefix(line, "VmHWM:") {
+			f := strings.Fields(line)
+			kb, _ := strconv.ParseFloat(f[1], 64)
+			return kb / 1024
+		}
+	}
+	return 0
+}
+
+// resetPeakRSS restarts the high-water mark (Linux: "5" to clear_refs), so
+// that each benchmark reports its own peak.
+func resetPeakRSS() { _ = os.WriteFile("/proc/self/clear_refs", []byte("5"), 0) }
+
+// BenchmarkBuild measures building the flat LP (no solve).
+func BenchmarkBuild(b *testing.B) {
+	for _, spec := range benchSizes {
+		p := randomProblem(rand.New(rand.NewPCG(1, 1)), spec)
+		b.Run(spec.String(), func(b *testing.B) {
+			var m *Model
+			for b.Loop() {
+				var err error
+				if m, err = BuildModel(p); err != nil {
+					b.Fatal(err)
+				}
+			}
+			b.ReportMetric(float64(len(m.Cols)), "cols")
+			b.ReportMetric(float64(len(m.Rows)), "rows")
+		})
+	}
+}
+
+// BenchmarkSolve measures a whole plan: build, lp_solve, tie-break solve,
+// reading the plan. Peak RSS is reported as MiB-peak.
+func BenchmarkSolve(b *testing.B) {
+	for _, spec := range benchSizes {
+		p := randomProblem(rand.New(rand.NewPCG(1, 1)), spec)
+		b.Run(spec.String(), func(b *testing.B) {
+			resetPeakRSS()
+			var plan *Plan
+			for b.Loop() {
+				var err error
+				if plan, err = Solve(p); err != nil {
+					b.Fatal(err)
+				}
+			}
+			b.ReportMetric(peakRSS(), "MiB-peak")
+			b.ReportMetric(float64(plan.Stats.Cols), "cols")
+			b.ReportMetric(float64(plan.Stats.Solves), "solves")
+		})
+	}
+}

@@ -1,0 +1,54 @@
+// Package optimize chooses the yearly treatment mix for a network of asset
+// classes with linear programming. It is the only package that talks to the
+// solver (lp_solve 5.5 through golp).
+//
+// # The finite-horizon plan
+//
+// Classes k, condition states i, j (best first), actions a (do nothing and
+// the class's treatments), years t = 1..T. The decision x[k,t,i,a] >= 0 is
+// the quantity of class k in state i at the start of year t treated with a
+// during year t, defined only where a applies to i. M[k,a] is the year's
+// transition of action a (see package treatments). Then
+//
+//	Σ_a x[k,1,i,a] = n[k,i]                                 (today's condition)
+//	Σ_a x[k,t+1,j,a] = Σ_{i,a} x[k,t,i,a]·M[k,a](i,j)        (flow, t < T)
+//
+// and the condition at the END of year t is q[k,t,j] = Σ_{i,a} x[k,t,i,a]·
+// M[k,a](i,j): every report and target for year t means that. The model never
+// holds q as variables; each use of q is written out through x, which keeps
+// the column count at classes × years × (applicable state-action pairs).
+//
+// Money: treating in year t costs unit cost × (1+e)^(t-1) with escalation e;
+// present values discount year t by (1+r)^-(t-1), so year-1 money is at face
+// value. Yearly caps bind the network and optionally named groups of classes;
+// with carry-over, money unspent in a year can be spent later, which turns
+// the caps into caps on cumulative spend.
+//
+// Condition is measured on a score from 0 (worst end of the scale) to 100
+// (best end): each class's index values are mapped linearly onto it, so
+// classes on different scales (PCI, IRI, bridge ratings) can be averaged.
+// Network figures weight classes by the weights handed in (replacement value
+// where known). Targets bound, for a class or the network and a range of
+// years, the share of a group (good, fair, poor) from above or below, the
+// average score from below, or hold the end-of-horizon score at today's.
+//
+// Objectives: MaxCondition maximises the mean over the T years of the
+// network score; MinCost minimises the present value of spending. Ties are
+// then broken lexicographically in a second solve that holds the first
+// objective at its optimum (to 1e-9 relative): MaxCondition then spends as
+// little as possible for that condition, MinCost buys the best condition for
+// that cost. The primary optimum is therefore never traded away.
+//
+// Internally each class's quantities are divided by its total and money by
+// a money unit near the largest budget, so that the coefficients stay near 1:
+// lp_solve's scaling cannot be set through golp.
+//
+// When targets cannot all be met, an elastic model adds a non-negative slack
+// to every target row, minimises the total slack, then optimises the
+// objective with the total slack held at that minimum. Each positive slack is
+// a Shortfall: which target, which year, by how much.
+//
+// The model can be written as free MPS (WriteMPS) from the model data, so
+// that any solver reads it; a maximisation is written as the minimisation of
+// the negated objective.
+package optimize

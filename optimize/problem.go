@@ -1,0 +1,272 @@
+package optimize
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"time"
+
+	"wearplan/treatments"
+)
+
+// Group is a level-of-service group of condition states.
+type Group int
+
+const (
+	Good Group = iota
+	Fair
+	Poor
+	groupCount
+)
+
+// Groups lists the groups in report order.
+var Groups = [...]Group{Good, Fair, Poor}
+
+func (g Group) String() string {
+	switch g {
+	case Good:
+		return "good"
+	case Fair:
+		return "fair"
+	case Poor:
+		return "poor"
+	}
+	return fmt.Sprintf("group(%d)", int(g))
+}
+
+// Objective is what the plan optimises.
+type Objective int
+
+const (
+	// MaxCondition maximises the mean network condition score over the horizon.
+	MaxCondition Objective = iota
+	// MinCost minimises the present value of spending subject to the targets.
+	MinCost
+)
+
+func (o Objective) String() string {
+	if o == MinCost {
+		return "min-cost"
+	}
+	return "max-condition"
+}
+
+// Class is one asset class as the optimizer sees it.
+type Class struct {
+	Name string
+	// Initial is today's quantity in each state (start of year 1).
+	Initial []float64
+	// Score is the condition score of each state, 0 (worst) to 100 (best).
+	Score []float64
+	// Group is the level-of-service group of each state.
+	Group []Group
+	// Weight is the class's weight in network figures; weights are
+	// normalised over the classes, so only their ratios matter.
+	Weight float64
+	// Actions are do nothing and the class's treatments (treatments.Actions).
+	Actions []treatments.Action
+}
+
+// Network is the Class index that Target uses for the whole network.
+const Network = -1
+
+// TargetKind is the form of a condition target.
+type TargetKind int
+
+const (
+	// MaxShare: share of Group at most Value.
+	MaxShare TargetKind = iota
+	// MinShare: share of Group at least Value.
+	MinShare
+	// MinScore: average condition score at least Value (0-100).
+	MinScore
+	// Hold: condition score at the end of the horizon at least today's.
+	Hold
+)
+
+// Target is a condition target on a class or the network over a range of
+// years. Years count from 1 (the condition at the end of the first year).
+type Target struct {
+	// Label names the target in messages, e.g. "network poor share at most 15%".
+	Label string
+	Class int
+	Kind  TargetKind
+	Group Group
+	Value float64
+	// From and To are the first and last year the target applies, 1..Horizon.
+	// Hold ignores them and applies to the last year.
+	From, To int
+}
+
+// GroupBudget caps the yearly spend on a named group of classes.
+type GroupBudget struct {
+	Name    string
+	Classes []int
+	// Yearly is the cap of each year; +Inf for no cap.
+	Yearly []float64
+}
+
+// Problem is a finite-horizon planning problem.
+type Problem struct {
+	Horizon int
+	Classes []Class
+	// Budget is the network cap of each year in nominal money (len Horizon),
+	// +Inf for an uncapped year; nil for no network cap.
+	Budget       []float64
+	GroupBudgets []GroupBudget
+	// CarryOver lets money unspent in one year be spent in a later one.
+	CarryOver    bool
+	Escalation   float64
+	DiscountRate float64
+	Targets      []Target
+	Objective    Objective
+	// Timeout bounds each solver call; zero means no limit.
+	Timeout time.Duration
+}
+
+// Validate reports every inconsistency in the problem.
+func (p *Problem) Validate() error {
+	var errs []error
+	add := func(format string, args ...any) { errs = append(errs, fmt.Errorf(format, args...)) }
+	if p.Horizon < 1 {
+		add("horizon %d: plan at least 1 year", p.Horizon)
+	}
+	if len(p.Classes) == 0 {
+		add("no asset classes to plan")
+	}
+	checkCaps := func(what string, caps []float64) {
+		if len(caps) != p.Horizon {
+			add("%s: %d yearly caps for a %d-year horizon", what, len(caps), p.Horizon)
+		}
+		for t, b := range caps {
+			if math.IsNaN(b) || b < 0 {
+				add("%s: cap %g in year %d must be zero or more", what, b, t+1)
+			}
+		}
+	}
+	if p.Budget != nil {
+		checkCaps("network budget", p.Budget)
+	}
+	for _, g := range p.GroupBudgets {
+		checkCaps(fmt.Sprintf("budget group %q", g.Name), g.Yearly)
+		for _, k := range g.Classes {
+			if k < 0 || k >= len(p.Classes) {
+				add("budget group %q: class index %d out of range", g.Name, k)
+			}
+		}
+	}
+	if math.IsNaN(p.Escalation) || p.Escalation <= -1 {
+		add("cost escalation %g must be above -1", p.Escalation)
+	}
+	if math.IsNaN(p.DiscountRate) || p.DiscountRate <= -1 {
+		add("discount rate %g must be above -1", p.DiscountRate)
+	}
+	for k := range p.Classes {
+		if err := p.Classes[k].validate(); err != nil {
+			errs = append(errs, fmt.Errorf("class %q: %w", p.Classes[k].Name, err))
+		}
+	}
+	for n, t := range p.Targets {
+		if t.Class != Network && (t.Class < 0 || t.Class >= len(p.Classes)) {
+			add("target %d (%s): class index %d out of range", n+1, t.Label, t.Class)
+		}
+		if t.Kind != Hold && (t.From < 1 || t.To > p.Horizon || t.From > t.To) {
+			add("target %d (%s): years %d-%d outside the horizon 1-%d", n+1, t.Label, t.From, t.To, p.Horizon)
+		}
+		if (t.Kind == MaxShare || t.Kind == MinShare) && (t.Value < 0 || t.Value > 1) {
+			add("target %d (%s): share %g outside [0, 1]", n+1, t.Label, t.Value)
+		}
+	}
+	return errors.Join(errs...)
+}
+
+func (c *Class) validate() error {
+	n := len(c.Initial)
+	var errs []error
+	add := func(format string, args ...any) { errs = append(errs, fmt.Errorf(format, args...)) }
+	if n < 2 {
+		add("%d states; a scale needs at least 2", n)
+	}
+	if len(c.Score) != n || len(c.Group) != n {
+		add("%d scores and %d groups for %d states", len(c.Score), len(c.Group), n)
+	}
+	total := 0.0
+	for i, q := range c.Initial {
+		if math.IsNaN(q) || math.IsInf(q, 0) || q < 0 {
+			add("quantity %g in state %d must be a finite number of zero or more", q, i+1)
+		}
+		total += q
+	}
+	if !(total > 0) {
+		add("total quantity is zero; give today's quantity in at least one state")
+	}
+	if !(c.Weight > 0) || math.IsInf(c.Weight, 0) {
+		add("network weight %g must be positive", c.Weight)
+	}
+	if len(c.Actions) == 0 || c.Actions[0].Name != treatments.DoNothing {
+		add("the first action must be do nothing")
+	}
+	for _, a := range c.Actions {
+		if len(a.Applies) != n || len(a.Cost) != n || len(a.Rows) != n {
+			add("action %q does not match the %d-state scale", a.Name, n)
+		}
+	}
+	return errors.Join(errs...)
+}
+
+// Total is the class's total quantity.
+func (c *Class) Total() float64 {
+	s := 0.0
+	for _, q := range c.Initial {
+		s += q
+	}
+	return s
+}
+
+// ScoreOf is the average condition score of quantities q by state.
+func (c *Class) ScoreOf(q []float64) float64 {
+	tot, s := 0.0, 0.0
+	for i, v := range q {
+		tot += v
+		s += v * c.Score[i]
+	}
+	if tot == 0 {
+		return 0
+	}
+	return s / tot
+}
+
+// SharesOf is the share of each group in quantities q by state.
+func (c *Class) SharesOf(q []float64) [3]float64 {
+	var sh [3]float64
+	tot := 0.0
+	for i, v := range q {
+		tot += v
+		sh[c.Group[i]] += v
+	}
+	if tot > 0 {
+		for g := range sh {
+			sh[g] /= tot
+		}
+	}
+	return sh
+}
+
+// Weights returns the classes' network weights normalised to sum to 1.
+func (p *Problem) Weights() []float64 {
+	w := make([]float64, len(p.Classes))
+	s := 0.0
+	for k := range p.Classes {
+		s += p.Classes[k].Weight
+	}
+	for k := range p.Classes {
+		w[k] = p.Classes[k].Weight / s
+	}
+	return w
+}
+
+// escalation returns the price factor of year t (0-based).
+func (p *Problem) escalation(t int) float64 { return math.Pow(1+p.Escalation, float64(t)) }
+
+// discount returns the present-value factor of year t (0-based).
+func (p *Problem) discount(t int) float64 { return math.Pow(1+p.DiscountRate, -float64(t)) }
