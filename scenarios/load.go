@@ -1,0 +1,148 @@
+package scenarios
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"io/fs"
+	"os"
+	"path/filepath"
+	"reflect"
+	"regexp"
+	"strconv"
+	"strings"
+	"unicode/utf8"
+
+	"gopkg.in/yaml.v3"
+)
+
+// MaxFileSize bounds a scenario file; anything larger is not a scenario.
+const MaxFileSize = 8 << 20
+
+// LoadFile reads and validates a scenario file from disk. Files it refers
+// to are looked up in the scenario's own folder.
+func LoadFile(path string) (*Scenario, error) {
+	return Load(os.DirFS(filepath.Dir(path)), filepath.Base(path))
+}
+
+// Load reads and validates the scenario name from fsys.
+func Load(fsys fs.FS, name string) (*Scenario, error) {
+	data, err := fs.ReadFile(fsys, name)
+	if err != nil {
+		if errors.Is(err, fs.ErrNotExist) {
+			return nil, &InputError{Issues: []*Issue{{File: name, Msg: "file not found; check the path"}}}
+		}
+		return nil, &InputError{Issues: []*Issue{{File: name, Msg: fmt.Sprintf("cannot read the file: %v", err)}}}
+	}
+	return Parse(name, data)
+}
+
+var yamlLine = regexp.MustCompile(`line (\d+)`)
+
+// parseNode reads YAML text into a node tree, turning syntax errors into an
+// Issue with the line yaml.v3 reports.
+func parseNode(name string, data []byte) (*yaml.Node, error) {
+	is := &issues{file: name}
+	if len(data) > MaxFileSize {
+		is.add(0, "", "file is %d bytes; a scenario file is at most %d", len(data), MaxFileSize)
+		return nil, is.err()
+	}
+	if !utf8.Valid(data) {
+		is.add(0, "", "file is not UTF-8 text; save it as UTF-8")
+		return nil, is.err()
+	}
+	var doc yaml.Node
+	dec := yaml.NewDecoder(bytes.NewReader(data))
+	if err := dec.Decode(&doc); err != nil {
+		msg := strings.TrimPrefix(err.Error(), "yaml: ")
+		line := 0
+		if m := yamlLine.FindStringSubmatch(msg); m != nil {
+			line, _ = strconv.Atoi(m[1])
+			msg = strings.TrimSpace(strings.TrimPrefix(msg, m[0]+":"))
+		}
+		if err.Error() == "EOF" {
+			msg = "file is empty; start from a scenario in scenarios/examples/"
+		} else {
+			msg = "YAML syntax error: " + msg + "; check indentation and that every key is followed by a colon"
+		}
+		is.add(line, "", "%s", msg)
+		return nil, is.err()
+	}
+	root := resolve(&doc)
+	if root.Kind == yaml.DocumentNode && len(root.Content) > 0 {
+		root = resolve(root.Content[0])
+	}
+	if root.Kind != yaml.MappingNode {
+		is.add(root.Line, "", "want a scenario (key: value lines such as name:, horizon:, classes:), got %s", kindName(root))
+		return nil, is.err()
+	}
+	// Anchors and aliases (&name, *name) let a few lines stand for millions
+	// of values, which the strict decoder would walk one by one.
+	written, aliasLine := writtenNodes(&doc)
+	if limit := 10*written + 100_000; expandedNodes(&doc, limit, map[*yaml.Node]int{}) > limit {
+		is.add(aliasLine, "", "anchors and aliases (&name, *name) expand this file to more than %d values, or an alias refers to itself; write the repeated parts out", limit)
+		return nil, is.err()
+	}
+	return root, nil
+}
+
+// writtenNodes counts the nodes as written, aliases not followed, and
+// returns the line of the first alias.
+func writtenNodes(n *yaml.Node) (count, aliasLine int) {
+	count = 1
+	if n.Kind == yaml.AliasNode {
+		return 1, n.Line
+	}
+	for _, c := range n.Content {
+		k, l := writtenNodes(c)
+		count += k
+		if aliasLine == 0 {
+			aliasLine = l
+		}
+	}
+	return count, aliasLine
+}
+
+// expandedNodes counts the nodes with aliases followed, stopping past limit.
+// An alias inside its own anchor counts as past the limit.
+func expandedNodes(n *yaml.Node, limit int, memo map[*yaml.Node]int) int {
+	if n.Kind == yaml.AliasNode && n.Alias != nil {
+		if v, ok := memo[n.Alias]; ok {
+			return v
+		}
+		memo[n.Alias] = limit + 1
+		v := expandedNodes(n.Alias, limit, memo)
+		memo[n.Alias] = v
+		return v
+	}
+	total := 1
+	for _, c := range n.Content {
+		if total += expandedNodes(c, limit, memo); total > limit {
+			return limit + 1
+		}
+	}
+	return total
+}
+
+// Parse validates a scenario held in memory; name is used in messages.
+func Parse(name string, data []byte) (*Scenario, error) {
+	root, err := parseNode(name, data)
+	if err != nil {
+		return nil, err
+	}
+	is := &issues{file: name}
+	var f fileScenario
+	d := &decoder{issues: is}
+	d.decode(root, reflect.ValueOf(&f).Elem(), "")
+	if len(is.list) > 0 {
+		// Shapes are wrong: checking meaning now would repeat the same
+		// problems in vaguer words.
+		return nil, is.err()
+	}
+	sc := build(&f, is)
+	if err := is.err(); err != nil {
+		return nil, err
+	}
+	sc.Source = name
+	return sc, nil
+}

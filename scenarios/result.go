@@ -1,0 +1,167 @@
+package scenarios
+
+import (
+	"bytes"
+	"encoding/json"
+)
+
+// Caution is the paragraph every report carries.
+const Caution = "Planning estimate only. These figures come from a network-level model made for budgeting; " +
+	"they are not an engineering assessment of any asset. Decisions about specific assets need inspection " +
+	"by qualified people, and local codes, standards and licensed practice govern."
+
+// Result is a forecast or plan, year by year, in the shape of the JSON
+// contract (DESIGN.md section 3). Shares are fractions (0-1); money is
+// nominal in the scenario's currency unless a field says present value.
+type Result struct {
+	Scenario  string `json:"scenario"`
+	Source    string `json:"source"`
+	Kind      string `json:"kind"` // "plan" or "forecast"
+	Status    string `json:"status"`
+	Objective string `json:"objective,omitempty"`
+	Currency  string `json:"currency"`
+	StartYear int    `json:"start_year"`
+	Horizon   int    `json:"horizon"`
+	// TotalCost is nominal treatment spend over the horizon.
+	TotalCost    float64 `json:"total_cost"`
+	PresentValue float64 `json:"present_value"`
+	DiscountRate float64 `json:"discount_rate"`
+	Escalation   float64 `json:"cost_escalation"`
+	// ConditionScore is the mean over the horizon of the network condition
+	// score (0-100), the max-condition objective.
+	ConditionScore float64 `json:"condition_score"`
+	// Weighting says how classes are weighted in network figures.
+	Weighting string          `json:"network_weighting"`
+	Weights   []ClassWeight   `json:"weights"`
+	Initial   Snapshot        `json:"initial"`
+	Years     []Year          `json:"years"`
+	Targets   []TargetOutcome `json:"targets"`
+	Warnings  []string        `json:"warnings"`
+	Model     *ModelSize      `json:"model,omitempty"`
+	Caution   string          `json:"caution"`
+}
+
+// ClassWeight is one class's share of network figures.
+type ClassWeight struct {
+	Class  string  `json:"class"`
+	Weight float64 `json:"weight"`
+}
+
+// ModelSize describes the LP that was solved.
+type ModelSize struct {
+	Rows     int `json:"rows"`
+	Columns  int `json:"columns"`
+	Nonzeros int `json:"nonzeros"`
+	Solves   int `json:"solves"`
+}
+
+// Snapshot is the condition of every class and the network at one time.
+type Snapshot struct {
+	Classes []ClassCondition `json:"classes"`
+	Network NetworkCondition `json:"network"`
+}
+
+// Shares are the level-of-service group shares.
+type Shares struct {
+	Good float64 `json:"good"`
+	Fair float64 `json:"fair"`
+	Poor float64 `json:"poor"`
+}
+
+// ClassCondition is a class's condition at the end of a year (or today),
+// with the year's work and spend in plans.
+type ClassCondition struct {
+	Class        string     `json:"class"`
+	Unit         string     `json:"unit"`
+	States       Quantities `json:"states"`
+	AverageIndex float64    `json:"average_index"`
+	Score        float64    `json:"score"`
+	Shares       Shares     `json:"shares"`
+	Work         []Work     `json:"work,omitzero"` // [] in plans, absent in forecasts
+	Spend        *float64   `json:"spend,omitempty"`
+}
+
+// NetworkCondition is the weighted network condition. AverageIndex is
+// present only when every class uses the same scale.
+type NetworkCondition struct {
+	Score        float64  `json:"score"`
+	AverageIndex *float64 `json:"average_index,omitempty"`
+	Shares       Shares   `json:"shares"`
+}
+
+// Work is the quantity of a class in one state given one treatment in a year.
+type Work struct {
+	Treatment string  `json:"treatment"`
+	State     string  `json:"state"`
+	Quantity  float64 `json:"quantity"`
+	Cost      float64 `json:"cost"`
+}
+
+// Year is one planning year: the work done in it and the condition at its end.
+type Year struct {
+	Year    int              `json:"year"`
+	Spend   float64          `json:"spend"`
+	Budget  *float64         `json:"budget"`
+	Groups  []GroupSpend     `json:"budget_groups,omitempty"`
+	Classes []ClassCondition `json:"classes"`
+	Network NetworkCondition `json:"network"`
+}
+
+// GroupSpend is a budget group's spend and cap in a year.
+type GroupSpend struct {
+	Name   string  `json:"name"`
+	Spend  float64 `json:"spend"`
+	Budget float64 `json:"budget"`
+}
+
+// TargetOutcome says whether a target holds, its worst year, and any
+// shortfall per year (share points 0-1, or index points).
+type TargetOutcome struct {
+	Target     string          `json:"target"`
+	Met        bool            `json:"met"`
+	WorstYear  int             `json:"worst_year"`
+	WorstValue float64         `json:"worst_value"`
+	Limit      float64         `json:"limit"`
+	Shortfalls []YearShortfall `json:"shortfalls,omitempty"`
+}
+
+// YearShortfall is how far a target is missed in one year, in the target's
+// own unit (share 0-1, or index points).
+type YearShortfall struct {
+	Year   int     `json:"year"`
+	Amount float64 `json:"amount"`
+}
+
+// StateQuantity is the quantity in one state.
+type StateQuantity struct {
+	State    string
+	Quantity float64
+}
+
+// Quantities is a quantity per state, best first. It is written to JSON as
+// an object whose keys keep the scale's order.
+type Quantities []StateQuantity
+
+// MarshalJSON writes the quantities as an ordered object.
+func (q Quantities) MarshalJSON() ([]byte, error) {
+	var b bytes.Buffer
+	b.WriteByte('{')
+	for i, s := range q {
+		if i > 0 {
+			b.WriteByte(',')
+		}
+		k, err := json.Marshal(s.State)
+		if err != nil {
+			return nil, err
+		}
+		v, err := json.Marshal(s.Quantity)
+		if err != nil {
+			return nil, err
+		}
+		b.Write(k)
+		b.WriteByte(':')
+		b.Write(v)
+	}
+	b.WriteByte('}')
+	return b.Bytes(), nil
+}

@@ -1,0 +1,254 @@
+package scenarios
+
+import (
+	"fmt"
+	"math"
+	"time"
+
+	"wearplan/optimize"
+)
+
+// Options tune a run.
+type Options struct {
+	// Timeout bounds each solver call; zero means no limit.
+	Timeout time.Duration
+}
+
+// Forecast rolls today's condition forward with no work done.
+func Forecast(sc *Scenario) (*Result, error) {
+	p, err := sc.Problem()
+	if err != nil {
+		return nil, err
+	}
+	cond := make([][][]float64, len(sc.Classes))
+	for k := range sc.Classes {
+		cond[k], err = sc.Classes[k].Transition.Roll(sc.Classes[k].Initial, sc.Horizon)
+		if err != nil {
+			return nil, fmt.Errorf("class %q: %w", sc.Classes[k].Name, err)
+		}
+	}
+	r := assemble(sc, p, cond, nil, nil)
+	r.Kind, r.Status = "forecast", "do-nothing"
+	return r, nil
+}
+
+// Plan optimises the scenario's work program.
+func Plan(sc *Scenario, opt Options) (*Result, error) {
+	p, err := sc.Problem()
+	if err != nil {
+		return nil, err
+	}
+	p.Timeout = opt.Timeout
+	plan, err := optimize.Solve(p)
+	if err != nil {
+		return nil, err
+	}
+	if plan.Status == optimize.Infeasible {
+		return nil, fmt.Errorf("%s: the budgets cannot be kept even by doing nothing; check the budget lines", sc.Source)
+	}
+	r := assemble(sc, p, plan.Condition, plan.Work, plan.Spend)
+	r.Kind, r.Status, r.Objective = "plan", string(plan.Status), sc.Objective.String()
+	r.Model = &ModelSize{Rows: plan.Stats.Rows, Columns: plan.Stats.Cols, Nonzeros: plan.Stats.Nonzeros, Solves: plan.Stats.Solves}
+	for _, s := range plan.Shortfalls {
+		t := &r.Targets[s.Target]
+		amount := s.Amount
+		if sc.Targets[s.Target].Spec.Kind == optimize.MinScore || sc.Targets[s.Target].Spec.Kind == optimize.Hold {
+			amount = indexPoints(sc, sc.Targets[s.Target], s.Amount)
+		}
+		t.Shortfalls = append(t.Shortfalls, YearShortfall{Year: sc.Year(s.Year), Amount: amount})
+		t.Met = false
+	}
+	if sc.Objective == optimize.MinCost && len(sc.Targets) == 0 {
+		r.Warnings = append(r.Warnings, "min-cost with no targets: the cheapest plan does nothing; add targets or a budget with max-condition")
+	}
+	return r, nil
+}
+
+// indexPoints converts a shortfall in score points to index points of the
+// target's scale (score points when the scales differ).
+func indexPoints(sc *Scenario, t Target, score float64) float64 {
+	scale := sc.SharedScale()
+	if t.Class != "" {
+		scale = sc.Classes[sc.classIndex(t.Class)].Scale
+	}
+	if scale == nil {
+		return score
+	}
+	return math.Abs(score / 100 * (scale.Best - scale.Worst))
+}
+
+// assemble builds a Result from condition, work and spend arrays indexed
+// like optimize.Plan's. work and spend are nil for a forecast.
+func assemble(sc *Scenario, p *optimize.Problem, cond [][][]float64, work [][][][]float64, spend [][]float64) *Result {
+	r := &Result{
+		Scenario: sc.Name, Source: sc.Source, Currency: sc.Currency, StartYear: sc.StartYear, Horizon: sc.Horizon,
+		DiscountRate: sc.DiscountRate, Escalation: sc.Escalation, Weighting: string(sc.Weighting),
+		Caution: Caution, Warnings: []string{},
+	}
+	for k := range sc.Classes {
+		r.Weights = append(r.Weights, ClassWeight{Class: sc.Classes[k].Name, Weight: sc.Classes[k].Weight})
+	}
+	shared := sc.SharedScale()
+	snapshot := func(t int) ([]ClassCondition, NetworkCondition) {
+		classes := make([]ClassCondition, len(sc.Classes))
+		var net NetworkCondition
+		for k := range sc.Classes {
+			c := &sc.Classes[k]
+			oc := &p.Classes[k]
+			q := cond[k][t]
+			cc := ClassCondition{Class: c.Name, Unit: c.Unit, States: make(Quantities, len(q))}
+			for i, v := range q {
+				cc.States[i] = StateQuantity{State: c.Scale.States[i].Name, Quantity: v}
+			}
+			cc.Score = oc.ScoreOf(q)
+			cc.AverageIndex = c.Scale.Index(cc.Score)
+			sh := oc.SharesOf(q)
+			cc.Shares = Shares{Good: sh[optimize.Good], Fair: sh[optimize.Fair], Poor: sh[optimize.Poor]}
+			classes[k] = cc
+			w := c.Weight
+			net.Score += w * cc.Score
+			net.Shares.Good += w * cc.Shares.Good
+			net.Shares.Fair += w * cc.Shares.Fair
+			net.Shares.Poor += w * cc.Shares.Poor
+		}
+		if shared != nil {
+			v := shared.Index(net.Score)
+			net.AverageIndex = &v
+		}
+		return classes, net
+	}
+	r.Initial.Classes, r.Initial.Network = snapshot(0)
+	for t := 1; t <= sc.Horizon; t++ {
+		y := Year{Year: sc.Year(t)}
+		y.Classes, y.Network = snapshot(t)
+		if sc.Budget != nil && !math.IsInf(sc.Budget[t-1], 1) {
+			b := sc.Budget[t-1]
+			y.Budget = &b
+		}
+		if work != nil {
+			for k := range sc.Classes {
+				cc := &y.Classes[k]
+				cc.Work = workOf(&sc.Classes[k], &p.Classes[k], work[k][t-1], p.Escalation, t-1)
+				s := spend[k][t-1]
+				cc.Spend = &s
+				y.Spend += s
+			}
+			for _, g := range sc.BudgetGroups {
+				gs := GroupSpend{Name: g.Name, Budget: g.Yearly[t-1]}
+				for _, name := range g.Classes {
+					gs.Spend += spend[sc.classIndex(name)][t-1]
+				}
+				y.Groups = append(y.Groups, gs)
+			}
+			r.TotalCost += y.Spend
+			r.PresentValue += y.Spend * math.Pow(1+sc.DiscountRate, -float64(t-1))
+		}
+		r.ConditionScore += y.Network.Score / float64(sc.Horizon)
+		r.Years = append(r.Years, y)
+	}
+	r.Targets = evaluateTargets(sc, r)
+	return r
+}
+
+// workOf lists the treatments applied in one year, best state first. It
+// returns an empty list, not nil, for a year without work, so that plans
+// always carry the work list of the JSON contract.
+func workOf(c *Class, oc *optimize.Class, byState [][]float64, escalation float64, t int) []Work {
+	out := []Work{}
+	esc := math.Pow(1+escalation, float64(t))
+	floor := 1e-9 * c.Total()
+	for i, byAction := range byState {
+		for a, q := range byAction {
+			if a == 0 || q <= floor {
+				continue
+			}
+			act := &oc.Actions[a]
+			out = append(out, Work{Treatment: act.Name, State: c.Scale.States[i].Name, Quantity: q, Cost: q * act.Cost[i] * esc})
+		}
+	}
+	return out
+}
+
+// evaluateTargets measures each target on the result's condition, so that
+// forecasts report which targets doing nothing would break.
+func evaluateTargets(sc *Scenario, r *Result) []TargetOutcome {
+	out := make([]TargetOutcome, 0, len(sc.Targets))
+	for _, t := range sc.Targets {
+		o := TargetOutcome{Target: t.Label, Met: true}
+		spec := t.Spec
+		measure := func(y Year, init bool) float64 {
+			var cc *ClassCondition
+			var net NetworkCondition
+			if init {
+				net = r.Initial.Network
+			} else {
+				net = y.Network
+			}
+			if t.Class != "" {
+				k := sc.classIndex(t.Class)
+				if init {
+					cc = &r.Initial.Classes[k]
+				} else {
+					cc = &y.Classes[k]
+				}
+			}
+			switch spec.Kind {
+			case optimize.MaxShare, optimize.MinShare:
+				sh := net.Shares
+				if cc != nil {
+					sh = cc.Shares
+				}
+				return [...]float64{sh.Good, sh.Fair, sh.Poor}[spec.Group]
+			default:
+				if cc != nil {
+					return cc.Score
+				}
+				return net.Score
+			}
+		}
+		limit := spec.Value
+		if spec.Kind == optimize.Hold {
+			limit = measure(Year{}, true)
+		}
+		worst := math.NaN()
+		for _, y := range r.Years {
+			if y.Year < t.FromYear || y.Year > t.ToYear {
+				continue
+			}
+			v := measure(y, false)
+			worse := math.IsNaN(worst)
+			var miss float64
+			switch spec.Kind {
+			case optimize.MaxShare:
+				worse = worse || v > worst
+				miss = v - limit
+			default:
+				worse = worse || v < worst
+				miss = limit - v
+			}
+			if worse {
+				worst, o.WorstYear = v, y.Year
+			}
+			if miss > 1e-6 {
+				o.Met = false
+			}
+		}
+		o.WorstValue, o.Limit = worst, limit
+		if spec.Kind == optimize.MinScore || spec.Kind == optimize.Hold {
+			o.WorstValue, o.Limit = scoreToIndex(sc, t, worst), scoreToIndex(sc, t, limit)
+		}
+		out = append(out, o)
+	}
+	return out
+}
+
+func scoreToIndex(sc *Scenario, t Target, score float64) float64 {
+	scale := sc.SharedScale()
+	if t.Class != "" {
+		scale = sc.Classes[sc.classIndex(t.Class)].Scale
+	}
+	if scale == nil {
+		return score
+	}
+	return scale.Index(score)
+}

@@ -1,0 +1,172 @@
+package scenarios
+
+import (
+	"fmt"
+
+	"wearplan/markov"
+	"wearplan/optimize"
+	"wearplan/treatments"
+)
+
+// State is one condition state of a scale.
+type State struct {
+	Name string
+	// Min and Max bound the index values the state covers.
+	Min, Max float64
+	// Value is the representative index value used for averages.
+	Value float64
+}
+
+// Scale is an ordered list of condition states, best first, grouped into
+// good, fair and poor for level-of-service reporting.
+type Scale struct {
+	Name   string
+	States []State
+	Group  []optimize.Group
+	// Best and Worst are the index values at the best and worst ends of the
+	// scale (Best < Worst for scales where lower is better, such as IRI).
+	Best, Worst float64
+}
+
+// Score maps an index value onto 0 (worst end) - 100 (best end).
+func (s *Scale) Score(v float64) float64 { return 100 * (v - s.Worst) / (s.Best - s.Worst) }
+
+// Index maps a score back onto the scale's index values.
+func (s *Scale) Index(score float64) float64 { return s.Worst + score/100*(s.Best-s.Worst) }
+
+// StateIndex returns the position of a state name, or -1.
+func (s *Scale) StateIndex(name string) int {
+	for i, st := range s.States {
+		if st.Name == name {
+			return i
+		}
+	}
+	return -1
+}
+
+// Class is a validated asset class.
+type Class struct {
+	Name string
+	Unit string
+	// Scale is shared by the classes that name it.
+	Scale *Scale
+	// Initial is today's quantity by state.
+	Initial    []float64
+	Transition *markov.Transition
+	Treatments []treatments.Treatment
+	// ReplacementCost is per unit of quantity; 0 when not given.
+	ReplacementCost float64
+	// Weight is the class's normalised weight in network figures.
+	Weight float64
+}
+
+// Total is the class's total quantity.
+func (c *Class) Total() float64 {
+	s := 0.0
+	for _, q := range c.Initial {
+		s += q
+	}
+	return s
+}
+
+// Target is a validated condition target with calendar years.
+type Target struct {
+	Label string
+	// Class is the class name, or "" for the whole network.
+	Class string
+	Spec  optimize.Target
+	// FromYear and ToYear are calendar years (end-of-year condition).
+	FromYear, ToYear int
+}
+
+// BudgetGroup caps the yearly spend on some classes.
+type BudgetGroup struct {
+	Name    string
+	Classes []string
+	Yearly  []float64
+}
+
+// Weighting says how classes are weighted in network figures.
+type Weighting string
+
+const (
+	WeightByValue Weighting = "replacement value"
+	WeightGiven   Weighting = "weights given in the scenario"
+	WeightEqual   Weighting = "equal (no replacement costs given)"
+)
+
+// Scenario is a validated planning scenario.
+type Scenario struct {
+	Name        string
+	Description string
+	// Source names the file the scenario came from.
+	Source       string
+	StartYear    int
+	Horizon      int
+	Currency     string
+	DiscountRate float64
+	Escalation   float64
+	Classes      []Class
+	// Budget is the network cap per year; nil for none.
+	Budget       []float64
+	BudgetGroups []BudgetGroup
+	CarryOver    bool
+	Targets      []Target
+	Objective    optimize.Objective
+	Weighting    Weighting
+}
+
+// Year returns the calendar year of plan year t (1-based).
+func (s *Scenario) Year(t int) int { return s.StartYear + t - 1 }
+
+// SharedScale returns the scale every class uses, or nil when they differ.
+func (s *Scenario) SharedScale() *Scale {
+	var sc *Scale
+	for i := range s.Classes {
+		if sc == nil {
+			sc = s.Classes[i].Scale
+		} else if s.Classes[i].Scale != sc {
+			return nil
+		}
+	}
+	return sc
+}
+
+// Problem turns the scenario into the optimizer's problem.
+func (s *Scenario) Problem() (*optimize.Problem, error) {
+	p := &optimize.Problem{
+		Horizon:      s.Horizon,
+		Budget:       s.Budget,
+		CarryOver:    s.CarryOver,
+		Escalation:   s.Escalation,
+		DiscountRate: s.DiscountRate,
+		Objective:    s.Objective,
+	}
+	index := map[string]int{}
+	for k := range s.Classes {
+		c := &s.Classes[k]
+		index[c.Name] = k
+		acts, err := treatments.Actions(c.Transition, c.Treatments)
+		if err != nil {
+			return nil, fmt.Errorf("class %q: %w", c.Name, err)
+		}
+		score := make([]float64, len(c.Scale.States))
+		for i, st := range c.Scale.States {
+			score[i] = c.Scale.Score(st.Value)
+		}
+		p.Classes = append(p.Classes, optimize.Class{
+			Name: c.Name, Initial: c.Initial, Score: score, Group: c.Scale.Group, Weight: c.Weight, Actions: acts,
+		})
+	}
+	for _, g := range s.BudgetGroups {
+		gb := optimize.GroupBudget{Name: g.Name, Yearly: g.Yearly}
+		for _, name := range g.Classes {
+			gb.Classes = append(gb.Classes, index[name])
+		}
+		p.GroupBudgets = append(p.GroupBudgets, gb)
+	}
+	for _, t := range s.Targets {
+		p.Targets = append(p.Targets, t.Spec)
+	}
+	return p, nil
+}

@@ -1,0 +1,245 @@
+package scenarios
+
+import (
+	"fmt"
+
+	"gopkg.in/yaml.v3"
+)
+
+// The types in this file mirror the scenario file (DESIGN.md section 3)
+// key for key. They hold what was written, with lines, before any check.
+
+type fileScenario struct {
+	Name           string               `yaml:"name"`
+	Description    string               `yaml:"description"`
+	StartYear      *int                 `yaml:"start_year"`
+	Horizon        *int                 `yaml:"horizon"`
+	Currency       string               `yaml:"currency"`
+	DiscountRate   *float64             `yaml:"discount_rate"`
+	CostEscalation *float64             `yaml:"cost_escalation"`
+	Scales         map[string]fileScale `yaml:"scales"`
+	Classes        []fileClass          `yaml:"classes"`
+	Treatments     []fileTreatment      `yaml:"treatments"`
+	Budget         *fileBudget          `yaml:"budget"`
+	Targets        []fileTarget         `yaml:"targets"`
+	Objective      string               `yaml:"objective"`
+	Lines          lines
+}
+
+type fileScale struct {
+	States []fileState         `yaml:"states"`
+	Groups map[string][]string `yaml:"groups"`
+	Lines  lines
+}
+
+type fileState struct {
+	Name  string   `yaml:"name"`
+	Min   *float64 `yaml:"min"`
+	Max   *float64 `yaml:"max"`
+	Value *float64 `yaml:"value"`
+	Lines lines
+}
+
+type fileClass struct {
+	Name            string             `yaml:"name"`
+	Scale           string             `yaml:"scale"`
+	Unit            string             `yaml:"unit"`
+	Inventory       *stateNumbers      `yaml:"inventory"`
+	Deterioration   *fileDeterioration `yaml:"deterioration"`
+	Treatments      []string           `yaml:"treatments"`
+	ReplacementCost *float64           `yaml:"replacement_cost"`
+	Weight          *float64           `yaml:"weight"`
+	Lines           lines
+}
+
+type fileDeterioration struct {
+	Matrix           *matrix   `yaml:"matrix"`
+	YearsInState     []float64 `yaml:"years_in_state"`
+	AllowImprovement bool      `yaml:"allow_improvement"`
+	Lines            lines
+}
+
+type fileTreatment struct {
+	Name         string      `yaml:"name"`
+	AppliesTo    []string    `yaml:"applies_to"`
+	Cost         *costSpec   `yaml:"cost"`
+	Effect       *fileEffect `yaml:"effect"`
+	AgesSameYear *bool       `yaml:"ages_same_year"`
+	Lines        lines
+}
+
+type fileEffect struct {
+	To           string            `yaml:"to"`
+	Improve      *int              `yaml:"improve"`
+	Distribution *distributionSpec `yaml:"distribution"`
+	Lines        lines
+}
+
+type fileBudget struct {
+	Yearly    *amounts          `yaml:"yearly"`
+	Groups    []fileBudgetGroup `yaml:"groups"`
+	CarryOver bool              `yaml:"carry_over"`
+	Lines     lines
+}
+
+type fileBudgetGroup struct {
+	Name    string   `yaml:"name"`
+	Classes []string `yaml:"classes"`
+	Yearly  *amounts `yaml:"yearly"`
+	Lines   lines
+}
+
+type fileTarget struct {
+	Class           string   `yaml:"class"`
+	Group           string   `yaml:"group"`
+	MaxShare        *float64 `yaml:"max_share"`
+	MinShare        *float64 `yaml:"min_share"`
+	MinAverageIndex *float64 `yaml:"min_average_index"`
+	FromYear        *int     `yaml:"from_year"`
+	ToYear          *int     `yaml:"to_year"`
+	Hold            bool     `yaml:"hold"`
+	Lines           lines
+}
+
+// amounts is one number for every year, or a list with one per year.
+type amounts struct {
+	Single *float64
+	List   []float64
+	Line   int
+}
+
+func (a *amounts) decodeNode(d *decoder, n *yaml.Node, path string) {
+	a.Line = n.Line
+	switch n.Kind {
+	case yaml.SequenceNode:
+		a.List = make([]float64, len(n.Content))
+		for i, item := range n.Content {
+			if f, ok := d.number(resolve(item), fmt.Sprintf("%s[%d]", path, i)); ok {
+				a.List[i] = f
+			}
+		}
+	default:
+		if f, ok := d.number(n, path); ok {
+			a.Single = &f
+		}
+	}
+}
+
+// stateNumbers maps state names to numbers, in file order, with lines.
+type stateNumbers struct {
+	Entries []stateNumber
+	Line    int
+}
+
+type stateNumber struct {
+	State string
+	Value float64
+	Line  int
+}
+
+func (s *stateNumbers) decodeNode(d *decoder, n *yaml.Node, path string) {
+	s.Line = n.Line
+	if n.Kind != yaml.MappingNode {
+		d.add(n.Line, path, "want state names with numbers (e.g. {Good: 120, Fair: 40}), got %s", kindName(n))
+		return
+	}
+	seen := map[string]bool{}
+	for _, kl := range mappingKeys(n) {
+		field := joinPath(path, kl.key)
+		if seen[kl.key] {
+			d.add(kl.line, field, "state written twice; keep one")
+			continue
+		}
+		seen[kl.key] = true
+		if f, ok := d.number(resolve(kl.val), field); ok {
+			s.Entries = append(s.Entries, stateNumber{State: kl.key, Value: f, Line: kl.line})
+		}
+	}
+}
+
+// costSpec is one unit cost for every state, or one per state.
+type costSpec struct {
+	Single  *float64
+	ByState *stateNumbers
+	Line    int
+}
+
+func (c *costSpec) decodeNode(d *decoder, n *yaml.Node, path string) {
+	c.Line = n.Line
+	if n.Kind == yaml.MappingNode {
+		c.ByState = &stateNumbers{}
+		c.ByState.decodeNode(d, n, path)
+		return
+	}
+	if f, ok := d.number(n, path); ok {
+		c.Single = &f
+	}
+}
+
+// distributionSpec is the distribution after treatment: one for every state
+// treated ({Very good: 0.8, Good: 0.2}) or one per state treated
+// ({Fair: {Very good: 0.7, Good: 0.3}, Poor: {...}}).
+type distributionSpec struct {
+	Same    *stateNumbers
+	ByState map[string]*stateNumbers
+	Order   []string
+	Line    int
+}
+
+func (ds *distributionSpec) decodeNode(d *decoder, n *yaml.Node, path string) {
+	ds.Line = n.Line
+	if n.Kind != yaml.MappingNode {
+		d.add(n.Line, path, "want state names with probabilities, got %s", kindName(n))
+		return
+	}
+	keys := mappingKeys(n)
+	nested := len(keys) > 0 && resolve(keys[0].val).Kind == yaml.MappingNode
+	if !nested {
+		ds.Same = &stateNumbers{}
+		ds.Same.decodeNode(d, n, path)
+		return
+	}
+	ds.ByState = map[string]*stateNumbers{}
+	for _, kl := range keys {
+		field := joinPath(path, kl.key)
+		if _, dup := ds.ByState[kl.key]; dup {
+			d.add(kl.line, field, "state written twice; keep one")
+			continue
+		}
+		sn := &stateNumbers{}
+		sn.decodeNode(d, resolve(kl.val), field)
+		ds.ByState[kl.key] = sn
+		ds.Order = append(ds.Order, kl.key)
+	}
+}
+
+// matrix is a transition matrix written as one list per state, with the
+// line of each row.
+type matrix struct {
+	Rows  [][]float64
+	Lines []int
+	Line  int
+}
+
+func (m *matrix) decodeNode(d *decoder, n *yaml.Node, path string) {
+	m.Line = n.Line
+	if n.Kind != yaml.SequenceNode {
+		d.add(n.Line, path, "want one list of probabilities per state, got %s", kindName(n))
+		return
+	}
+	for i, rowNode := range n.Content {
+		rowNode = resolve(rowNode)
+		field := fmt.Sprintf("%s[%d]", path, i)
+		var row []float64
+		if rowNode.Kind != yaml.SequenceNode {
+			d.add(rowNode.Line, field, "want a list of probabilities, got %s", kindName(rowNode))
+		} else {
+			for j, c := range rowNode.Content {
+				f, _ := d.number(resolve(c), fmt.Sprintf("%s[%d]", field, j))
+				row = append(row, f)
+			}
+		}
+		m.Rows = append(m.Rows, row)
+		m.Lines = append(m.Lines, rowNode.Line)
+	}
+}
