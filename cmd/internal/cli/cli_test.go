@@ -1,0 +1,166 @@
+package cli
+
+import (
+	"bytes"
+	"encoding/csv"
+	"encoding/json"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+const demo = "../../../scenarios/examples/marrowby.yaml"
+
+func run(t *testing.T, args ...string) (int, string, string) {
+	t.Helper()
+	var out, errb bytes.Buffer
+	code := Main(args, &out, &errb)
+	return code, out.String(), errb.String()
+}
+
+func TestPlanDemoTable(t *testing.T) {
+	code, out, errs := run(t, "plan", demo)
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	for _, want := range []string{"Work program", "Spend against budget", "Condition at the end of each year", "network", "Targets", "Planning estimate only"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("plan output lacks %q", want)
+		}
+	}
+}
+
+func TestPlanJSONContract(t *testing.T) {
+	code, out, errs := run(t, "plan", demo, "--format", "json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var doc map[string]any
+	if err := json.Unmarshal([]byte(out), &doc); err != nil {
+		t.Fatal(err)
+	}
+	for _, k := range []string{"status", "total_cost", "condition_score", "years", "initial"} {
+		if _, ok := doc[k]; !ok {
+			t.Errorf("JSON lacks %q", k)
+		}
+	}
+	if doc["status"] != "optimal" {
+		t.Errorf("status %v", doc["status"])
+	}
+}
+
+func TestSameInputSameBytes(t *testing.T) {
+	for _, format := range []string{"table", "json", "csv"} {
+		_, a, _ := run(t, "plan", demo, "--format", format)
+		_, b, _ := run(t, "plan", demo, "--format", format)
+		if a != b {
+			t.Errorf("%s output differs between two runs", format)
+		}
+	}
+}
+
+func TestCSVDirectoryWritesEveryTable(t *testing.T) {
+	dir := t.TempDir()
+	code, _, errs := run(t, "plan", demo, "--format", "csv", "--out", dir)
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	for _, name := range []string{"work", "condition", "service", "spend", "targets"} {
+		f, err := os.Open(filepath.Join(dir, name+".csv"))
+		if err != nil {
+			t.Fatal(err)
+		}
+		rows, err := csv.NewReader(f).ReadAll()
+		f.Close()
+		if err != nil || len(rows) < 2 {
+			t.Errorf("%s.csv: %d rows, %v", name, len(rows), err)
+		}
+	}
+	leftovers, _ := filepath.Glob(filepath.Join(dir, ".*tmp*"))
+	if len(leftovers) > 0 {
+		t.Errorf("temporary files left behind: %v", leftovers)
+	}
+}
+
+func TestBadInputExitsTwoAndWritesNothing(t *testing.T) {
+	dir := t.TempDir()
+	bad := filepath.Join(dir, "bad.yaml")
+	if err := os.WriteFile(bad, []byte("name: x\nstart_year: 2027\nhorizn: 5\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(dir, "plan.json")
+	code, _, errs := run(t, "plan", bad, "--format", "json", "--out", out)
+	if code != exitInput {
+		t.Fatalf("exit %d, want %d", code, exitInput)
+	}
+	if !strings.Contains(errs, "bad.yaml:3") || !strings.Contains(errs, `did you mean "horizon"`) {
+		t.Errorf("error does not name the line and the fix:\n%s", errs)
+	}
+	if strings.Contains(errs, "goroutine") || strings.Contains(errs, "panic") {
+		t.Errorf("stack trace in error output:\n%s", errs)
+	}
+	if _, err := os.Stat(out); !os.IsNotExist(err) {
+		t.Errorf("output file written despite bad input")
+	}
+	entries, _ := os.ReadDir(dir)
+	if len(entries) != 1 {
+		t.Errorf("stray files: %v", entries)
+	}
+}
+
+func TestUsageErrors(t *testing.T) {
+	cases := [][]string{
+		{"plan", demo, "--format", "docx"},
+		{"plan"},
+		{"plan", demo, "--no-such-flag"},
+		{"nonsense"},
+		{"forecast", demo, "--table", "nope"},
+	}
+	for _, args := range cases {
+		code, _, errs := run(t, args...)
+		if code != exitInput {
+			t.Errorf("%v: exit %d, want %d (%s)", args, code, exitInput, errs)
+		}
+	}
+}
+
+func TestMissingFile(t *testing.T) {
+	code, _, errs := run(t, "check", "no/such/file.yaml")
+	if code != exitInput || !strings.Contains(errs, "file.yaml") || !strings.Contains(errs, "not found") {
+		t.Errorf("exit %d: %s", code, errs)
+	}
+}
+
+func TestHelpShowsExamples(t *testing.T) {
+	for _, c := range []string{"check", "forecast", "plan"} {
+		code, out, _ := run(t, c, "--help")
+		if code != 0 || !strings.Contains(out, "Examples:") || !strings.Contains(out, "marrowby.yaml") {
+			t.Errorf("%s --help: exit %d, no worked example:\n%s", c, code, out)
+		}
+	}
+}
+
+func TestStrictTargetsNotMet(t *testing.T) {
+	data, err := os.ReadFile(demo)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// One tenth of the demo's money cannot hold 15% poor from 2031.
+	low := strings.Replace(string(data), "yearly: 4500000", "yearly: 450000", 1)
+	if low == string(data) {
+		t.Fatal("demo budget line not found; update the test")
+	}
+	path := filepath.Join(t.TempDir(), "low.yaml")
+	if err := os.WriteFile(path, []byte(low), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	code, _, errs := run(t, "plan", path)
+	if code != 0 || !strings.Contains(errs, "network poor share at most 15%") {
+		t.Errorf("without --strict: exit %d, warning:\n%s", code, errs)
+	}
+	code, _, _ = run(t, "plan", path, "--strict")
+	if code != exitTargets {
+		t.Errorf("--strict: exit %d, want %d", code, exitTargets)
+	}
+}

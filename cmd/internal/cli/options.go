@@ -1,0 +1,126 @@
+package cli
+
+import (
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+	"slices"
+	"strings"
+	"time"
+
+	"github.com/spf13/cobra"
+
+	"wearplan/cmd/internal/render"
+	"wearplan/scenarios"
+)
+
+// outputOptions are the flags every reporting command shares.
+type outputOptions struct {
+	format string
+	out    string
+	table  string
+}
+
+var resultFormats = []string{"table", "json", "csv"}
+
+func (o *outputOptions) register(cmd *cobra.Command, defaultTable string) {
+	f := cmd.Flags()
+	f.StringVar(&o.format, "format", "table", "output format: "+strings.Join(resultFormats, ", "))
+	f.StringVar(&o.out, "out", "", "write to this file instead of standard output (for csv: a directory gets one file per table)")
+	f.StringVar(&o.table, "table", defaultTable, "table written by --format csv: "+strings.Join(render.CSVTables, ", "))
+}
+
+func (o *outputOptions) validate() error {
+	if !slices.Contains(resultFormats, o.format) {
+		return usageError("--format %q: choose one of %s", o.format, strings.Join(resultFormats, ", "))
+	}
+	if !slices.Contains(render.CSVTables, o.table) {
+		return usageError("--table %q: choose one of %s", o.table, strings.Join(render.CSVTables, ", "))
+	}
+	return nil
+}
+
+// write renders r in the chosen format to standard output or to --out.
+func (o *outputOptions) write(cmd *cobra.Command, r *scenarios.Result) error {
+	render1 := func(w io.Writer) error {
+		switch o.format {
+		case "json":
+			return render.JSON(w, r)
+		case "csv":
+			return render.CSV(w, r, o.table)
+		default:
+			return render.Text(w, r)
+		}
+	}
+	if o.out == "" {
+		return render1(cmd.OutOrStdout())
+	}
+	if o.format == "csv" && isDir(o.out) {
+		// One file per table, each written whole or not at all.
+		for _, name := range render.CSVTables {
+			path := filepath.Join(o.out, name+".csv")
+			if err := writeFileAtomic(path, func(w io.Writer) error { return render.CSV(w, r, name) }); err != nil {
+				return err
+			}
+		}
+		fmt.Fprintf(cmd.ErrOrStderr(), "wrote %d tables to %s\n", len(render.CSVTables), o.out)
+		return nil
+	}
+	if err := writeFileAtomic(o.out, render1); err != nil {
+		return err
+	}
+	fmt.Fprintf(cmd.ErrOrStderr(), "wrote %s\n", o.out)
+	return nil
+}
+
+func isDir(path string) bool {
+	st, err := os.Stat(path)
+	return err == nil && st.IsDir()
+}
+
+// writeFileAtomic writes through a temporary file in the same folder and
+// renames it into place, so a failed run never leaves half a file.
+func writeFileAtomic(path string, fill func(io.Writer) error) error {
+	dir := filepath.Dir(path)
+	tmp, err := os.CreateTemp(dir, "."+filepath.Base(path)+".tmp*")
+	if err != nil {
+		return &exitError{code: exitFailure, err: fmt.Errorf("cannot write %s: %w", path, err)}
+	}
+	keep := false
+	defer func() {
+		if !keep {
+			tmp.Close()
+			os.Remove(tmp.Name())
+		}
+	}()
+	if err := fill(tmp); err != nil {
+		return fmt.Errorf("writing %s: %w", path, err)
+	}
+	if err := tmp.Close(); err != nil {
+		return fmt.Errorf("writing %s: %w", path, err)
+	}
+	if err := os.Rename(tmp.Name(), path); err != nil {
+		return fmt.Errorf("writing %s: %w", path, err)
+	}
+	keep = true
+	return nil
+}
+
+// solveOptions are the flags of commands that run the optimizer.
+type solveOptions struct {
+	timeout time.Duration
+}
+
+func (o *solveOptions) register(cmd *cobra.Command) {
+	cmd.Flags().DurationVar(&o.timeout, "timeout", 5*time.Minute, "give up on a solve after this long (e.g. 30s, 10m)")
+}
+
+func (o *solveOptions) scenarioOptions() scenarios.Options {
+	return scenarios.Options{Timeout: o.timeout}
+}
+
+// loadScenario reads and checks a scenario file.
+func loadScenario(path string) (*scenarios.Scenario, error) {
+	return scenarios.LoadFile(path)
+}

@@ -1,0 +1,96 @@
+package cli
+
+import (
+	"fmt"
+	"strings"
+
+	"github.com/spf13/cobra"
+
+	"wearplan/cmd/internal/render"
+	"wearplan/scenarios"
+)
+
+func newPlanCmd() *cobra.Command {
+	var out outputOptions
+	var solve solveOptions
+	var strict bool
+	cmd := &cobra.Command{
+		Use:   "plan FILE",
+		Short: "Choose the yearly treatment mix under the budget and targets",
+		Long: `Plan builds the finite-horizon linear program of the scenario (every class,
+state, treatment and year), solves it with lp_solve, and prints the work
+program, spend against budget, condition per year and the targets.
+
+With a budget the default objective is max-condition: the best mean network
+condition the money buys. Without one it is min-cost: the least present-value
+spend that meets the targets. When the targets cannot be met within the
+budget, the plan reports status targets-not-met and, per target and year, how
+far it falls short; it still exits 0 unless --strict is given (exit 3).`,
+		Example: `  # Plan the demo and print the tables
+  wearplan plan scenarios/examples/marrowby.yaml
+
+  # The JSON contract, for other tools
+  wearplan plan scenarios/examples/marrowby.yaml --format json --out plan.json
+
+  # Every table as CSV files in a folder
+  mkdir -p out && wearplan plan scenarios/examples/marrowby.yaml --format csv --out out`,
+		Args: cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			if err := out.validate(); err != nil {
+				return err
+			}
+			sc, err := loadScenario(args[0])
+			if err != nil {
+				return err
+			}
+			r, err := scenarios.Plan(sc, solve.scenarioOptions())
+			if err != nil {
+				return err
+			}
+			if err := out.write(cmd, r); err != nil {
+				return err
+			}
+			if r.Status == "targets-not-met" {
+				warnShortfalls(cmd, r)
+				if strict {
+					return &exitError{code: exitTargets, err: fmt.Errorf("%s: targets cannot be met within the budget (--strict)", args[0])}
+				}
+			}
+			return nil
+		},
+	}
+	out.register(cmd, "work")
+	solve.register(cmd)
+	cmd.Flags().BoolVar(&strict, "strict", false, "exit with code 3 when the targets cannot be met")
+	return cmd
+}
+
+// warnShortfalls names each missed target on standard error, so that the
+// message is seen even when the tables go to a file.
+func warnShortfalls(cmd *cobra.Command, r *scenarios.Result) {
+	w := cmd.ErrOrStderr()
+	fmt.Fprintln(w, "warning: the targets cannot all be met within the budget; this plan keeps the shortfall as small as possible:")
+	for _, t := range r.Targets {
+		if len(t.Shortfalls) == 0 {
+			continue
+		}
+		fmt.Fprintf(w, "  - %s: short by %s\n", t.Target, shortfallText(t))
+	}
+}
+
+func shortfallText(t scenarios.TargetOutcome) string {
+	biggest, at := 0.0, 0
+	for _, s := range t.Shortfalls {
+		if s.Amount > biggest {
+			biggest, at = s.Amount, s.Year
+		}
+	}
+	n := len(t.Shortfalls)
+	span := fmt.Sprintf("in %d year(s) from %d to %d", n, t.Shortfalls[0].Year, t.Shortfalls[n-1].Year)
+	if t.Limit <= 1 && t.WorstValue <= 1 && isShare(t.Target) {
+		return fmt.Sprintf("up to %.1f percentage points (worst in %d), %s", 100*biggest, at, span)
+	}
+	return fmt.Sprintf("up to %s index points (worst in %d), %s", render.Index(biggest), at, span)
+}
+
+func isShare(label string) bool { return strings.Contains(label, " share ") }

@@ -1,0 +1,102 @@
+// Package cli is the wearplan command tree: one file per command, shared
+// options in options.go. Commands parse flags, call the domain packages and
+// hand results to the renderers; they hold no planning logic.
+package cli
+
+import (
+	"errors"
+	"fmt"
+	"io"
+	"strings"
+
+	"github.com/spf13/cobra"
+
+	"wearplan/scenarios"
+)
+
+// Exit codes.
+const (
+	exitOK      = 0
+	exitFailure = 1 // the run failed: solver, file system
+	exitInput   = 2 // bad input or usage: fix the file or the command line
+	exitTargets = 3 // --strict and the targets cannot be met
+)
+
+// Version is the wearplan version printed by --version and in reports.
+var Version = "0.1.0-dev"
+
+// exitError carries an exit code chosen by a command.
+type exitError struct {
+	code int
+	err  error
+}
+
+func (e *exitError) Error() string { return e.err.Error() }
+func (e *exitError) Unwrap() error { return e.err }
+
+// usageError marks a mistake on the command line.
+func usageError(format string, args ...any) error {
+	return &exitError{code: exitInput, err: fmt.Errorf(format, args...)}
+}
+
+// Main runs the command line and returns the process exit code.
+func Main(args []string, stdout, stderr io.Writer) int {
+	root := newRoot(stdout, stderr)
+	root.SetArgs(args)
+	err := root.Execute()
+	if err == nil {
+		return exitOK
+	}
+	code := exitFailure
+	var ee *exitError
+	var ie *scenarios.InputError
+	switch {
+	case errors.As(err, &ee):
+		code = ee.code
+	case errors.As(err, &ie):
+		code = exitInput
+	case isCobraUsage(err):
+		code = exitInput
+	}
+	fmt.Fprintf(stderr, "wearplan: %v\n", err)
+	if code == exitInput && !errors.As(err, &ie) {
+		fmt.Fprintln(stderr, "Run 'wearplan help' or 'wearplan COMMAND --help' for usage and examples.")
+	}
+	return code
+}
+
+// isCobraUsage recognises cobra's own argument and flag errors.
+func isCobraUsage(err error) bool {
+	msg := err.Error()
+	for _, p := range []string{"unknown command", "unknown flag", "unknown shorthand", "flag needs an argument", "invalid argument", "accepts ", "requires at least", "requires at most"} {
+		if strings.Contains(msg, p) {
+			return true
+		}
+	}
+	return false
+}
+
+func newRoot(stdout, stderr io.Writer) *cobra.Command {
+	root := &cobra.Command{
+		Use:   "wearplan",
+		Short: "Plan a funded multi-year maintenance work program from condition data",
+		Long: `wearplan forecasts the condition of infrastructure asset classes with Markov
+transition matrices and chooses the yearly treatment mix with a linear program,
+under budget caps and condition targets.
+
+Write a scenario file (YAML: asset classes, condition scales, deterioration,
+treatments, budget, targets), check it, then forecast or plan it.
+Output is a planning estimate, not an engineering assessment of any asset.`,
+		Example: `  wearplan check scenarios/examples/marrowby.yaml
+  wearplan forecast scenarios/examples/marrowby.yaml
+  wearplan plan scenarios/examples/marrowby.yaml --format json --out plan.json`,
+		Version:       Version,
+		SilenceUsage:  true,
+		SilenceErrors: true,
+	}
+	root.SetOut(stdout)
+	root.SetErr(stderr)
+	root.SetFlagErrorFunc(func(_ *cobra.Command, err error) error { return usageError("%v", err) })
+	root.AddCommand(newCheckCmd(), newForecastCmd(), newPlanCmd())
+	return root
+}

@@ -1,0 +1,66 @@
+// Package render writes scenario results as terminal tables, CSV and JSON.
+// It only formats: every number it prints comes from a scenarios.Result.
+package render
+
+import (
+	"math"
+	"strconv"
+	"strings"
+)
+
+// thousands formats v with d decimals and comma thousands separators.
+func thousands(v float64, d int) string {
+	if math.IsNaN(v) {
+		return "-"
+	}
+	s := strconv.FormatFloat(math.Abs(v), 'f', d, 64)
+	intPart, frac := s, ""
+	if i := strings.IndexByte(s, '.'); i >= 0 {
+		intPart, frac = s[:i], s[i:]
+	}
+	var b strings.Builder
+	if v < 0 && strings.Trim(s, "0.") != "" {
+		b.WriteByte('-')
+	}
+	for i, c := range intPart {
+		if i > 0 && (len(intPart)-i)%3 == 0 {
+			b.WriteByte(',')
+		}
+		b.WriteRune(c)
+	}
+	b.WriteString(frac)
+	return b.String()
+}
+
+// Money formats an amount of money in whole currency units.
+func Money(v float64) string { return thousands(v, 0) }
+
+// Quantity formats a quantity with one decimal, or with two significant
+// digits when it would otherwise print as 0.0.
+func Quantity(v float64) string {
+	if v != 0 && math.Abs(v) < 0.05 {
+		return strconv.FormatFloat(v, 'g', 2, 64)
+	}
+	return thousands(v, 1)
+}
+
+// Percent formats a share (0-1) as a percentage with one decimal.
+func Percent(v float64) string {
+	if math.IsNaN(v) {
+		return "-"
+	}
+	return strconv.FormatFloat(100*v, 'f', 1, 64) + "%"
+}
+
+// Index formats an average index with the precision its scale needs: two
+// decimals for small values (0-9 ratings), one for larger ones (0-100).
+func Index(v float64) string {
+	d := 1
+	if math.Abs(v) < 10 {
+		d = 2
+	}
+	return strconv.FormatFloat(v, 'f', d, 64)
+}
+
+// Plain formats a number for machine-readable output: shortest exact form.
+func Plain(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }

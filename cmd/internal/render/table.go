@@ -1,0 +1,227 @@
+package render
+
+import (
+	"fmt"
+	"io"
+	"strings"
+	"text/tabwriter"
+
+	"wearplan/scenarios"
+)
+
+// Text writes a result as terminal tables: summary, work program, spend
+// against budget, condition by year, targets, and the caution.
+func Text(w io.Writer, r *scenarios.Result) error {
+	ew := &errWriter{w: w}
+	summary(ew, r)
+	if r.Kind == "plan" {
+		ew.printf("\nWork program (quantity treated in the year; cost in %s at that year's prices)\n", currency(r))
+		tabulate(ew, workTable(r))
+		ew.printf("\nSpend against budget (%s)\n", currency(r))
+		tabulate(ew, spendTable(r))
+	}
+	ew.printf("\nCondition at the end of each year (share of each class's quantity; network weighted by %s)\n", r.Weighting)
+	tabulate(ew, serviceTable(r, true))
+	if len(r.Targets) > 0 {
+		ew.printf("\nTargets\n")
+		tabulate(ew, targetTable(r))
+	}
+	for _, warn := range r.Warnings {
+		ew.printf("\nNote: %s\n", warn)
+	}
+	ew.printf("\n%s\n", wrap(r.Caution, 100))
+	return ew.err
+}
+
+func currency(r *scenarios.Result) string {
+	if r.Currency == "" {
+		return "currency units"
+	}
+	return r.Currency
+}
+
+func summary(w *errWriter, r *scenarios.Result) {
+	w.printf("%s\n", r.Scenario)
+	last := r.StartYear + r.Horizon - 1
+	switch r.Kind {
+	case "plan":
+		w.printf("Plan %d-%d: objective %s, status %s\n", r.StartYear, last, r.Objective, r.Status)
+		w.printf("Condition score %.2f (mean network score over the horizon, 0 worst - 100 best); spend %s %s, present value %s at %.1f%% a year\n",
+			r.ConditionScore, currency(r), Money(r.TotalCost), Money(r.PresentValue), 100*r.DiscountRate)
+	default:
+		w.printf("Forecast %d-%d with no work done\n", r.StartYear, last)
+		w.printf("Condition score %.2f (mean network score over the horizon, 0 worst - 100 best)\n", r.ConditionScore)
+	}
+}
+
+// A table is a header and rows of cells; numeric columns are right-aligned.
+type table struct {
+	header []string
+	right  []bool
+	rows   [][]string
+}
+
+func tabulate(w *errWriter, t table) {
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
+	// tabwriter aligns every column one way; pad left-aligned text columns
+	// to their width so that AlignRight leaves them flush left.
+	widths := make([]int, len(t.header))
+	for _, row := range append([][]string{t.header}, t.rows...) {
+		for i, c := range row {
+			widths[i] = max(widths[i], len(c))
+		}
+	}
+	line := func(row []string) {
+		cells := make([]string, len(row))
+		for i, c := range row {
+			if !t.right[i] {
+				c += strings.Repeat(" ", widths[i]-len(c))
+			}
+			cells[i] = c
+		}
+		fmt.Fprintln(tw, strings.Join(cells, "\t")+"\t")
+	}
+	line(t.header)
+	for _, row := range t.rows {
+		line(row)
+	}
+	if err := tw.Flush(); err != nil && w.err == nil {
+		w.err = err
+	}
+}
+
+func workTable(r *scenarios.Result) table {
+	t := table{header: []string{"YEAR", "CLASS", "TREATMENT", "STATE", "QUANTITY", "UNIT", "COST"}, right: []bool{false, false, false, false, true, false, true}}
+	for _, y := range r.Years {
+		for _, c := range y.Classes {
+			for _, wk := range c.Work {
+				t.rows = append(t.rows, []string{fmt.Sprint(y.Year), c.Class, wk.Treatment, wk.State, Quantity(wk.Quantity), c.Unit, Money(wk.Cost)})
+			}
+		}
+	}
+	if len(t.rows) == 0 {
+		t.rows = append(t.rows, []string{"-", "no work", "", "", "", "", ""})
+	}
+	return t
+}
+
+func spendTable(r *scenarios.Result) table {
+	t := table{header: []string{"YEAR", "SPEND", "BUDGET", "UNSPENT"}, right: []bool{false, true, true, true}}
+	for _, y := range r.Years {
+		budget, left := "no cap", ""
+		if y.Budget != nil {
+			budget, left = Money(*y.Budget), Money(*y.Budget-y.Spend)
+		}
+		t.rows = append(t.rows, []string{fmt.Sprint(y.Year), Money(y.Spend), budget, left})
+	}
+	return t
+}
+
+// serviceTable lists good/fair/poor shares and average index per class and
+// year, today first, then the network.
+func serviceTable(r *scenarios.Result, blankRepeats bool) table {
+	t := table{header: []string{"CLASS", "YEAR", "GOOD", "FAIR", "POOR", "AVG INDEX", "SCORE"}, right: []bool{false, false, true, true, true, true, true}}
+	for k := range r.Initial.Classes {
+		add := func(label string, c scenarios.ClassCondition) {
+			name := c.Class
+			if blankRepeats && label != "today" {
+				name = ""
+			}
+			t.rows = append(t.rows, []string{name, label, Percent(c.Shares.Good), Percent(c.Shares.Fair), Percent(c.Shares.Poor), Index(c.AverageIndex), fmt.Sprintf("%.1f", c.Score)})
+		}
+		add("today", r.Initial.Classes[k])
+		for _, y := range r.Years {
+			add(fmt.Sprint(y.Year), y.Classes[k])
+		}
+	}
+	net := func(label string, n scenarios.NetworkCondition) {
+		name := "network"
+		if blankRepeats && label != "today" {
+			name = ""
+		}
+		avg := "-"
+		if n.AverageIndex != nil {
+			avg = Index(*n.AverageIndex)
+		}
+		t.rows = append(t.rows, []string{name, label, Percent(n.Shares.Good), Percent(n.Shares.Fair), Percent(n.Shares.Poor), avg, fmt.Sprintf("%.1f", n.Score)})
+	}
+	net("today", r.Initial.Network)
+	for _, y := range r.Years {
+		net(fmt.Sprint(y.Year), y.Network)
+	}
+	return t
+}
+
+func targetTable(r *scenarios.Result) table {
+	t := table{header: []string{"TARGET", "MET", "WORST YEAR", "WORST", "LIMIT", "SHORT BY (YEARS)"}, right: []bool{false, false, false, true, true, false}}
+	for _, o := range r.Targets {
+		met := "yes"
+		if !o.Met {
+			met = "NO"
+		}
+		worst, limit := Index(o.WorstValue), Index(o.Limit)
+		if strings.Contains(o.Target, "share") {
+			worst, limit = Percent(o.WorstValue), Percent(o.Limit)
+		}
+		t.rows = append(t.rows, []string{o.Target, met, fmt.Sprint(o.WorstYear), worst, limit, shortfallSummary(o)})
+	}
+	return t
+}
+
+// shortfallSummary gives the largest shortfall and the years it spans.
+func shortfallSummary(o scenarios.TargetOutcome) string {
+	if len(o.Shortfalls) == 0 {
+		return ""
+	}
+	biggest := 0.0
+	for _, s := range o.Shortfalls {
+		biggest = max(biggest, s.Amount)
+	}
+	first, last := o.Shortfalls[0].Year, o.Shortfalls[len(o.Shortfalls)-1].Year
+	span := fmt.Sprint(first)
+	if last != first {
+		span = fmt.Sprintf("%d-%d", first, last)
+	}
+	amount := Index(biggest) + " points"
+	if strings.Contains(o.Target, "share") {
+		amount = fmt.Sprintf("%.1f percentage points", 100*biggest)
+	}
+	return fmt.Sprintf("up to %s (%s)", amount, span)
+}
+
+// wrap breaks text into lines of at most width characters.
+func wrap(s string, width int) string {
+	var b strings.Builder
+	n := 0
+	for _, word := range strings.Fields(s) {
+		if n > 0 && n+1+len(word) > width {
+			b.WriteByte('\n')
+			n = 0
+		} else if n > 0 {
+			b.WriteByte(' ')
+			n++
+		}
+		b.WriteString(word)
+		n += len(word)
+	}
+	return b.String()
+}
+
+// errWriter keeps the first write error so rendering code stays linear.
+type errWriter struct {
+	w   io.Writer
+	err error
+}
+
+func (e *errWriter) Write(p []byte) (int, error) {
+	if e.err != nil {
+		return 0, e.err
+	}
+	n, err := e.w.Write(p)
+	e.err = err
+	return n, err
+}
+
+func (e *errWriter) printf(format string, args ...any) {
+	fmt.Fprintf(e, format, args...)
+}
