@@ -1,6 +1,7 @@
 # wearplan build, demo and tests. lp_solve 5.5 comes from Debian's
 # liblpsolve55-dev (a static library) and is linked through golp with cgo;
-# GLPK's glpsol (glpk-utils) is the independent reference solver in tests.
+# GLPK's glpsol (glpk-utils) and COIN-OR's clp (coinor-clp) are the
+# independent reference solvers in tests.
 SHELL := /bin/bash
 export PATH := $(PATH):/usr/local/go/bin
 export CGO_ENABLED := 1
@@ -24,6 +25,7 @@ deps:
 
 deps-test: deps
 	@command -v glpsol >/dev/null 2>&1 || { echo "installing glpk-utils"; $(call apt_install,glpk-utils); }
+	@command -v clp >/dev/null 2>&1 || { echo "installing coinor-clp"; $(call apt_install,coinor-clp); }
 
 build: deps
 	go build -o bin/wearplan ./cmd/wearplan

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"strconv"
 	"strings"
 
 	"wearplan/markov"
@@ -182,6 +183,9 @@ func buildScale(name string, fs *fileScale, path string, is *issues) *Scale {
 	return s
 }
 
+// num writes a number as typed, without exponent: 3000000, not 3e+06.
+func num(v float64) string { return strconv.FormatFloat(v, 'f', -1, 64) }
+
 func wholeNumbers(vs ...float64) bool {
 	for _, v := range vs {
 		if v != math.Trunc(v) {
@@ -297,7 +301,7 @@ func treatmentFor(ce *catalogueEntry, s *Scale, is *issues) (treatments.Treatmen
 		switch {
 		case ft.Cost.Single != nil:
 			if *ft.Cost.Single < 0 {
-				bad(ft.Cost.Line, field+".cost", "unit cost %g must be zero or more", *ft.Cost.Single)
+				bad(ft.Cost.Line, field+".cost", "unit cost %s must be zero or more", num(*ft.Cost.Single))
 			}
 			for _, i := range t.Applies {
 				t.Cost[i] = *ft.Cost.Single
@@ -314,7 +318,7 @@ func treatmentFor(ce *catalogueEntry, s *Scale, is *issues) (treatments.Treatmen
 					bad(e.Line, fld, "cost for state %q, which the treatment does not apply to; add it to applies_to or drop the cost", e.State)
 				}
 				if e.Value < 0 {
-					bad(e.Line, fld, "unit cost %g must be zero or more", e.Value)
+					bad(e.Line, fld, "unit cost %s must be zero or more", num(e.Value))
 				}
 				t.Cost[i] = e.Value
 				given[i] = true
@@ -423,7 +427,7 @@ func buildClasses(sc *Scenario, f *fileScenario, scales map[string]*Scale, catal
 		}
 		if fc.ReplacementCost != nil {
 			if *fc.ReplacementCost < 0 {
-				is.add(fc.Lines.of("replacement_cost"), field+".replacement_cost", "%g must be zero or more", *fc.ReplacementCost)
+				is.add(fc.Lines.of("replacement_cost"), field+".replacement_cost", "%s must be zero or more", num(*fc.ReplacementCost))
 			}
 			c.ReplacementCost = *fc.ReplacementCost
 			if c.ReplacementCost > 0 {
@@ -484,6 +488,9 @@ func buildClasses(sc *Scenario, f *fileScenario, scales map[string]*Scale, catal
 		}
 	default:
 		sc.Weighting = WeightEqual
+		if withValue > 0 {
+			sc.Notes = append(sc.Notes, fmt.Sprintf("only %d of %d classes give a replacement_cost, so network figures weight the classes equally; give it for every class to weight by replacement value", withValue, len(f.Classes)))
+		}
 		for k := range sc.Classes {
 			sc.Classes[k].Weight = 1
 		}
@@ -514,7 +521,7 @@ func buildInventory(c *Class, fc *fileClass, field string, is *issues) {
 			continue
 		}
 		if e.Value < 0 {
-			is.add(e.Line, fld, "quantity %g must be zero or more", e.Value)
+			is.add(e.Line, fld, "quantity %s must be zero or more", num(e.Value))
 			continue
 		}
 		c.Initial[i] = e.Value
@@ -609,7 +616,7 @@ func yearlyAmounts(a *amounts, horizon int, field string, is *issues) []float64 
 			out[i] = *a.Single
 		}
 		if *a.Single < 0 {
-			is.add(a.Line, field, "budget %g must be zero or more", *a.Single)
+			is.add(a.Line, field, "budget %s must be zero or more", num(*a.Single))
 		}
 	default:
 		if len(a.List) != horizon {
@@ -618,7 +625,7 @@ func yearlyAmounts(a *amounts, horizon int, field string, is *issues) []float64 
 		}
 		for i, v := range a.List {
 			if v < 0 {
-				is.add(a.Line, fmt.Sprintf("%s[%d]", field, i), "budget %g must be zero or more", v)
+				is.add(a.Line, fmt.Sprintf("%s[%d]", field, i), "budget %s must be zero or more", num(v))
 			}
 			out[i] = v
 		}
@@ -726,7 +733,14 @@ func buildTargets(sc *Scenario, f *fileScenario, is *issues) {
 			t.ToYear = *ft.ToYear
 		}
 		if sc.Horizon > 0 && (t.FromYear < first || t.ToYear > last || t.FromYear > t.ToYear) {
-			is.add(ft.Lines.of("from_year"), field, "years %d-%d are outside the plan %d-%d; targets apply to end-of-year condition within the horizon", t.FromYear, t.ToYear, first, last)
+			switch {
+			case t.FromYear < first || t.FromYear > last:
+				is.add(ft.Lines.of("from_year"), field+".from_year", "%d is outside the plan %d-%d; targets apply to end-of-year condition within the horizon", t.FromYear, first, last)
+			case t.ToYear < first || t.ToYear > last:
+				is.add(ft.Lines.of("to_year"), field+".to_year", "%d is outside the plan %d-%d; targets apply to end-of-year condition within the horizon", t.ToYear, first, last)
+			default:
+				is.add(ft.Lines.of("to_year"), field+".to_year", "%d is before from_year %d; give the first year, then the last", t.ToYear, t.FromYear)
+			}
 			continue
 		}
 		t.Spec.From, t.Spec.To = t.FromYear-sc.StartYear+1, t.ToYear-sc.StartYear+1

@@ -13,7 +13,9 @@
 // figures; for scales where lower is better (IRI) the mapping runs the other
 // way, and a min_average_index target then means "no worse than".
 //
-// Network figures weight classes by replacement value (quantity times
-// replacement unit cost) when every class gives one, by the weights given
-// when every class gives one, and equally otherwise; the Result says which.
+// Network figures weight classes by the weights given when every class
+// gives one (these win over replacement costs), else by replacement value
+// (quantity times replacement unit cost) when every class gives one, and
+// equally otherwise; the Result says which, and warns when only some
+// classes give a replacement cost.
 package scenarios

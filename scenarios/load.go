@@ -68,6 +68,11 @@ func parseNode(name string, data []byte) (*yaml.Node, error) {
 		is.add(line, "", "%s", msg)
 		return nil, is.err()
 	}
+	var extra yaml.Node
+	if err := dec.Decode(&extra); err == nil {
+		is.add(extra.Line, "", "the file holds a second YAML document (after ---); keep one scenario per file")
+		return nil, is.err()
+	}
 	root := resolve(&doc)
 	if root.Kind == yaml.DocumentNode && len(root.Content) > 0 {
 		root = resolve(root.Content[0])

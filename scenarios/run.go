@@ -83,7 +83,7 @@ func assemble(sc *Scenario, p *optimize.Problem, cond [][][]float64, work [][][]
 	r := &Result{
 		Scenario: sc.Name, Source: sc.Source, Currency: sc.Currency, StartYear: sc.StartYear, Horizon: sc.Horizon,
 		DiscountRate: sc.DiscountRate, Escalation: sc.Escalation, Weighting: string(sc.Weighting),
-		Caution: Caution, Warnings: []string{},
+		Caution: Caution, Warnings: append([]string{}, sc.Notes...),
 	}
 	for k := range sc.Classes {
 		r.Weights = append(r.Weights, ClassWeight{Class: sc.Classes[k].Name, Weight: sc.Classes[k].Weight})

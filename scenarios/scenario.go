@@ -114,6 +114,9 @@ type Scenario struct {
 	Targets      []Target
 	Objective    optimize.Objective
 	Weighting    Weighting
+	// Notes are things a planner should know about how the file was read
+	// (not errors); results repeat them as warnings.
+	Notes []string
 }
 
 // Year returns the calendar year of plan year t (1-based).

@@ -164,3 +164,31 @@ func TestStrictTargetsNotMet(t *testing.T) {
 		t.Errorf("--strict: exit %d, want %d", code, exitTargets)
 	}
 }
+
+// TestCorpusExitsTwoWithoutOutput runs every malformed scenario in
+// testdata/bad-scenarios through `plan --out`: each must exit 2 with an
+// error naming the file and a line, and leave no output file behind.
+func TestCorpusExitsTwoWithoutOutput(t *testing.T) {
+	files, err := filepath.Glob("../../../testdata/bad-scenarios/*.yaml")
+	if err != nil || len(files) < 15 {
+		t.Fatalf("corpus: %d files, %v", len(files), err)
+	}
+	for _, f := range files {
+		dir := t.TempDir()
+		out := filepath.Join(dir, "plan.json")
+		code, stdout, errs := run(t, "plan", f, "--format", "json", "--out", out)
+		base := filepath.Base(f)
+		if code != exitInput {
+			t.Errorf("%s: exit %d, want %d", base, code, exitInput)
+		}
+		if !strings.Contains(errs, base) {
+			t.Errorf("%s: error does not name the file:\n%s", base, errs)
+		}
+		if strings.Contains(errs, "goroutine ") || stdout != "" {
+			t.Errorf("%s: unexpected output (stack trace or stdout)", base)
+		}
+		if entries, _ := os.ReadDir(dir); len(entries) != 0 {
+			t.Errorf("%s: files written despite bad input: %v", base, entries)
+		}
+	}
+}
