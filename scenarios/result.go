@@ -77,8 +77,13 @@ type ClassCondition struct {
 	AverageIndex float64    `json:"average_index"`
 	Score        float64    `json:"score"`
 	Shares       Shares     `json:"shares"`
-	Work         []Work     `json:"work,omitzero"` // [] in plans, absent in forecasts
-	Spend        *float64   `json:"spend,omitempty"`
+	// ReplacementValue and Backlog are money figures of the asset-value
+	// reporting (set when the scenario gives replacement costs; nil, and
+	// left out of JSON, when unknown).
+	ReplacementValue *float64 `json:"replacement_value,omitempty"`
+	Backlog          *float64 `json:"backlog,omitempty"`
+	Work             []Work   `json:"work,omitzero"` // [] in plans, absent in forecasts
+	Spend            *float64 `json:"spend,omitempty"`
 }
 
 // NetworkCondition is the weighted network condition. AverageIndex is
@@ -87,6 +92,9 @@ type NetworkCondition struct {
 	Score        float64  `json:"score"`
 	AverageIndex *float64 `json:"average_index,omitempty"`
 	Shares       Shares   `json:"shares"`
+	// ReplacementValue and Backlog: see ClassCondition.
+	ReplacementValue *float64 `json:"replacement_value,omitempty"`
+	Backlog          *float64 `json:"backlog,omitempty"`
 }
 
 // Work is the quantity of a class in one state given one treatment in a year.
