@@ -64,13 +64,20 @@ func Plan(sc *Scenario, opt Options) (*Result, error) {
 	return r, nil
 }
 
-// indexPoints converts a shortfall in score points to index points of the
-// target's scale (score points when the scales differ).
-func indexPoints(sc *Scenario, t Target, score float64) float64 {
-	scale := sc.SharedScale()
+// targetScale is the scale a target's index values are on: its class's, or
+// the network's shared scale (nil when the classes' scales differ, in which
+// case values stay on the 0-100 score).
+func (s *Scenario) targetScale(t Target) *Scale {
 	if t.Class != "" {
-		scale = sc.Classes[sc.classIndex(t.Class)].Scale
+		return s.Classes[s.classIndex(t.Class)].Scale
 	}
+	return s.SharedScale()
+}
+
+// indexPoints converts a shortfall in score points to index points of the
+// target's scale.
+func indexPoints(sc *Scenario, t Target, score float64) float64 {
+	scale := sc.targetScale(t)
 	if scale == nil {
 		return score
 	}
@@ -243,10 +250,7 @@ func evaluateTargets(sc *Scenario, r *Result) []TargetOutcome {
 }
 
 func scoreToIndex(sc *Scenario, t Target, score float64) float64 {
-	scale := sc.SharedScale()
-	if t.Class != "" {
-		scale = sc.Classes[sc.classIndex(t.Class)].Scale
-	}
+	scale := sc.targetScale(t)
 	if scale == nil {
 		return score
 	}
