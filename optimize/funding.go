@@ -11,16 +11,18 @@ import (
 // budget group's fixed cap holds it back).
 var ErrUnreachable = errors.New("no amount of money meets the targets")
 
-// roundUpMoney turns an amount found by the solver (at the edge of
-// feasibility, to solver tolerance) into one that is safely feasible: a
-// relative margin of 1e-7 (far above lp_solve's 1e-9 feasibility tolerance
-// on rows scaled near 1) and then up to the next whole currency unit.
-// Amounts below 1e-9 of the money unit are solver noise and read as zero.
+// roundUpMoney turns an amount found by the solver into whole currency
+// units, rounding up so that the amount fed back stays feasible: lp_solve
+// holds rows (scaled near 1) to 1e-9, so the amount is known to about 1e-9
+// of the money unit, far below one currency unit for any budget under a
+// billion. An amount within 1e-9 relative above a whole number is that
+// number (400.0000001 is 400, not 401). Amounts below 1e-9 of the money
+// unit are solver noise and read as zero.
 func roundUpMoney(v, unit float64) float64 {
 	if v <= 1e-9*unit {
 		return 0
 	}
-	return math.Ceil(v * (1 + 1e-7))
+	return math.Ceil(v * (1 - 1e-9))
 }
 
 // LevelBudget is the least network budget, one nominal amount for every

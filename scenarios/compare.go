@@ -1,6 +1,7 @@
 package scenarios
 
 import (
+	"errors"
 	"fmt"
 	"strconv"
 	"strings"
@@ -90,7 +91,7 @@ func (ys YearSpec) resolve(sc *Scenario) ([]int, error) {
 			}
 		}
 		if t < 1 || t > sc.Horizon {
-			return nil, fmt.Errorf("%s: year %s is outside the plan %d-%d (years 1-%d)", sc.Source, f, sc.StartYear, sc.Year(sc.Horizon), sc.Horizon)
+			return nil, &yearError{fmt.Sprintf("%s: year %s is outside the plan %d-%d (years 1-%d)", sc.Source, f, sc.StartYear, sc.Year(sc.Horizon), sc.Horizon)}
 		}
 		if !seen[t] {
 			seen[t] = true
@@ -98,6 +99,16 @@ func (ys YearSpec) resolve(sc *Scenario) ([]int, error) {
 		}
 	}
 	return out, nil
+}
+
+type yearError struct{ msg string }
+
+func (e *yearError) Error() string { return e.msg }
+
+// IsYearError says whether err is a chosen year outside a scenario's plan.
+func IsYearError(err error) bool {
+	var ye *yearError
+	return errors.As(err, &ye)
 }
 
 // Compare plans each scenario (in parallel, results in the order given) and
