@@ -48,6 +48,35 @@
 // objective with the total slack held at that minimum. Each positive slack is
 // a Shortfall: which target, which year, by how much.
 //
+// Routine cost: a class may give a yearly cost per unit left untreated, by
+// state. It is charged on the do-nothing columns, escalates like treatment
+// prices, always enters the MinCost objective (life-cycle cost), and enters
+// the budget rows only when RoutineInBudget is set. Plans report it apart
+// from treatment spend.
+//
+// Funding questions are LPs on the same model. LevelBudget replaces the
+// network caps by one column L (spend of year t at most L, or with
+// carry-over the spend to year t at most t·L) and minimises L subject to
+// the targets. ClosingMoney adds a column e ≥ 0 to each cap row of each
+// year (with carry-over to every later cumulative row as well) and
+// minimises Σ e_t·(1+r)^-(t-1) subject to the targets: the extra money that
+// makes the targets feasible at the least present value.
+//
+// The long-run policy (SolveLongRun) is the steady-state Markov decision
+// LP of Golabi, Kulkarni and Way (1982). Columns w[k,i,a] ≥ 0 are the
+// long-run shares of class k in state i treated with a each year:
+//
+//	Σ_a w[k,j,a] = Σ_{i,a} w[k,i,a]·M[k,a](i,j)   Σ_{i,a} w[k,i,a] = 1
+//
+// with targets on the long-run shares and scores, the first year's caps as
+// annual caps, and the annual cost (treatment plus routine) minimised, or
+// the long-run network score maximised. A basic optimal solution has one
+// action per state for each class apart from the few states where a
+// linking row (budget, network target) splits it.
+//
+// WorstFirst plays the common-practice rule (worst states first, cheapest
+// improving treatment) under the same caps, for comparison.
+//
 // The model can be written as free MPS (WriteMPS) from the model data, so
 // that any solver reads it; a maximisation is written as the minimisation of
 // the negated objective.

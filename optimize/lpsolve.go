@@ -32,6 +32,46 @@ type lpSolver struct {
 	// a minimisation is posed to a maximising instance as max -c·x.
 	maxSet bool
 	sign   float64
+	// rows and obj are kept to check an answer lp_solve flags as
+	// inaccurate (accuracyError).
+	rows []Row
+	obj  []float64
+}
+
+// accuracyError is lp_solve 5.5's ACCURACYERROR status (25), which golp
+// does not name: a solution was found but lp_solve's own final accuracy
+// check failed. Such an answer is used only when it passes verify.
+const accuracyError = golp.SolutionType(25)
+
+// accuracyTolerance is the largest row violation accepted from an answer
+// lp_solve flags as inaccurate: rows are scaled near 1 (shares of a class,
+// money in units near the budget), so 1e-5 is a hundred-thousandth of a
+// class's quantity or of a budget, below the one-decimal precision of any
+// report. Seen on elastic models at the edge of feasibility (violations
+// near 4e-6 in flow rows); without it such a plan would fail outright.
+const accuracyTolerance = 1e-5
+
+// verify returns the largest violation of any row (and of x >= 0) by x.
+func (s *lpSolver) verify(x []float64) float64 {
+	worst := 0.0
+	for _, v := range x {
+		worst = math.Max(worst, -v)
+	}
+	for _, r := range s.rows {
+		lhs := 0.0
+		for _, e := range r.Entries {
+			lhs += e.Val * x[e.Col]
+		}
+		switch r.Sense {
+		case LessEq:
+			worst = math.Max(worst, lhs-r.RHS)
+		case GreaterEq:
+			worst = math.Max(worst, r.RHS-lhs)
+		default:
+			worst = math.Max(worst, math.Abs(lhs-r.RHS))
+		}
+	}
+	return worst
 }
 
 func newLPSolver(m *Model, timeout time.Duration) (*lpSolver, error) {
@@ -50,6 +90,7 @@ func newLPSolver(m *Model, timeout time.Duration) (*lpSolver, error) {
 var errEmptyInfeasible = errors.New("empty row cannot hold")
 
 func (s *lpSolver) addRow(r Row) error {
+	s.rows = append(s.rows, r)
 	if len(r.Entries) == 0 {
 		// golp panics on an empty row; an empty row either always holds or never.
 		ok := (r.Sense == LessEq && r.RHS >= -1e-12) || (r.Sense == GreaterEq && r.RHS <= 1e-12) || (r.Sense == Equal && math.Abs(r.RHS) <= 1e-12)
@@ -78,6 +119,7 @@ func (s *lpSolver) setObjective(obj []float64, maximize bool) {
 		s.maxSet = true
 	}
 	s.sign = 1
+	s.obj = obj
 	if s.maxSet && !maximize {
 		s.sign = -1
 		neg := make([]float64, len(obj))
@@ -102,6 +144,18 @@ func (s *lpSolver) solve() ([]float64, float64, error) {
 	switch st {
 	case golp.OPTIMAL:
 		return s.lp.Variables(), s.sign * s.lp.Objective(), nil
+	case accuracyError:
+		// The answer is there but lp_solve doubts it: check it against
+		// every row ourselves and take it when it holds.
+		x := s.lp.Variables()
+		if len(x) == s.ncols && s.verify(x) <= accuracyTolerance {
+			z := 0.0
+			for j, c := range s.obj {
+				z += c * x[j]
+			}
+			return x, z, nil
+		}
+		return nil, 0, &SolverError{Status: "inaccurate", Advice: "lp_solve found an answer it could not confirm; check for costs or quantities that differ by many orders of magnitude"}
 	case golp.INFEASIBLE:
 		return nil, 0, ErrInfeasible
 	case golp.UNBOUNDED:

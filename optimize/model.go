@@ -102,16 +102,20 @@ func (l layout) col(k, t, n int) int { return l.base[k] + t*len(l.pairs[k]) + n 
 // Columns are shares of the class total, so these are per share.
 type classTerms struct {
 	cost     []float64    // nominal start-year cost of treating the whole class
+	routine  []float64    // start-year routine cost of leaving the whole class untreated
 	endScore []float64    // expected score at the end of the year
 	endGroup [][3]float64 // expected group shares at the end of the year
 }
 
 func termsOf(c *Class, pairs []pair) classTerms {
 	tot := c.Total()
-	ct := classTerms{cost: make([]float64, len(pairs)), endScore: make([]float64, len(pairs)), endGroup: make([][3]float64, len(pairs))}
+	ct := classTerms{cost: make([]float64, len(pairs)), routine: make([]float64, len(pairs)), endScore: make([]float64, len(pairs)), endGroup: make([][3]float64, len(pairs))}
 	for n, pr := range pairs {
 		a := &c.Actions[pr.action]
 		ct.cost[n] = a.Cost[pr.state] * tot
+		if pr.action == 0 && c.Routine != nil {
+			ct.routine[n] = c.Routine[pr.state] * tot
+		}
 		for j, pj := range a.Rows[pr.state] {
 			ct.endScore[n] += pj * c.Score[j]
 			ct.endGroup[n][c.Group[j]] += pj
@@ -130,6 +134,14 @@ type builder struct {
 	moneyUnit  float64
 	m          Model
 	targetRows [][]targetRow // per target
+	caps       []capRow      // budget rows, in the order written
+}
+
+// capRow is one budget row: which cap (Network or a group index) and the
+// year it caps (1-based). With carry-over the row caps cumulative spend of
+// years 1..year.
+type capRow struct {
+	row, budget, year int
 }
 
 type targetRow struct {
@@ -168,8 +180,8 @@ func moneyUnit(p *Problem, terms []classTerms) float64 {
 		return u
 	}
 	for _, t := range terms {
-		for _, c := range t.cost {
-			u = math.Max(u, c)
+		for n, c := range t.cost {
+			u = math.Max(u, math.Max(c, t.routine[n]))
 		}
 	}
 	if u > 0 {
@@ -235,12 +247,16 @@ func (b *builder) flowRows() {
 }
 
 // spendEntries returns the money entries of year t for the given classes
-// (nil = all), in money units.
+// (nil = all), in money units: treatment cost, plus routine cost when the
+// problem counts it against the budget.
 func (b *builder) spendEntries(t int, classes []int) []Entry {
 	var out []Entry
 	esc := b.p.escalation(t)
 	add := func(k int) {
 		for n, c := range b.terms[k].cost {
+			if b.p.RoutineInBudget {
+				c += b.terms[k].routine[n]
+			}
 			if c != 0 {
 				out = append(out, Entry{b.lay.col(k, t, n), c * esc / b.moneyUnit})
 			}
@@ -258,7 +274,7 @@ func (b *builder) spendEntries(t int, classes []int) []Entry {
 	return out
 }
 
-func (b *builder) capRows(name string, caps []float64, classes []int) {
+func (b *builder) capRows(name string, budget int, caps []float64, classes []int) {
 	cum := 0.0
 	var cumEntries []Entry
 	for t := 0; t < b.p.Horizon; t++ {
@@ -273,16 +289,17 @@ func (b *builder) capRows(name string, caps []float64, classes []int) {
 		if math.IsInf(cap, 1) || len(e) == 0 {
 			continue
 		}
-		b.m.addRow(Row{Name: fmt.Sprintf("%s_%d", name, t+1), Entries: e, Sense: LessEq, RHS: cap / b.moneyUnit})
+		r := b.m.addRow(Row{Name: fmt.Sprintf("%s_%d", name, t+1), Entries: e, Sense: LessEq, RHS: cap / b.moneyUnit})
+		b.caps = append(b.caps, capRow{row: r, budget: budget, year: t + 1})
 	}
 }
 
 func (b *builder) budgetRows() {
 	if b.p.Budget != nil {
-		b.capRows("budget", b.p.Budget, nil)
+		b.capRows("budget", Network, b.p.Budget, nil)
 	}
 	for g, gb := range b.p.GroupBudgets {
-		b.capRows(fmt.Sprintf("groupbudget%d", g+1), gb.Yearly, gb.Classes)
+		b.capRows(fmt.Sprintf("groupbudget%d", g+1), g, gb.Yearly, gb.Classes)
 	}
 }
 
@@ -355,7 +372,7 @@ func (b *builder) objectiveOf(o Objective) []float64 {
 				if o == MaxCondition {
 					obj[j] = b.weights[k] * b.terms[k].endScore[n] / 100 / float64(p.Horizon)
 				} else {
-					obj[j] = b.terms[k].cost[n] * p.escalation(t) * p.discount(t) / b.moneyUnit
+					obj[j] = (b.terms[k].cost[n] + b.terms[k].routine[n]) * p.escalation(t) * p.discount(t) / b.moneyUnit
 				}
 			}
 		}

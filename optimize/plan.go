@@ -45,12 +45,18 @@ type Plan struct {
 	Condition [][][]float64
 	// Spend[k][t] is nominal treatment spend on class k in year t.
 	Spend [][]float64
+	// Routine[k][t] is the nominal routine cost of class k's untreated
+	// quantity in year t (zero without routine costs).
+	Routine [][]float64
 	// ConditionScore is the mean over the horizon of the network score, 0-100.
 	ConditionScore float64
-	// TotalCost is nominal spend over the horizon; PresentValue discounts it.
-	TotalCost, PresentValue float64
-	Shortfalls              []Shortfall
-	Stats                   Stats
+	// TotalCost is nominal treatment spend over the horizon; PresentValue
+	// discounts it. RoutineCost and RoutinePresentValue are the same for
+	// routine costs, which they do not include.
+	TotalCost, PresentValue          float64
+	RoutineCost, RoutinePresentValue float64
+	Shortfalls                       []Shortfall
+	Stats                            Stats
 }
 
 // BuildModel returns the flat LP of the problem with its primary objective,
@@ -251,6 +257,7 @@ func (b *builder) readPlan(x []float64, slacks []slackCol) *Plan {
 		Work:      make([][][][]float64, len(p.Classes)),
 		Condition: make([][][]float64, len(p.Classes)),
 		Spend:     make([][]float64, len(p.Classes)),
+		Routine:   make([][]float64, len(p.Classes)),
 	}
 	for k := range p.Classes {
 		c := &p.Classes[k]
@@ -260,6 +267,7 @@ func (b *builder) readPlan(x []float64, slacks []slackCol) *Plan {
 		plan.Condition[k] = make([][]float64, T+1)
 		plan.Condition[k][0] = append([]float64(nil), c.Initial...)
 		plan.Spend[k] = make([]float64, T)
+		plan.Routine[k] = make([]float64, T)
 		for t := 0; t < T; t++ {
 			plan.Work[k][t] = make([][]float64, ns)
 			for i := range plan.Work[k][t] {
@@ -281,6 +289,12 @@ func (b *builder) readPlan(x []float64, slacks []slackCol) *Plan {
 				spend := q * a.Cost[pr.state] * esc
 				plan.Spend[k][t] += spend
 				plan.PresentValue += spend * p.discount(t)
+				if pr.action == 0 && c.Routine != nil {
+					r := q * c.Routine[pr.state] * esc
+					plan.Routine[k][t] += r
+					plan.RoutineCost += r
+					plan.RoutinePresentValue += r * p.discount(t)
+				}
 			}
 			plan.Condition[k][t+1] = end
 		}

@@ -65,6 +65,9 @@ type Class struct {
 	Weight float64
 	// Actions are do nothing and the class's treatments (treatments.Actions).
 	Actions []treatments.Action
+	// Routine is the yearly cost per unit left untreated (do nothing) in
+	// each state at start-year prices; nil for none.
+	Routine []float64
 }
 
 // Network is the Class index that Target uses for the whole network.
@@ -115,11 +118,14 @@ type Problem struct {
 	Budget       []float64
 	GroupBudgets []GroupBudget
 	// CarryOver lets money unspent in one year be spent in a later one.
-	CarryOver    bool
-	Escalation   float64
-	DiscountRate float64
-	Targets      []Target
-	Objective    Objective
+	CarryOver bool
+	// RoutineInBudget counts routine costs against the budget caps; without
+	// it they enter only life-cycle cost and the min-cost objective.
+	RoutineInBudget bool
+	Escalation      float64
+	DiscountRate    float64
+	Targets         []Target
+	Objective       Objective
 	// Timeout bounds each solver call; zero means no limit.
 	Timeout time.Duration
 }
@@ -209,6 +215,14 @@ func (c *Class) validate() error {
 	for _, a := range c.Actions {
 		if len(a.Applies) != n || len(a.Cost) != n || len(a.Rows) != n {
 			add("action %q does not match the %d-state scale", a.Name, n)
+		}
+	}
+	if c.Routine != nil && len(c.Routine) != n {
+		add("%d routine costs for %d states", len(c.Routine), n)
+	}
+	for i, r := range c.Routine {
+		if math.IsNaN(r) || math.IsInf(r, 0) || r < 0 {
+			add("routine cost %g in state %d must be a finite number of zero or more", r, i+1)
 		}
 	}
 	return errors.Join(errs...)

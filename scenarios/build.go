@@ -444,6 +444,7 @@ func buildClasses(sc *Scenario, f *fileScenario, scales map[string]*Scale, catal
 		if c.Scale != nil {
 			buildInventory(&c, fc, field, is)
 			buildDeterioration(&c, fc, field, is)
+			buildRoutine(&c, fc, field, is)
 			seen := map[string]bool{}
 			for j, tn := range fc.Treatments {
 				ce, ok := catalogue[tn]
@@ -528,6 +529,28 @@ func buildInventory(c *Class, fc *fileClass, field string, is *issues) {
 	}
 	if c.Total() <= 0 {
 		is.add(fc.Inventory.Line, field+".inventory", "total quantity is zero; give today's quantity in at least one state")
+	}
+}
+
+// buildRoutine reads routine_cost: a yearly cost per unit left untreated,
+// by state; states not named cost nothing.
+func buildRoutine(c *Class, fc *fileClass, field string, is *issues) {
+	if fc.RoutineCost == nil {
+		return
+	}
+	c.Routine = make([]float64, len(c.Scale.States))
+	for _, e := range fc.RoutineCost.Entries {
+		fld := field + ".routine_cost." + e.State
+		i := c.Scale.StateIndex(e.State)
+		if i < 0 {
+			is.add(e.Line, fld, "unknown state %q on scale %q; states are %s", e.State, c.Scale.Name, stateList(c.Scale))
+			continue
+		}
+		if e.Value < 0 {
+			is.add(e.Line, fld, "routine cost %s must be zero or more", num(e.Value))
+			continue
+		}
+		c.Routine[i] = e.Value
 	}
 }
 
@@ -639,6 +662,7 @@ func buildBudget(sc *Scenario, f *fileScenario, is *issues) {
 		return
 	}
 	sc.CarryOver = b.CarryOver
+	sc.RoutineInBudget = b.IncludesRoutine
 	if b.Yearly != nil {
 		sc.Budget = yearlyAmounts(b.Yearly, sc.Horizon, "budget.yearly", is)
 	}

@@ -18,4 +18,17 @@
 // (quantity times replacement unit cost) when every class gives one, and
 // equally otherwise; the Result says which, and warns when only some
 // classes give a replacement cost.
+//
+// A scenario may extend a base scenario (extends.go): the YAML node trees
+// are merged before decoding, mappings key by key, lists replaced except
+// classes and treatments, merged by name. Lines of the n-th file of the
+// chain are shifted by n·2^24 so that every problem still names the file and
+// line where the value was written.
+//
+// Funding answers (funding.go) come from optimize: the least level budget
+// (min-cost plans and plans whose targets are not met), the extra money per
+// year that closes every shortfall, and the worst-first rule's condition
+// score under the same money. Sweep plans a list of level budgets and
+// Compare a list of scenarios, in parallel (at most GOMAXPROCS at a time),
+// results in input order. LongRun reports the steady-state policy.
 package scenarios

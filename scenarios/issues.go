@@ -50,12 +50,19 @@ func (e *InputError) Error() string {
 // issues collects problems while a file is read and checked.
 type issues struct {
 	file string
-	list []*Issue
-	seen map[Issue]bool
+	// files names the files of an extends chain; a line n·lineBlock + l
+	// is line l of files[n] (extends.go).
+	files []string
+	list  []*Issue
+	seen  map[Issue]bool
 }
 
 func (s *issues) add(line int, field, format string, args ...any) {
-	is := Issue{File: s.file, Line: line, Field: field, Msg: fmt.Sprintf(format, args...)}
+	file := s.file
+	if n := line / lineBlock; n > 0 && n < len(s.files) {
+		file, line = s.files[n], line%lineBlock
+	}
+	is := Issue{File: file, Line: line, Field: field, Msg: fmt.Sprintf(format, args...)}
 	if s.seen[is] {
 		// The same problem found again, e.g. a catalogue treatment checked
 		// once for each class that uses it: report it once.

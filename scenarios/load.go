@@ -34,7 +34,11 @@ func Load(fsys fs.FS, name string) (*Scenario, error) {
 		}
 		return nil, &InputError{Issues: []*Issue{{File: name, Msg: fmt.Sprintf("cannot read the file: %v", err)}}}
 	}
-	return Parse(name, data)
+	root, files, err := loadChain(fsys, name, data)
+	if err != nil {
+		return nil, err
+	}
+	return decodeScenario(name, root, files)
 }
 
 var yamlLine = regexp.MustCompile(`line (\d+)`)
@@ -135,7 +139,17 @@ func Parse(name string, data []byte) (*Scenario, error) {
 	if err != nil {
 		return nil, err
 	}
-	is := &issues{file: name}
+	if ext, line := extendsOf(root); ext != "" {
+		is := &issues{file: name}
+		is.add(line, "extends", "a scenario read from memory cannot extend %q; load it from its folder (LoadFile)", ext)
+		return nil, is.err()
+	}
+	return decodeScenario(name, root, nil)
+}
+
+// decodeScenario decodes and checks a (merged) scenario node tree.
+func decodeScenario(name string, root *yaml.Node, files []string) (*Scenario, error) {
+	is := &issues{file: name, files: files}
 	var f fileScenario
 	d := &decoder{issues: is}
 	d.decode(root, reflect.ValueOf(&f).Elem(), "")

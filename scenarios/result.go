@@ -25,8 +25,13 @@ type Result struct {
 	// TotalCost is nominal treatment spend over the horizon.
 	TotalCost    float64 `json:"total_cost"`
 	PresentValue float64 `json:"present_value"`
-	DiscountRate float64 `json:"discount_rate"`
-	Escalation   float64 `json:"cost_escalation"`
+	// RoutineCost is the nominal routine cost of untreated quantities over
+	// the horizon, reported apart from treatment spend (absent when the
+	// scenario gives no routine costs); RoutinePresentValue discounts it.
+	RoutineCost         *float64 `json:"routine_cost,omitempty"`
+	RoutinePresentValue *float64 `json:"routine_present_value,omitempty"`
+	DiscountRate        float64  `json:"discount_rate"`
+	Escalation          float64  `json:"cost_escalation"`
 	// ConditionScore is the mean over the horizon of the network condition
 	// score (0-100), the max-condition objective.
 	ConditionScore float64 `json:"condition_score"`
@@ -37,8 +42,13 @@ type Result struct {
 	Years     []Year          `json:"years"`
 	Targets   []TargetOutcome `json:"targets"`
 	Warnings  []string        `json:"warnings"`
-	Model     *ModelSize      `json:"model,omitempty"`
-	Caution   string          `json:"caution"`
+	// Funding answers the funding questions of a plan (funding.go).
+	Funding *Funding `json:"funding,omitempty"`
+	// Baseline is the worst-first rule under the same budget, for
+	// comparison with an optimised plan.
+	Baseline *Baseline  `json:"baseline,omitempty"`
+	Model    *ModelSize `json:"model,omitempty"`
+	Caution  string     `json:"caution"`
 }
 
 // ClassWeight is one class's share of network figures.
@@ -107,9 +117,11 @@ type Work struct {
 
 // Year is one planning year: the work done in it and the condition at its end.
 type Year struct {
-	Year    int              `json:"year"`
-	Spend   float64          `json:"spend"`
-	Budget  *float64         `json:"budget"`
+	Year   int      `json:"year"`
+	Spend  float64  `json:"spend"`
+	Budget *float64 `json:"budget"`
+	// Routine is the year's routine cost (absent without routine costs).
+	Routine *float64         `json:"routine_cost,omitempty"`
 	Groups  []GroupSpend     `json:"budget_groups,omitempty"`
 	Classes []ClassCondition `json:"classes"`
 	Network NetworkCondition `json:"network"`

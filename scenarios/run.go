@@ -12,6 +12,10 @@ import (
 type Options struct {
 	// Timeout bounds each solver call; zero means no limit.
 	Timeout time.Duration
+	// SkipFunding leaves out the funding answers (least level budget,
+	// extra money) and the worst-first baseline: sweeps and comparisons
+	// that need only the plan save their solves.
+	SkipFunding bool
 }
 
 // Forecast rolls today's condition forward with no work done.
@@ -28,6 +32,7 @@ func Forecast(sc *Scenario) (*Result, error) {
 		}
 	}
 	r := assemble(sc, p, cond, nil, nil)
+	addRoutine(sc, r, forecastRoutine(sc, cond))
 	r.Kind, r.Status = "forecast", "do-nothing"
 	return r, nil
 }
@@ -44,9 +49,10 @@ func Plan(sc *Scenario, opt Options) (*Result, error) {
 		return nil, err
 	}
 	if plan.Status == optimize.Infeasible {
-		return nil, fmt.Errorf("%s: the budgets cannot be kept even by doing nothing; check the budget lines", sc.Source)
+		return nil, budgetInfeasible(sc, p)
 	}
 	r := assemble(sc, p, plan.Condition, plan.Work, plan.Spend)
+	addRoutine(sc, r, plan.Routine)
 	r.Kind, r.Status, r.Objective = "plan", string(plan.Status), sc.Objective.String()
 	r.Model = &ModelSize{Rows: plan.Stats.Rows, Columns: plan.Stats.Cols, Nonzeros: plan.Stats.Nonzeros, Solves: plan.Stats.Solves}
 	for _, s := range plan.Shortfalls {
@@ -60,6 +66,25 @@ func Plan(sc *Scenario, opt Options) (*Result, error) {
 	}
 	if sc.Objective == optimize.MinCost && len(sc.Targets) == 0 {
 		r.Warnings = append(r.Warnings, "min-cost with no targets: the cheapest plan does nothing; add targets or a budget with max-condition")
+	}
+	if !opt.SkipFunding {
+		f := &Funding{}
+		if plan.Status == optimize.TargetsNotMet {
+			if err := closingMoney(sc, p, f); err != nil {
+				return nil, err
+			}
+		}
+		if len(sc.Targets) > 0 && (sc.Objective == optimize.MinCost || plan.Status == optimize.TargetsNotMet) && f.Unreachable == "" {
+			if err := levelBudget(p, f); err != nil {
+				return nil, err
+			}
+		}
+		if f.LevelBudget != nil || f.ExtraTotal != nil || f.Unreachable != "" {
+			r.Funding = f
+		}
+		if err := baseline(p, r); err != nil {
+			return nil, err
+		}
 	}
 	return r, nil
 }

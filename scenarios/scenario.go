@@ -58,6 +58,9 @@ type Class struct {
 	ReplacementCost float64
 	// Weight is the class's normalised weight in network figures.
 	Weight float64
+	// Routine is the yearly cost per unit left untreated in each state at
+	// start-year prices; nil when the class gives none.
+	Routine []float64
 }
 
 // Total is the class's total quantity.
@@ -111,9 +114,11 @@ type Scenario struct {
 	Budget       []float64
 	BudgetGroups []BudgetGroup
 	CarryOver    bool
-	Targets      []Target
-	Objective    optimize.Objective
-	Weighting    Weighting
+	// RoutineInBudget counts routine costs against the caps.
+	RoutineInBudget bool
+	Targets         []Target
+	Objective       optimize.Objective
+	Weighting       Weighting
 	// Notes are things a planner should know about how the file was read
 	// (not errors); results repeat them as warnings.
 	Notes []string
@@ -138,12 +143,13 @@ func (s *Scenario) SharedScale() *Scale {
 // Problem turns the scenario into the optimizer's problem.
 func (s *Scenario) Problem() (*optimize.Problem, error) {
 	p := &optimize.Problem{
-		Horizon:      s.Horizon,
-		Budget:       s.Budget,
-		CarryOver:    s.CarryOver,
-		Escalation:   s.Escalation,
-		DiscountRate: s.DiscountRate,
-		Objective:    s.Objective,
+		Horizon:         s.Horizon,
+		Budget:          s.Budget,
+		CarryOver:       s.CarryOver,
+		RoutineInBudget: s.RoutineInBudget,
+		Escalation:      s.Escalation,
+		DiscountRate:    s.DiscountRate,
+		Objective:       s.Objective,
 	}
 	index := map[string]int{}
 	for k := range s.Classes {
@@ -158,7 +164,7 @@ func (s *Scenario) Problem() (*optimize.Problem, error) {
 			score[i] = c.Scale.Score(st.Value)
 		}
 		p.Classes = append(p.Classes, optimize.Class{
-			Name: c.Name, Initial: c.Initial, Score: score, Group: c.Scale.Group, Weight: c.Weight, Actions: acts,
+			Name: c.Name, Initial: c.Initial, Score: score, Group: c.Scale.Group, Weight: c.Weight, Actions: acts, Routine: c.Routine,
 		})
 	}
 	for _, g := range s.BudgetGroups {

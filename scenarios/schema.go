@@ -11,6 +11,7 @@ import (
 
 type fileScenario struct {
 	Name           string               `yaml:"name"`
+	Extends        string               `yaml:"extends"`
 	Description    string               `yaml:"description"`
 	StartYear      *int                 `yaml:"start_year"`
 	Horizon        *int                 `yaml:"horizon"`
@@ -49,6 +50,7 @@ type fileClass struct {
 	Treatments      []string           `yaml:"treatments"`
 	ReplacementCost *float64           `yaml:"replacement_cost"`
 	Weight          *float64           `yaml:"weight"`
+	RoutineCost     *stateNumbers      `yaml:"routine_cost"`
 	Lines           lines
 }
 
@@ -79,7 +81,9 @@ type fileBudget struct {
 	Yearly    *amounts          `yaml:"yearly"`
 	Groups    []fileBudgetGroup `yaml:"groups"`
 	CarryOver bool              `yaml:"carry_over"`
-	Lines     lines
+	// IncludesRoutine counts routine costs against the yearly caps.
+	IncludesRoutine bool `yaml:"includes_routine"`
+	Lines           lines
 }
 
 type fileBudgetGroup struct {

@@ -74,6 +74,46 @@ func (o *outputOptions) write(cmd *cobra.Command, r *scenarios.Result) error {
 	return nil
 }
 
+// formatOptions are the output flags of commands whose results are not a
+// plan (longrun, sweep, compare): one table, one file.
+type formatOptions struct {
+	format string
+	out    string
+}
+
+func (o *formatOptions) register(cmd *cobra.Command) {
+	f := cmd.Flags()
+	f.StringVar(&o.format, "format", "table", "output format: "+strings.Join(resultFormats, ", "))
+	f.StringVar(&o.out, "out", "", "write to this file instead of standard output")
+}
+
+func (o *formatOptions) validate() error {
+	if !slices.Contains(resultFormats, o.format) {
+		return usageError("--format %q: choose one of %s", o.format, strings.Join(resultFormats, ", "))
+	}
+	return nil
+}
+
+// write renders with the function of the chosen format, to standard output
+// or (whole or not at all) to --out.
+func (o *formatOptions) write(cmd *cobra.Command, table, json, csv func(io.Writer) error) error {
+	fill := table
+	switch o.format {
+	case "json":
+		fill = json
+	case "csv":
+		fill = csv
+	}
+	if o.out == "" {
+		return fill(cmd.OutOrStdout())
+	}
+	if err := writeFileAtomic(o.out, fill); err != nil {
+		return err
+	}
+	fmt.Fprintf(cmd.ErrOrStderr(), "wrote %s\n", o.out)
+	return nil
+}
+
 func isDir(path string) bool {
 	st, err := os.Stat(path)
 	return err == nil && st.IsDir()

@@ -14,7 +14,7 @@ import (
 func Text(w io.Writer, r *scenarios.Result) error {
 	ew := &errWriter{w: w}
 	summary(ew, r)
-	if r.Kind == "plan" {
+	if r.Kind == "plan" || r.Status == string(scenarios.WorstFirst) {
 		ew.printf("\nWork program (quantity treated in the year; cost in %s at that year's prices)\n", currency(r))
 		tabulate(ew, workTable(r))
 		ew.printf("\nSpend against budget (%s)\n", currency(r))
@@ -26,6 +26,7 @@ func Text(w io.Writer, r *scenarios.Result) error {
 		ew.printf("\nTargets\n")
 		tabulate(ew, targetTable(r))
 	}
+	fundingText(ew, r)
 	for _, warn := range r.Warnings {
 		ew.printf("\nNote: %s\n", warn)
 	}
@@ -48,6 +49,13 @@ func summary(w *errWriter, r *scenarios.Result) {
 		w.printf("Plan %d-%d: objective %s, status %s\n", r.StartYear, last, r.Objective, r.Status)
 		w.printf("Condition score %.2f (mean network score over the horizon, 0 worst - 100 best); spend %s %s, present value %s at %.1f%% a year\n",
 			r.ConditionScore, currency(r), Money(r.TotalCost), Money(r.PresentValue), 100*r.DiscountRate)
+	case "forecast":
+		if r.Status == string(scenarios.WorstFirst) {
+			w.printf("Forecast %d-%d with the budget spent worst first (the worst states, each with its cheapest improving treatment)\n", r.StartYear, last)
+			w.printf("Condition score %.2f (mean network score over the horizon, 0 worst - 100 best); spend %s %s\n", r.ConditionScore, currency(r), Money(r.TotalCost))
+			return
+		}
+		fallthrough
 	default:
 		w.printf("Forecast %d-%d with no work done\n", r.StartYear, last)
 		w.printf("Condition score %.2f (mean network score over the horizon, 0 worst - 100 best)\n", r.ConditionScore)

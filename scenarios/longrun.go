@@ -1,0 +1,171 @@
+package scenarios
+
+import (
+	"math"
+
+	"wearplan/optimize"
+)
+
+// LongRunResult is the steady-state policy of a scenario: what to do each
+// year, forever, what condition that sustains, and what it costs a year at
+// start-year prices.
+type LongRunResult struct {
+	Scenario  string `json:"scenario"`
+	Source    string `json:"source"`
+	Kind      string `json:"kind"` // "longrun"
+	Status    string `json:"status"`
+	Objective string `json:"objective"`
+	Currency  string `json:"currency"`
+	// Budget is the annual network cap used (the first year's), if any.
+	Budget *float64 `json:"budget"`
+	// AnnualCost is treatment spend plus routine cost per year.
+	AnnualCost      float64          `json:"annual_cost"`
+	AnnualTreatment float64          `json:"annual_treatment_cost"`
+	AnnualRoutine   float64          `json:"annual_routine_cost"`
+	Weighting       string           `json:"network_weighting"`
+	Today           Snapshot         `json:"today"`
+	Classes         []LongRunClass   `json:"classes"`
+	Network         NetworkCondition `json:"network"`
+	Targets         []LongRunTarget  `json:"targets"`
+	Warnings        []string         `json:"warnings"`
+	Caution         string           `json:"caution"`
+}
+
+// LongRunClass is one class's long-run policy and condition.
+type LongRunClass struct {
+	Class string `json:"class"`
+	Unit  string `json:"unit"`
+	// States is the long-run quantity in each state.
+	States       Quantities `json:"states"`
+	AverageIndex float64    `json:"average_index"`
+	Score        float64    `json:"score"`
+	Shares       Shares     `json:"shares"`
+	// Policy lists, per state, the share of it given each action each year.
+	Policy          []PolicyEntry `json:"policy"`
+	AnnualTreatment float64       `json:"annual_treatment_cost"`
+	AnnualRoutine   float64       `json:"annual_routine_cost"`
+}
+
+// PolicyEntry is the long-run share of one state given one action a year.
+type PolicyEntry struct {
+	State     string  `json:"state"`
+	Treatment string  `json:"treatment"`
+	Quantity  float64 `json:"quantity"`
+	// Share is the fraction of the state's long-run quantity (0-1).
+	Share float64 `json:"share"`
+	Cost  float64 `json:"annual_cost"`
+}
+
+// LongRunTarget says whether a target holds in the long run.
+type LongRunTarget struct {
+	Target string  `json:"target"`
+	Met    bool    `json:"met"`
+	Value  float64 `json:"value"`
+	Limit  float64 `json:"limit"`
+	// Shortfall is in the target's unit (share 0-1, or index points).
+	Shortfall float64 `json:"shortfall,omitempty"`
+}
+
+// LongRun solves the scenario's steady-state problem (optimize.SolveLongRun):
+// the scenario's objective, targets with their years ignored, and the first
+// year's caps as annual caps.
+func LongRun(sc *Scenario, opt Options) (*LongRunResult, error) {
+	p, err := sc.Problem()
+	if err != nil {
+		return nil, err
+	}
+	p.Timeout = opt.Timeout
+	lr, err := optimize.SolveLongRun(p)
+	if err != nil {
+		return nil, err
+	}
+	if lr.Status == optimize.Infeasible {
+		return nil, budgetInfeasible(sc, p)
+	}
+	r := &LongRunResult{
+		Scenario: sc.Name, Source: sc.Source, Kind: "longrun", Status: string(lr.Status), Objective: sc.Objective.String(),
+		Currency: sc.Currency, Weighting: string(sc.Weighting), Caution: Caution, Warnings: append([]string{}, sc.Notes...),
+		AnnualCost: lr.AnnualCost(), AnnualTreatment: lr.AnnualTreatment, AnnualRoutine: lr.AnnualRoutine,
+	}
+	if sc.Budget != nil && !math.IsInf(sc.Budget[0], 1) {
+		b := sc.Budget[0]
+		r.Budget = &b
+	}
+	if sc.Horizon > 1 && sc.Budget != nil {
+		r.Warnings = append(r.Warnings, "the long-run policy uses the first year's budget as the annual cap, at start-year prices")
+	}
+	cond := make([][][]float64, len(sc.Classes))
+	for k := range sc.Classes {
+		cond[k] = [][]float64{sc.Classes[k].Initial, lr.Distribution[k]}
+	}
+	today := assemble(&Scenario{Name: sc.Name, Classes: sc.Classes, Horizon: 1, StartYear: sc.StartYear, Weighting: sc.Weighting}, p, cond, nil, nil)
+	r.Today = today.Initial
+	r.Network = today.Years[0].Network
+	for k := range sc.Classes {
+		c := &sc.Classes[k]
+		lc := LongRunClass{Class: c.Name, Unit: c.Unit, AnnualTreatment: lr.Treatment[k], AnnualRoutine: lr.Routine[k], Policy: []PolicyEntry{}}
+		cc := today.Years[0].Classes[k]
+		lc.States, lc.AverageIndex, lc.Score, lc.Shares = cc.States, cc.AverageIndex, cc.Score, cc.Shares
+		// Entries under a millionth of the class are left out: the
+		// tie-break stage may move that much (optimize.holdTolerance), and
+		// no one plans a millionth of a network.
+		floor := 1e-6 * c.Total()
+		for i, byAction := range lr.Policy[k] {
+			inState := lr.Distribution[k][i]
+			for a, q := range byAction {
+				if q <= floor {
+					continue
+				}
+				act := &p.Classes[k].Actions[a]
+				cost := q * act.Cost[i]
+				if a == 0 && c.Routine != nil {
+					cost = q * c.Routine[i]
+				}
+				lc.Policy = append(lc.Policy, PolicyEntry{State: c.Scale.States[i].Name, Treatment: act.Name, Quantity: q, Share: q / inState, Cost: cost})
+			}
+		}
+		r.Classes = append(r.Classes, lc)
+	}
+	// Targets, measured on the long-run condition like a one-year plan.
+	short := map[int]float64{}
+	for _, s := range lr.Shortfalls {
+		short[s.Target] = s.Amount
+	}
+	fake := &Result{Initial: today.Initial, Years: []Year{{Year: sc.StartYear, Classes: today.Years[0].Classes, Network: r.Network}}}
+	one := *sc
+	one.Targets = make([]Target, len(sc.Targets))
+	for n, t := range sc.Targets {
+		t.FromYear, t.ToYear = sc.StartYear, sc.StartYear
+		one.Targets[n] = t
+	}
+	for n, o := range evaluateTargets(&one, fake) {
+		lt := LongRunTarget{Target: longRunLabel(sc.Targets[n]), Met: o.Met, Value: o.WorstValue, Limit: o.Limit}
+		if v, ok := short[n]; ok {
+			if k := sc.Targets[n].Spec.Kind; k == optimize.MinScore || k == optimize.Hold {
+				v = indexPoints(sc, sc.Targets[n], v)
+			}
+			lt.Shortfall = v
+		}
+		r.Targets = append(r.Targets, lt)
+	}
+	return r, nil
+}
+
+// longRunLabel restates a target without its years, which a steady state
+// does not have.
+func longRunLabel(t Target) string {
+	who := "network"
+	if t.Class != "" {
+		who = t.Class
+	}
+	s := t.Spec
+	switch s.Kind {
+	case optimize.MaxShare:
+		return who + " " + s.Group.String() + " share at most " + pct(s.Value) + " in the long run"
+	case optimize.MinShare:
+		return who + " " + s.Group.String() + " share at least " + pct(s.Value) + " in the long run"
+	case optimize.Hold:
+		return who + " average condition in the long run no worse than today"
+	}
+	return t.Label + " (held in the long run)"
+}
