@@ -324,3 +324,25 @@ func TestWorkbookHoldsTheJSONNumbers(t *testing.T) {
 		same(fmt.Sprintf("budget %d", y.Year), num(report.SheetSpend, i, 3, spend[i]), *y.Budget)
 	}
 }
+
+// TestOutputFilesAreReadable: files written with --out can be read by
+// others (reports are handed on); the temporary file they are written
+// through is private until it is complete.
+func TestOutputFilesAreReadable(t *testing.T) {
+	dir := t.TempDir()
+	for _, args := range [][]string{
+		{"report", demo, "--format", "md", "--out", filepath.Join(dir, "r.md")},
+		{"plan", demo, "--format", "json", "--out", filepath.Join(dir, "p.json")},
+	} {
+		if code, _, errs := run(t, args...); code != 0 {
+			t.Fatalf("%v: exit %d: %s", args, code, errs)
+		}
+		st, err := os.Stat(args[len(args)-1])
+		if err != nil {
+			t.Fatal(err)
+		}
+		if st.Mode().Perm() != 0o644 {
+			t.Errorf("%s: mode %v, want -rw-r--r--", args[len(args)-1], st.Mode().Perm())
+		}
+	}
+}
