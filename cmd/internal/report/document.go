@@ -369,7 +369,7 @@ func losTable(id string, run Run) table {
 }
 
 func targetTable(id string, r *scenarios.Result) table {
-	t := table{ID: id, Caption: "Targets", Head: []string{"Target", "Met", "Worst year", "Worst value", "Limit", "Shortfall"}, Num: []bool{false, false, true, true, true, false}}
+	t := table{ID: id, Caption: "Whether each target holds, its worst year, and any shortfall", Head: []string{"Target", "Met", "Worst year", "Worst value", "Limit", "Shortfall"}, Num: []bool{false, false, true, true, true, false}}
 	for _, o := range r.Targets {
 		share := strings.Contains(o.Target, " share ")
 		val := func(v float64) string {
@@ -555,13 +555,14 @@ func classAssumption(id string, c *scenarios.Class, cur string) classAssumptions
 	return ca
 }
 
-// probability writes a transition probability; zero as a dash so the
-// structure of the matrix stands out.
+// probability writes a transition probability to four decimals (the
+// workbook keeps every digit); zero as a dash so the structure of the
+// matrix stands out.
 func probability(p float64) string {
 	if p == 0 {
 		return "-"
 	}
-	return strconv.FormatFloat(p, 'f', -1, 64)
+	return strconv.FormatFloat(math.Round(p*1e4)/1e4, 'f', -1, 64)
 }
 
 func effectWords(tr *treatments.Treatment, i int, s *scenarios.Scale) string {
