@@ -1,7 +1,9 @@
 # wearplan build, demo and tests. lp_solve 5.5 comes from Debian's
 # liblpsolve55-dev (a static library) and is linked through golp with cgo;
 # GLPK's glpsol (glpk-utils) and COIN-OR's clp (coinor-clp) are the
-# independent reference solvers in tests.
+# independent reference solvers in tests; Debian's chromium (with the
+# Liberation fonts the report charts are measured in) opens the HTML report
+# in the browser test.
 SHELL := /bin/bash
 export PATH := $(PATH):/usr/local/go/bin
 export CGO_ENABLED := 1
@@ -26,6 +28,7 @@ deps:
 deps-test: deps
 	@command -v glpsol >/dev/null 2>&1 || { echo "installing glpk-utils"; $(call apt_install,glpk-utils); }
 	@command -v clp >/dev/null 2>&1 || { echo "installing coinor-clp"; $(call apt_install,coinor-clp); }
+	@command -v chromium >/dev/null 2>&1 && dpkg -s fonts-liberation >/dev/null 2>&1 || { echo "installing chromium and fonts-liberation"; $(call apt_install,chromium fonts-liberation); }
 
 build: deps
 	go build -o bin/wearplan ./cmd/wearplan

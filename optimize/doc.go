@@ -77,7 +77,9 @@
 // WorstFirst plays the common-practice rule (worst states first, cheapest
 // improving treatment) under the same caps, for comparison.
 //
-// The model can be written as free MPS (WriteMPS) from the model data, so
-// that any solver reads it; a maximisation is written as the minimisation of
-// the negated objective.
+// The model can be written as free MPS (WriteMPS) or CPLEX LP (WriteLP)
+// from the model data, so that any solver reads it; MPS writes a
+// maximisation as the minimisation of the negated objective, LP format keeps
+// the sense. BuildModel fills the model's Notes with a legend of its columns,
+// rows and units, which both writers print as comments.
 package optimize

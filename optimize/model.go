@@ -37,6 +37,9 @@ type Model struct {
 	Obj      []float64
 	Rows     []Row
 	Maximize bool
+	// Notes explain the model to a reader of an exported file (what the
+	// columns, rows and units are); writers print them as comments.
+	Notes []string
 }
 
 func (m *Model) addCol(name string, obj float64) int {

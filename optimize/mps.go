@@ -12,11 +12,15 @@ import (
 // maximisation is written as the minimisation of the negated objective,
 // because readers disagree on OBJSENSE; the header comment says so. Numbers
 // are written with full precision so a reader solves exactly this model.
+// The model's Notes become comment lines at the top.
 func WriteMPS(w io.Writer, m *Model) error {
 	bw := bufio.NewWriter(w)
 	name := m.Name
 	if name == "" {
 		name = "wearplan"
+	}
+	for _, n := range m.Notes {
+		fmt.Fprintf(bw, "* %s\n", commentText(n))
 	}
 	sign := 1.0
 	if m.Maximize {

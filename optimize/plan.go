@@ -66,7 +66,9 @@ func BuildModel(p *Problem) (*Model, error) {
 		return nil, err
 	}
 	b := newBuilder(p)
-	return b.build(), nil
+	m := b.build()
+	m.Notes = b.legend()
+	return m, nil
 }
 
 // Solve plans the problem with the flat LP.

@@ -47,6 +47,13 @@ func runGlpsol(t *testing.T, glpsol, mps string) glpsolResult {
 	if err != nil {
 		t.Fatalf("glpsol: %v\n%s", err, out)
 	}
+	return readGlpsolSolution(t, sol, out)
+}
+
+// readGlpsolSolution reads the status and objective from glpsol's raw
+// solution file; out is glpsol's console output, shown on failure.
+func readGlpsolSolution(t *testing.T, sol string, out []byte) glpsolResult {
+	t.Helper()
 	f, err := os.Open(sol)
 	if err != nil {
 		t.Fatal(err)

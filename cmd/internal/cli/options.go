@@ -137,6 +137,11 @@ func writeFileAtomic(path string, fill func(io.Writer) error) error {
 	if err := fill(tmp); err != nil {
 		return fmt.Errorf("writing %s: %w", path, err)
 	}
+	// CreateTemp makes the file private (0600); once complete, make it
+	// readable like any other written file, since output is handed on.
+	if err := tmp.Chmod(0o644); err != nil {
+		return fmt.Errorf("writing %s: %w", path, err)
+	}
 	if err := tmp.Close(); err != nil {
 		return fmt.Errorf("writing %s: %w", path, err)
 	}

@@ -14,6 +14,7 @@ func newPlanCmd() *cobra.Command {
 	var out outputOptions
 	var solve solveOptions
 	var strict bool
+	var modelPath string
 	cmd := &cobra.Command{
 		Use:   "plan FILE",
 		Short: "Choose the yearly treatment mix under the budget and targets",
@@ -33,15 +34,27 @@ far it falls short; it still exits 0 unless --strict is given (exit 3).`,
   wearplan plan scenarios/examples/marrowby.yaml --format json --out plan.json
 
   # Every table as CSV files in a folder
-  mkdir -p out && wearplan plan scenarios/examples/marrowby.yaml --format csv --out out`,
+  mkdir -p out && wearplan plan scenarios/examples/marrowby.yaml --format csv --out out
+
+  # Also write the linear program in CPLEX LP format, to check with another solver
+  wearplan plan scenarios/examples/marrowby.yaml --write-model marrowby.lp
+  glpsol --lp marrowby.lp`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			if err := out.validate(); err != nil {
 				return err
 			}
+			if err := checkModelPath(modelPath); err != nil {
+				return err
+			}
 			sc, err := loadScenario(args[0])
 			if err != nil {
 				return err
+			}
+			if modelPath != "" {
+				if err := writeModel(cmd, sc, modelPath); err != nil {
+					return err
+				}
 			}
 			r, err := scenarios.Plan(sc, solve.scenarioOptions())
 			if err != nil {
@@ -62,6 +75,7 @@ far it falls short; it still exits 0 unless --strict is given (exit 3).`,
 	out.register(cmd, "work")
 	solve.register(cmd)
 	cmd.Flags().BoolVar(&strict, "strict", false, "exit with code 3 when the targets cannot be met")
+	cmd.Flags().StringVar(&modelPath, "write-model", "", "also write the linear program solved first, as FILE.lp (CPLEX LP) or FILE.mps (free MPS), before solving")
 	return cmd
 }
 

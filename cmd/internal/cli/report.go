@@ -1,0 +1,129 @@
+package cli
+
+import (
+	"crypto/sha256"
+	"encoding/hex"
+	"fmt"
+	"io"
+	"os"
+	"slices"
+	"strings"
+	"time"
+
+	"github.com/spf13/cobra"
+
+	"wearplan/cmd/internal/report"
+	"wearplan/scenarios"
+)
+
+var reportFormats = []string{"html", "md", "xlsx"}
+
+func newReportCmd() *cobra.Command {
+	var solve solveOptions
+	var format, out, date string
+	cmd := &cobra.Command{
+		Use:   "report FILE [FILE...]",
+		Short: "Write the plan as an HTML page, Markdown or an Excel workbook",
+		Long: `Report plans each scenario file and writes the report planners hand on:
+
+  html  one self-contained page (no scripts, nothing loaded from anywhere):
+        summary, level-of-service table (per class and network: today and the
+        end of year 1, 5, 10 and the last), charts (condition shares per year
+        for the network and each class, spend against budget), targets, spend,
+        the work program, the assumptions (scales, deterioration matrices,
+        treatments and costs, escalation, discount rate, weights, budget,
+        targets), the caution paragraph and run details (wearplan version,
+        SHA-256 of each input file, report date);
+  md    the same content as Markdown tables, for pasting into documents
+        (charts are in the HTML report only);
+  xlsx  a workbook with one sheet each for the work program, condition by
+        year, level of service, spend and budget, and inputs, plus the run
+        details; numbers are stored as numbers with units in the headers.
+
+Several files make a comparison report: level of service and spend side by
+side, then a section for each scenario. The date defaults to today; give
+--date to make the report reproducible: the same files, version and date
+give the same HTML and Markdown, byte for byte.`,
+		Example: `  # The demo as a web page
+  wearplan report scenarios/examples/marrowby.yaml --out marrowby.html
+
+  # The same as Markdown with a fixed date, and as a workbook
+  wearplan report scenarios/examples/marrowby.yaml --format md --date 2027-01-15 --out marrowby.md
+  wearplan report scenarios/examples/marrowby.yaml --format xlsx --out marrowby.xlsx
+
+  # Two funding options side by side
+  wearplan report current.yaml reduced.yaml --out options.html`,
+		Args: cobra.MinimumNArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			if !slices.Contains(reportFormats, format) {
+				return usageError("--format %q: choose one of %s", format, strings.Join(reportFormats, ", "))
+			}
+			if format == "xlsx" && out == "" {
+				return usageError("--format xlsx writes a binary workbook: name the file with --out FILE.xlsx")
+			}
+			if date == "" {
+				date = time.Now().Format(time.DateOnly)
+			} else if _, err := time.Parse(time.DateOnly, date); err != nil {
+				return usageError("--date %q: give the date as YYYY-MM-DD, e.g. 2027-01-15", date)
+			}
+			rep := &report.Report{Details: report.Details{Version: Version, Date: date}}
+			for _, path := range args {
+				digest, err := fileDigest(path)
+				if err != nil {
+					return err
+				}
+				sc, err := loadScenario(path)
+				if err != nil {
+					return err
+				}
+				r, err := scenarios.Plan(sc, solve.scenarioOptions())
+				if err != nil {
+					return err
+				}
+				if r.Status == "targets-not-met" {
+					fmt.Fprintf(cmd.ErrOrStderr(), "%s: ", path)
+					warnShortfalls(cmd, r)
+				}
+				rep.Runs = append(rep.Runs, report.Run{Scenario: sc, Result: r})
+				rep.Details.Inputs = append(rep.Details.Inputs, report.InputFile{Path: path, SHA256: digest})
+			}
+			write := func(w io.Writer) error {
+				switch format {
+				case "md":
+					return report.Markdown(w, rep)
+				case "xlsx":
+					return report.Workbook(w, rep)
+				default:
+					return report.HTML(w, rep)
+				}
+			}
+			if out == "" {
+				return write(cmd.OutOrStdout())
+			}
+			if err := writeFileAtomic(out, write); err != nil {
+				return err
+			}
+			fmt.Fprintf(cmd.ErrOrStderr(), "wrote %s\n", out)
+			return nil
+		},
+	}
+	cmd.Flags().StringVar(&format, "format", "html", "report format: "+strings.Join(reportFormats, ", "))
+	cmd.Flags().StringVar(&out, "out", "", "write to this file instead of standard output (required for xlsx)")
+	cmd.Flags().StringVar(&date, "date", "", "report date as YYYY-MM-DD (default today); fix it for reproducible output")
+	solve.register(cmd)
+	return cmd
+}
+
+// fileDigest is the SHA-256 of a file's bytes, in hex.
+func fileDigest(path string) (string, error) {
+	data, err := os.ReadFile(path)
+	if err != nil {
+		// loadScenario words a missing or unreadable file for the user.
+		if _, lerr := loadScenario(path); lerr != nil {
+			return "", lerr
+		}
+		return "", &exitError{code: exitFailure, err: fmt.Errorf("cannot read %s: %w", path, err)}
+	}
+	sum := sha256.Sum256(data)
+	return hex.EncodeToString(sum[:]), nil
+}

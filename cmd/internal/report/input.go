@@ -1,0 +1,96 @@
+// Package report writes the reports planners hand on: a self-contained HTML
+// page with inline SVG charts, the same content as Markdown, and an .xlsx
+// workbook. It only formats: every figure comes from a scenarios.Result, and
+// the assumptions section restates the scenarios.Scenario the run used.
+//
+// One run gives a report of one scenario; several runs give a comparison
+// report (side-by-side level of service and spend) followed by a section per
+// run. Output is deterministic: the same Report gives the same bytes of HTML
+// and Markdown (fixed element ids, no map iteration, no clock: the date is
+// part of the input).
+package report
+
+import (
+	"errors"
+	"fmt"
+	"regexp"
+
+	"wearplan/scenarios"
+)
+
+// Report is everything a report shows.
+type Report struct {
+	// Runs are the scenarios reported, in the order given; more than one
+	// makes a comparison report.
+	Runs []Run
+	// Sweep, when set, adds the chart and table of condition score against
+	// yearly budget (the budget sweep of the funding questions).
+	Sweep *Sweep
+	// Details are the run details every report ends with.
+	Details Details
+}
+
+// Run is one scenario and its result.
+type Run struct {
+	// Scenario is the validated scenario; the assumptions section restates
+	// it. It may be nil, and the section is then left out.
+	Scenario *scenarios.Scenario
+	Result   *scenarios.Result
+}
+
+// Details identify the run: who made the report, from what, and when.
+type Details struct {
+	// Version is the wearplan version.
+	Version string
+	// Date is the report date, YYYY-MM-DD.
+	Date string
+	// Inputs are the files read, with their SHA-256 digests.
+	Inputs []InputFile
+}
+
+// InputFile is one input file and the SHA-256 digest of its bytes.
+type InputFile struct {
+	Path   string
+	SHA256 string
+}
+
+// Sweep is condition score against yearly budget for one scenario: each
+// point is a plan with the same scenario and a different flat yearly
+// budget.
+type Sweep struct {
+	// Scenario names the scenario swept.
+	Scenario string
+	Currency string
+	Points   []SweepPoint
+}
+
+// SweepPoint is one plan of a sweep.
+type SweepPoint struct {
+	// Budget is the yearly network budget (nominal, start-year money).
+	Budget float64
+	// ConditionScore is the plan's mean network score over the horizon, 0-100.
+	ConditionScore float64
+	// Status is the plan status (optimal, targets-not-met).
+	Status string
+}
+
+var datePattern = regexp.MustCompile(`^\d{4}-\d{2}-\d{2}$`)
+
+// validate rejects a report that cannot be drawn.
+func (r *Report) validate() error {
+	if len(r.Runs) == 0 {
+		return errors.New("report: no runs to report")
+	}
+	for i, run := range r.Runs {
+		if run.Result == nil {
+			return fmt.Errorf("report: run %d has no result", i+1)
+		}
+		if len(run.Result.Initial.Classes) == 0 {
+			return fmt.Errorf("report: run %d (%s) has no asset classes", i+1, run.Result.Scenario)
+		}
+	}
+	if !datePattern.MatchString(r.Details.Date) {
+		return fmt.Errorf("report: date %q is not YYYY-MM-DD", r.Details.Date)
+	}
+	return nil
+}

@@ -1,0 +1,179 @@
+package report
+
+import (
+	"bufio"
+	"io"
+	"strings"
+)
+
+// Markdown writes the report's content as Markdown (GitHub-flavoured
+// tables) for pasting into documents. It holds everything the HTML report
+// holds except the charts, which it points to.
+func Markdown(w io.Writer, rep *Report) error {
+	d, err := build(rep, false)
+	if err != nil {
+		return err
+	}
+	m := &mdWriter{w: bufio.NewWriter(w)}
+	m.line("# ", mdText(d.Title))
+	m.blank()
+	m.line(mdText(d.Subtitle))
+	m.blank()
+	m.line("Report date ", rep.Details.Date, ", wearplan ", mdText(rep.Details.Version))
+	m.blank()
+	m.line("> **", mdText(d.Caution), "**")
+	m.blank()
+	if c := d.Compare; c != nil {
+		m.line("## Comparison")
+		m.blank()
+		m.table(c.Overview)
+		m.table(c.LOS)
+		m.table(c.Spend)
+	}
+	for _, r := range d.Runs {
+		m.line("## ", mdText(r.Name))
+		m.blank()
+		if r.Description != "" {
+			m.line(mdText(r.Description))
+			m.blank()
+		}
+		m.facts(r.Summary)
+		for _, warn := range r.Warnings {
+			m.line("Note: ", mdText(warn))
+			m.blank()
+		}
+		m.line("### Level of service")
+		m.blank()
+		m.table(r.LOS)
+		m.line("Charts of condition by year and of spend against budget are in the HTML report (`wearplan report --format html`).")
+		m.blank()
+		if r.Targets != nil {
+			m.line("### Targets")
+			m.blank()
+			m.table(*r.Targets)
+		}
+		if r.Spend != nil {
+			m.line("### Spend against budget")
+			m.blank()
+			m.table(*r.Spend)
+		}
+		if r.Work != nil {
+			m.line("### Work program")
+			m.blank()
+			m.table(*r.Work)
+		}
+		if a := r.Assumptions; a != nil {
+			m.line("### Assumptions")
+			m.blank()
+			m.facts(a.General)
+			if len(a.Targets) > 0 {
+				m.line("Targets:")
+				m.blank()
+				for _, t := range a.Targets {
+					m.line("- ", mdText(t))
+				}
+				m.blank()
+			}
+			m.table(a.Weights)
+			for _, c := range a.Classes {
+				m.line("#### ", mdText(c.Heading))
+				m.blank()
+				m.table(c.Scale)
+				m.table(c.Matrix)
+				m.table(c.Treatments)
+			}
+		}
+	}
+	if s := d.Sweep; s != nil {
+		m.line("## Condition score against budget")
+		m.blank()
+		m.table(s.Table)
+	}
+	m.line("## Run details")
+	m.blank()
+	m.facts(d.Details.Facts)
+	m.table(d.Details.Inputs)
+	m.line("The same files, wearplan version and report date give the same report, byte for byte.")
+	return m.flush()
+}
+
+type mdWriter struct {
+	w   *bufio.Writer
+	err error
+}
+
+func (m *mdWriter) line(parts ...string) {
+	for _, p := range parts {
+		if m.err == nil {
+			_, m.err = m.w.WriteString(p)
+		}
+	}
+	if m.err == nil {
+		m.err = m.w.WriteByte('\n')
+	}
+}
+
+func (m *mdWriter) blank() { m.line() }
+
+func (m *mdWriter) flush() error {
+	if m.err != nil {
+		return m.err
+	}
+	return m.w.Flush()
+}
+
+func (m *mdWriter) facts(fs []fact) {
+	for _, f := range fs {
+		m.line("- **", mdText(f.Label), ":** ", mdText(f.Value))
+	}
+	m.blank()
+}
+
+// table writes a caption line, a pipe table, and the note. Group rows are
+// written in bold in the first column.
+func (m *mdWriter) table(t table) {
+	m.line("**", mdText(t.Caption), "**")
+	m.blank()
+	cells := make([]string, len(t.Head))
+	for i, h := range t.Head {
+		cells[i] = mdText(h)
+	}
+	m.line("| ", strings.Join(cells, " | "), " |")
+	for i := range t.Head {
+		cells[i] = "---"
+		if t.Num[i] {
+			cells[i] = "---:"
+		}
+	}
+	m.line("| ", strings.Join(cells, " | "), " |")
+	for _, r := range t.Rows {
+		for i := range cells {
+			cells[i] = ""
+			if i < len(r.Cells) {
+				cells[i] = mdText(r.Cells[i])
+			}
+		}
+		if r.Group {
+			cells[0] = "**" + cells[0] + "**"
+		}
+		m.line("| ", strings.Join(cells, " | "), " |")
+	}
+	m.blank()
+	if t.Note != "" {
+		m.line(mdText(t.Note))
+		m.blank()
+	}
+}
+
+// mdText escapes the characters that Markdown would read as markup (and
+// the pipe, which ends a table cell) and keeps text on one line.
+func mdText(s string) string {
+	var b strings.Builder
+	for _, r := range strings.Join(strings.Fields(s), " ") {
+		if strings.ContainsRune("\\`*_[]<>|#", r) {
+			b.WriteByte('\\')
+		}
+		b.WriteRune(r)
+	}
+	return b.String()
+}
