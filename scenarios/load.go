@@ -2,6 +2,7 @@ package scenarios
 
 import (
 	"bytes"
+	"crypto/sha256"
 	"errors"
 	"fmt"
 	"io/fs"
@@ -38,7 +39,20 @@ func Load(fsys fs.FS, name string) (*Scenario, error) {
 	if err != nil {
 		return nil, err
 	}
-	return decodeScenario(name, root, files)
+	sc, err := decodeScenario(name, root, files)
+	if err != nil {
+		return nil, err
+	}
+	// Digests of every file read (the scenario and its bases), so reports
+	// can show exactly which inputs produced them.
+	for _, f := range files {
+		b, err := fs.ReadFile(fsys, f)
+		if err != nil {
+			return nil, &InputError{Issues: []*Issue{{File: f, Msg: fmt.Sprintf("cannot read the file: %v", err)}}}
+		}
+		sc.Inputs = append(sc.Inputs, InputFile{Name: f, SHA256: fmt.Sprintf("%x", sha256.Sum256(b))})
+	}
+	return sc, nil
 }
 
 var yamlLine = regexp.MustCompile(`line (\d+)`)

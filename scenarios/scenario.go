@@ -119,9 +119,19 @@ type Scenario struct {
 	Targets         []Target
 	Objective       optimize.Objective
 	Weighting       Weighting
+	// Inputs are the files the scenario was read from, first the scenario
+	// itself, then its bases and any data files, with their digests.
+	Inputs []InputFile
 	// Notes are things a planner should know about how the file was read
 	// (not errors); results repeat them as warnings.
 	Notes []string
+}
+
+// InputFile is one file a scenario was read from: its name within the
+// scenario's folder and the SHA-256 digest of its bytes, in hex.
+type InputFile struct {
+	Name   string
+	SHA256 string
 }
 
 // Year returns the calendar year of plan year t (1-based).

@@ -192,3 +192,16 @@ func TestCorpusExitsTwoWithoutOutput(t *testing.T) {
 		}
 	}
 }
+
+func TestReportSweep(t *testing.T) {
+	code, out, errs := run(t, "report", demo, "--format", "md", "--date", "2027-01-15", "--sweep", "3e6,4.5e6,6e6")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	if !strings.Contains(out, "Condition score against budget") || !strings.Contains(out, "| 4,500,000 |") {
+		t.Errorf("report --sweep lacks the budget trade-off table")
+	}
+	if code, _, _ := run(t, "report", demo, demo, "--sweep", "3e6,4e6"); code != exitInput {
+		t.Errorf("--sweep with two files: exit %d, want %d", code, exitInput)
+	}
+}

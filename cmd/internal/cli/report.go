@@ -1,11 +1,9 @@
 package cli
 
 import (
-	"crypto/sha256"
-	"encoding/hex"
 	"fmt"
 	"io"
-	"os"
+	"path/filepath"
 	"slices"
 	"strings"
 	"time"
@@ -20,7 +18,7 @@ var reportFormats = []string{"html", "md", "xlsx"}
 
 func newReportCmd() *cobra.Command {
 	var solve solveOptions
-	var format, out, date string
+	var format, out, date, sweep string
 	cmd := &cobra.Command{
 		Use:   "report FILE [FILE...]",
 		Short: "Write the plan as an HTML page, Markdown or an Excel workbook",
@@ -52,7 +50,10 @@ give the same HTML and Markdown, byte for byte.`,
   wearplan report scenarios/examples/marrowby.yaml --format xlsx --out marrowby.xlsx
 
   # Two funding options side by side
-  wearplan report current.yaml reduced.yaml --out options.html`,
+  wearplan report scenarios/examples/marrowby.yaml scenarios/examples/marrowby-reduced.yaml --out options.html
+
+  # With the condition score against yearly budget from 2 to 6 million
+  wearplan report scenarios/examples/marrowby.yaml --sweep 2e6:6e6:500000 --out marrowby.html`,
 		Args: cobra.MinimumNArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			if !slices.Contains(reportFormats, format) {
@@ -66,12 +67,18 @@ give the same HTML and Markdown, byte for byte.`,
 			} else if _, err := time.Parse(time.DateOnly, date); err != nil {
 				return usageError("--date %q: give the date as YYYY-MM-DD, e.g. 2027-01-15", date)
 			}
-			rep := &report.Report{Details: report.Details{Version: Version, Date: date}}
-			for _, path := range args {
-				digest, err := fileDigest(path)
-				if err != nil {
+			var sweepBudgets []float64
+			if sweep != "" {
+				if len(args) != 1 {
+					return usageError("--sweep draws condition against budget for one scenario; give one file")
+				}
+				var err error
+				if sweepBudgets, err = parseBudgets(sweep); err != nil {
 					return err
 				}
+			}
+			rep := &report.Report{Details: report.Details{Version: Version, Date: date}}
+			for _, path := range args {
 				sc, err := loadScenario(path)
 				if err != nil {
 					return err
@@ -85,7 +92,21 @@ give the same HTML and Markdown, byte for byte.`,
 					warnShortfalls(cmd, r)
 				}
 				rep.Runs = append(rep.Runs, report.Run{Scenario: sc, Result: r})
-				rep.Details.Inputs = append(rep.Details.Inputs, report.InputFile{Path: path, SHA256: digest})
+				for _, in := range sc.Inputs {
+					// Names are relative to the scenario's folder; show them
+					// as the user would type them.
+					rep.Details.Inputs = append(rep.Details.Inputs, report.InputFile{Path: filepath.Join(filepath.Dir(path), filepath.FromSlash(in.Name)), SHA256: in.SHA256})
+				}
+			}
+			if sweepBudgets != nil {
+				sr, err := scenarios.Sweep(rep.Runs[0].Scenario, sweepBudgets, solve.scenarioOptions())
+				if err != nil {
+					return err
+				}
+				rep.Sweep = &report.Sweep{Scenario: sr.Scenario, Currency: sr.Currency}
+				for _, pt := range sr.Points {
+					rep.Sweep.Points = append(rep.Sweep.Points, report.SweepPoint{Budget: pt.Budget, ConditionScore: pt.ConditionScore, Status: pt.Status})
+				}
 			}
 			write := func(w io.Writer) error {
 				switch format {
@@ -109,21 +130,8 @@ give the same HTML and Markdown, byte for byte.`,
 	}
 	cmd.Flags().StringVar(&format, "format", "html", "report format: "+strings.Join(reportFormats, ", "))
 	cmd.Flags().StringVar(&out, "out", "", "write to this file instead of standard output (required for xlsx)")
+	cmd.Flags().StringVar(&sweep, "sweep", "", "also plan these yearly budgets and chart condition against budget: FROM:TO:STEP or a list (one scenario only)")
 	cmd.Flags().StringVar(&date, "date", "", "report date as YYYY-MM-DD (default today); fix it for reproducible output")
 	solve.register(cmd)
 	return cmd
-}
-
-// fileDigest is the SHA-256 of a file's bytes, in hex.
-func fileDigest(path string) (string, error) {
-	data, err := os.ReadFile(path)
-	if err != nil {
-		// loadScenario words a missing or unreadable file for the user.
-		if _, lerr := loadScenario(path); lerr != nil {
-			return "", lerr
-		}
-		return "", &exitError{code: exitFailure, err: fmt.Errorf("cannot read %s: %w", path, err)}
-	}
-	sum := sha256.Sum256(data)
-	return hex.EncodeToString(sum[:]), nil
 }
