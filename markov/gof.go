@@ -89,11 +89,12 @@ func (c ChiSquare) withDF(df int) ChiSquare {
 // several intervals it also tests that multi-year moves follow P^years.
 //
 // Pooling, so that every cell expects at least MinExpected pairs: in each
-// family, end states are pooled in order until the family's average row
-// expects MinExpected in each pooled cell (a short tail joins the cell
-// before it); then calendar years are pooled in order until each row
+// family, end states are pooled in order until half the family's pairs
+// would expect MinExpected in each pooled cell (a short tail joins the
+// cell before it); then calendar years are pooled in order until each row
 // expects MinExpected in its smallest cell (a short last row joins the
-// one before it).
+// one before it). Pooling years before states keeps the moves apart,
+// which is where the test has its power.
 //
 // Degrees of freedom: Σ over families of rows·(cells - 1), less, when p
 // was fitted to these pairs, the parameters estimated. Row i of p counts
@@ -161,7 +162,9 @@ func TransitionChiSquare(pairs []Pair, p *Transition, fitted bool) ChiSquare {
 			out.Pairs += rows[k].total
 		}
 		// Pool end states: cells[b] lists the states of pooled cell b.
-		avg := famTotal / float64(len(rows))
+		// Cells are sized for half the family, so that at least two rows
+		// of calendar years can test them.
+		avg := famTotal / 2
 		var cells [][]int
 		var cur []int
 		curP := 0.0

@@ -148,8 +148,8 @@ func TestTransitionChiSquareByHand(t *testing.T) {
 //	2021: 50 Good, 8 Fair, 2 Poor  (60 pairs)
 //	2022: 16 Good, 3 Fair, 1 Poor  (20 pairs)
 //
-// End states: the average row has 40 pairs; 40·0.8 = 32 and 40·0.15 = 6
-// stand alone, 40·0.05 = 2 is short and joins Fair: cells (Good) and
+// End states, sized for half the family's 120 pairs: 60·0.8 = 48 and
+// 60·0.15 = 9 stand alone, 60·0.05 = 3 is short and joins Fair: cells (Good) and
 // (Fair or Poor) with probabilities 0.8 and 0.2. Years: the smallest cell
 // needs 5/0.2 = 25 pairs; 2020 (40) and 2021 (60) stand, 2022 (20) joins
 // 2021. Rows: 2020 O = (30, 10), E = (32, 8); 2021-22 O = (66, 14),

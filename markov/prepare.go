@@ -30,9 +30,12 @@ type Pair struct {
 
 // Reading is one inspection of an asset before any recorded work, seen
 // from its first inspection: Years after it, in State, having started in
-// Start. Readings compare observed and predicted mean condition.
+// Start; and from its previous inspection, Gap years earlier in state
+// Prev (for the first inspection, itself with a gap of 0). Readings compare
+// observed and predicted mean condition.
 type Reading struct {
 	Years, Start, State int
+	Prev, Gap           int
 }
 
 // MaxIntervalYears is the longest interval between two inspections that is
@@ -109,7 +112,11 @@ func Prepare(histories [][]Inspection, states int, s Structure) (*Sample, []Read
 				working = true
 			}
 			if !working {
-				readings = append(readings, Reading{Years: int(math.Round(cur.Time - h[0].Time)), Start: h[0].State, State: cur.State})
+				rd := Reading{Years: int(math.Round(cur.Time - h[0].Time)), Start: h[0].State, State: cur.State, Prev: cur.State}
+				if k > 0 {
+					rd.Prev, rd.Gap = h[k-1].State, int(math.Round(cur.Time-h[k-1].Time))
+				}
+				readings = append(readings, rd)
 			}
 			if k == 0 {
 				continue

@@ -67,7 +67,7 @@ func TestPrepareCountsEachStep(t *testing.T) {
 			}
 			// Readings stop at the first inspection after work: A has 4
 			// (2010-2013), B 3, C 1. B's last is round(1.1) = 1 year on.
-			if len(readings) != 8 || readings[6] != (markov.Reading{Years: 1, Start: 0, State: 2}) {
+			if len(readings) != 8 || readings[6] != (markov.Reading{Years: 1, Start: 0, State: 2, Prev: 0, Gap: 1}) {
 				t.Errorf("readings %v", readings)
 			}
 		})
@@ -90,31 +90,33 @@ func TestPrepareCountsEachStep(t *testing.T) {
 // Observed and predicted mean condition, by hand. P = [[0.5 0.5] [0 1]],
 // state values 80 and 20. Readings: asset 1 in state 1, 1, 2 at years 0,
 // 1, 2; asset 2 in 1, 2 at years 0, 1; asset 3 in 2 at year 0.
-// Year 0: observed (80+80+20)/3 = 60, predicted the same. Year 1: both
-// started in state 1: observed (80+20)/2 = 50, predicted 0.5·80 + 0.5·20 =
-// 50. Year 2: observed 20, predicted from state 1: P² row 1 = (0.25,
-// 0.75), 0.25·80 + 0.75·20 = 35.
+// Year 0: observed (80+80+20)/3 = 60, predicted the same both ways. Year
+// 1: both started in state 1 a year before: observed (80+20)/2 = 50, both
+// predictions 0.5·80 + 0.5·20 = 50. Year 2: observed 20; from the first
+// inspection (state 1, two years): P² row 1 = (0.25, 0.75), 0.25·80 +
+// 0.75·20 = 35; from the previous one (state 1, one year): 50.
 func TestMeanConditionByHand(t *testing.T) {
 	p, err := markov.NewTransition([][]float64{{0.5, 0.5}, {0, 1}}, markov.Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
 	readings := []markov.Reading{
-		{Years: 0, Start: 0, State: 0}, {Years: 1, Start: 0, State: 0}, {Years: 2, Start: 0, State: 1},
-		{Years: 0, Start: 0, State: 0}, {Years: 1, Start: 0, State: 1},
-		{Years: 0, Start: 1, State: 1},
+		{Years: 0, Start: 0, State: 0, Prev: 0}, {Years: 1, Start: 0, State: 0, Prev: 0, Gap: 1}, {Years: 2, Start: 0, State: 1, Prev: 0, Gap: 1},
+		{Years: 0, Start: 0, State: 0, Prev: 0}, {Years: 1, Start: 0, State: 1, Prev: 0, Gap: 1},
+		{Years: 0, Start: 1, State: 1, Prev: 1},
 	}
 	got, err := markov.MeanCondition(readings, p, []float64{80, 20})
 	if err != nil {
 		t.Fatal(err)
 	}
-	want := []markov.ConditionPoint{{0, 3, 60, 60}, {1, 2, 50, 50}, {2, 1, 20, 35}}
+	want := []markov.ConditionPoint{{0, 3, 60, 60, 60}, {1, 2, 50, 50, 50}, {2, 1, 20, 35, 50}}
 	if len(got) != len(want) {
 		t.Fatalf("got %v, want %v", got, want)
 	}
 	for k := range want {
 		g, w := got[k], want[k]
-		if g.Years != w.Years || g.Readings != w.Readings || math.Abs(g.Observed-w.Observed) > 1e-12 || math.Abs(g.Predicted-w.Predicted) > 1e-12 {
+		if g.Years != w.Years || g.Readings != w.Readings || math.Abs(g.Observed-w.Observed) > 1e-12 ||
+			math.Abs(g.FromFirst-w.FromFirst) > 1e-12 || math.Abs(g.FromPrevious-w.FromPrevious) > 1e-12 {
 			t.Errorf("year %d: got %+v, want %+v", w.Years, g, w)
 		}
 	}
@@ -225,5 +227,75 @@ func TestBootstrapCountsFailures(t *testing.T) {
 	}
 	if b.FirstError == nil {
 		t.Error("no reason given for the failures")
+	}
+}
+
+// The claim in MeanCondition's documentation, on synthetic data: 4,000
+// assets deteriorate by truth; each year an asset found in state 3 or worse
+// at its inspection is treated (back to state 1, work recorded at the next
+// inspection) with probability 0.3. Given the previous reading, next
+// year's reading is a draw from that row of P whether or not others were
+// treated, so the mean predicted from the previous inspection must match
+// the observed mean within four standard errors, SE_t = sqrt(Σ Var_i)/n_t
+// with Var_i the variance of the state value over row i of P (readings of
+// different assets are independent given their previous states). The
+// prediction from the first inspection ignores that treated assets left,
+// and by year 6 it must fall short by more than four standard errors.
+func TestMeanConditionUnderWork(t *testing.T) {
+	p, err := markov.NewTransition(truth, markov.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	values := []float64{90, 70, 50, 30, 10}
+	r := rand.New(rand.NewPCG(12, 34))
+	var h [][]markov.Inspection
+	for a := range 4000 {
+		s := a % 3
+		var hist []markov.Inspection
+		work := false
+		for y := 0; y <= 8; y++ {
+			if y > 0 {
+				if s >= 2 && r.Float64() < 0.3 {
+					s, work = 0, true
+				} else {
+					s = draw(r, truth[s])
+				}
+			}
+			hist = append(hist, markov.Inspection{Time: 2015 + float64(y), State: s, Work: work})
+			work = false
+		}
+		h = append(h, hist)
+	}
+	_, readings, _, err := markov.Prepare(h, 5, markov.Structure{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	points, err := markov.MeanCondition(readings, p, values)
+	if err != nil {
+		t.Fatal(err)
+	}
+	variance := make([]float64, 5)
+	for i := range variance {
+		m, m2 := 0.0, 0.0
+		for j, v := range values {
+			m += truth[i][j] * v
+			m2 += truth[i][j] * v * v
+		}
+		variance[i] = m2 - m*m
+	}
+	sumVar := map[int]float64{}
+	for _, rd := range readings {
+		if rd.Years > 0 {
+			sumVar[rd.Years] += variance[rd.Prev]
+		}
+	}
+	for _, pt := range points[1:] {
+		se := math.Sqrt(sumVar[pt.Years]) / float64(pt.Readings)
+		if d := math.Abs(pt.Observed - pt.FromPrevious); d > 4*se {
+			t.Errorf("year %d: observed %.2f, predicted from previous %.2f, differ by %.2f > 4·%.2f", pt.Years, pt.Observed, pt.FromPrevious, d, se)
+		}
+		if pt.Years == 6 && pt.Observed-pt.FromFirst < 4*se {
+			t.Errorf("year 6: observed %.2f, from first %.2f: the selection by work should show", pt.Observed, pt.FromFirst)
+		}
 	}
 }
