@@ -34,7 +34,7 @@ func Load(fsys fs.FS, name string) (*Scenario, error) {
 		}
 		return nil, &InputError{Issues: []*Issue{{File: name, Msg: fmt.Sprintf("cannot read the file: %v", err)}}}
 	}
-	return Parse(name, data)
+	return parse(name, data, fsys)
 }
 
 var yamlLine = regexp.MustCompile(`line (\d+)`)
@@ -130,7 +130,13 @@ func expandedNodes(n *yaml.Node, limit int, memo map[*yaml.Node]int) int {
 }
 
 // Parse validates a scenario held in memory; name is used in messages.
+// It has no folder, so classes cannot take matrices from fit files.
 func Parse(name string, data []byte) (*Scenario, error) {
+	return parse(name, data, nil)
+}
+
+// parse validates a scenario; files it names are read from fsys.
+func parse(name string, data []byte, fsys fs.FS) (*Scenario, error) {
 	root, err := parseNode(name, data)
 	if err != nil {
 		return nil, err
@@ -142,6 +148,11 @@ func Parse(name string, data []byte) (*Scenario, error) {
 	if len(is.list) > 0 {
 		// Shapes are wrong: checking meaning now would repeat the same
 		// problems in vaguer words.
+		return nil, is.err()
+	}
+	// Fit files stand in for inline matrices; a problem with one would
+	// otherwise also read as a missing matrix.
+	if resolveFits(&f, fsys, is); len(is.list) > 0 {
 		return nil, is.err()
 	}
 	sc := build(&f, is)
