@@ -115,17 +115,29 @@ func BootstrapAssets(s *Sample, reps int, seed uint64, fit func(*Counts) (*Trans
 	for range workers {
 		wg.Go(func() {
 			c := &Counts{states: n, gaps: gaps, data: make([]float64, len(gaps)*n*n)}
+			drawn := make([]int32, units)
 			for {
 				r := int(next.Add(1) - 1)
 				if r >= reps {
 					return
 				}
 				rng := rand.New(rand.NewPCG(seed, uint64(r)))
-				clear(c.data)
+				// Count how often each asset is drawn, then add each drawn
+				// asset's pairs that many times in one pass in asset order:
+				// the same counts as adding draw by draw, with memory read
+				// in order.
+				clear(drawn)
 				for range units {
-					u := rng.IntN(units)
+					drawn[rng.IntN(units)]++
+				}
+				clear(c.data)
+				for u, k := range drawn {
+					if k == 0 {
+						continue
+					}
+					w := float64(k)
 					for _, cell := range cells[s.starts[u]:s.starts[u+1]] {
-						c.data[cell]++
+						c.data[cell] += w
 					}
 				}
 				// Intervals that this resample happened not to draw must not
