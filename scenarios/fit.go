@@ -34,8 +34,8 @@ const (
 	MethodYearsInState = "years-in-state"
 )
 
-// FitMethods lists the methods in the order the command offers them.
-var FitMethods = []string{MethodCounting, MethodInterval, MethodYearsInState}
+// FitMethods returns the method names in the order the command offers them.
+func FitMethods() []string { return []string{MethodCounting, MethodInterval, MethodYearsInState} }
 
 // FitOptions say how to fit.
 type FitOptions struct {
@@ -218,8 +218,8 @@ func fitIssue(is *issues, line int, class, format string, args ...any) {
 // together in an *InputError naming the file and, where there is one, a
 // line.
 func Fit(ins *Inspections, opt FitOptions) (*FitResult, error) {
-	if !slices.Contains(FitMethods, opt.Method) {
-		return nil, fmt.Errorf("unknown method %q; use %s", opt.Method, strings.Join(FitMethods, ", "))
+	if !slices.Contains(FitMethods(), opt.Method) {
+		return nil, fmt.Errorf("unknown method %q; use %s", opt.Method, strings.Join(FitMethods(), ", "))
 	}
 	if opt.Method == MethodYearsInState && opt.KeepImprovements {
 		return nil, errors.New("years-in-state never improves; drop keep-improvements")

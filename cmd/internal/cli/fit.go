@@ -98,7 +98,7 @@ be reviewed by qualified people before it drives decisions.`,
 	f.StringArrayVar(&o.classes, "class", nil, "fit only this class (repeat for several)")
 	f.StringArrayVar(&o.columns, "column", nil, "map a column: asset|class|inspected|condition|work=HEADER (repeat)")
 	f.StringVar(&o.separator, "separator", ",", `field separator of the export (one character; "tab" for tabs)`)
-	f.StringVar(&o.method, "method", scenarios.MethodCounting, "estimation method: "+strings.Join(scenarios.FitMethods, ", "))
+	f.StringVar(&o.method, "method", scenarios.MethodCounting, "estimation method: "+strings.Join(scenarios.FitMethods(), ", "))
 	f.BoolVar(&o.oneStep, "one-step", false, "allow at most one state of change a year")
 	f.BoolVar(&o.keepImprovements, "keep-improvements", false, "keep pairs that improve without recorded work (and allow such moves)")
 	f.StringArrayVar(&o.yearsInState, "years-in-state", nil, "CLASS=D1,D2,...: expected years in each state but the worst (method years-in-state)")
@@ -119,8 +119,8 @@ func (o *fitOptions) validate(args []string) error {
 	if !slices.Contains(render.FitCSVTables, o.table) {
 		return usageError("--table %q: choose one of %s", o.table, strings.Join(render.FitCSVTables, ", "))
 	}
-	if !slices.Contains(scenarios.FitMethods, o.method) {
-		return usageError("--method %q: choose one of %s", o.method, strings.Join(scenarios.FitMethods, ", "))
+	if !slices.Contains(scenarios.FitMethods(), o.method) {
+		return usageError("--method %q: choose one of %s", o.method, strings.Join(scenarios.FitMethods(), ", "))
 	}
 	if o.bootstrap < 0 || o.bootstrap > 100000 {
 		return usageError("--bootstrap %d: give 0 to 100000 resamples", o.bootstrap)
