@@ -162,3 +162,60 @@ func ExampleTransition_SteadyState() {
 	// [0.2308 0.4615 0.3077]
 	// [0.2308 0.4615 0.3077]
 }
+
+// Inspections of three invented Marrowby culverts, a year apart: the
+// counting estimate is the share of each state's pairs that stayed or
+// moved. Two of the four pairs from Good stayed; the Fair culvert moved.
+func ExampleCountingMLE() {
+	histories := [][]markov.Inspection{
+		{{Time: 2021, State: 0}, {Time: 2022, State: 0}, {Time: 2023, State: 1}},
+		{{Time: 2021, State: 0}, {Time: 2022, State: 0}, {Time: 2023, State: 1}},
+		{{Time: 2022, State: 1}, {Time: 2023, State: 2}},
+	}
+	sample, _, prep, err := markov.Prepare(histories, 3, markov.Structure{})
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	p, err := markov.CountingMLE(sample.Counts(), markov.Structure{})
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	fmt.Printf("%d pairs used\n", prep.Used)
+	for _, row := range p.Rows() {
+		fmt.Printf("%.2f\n", row)
+	}
+	// Output:
+	// 5 pairs used
+	// [0.50 0.50 0.00]
+	// [0.00 0.00 1.00]
+	// [0.00 0.00 1.00]
+}
+
+// Assets inspected every second year still identify the one-year matrix:
+// here the pairs are the exact two-year counts of 1,000 assets per state
+// under P = [[0.9 0.1 0] [0 0.8 0.2] [0 0 1]], so P² = [[0.81 0.17 0.02]
+// [0 0.64 0.36] [0 0 1]], and maximum likelihood recovers P.
+func ExampleIntervalMLE() {
+	c := markov.NewCounts(3)
+	for i, row := range [][]float64{{810, 170, 20}, {0, 640, 360}, {0, 0, 1000}} {
+		for j, v := range row {
+			if v > 0 {
+				c.Add(2, i, j, v)
+			}
+		}
+	}
+	p, _, err := markov.IntervalMLE(c, markov.Structure{}, nil)
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	for _, row := range p.Rounded(4).Rows() {
+		fmt.Printf("%.4f\n", row)
+	}
+	// Output:
+	// [0.9000 0.1000 0.0000]
+	// [0.0000 0.8000 0.2000]
+	// [0.0000 0.0000 1.0000]
+}

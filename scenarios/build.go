@@ -558,7 +558,7 @@ func buildDeterioration(c *Class, fc *fileClass, field string, is *issues) {
 	d := fc.Deterioration
 	fld := field + ".deterioration"
 	if d == nil {
-		is.add(fc.Lines.of(""), fld, "missing; give matrix: (one row per state) or years_in_state: (one value per state but the worst)")
+		is.add(fc.Lines.of(""), fld, "missing; give matrix: (one row per state), years_in_state: (one value per state but the worst) or fit: (a fit file)")
 		return
 	}
 	n := len(c.Scale.States)
@@ -614,7 +614,7 @@ func buildDeterioration(c *Class, fc *fileClass, field string, is *issues) {
 		}
 		c.Transition = t
 	default:
-		is.add(d.Lines.of(""), fld, "give matrix: (one row per state) or years_in_state: (one value per state but the worst)")
+		is.add(d.Lines.of(""), fld, "give matrix: (one row per state), years_in_state: (one value per state but the worst) or fit: (a fit file)")
 	}
 }
 

@@ -39,13 +39,14 @@ func Load(fsys fs.FS, name string) (*Scenario, error) {
 	if err != nil {
 		return nil, err
 	}
-	sc, err := decodeScenario(name, root, files)
+	sc, read, err := decodeScenario(name, root, files, fsys)
 	if err != nil {
 		return nil, err
 	}
-	// Digests of every file read (the scenario and its bases), so reports
-	// can show exactly which inputs produced them.
-	for _, f := range files {
+	// Digests of every file read (the scenario, its bases and the data
+	// files they name), so reports can show exactly which inputs produced
+	// them.
+	for _, f := range append(files, read...) {
 		b, err := fs.ReadFile(fsys, f)
 		if err != nil {
 			return nil, &InputError{Issues: []*Issue{{File: f, Msg: fmt.Sprintf("cannot read the file: %v", err)}}}
@@ -148,6 +149,8 @@ func expandedNodes(n *yaml.Node, limit int, memo map[*yaml.Node]int) int {
 }
 
 // Parse validates a scenario held in memory; name is used in messages.
+// It has no folder, so it cannot extend a base or take matrices from fit
+// files.
 func Parse(name string, data []byte) (*Scenario, error) {
 	root, err := parseNode(name, data)
 	if err != nil {
@@ -158,11 +161,13 @@ func Parse(name string, data []byte) (*Scenario, error) {
 		is.add(line, "extends", "a scenario read from memory cannot extend %q; load it from its folder (LoadFile)", ext)
 		return nil, is.err()
 	}
-	return decodeScenario(name, root, nil)
+	sc, _, err := decodeScenario(name, root, nil, nil)
+	return sc, err
 }
 
-// decodeScenario decodes and checks a (merged) scenario node tree.
-func decodeScenario(name string, root *yaml.Node, files []string) (*Scenario, error) {
+// decodeScenario decodes and checks a (merged) scenario node tree; files it
+// names (fit files) are read from fsys and returned, in first-use order.
+func decodeScenario(name string, root *yaml.Node, files []string, fsys fs.FS) (*Scenario, []string, error) {
 	is := &issues{file: name, files: files}
 	var f fileScenario
 	d := &decoder{issues: is}
@@ -170,12 +175,18 @@ func decodeScenario(name string, root *yaml.Node, files []string) (*Scenario, er
 	if len(is.list) > 0 {
 		// Shapes are wrong: checking meaning now would repeat the same
 		// problems in vaguer words.
-		return nil, is.err()
+		return nil, nil, is.err()
+	}
+	// Fit files stand in for inline matrices; a problem with one would
+	// otherwise also read as a missing matrix.
+	read := resolveFits(&f, fsys, is)
+	if len(is.list) > 0 {
+		return nil, nil, is.err()
 	}
 	sc := build(&f, is)
 	if err := is.err(); err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	sc.Source = name
-	return sc, nil
+	return sc, read, nil
 }

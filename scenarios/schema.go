@@ -58,6 +58,8 @@ type fileDeterioration struct {
 	Matrix           *matrix   `yaml:"matrix"`
 	YearsInState     []float64 `yaml:"years_in_state"`
 	AllowImprovement bool      `yaml:"allow_improvement"`
+	Fit              string    `yaml:"fit"`       // a fit file (resolveFits)
+	FitClass         string    `yaml:"fit_class"` // its class, when not named as here
 	Lines            lines
 }
 

@@ -1,0 +1,347 @@
+package cli
+
+import (
+	"errors"
+	"fmt"
+	"io"
+	"io/fs"
+	"os"
+	"path/filepath"
+	"slices"
+	"strconv"
+	"strings"
+	"unicode/utf8"
+
+	"github.com/spf13/cobra"
+
+	"wearplan/cmd/internal/render"
+	"wearplan/scenarios"
+)
+
+var fitFormats = []string{"table", "json", "csv", "md"}
+
+// fitOptions are the flags of wearplan fit.
+type fitOptions struct {
+	scenario, scalesFile, scale string
+	classes                     []string
+	columns                     []string
+	separator                   string
+	method                      string
+	oneStep, keepImprovements   bool
+	yearsInState                []string
+	bootstrap                   int
+	seed                        int
+	skipBadRows                 bool
+	save                        string
+	format, out, table          string
+}
+
+func newFitCmd() *cobra.Command {
+	var o fitOptions
+	cmd := &cobra.Command{
+		Use:   "fit [INSPECTIONS.csv]",
+		Short: "Estimate deterioration matrices from inspection history",
+		Long: `Fit turns an inspection export into a one-year transition matrix per asset
+class, with the evidence: how the data were prepared, how uncertain each
+probability is, how well the matrix fits, and what it implies (years in each
+state, years to reach the worst state).
+
+The export is a CSV file with a header and the columns asset, class, inspected
+(a year such as 2021 or an ISO date such as 2021-06-14), condition (an index
+value, mapped to states through the class's scale, or a state name) and,
+optionally, work (non-empty when work was done since the asset's previous
+inspection; 0, no, n, false, none and - also mean no work). Other columns are
+ignored; --column maps other header names.
+
+Scales: --scenario FILE uses each class's scale from that scenario (every
+class in the export must be one of its classes); --scale NAME uses one scale
+for every class, read from --scales FILE (any YAML file with a scales:
+section, such as a scenario) or from --scenario FILE.
+
+Methods (--method):
+  counting        pairs of inspections one year apart: p_ij = n_ij / n_i
+                  (Anderson and Goodman, 1957); the default.
+  interval        pairs of any whole number of years apart, each with
+                  probability (P^years)_ij, maximised numerically.
+  years-in-state  a matrix from expected years in each state (judgement,
+                  --years-in-state CLASS=D1,D2,...); with an export, the data
+                  only test it.
+
+Pairs with work between them are left out; a pair that improves without
+recorded work is a probable data error and is left out unless
+--keep-improvements. --one-step allows at most one state a year.
+
+--save FILE writes the fit file (YAML) that a scenario class can use with
+deterioration: {fit: FILE}. Output is a statistical estimate for planning, to
+be reviewed by qualified people before it drives decisions.`,
+		Example: `  # Fit the invented Marrowby inspections with the demo scenario's scales
+  wearplan fit scenarios/examples/marrowby-inspections.csv \
+      --scenario scenarios/examples/marrowby.yaml --save out/marrowby-fit.yaml
+
+  # Inspections every second year: maximum likelihood over any interval
+  wearplan fit inspections.csv --scenario scenarios/examples/marrowby.yaml --method interval
+
+  # An export with its own column names, one scale for every class
+  wearplan fit export.csv --scales scenarios/examples/marrowby.yaml --scale pci \
+      --column asset=SEGMENT_ID --column inspected=SURVEY_DATE --column condition=PCI
+
+  # A matrix from judgement alone, with what it implies
+  wearplan fit --scenario scenarios/examples/marrowby.yaml \
+      --method years-in-state --years-in-state culverts=10,8,7,5`,
+		Args: cobra.MaximumNArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error { return o.run(cmd, args) },
+	}
+	f := cmd.Flags()
+	f.StringVar(&o.scenario, "scenario", "", "scenario whose classes' scales map conditions to states")
+	f.StringVar(&o.scalesFile, "scales", "", "YAML file with a scales: section (used with --scale)")
+	f.StringVar(&o.scale, "scale", "", "use this scale for every class")
+	f.StringArrayVar(&o.classes, "class", nil, "fit only this class (repeat for several)")
+	f.StringArrayVar(&o.columns, "column", nil, "map a column: asset|class|inspected|condition|work=HEADER (repeat)")
+	f.StringVar(&o.separator, "separator", ",", `field separator of the export (one character; "tab" for tabs)`)
+	f.StringVar(&o.method, "method", scenarios.MethodCounting, "estimation method: "+strings.Join(scenarios.FitMethods(), ", "))
+	f.BoolVar(&o.oneStep, "one-step", false, "allow at most one state of change a year")
+	f.BoolVar(&o.keepImprovements, "keep-improvements", false, "keep pairs that improve without recorded work (and allow such moves)")
+	f.StringArrayVar(&o.yearsInState, "years-in-state", nil, "CLASS=D1,D2,...: expected years in each state but the worst (method years-in-state)")
+	f.IntVar(&o.bootstrap, "bootstrap", 1000, "bootstrap resamples of assets for the intervals (0 for none)")
+	f.IntVar(&o.seed, "seed", 1, "seed of the bootstrap: the same seed gives the same result")
+	f.BoolVar(&o.skipBadRows, "skip-bad-rows", false, "leave out rows that cannot be read, with a warning, instead of stopping")
+	f.StringVar(&o.save, "save", "", "write the fit file (YAML) for scenarios to use with deterioration: {fit: FILE}")
+	f.StringVar(&o.format, "format", "table", "report format: "+strings.Join(fitFormats, ", "))
+	f.StringVar(&o.out, "out", "", "write the report to this file (for csv: a directory gets one file per table)")
+	f.StringVar(&o.table, "table", "matrix", "table written by --format csv: "+strings.Join(render.FitCSVTables, ", "))
+	return cmd
+}
+
+func (o *fitOptions) validate(args []string) error {
+	if !slices.Contains(fitFormats, o.format) {
+		return usageError("--format %q: choose one of %s", o.format, strings.Join(fitFormats, ", "))
+	}
+	if !slices.Contains(render.FitCSVTables, o.table) {
+		return usageError("--table %q: choose one of %s", o.table, strings.Join(render.FitCSVTables, ", "))
+	}
+	if !slices.Contains(scenarios.FitMethods(), o.method) {
+		return usageError("--method %q: choose one of %s", o.method, strings.Join(scenarios.FitMethods(), ", "))
+	}
+	if o.bootstrap < 0 || o.bootstrap > 100000 {
+		return usageError("--bootstrap %d: give 0 to 100000 resamples", o.bootstrap)
+	}
+	if o.seed < 0 {
+		return usageError("--seed %d: give zero or a positive number", o.seed)
+	}
+	if o.scenario != "" && o.scalesFile != "" {
+		return usageError("give --scenario or --scales, not both")
+	}
+	if o.scenario == "" && o.scalesFile == "" {
+		return usageError("say where the condition scales come from: --scenario FILE (each class's scale), or --scales FILE --scale NAME (one scale for every class)")
+	}
+	if o.scalesFile != "" && o.scale == "" {
+		return usageError("--scales FILE needs --scale NAME: the scale to use for every class")
+	}
+	if len(o.yearsInState) > 0 && o.method != scenarios.MethodYearsInState {
+		return usageError("--years-in-state goes with --method years-in-state")
+	}
+	if o.method == scenarios.MethodYearsInState && o.keepImprovements {
+		return usageError("--keep-improvements does not apply to --method years-in-state: a matrix from years in state never improves")
+	}
+	if len(args) == 0 && o.method != scenarios.MethodYearsInState {
+		return usageError("give the inspection export (CSV); only --method years-in-state works without one")
+	}
+	return nil
+}
+
+func (o *fitOptions) separatorRune() (rune, error) {
+	s := o.separator
+	if strings.EqualFold(s, "tab") || s == `\t` {
+		return '\t', nil
+	}
+	r, size := utf8.DecodeRuneInString(s)
+	if size == 0 || size != len(s) || r == '"' || r == '\r' || r == '\n' || r == utf8.RuneError {
+		return 0, usageError("--separator %q: give one character, such as ; or tab", s)
+	}
+	return r, nil
+}
+
+func (o *fitOptions) columnMap() (scenarios.InspectionColumns, error) {
+	cols := scenarios.DefaultInspectionColumns()
+	for _, c := range o.columns {
+		key, header, ok := strings.Cut(c, "=")
+		header = strings.TrimSpace(header)
+		if !ok || header == "" {
+			return cols, usageError("--column %q: write KEY=HEADER, e.g. --column inspected=SURVEY_DATE", c)
+		}
+		switch strings.ToLower(strings.TrimSpace(key)) {
+		case "asset":
+			cols.Asset = header
+		case "class":
+			cols.Class = header
+		case "inspected":
+			cols.Inspected = header
+		case "condition":
+			cols.Condition = header
+		case "work":
+			cols.Work = header
+		default:
+			return cols, usageError("--column %q: the key is one of asset, class, inspected, condition, work", c)
+		}
+	}
+	return cols, nil
+}
+
+func (o *fitOptions) judgement() (map[string][]float64, []string, error) {
+	out := map[string][]float64{}
+	var order []string
+	for _, spec := range o.yearsInState {
+		class, list, ok := strings.Cut(spec, "=")
+		class = strings.TrimSpace(class)
+		if !ok || class == "" {
+			return nil, nil, usageError("--years-in-state %q: write CLASS=D1,D2,... (years in each state but the worst)", spec)
+		}
+		if _, dup := out[class]; dup {
+			return nil, nil, usageError("--years-in-state: class %q given twice", class)
+		}
+		var ys []float64
+		for _, f := range strings.Split(list, ",") {
+			v, err := strconv.ParseFloat(strings.TrimSpace(f), 64)
+			if err != nil {
+				return nil, nil, usageError("--years-in-state %q: %q is not a number", spec, strings.TrimSpace(f))
+			}
+			ys = append(ys, v)
+		}
+		out[class] = ys
+		order = append(order, class)
+	}
+	return out, order, nil
+}
+
+func (o *fitOptions) run(cmd *cobra.Command, args []string) error {
+	if err := o.validate(args); err != nil {
+		return err
+	}
+	sep, err := o.separatorRune()
+	if err != nil {
+		return err
+	}
+	cols, err := o.columnMap()
+	if err != nil {
+		return err
+	}
+	judged, judgedOrder, err := o.judgement()
+	if err != nil {
+		return err
+	}
+	source := o.scenario
+	if o.scalesFile != "" {
+		source = o.scalesFile
+	}
+	set, err := scenarios.LoadScaleSet(source)
+	if err != nil {
+		return err
+	}
+	scaleFor := set.ForClass
+	if o.scale != "" {
+		s, ok := set.Scales[o.scale]
+		if !ok {
+			return usageError("--scale %q: %s defines %s", o.scale, source, strings.Join(set.Names(), ", "))
+		}
+		scaleFor = func(string) *scenarios.Scale { return s }
+	}
+	opt := scenarios.FitOptions{
+		Method: o.method, OneStep: o.oneStep, KeepImprovements: o.keepImprovements,
+		Bootstrap: o.bootstrap, Seed: o.seed, YearsInState: judged, ScalesFrom: source,
+	}
+	var res *scenarios.FitResult
+	if len(args) == 0 {
+		var classes []scenarios.JudgedClass
+		for _, name := range judgedOrder {
+			s := scaleFor(name)
+			if s == nil {
+				return usageError("--years-in-state %s: %s has no class %q (its classes: %s); or give --scale NAME", name, source, name, strings.Join(set.Classes, ", "))
+			}
+			classes = append(classes, scenarios.JudgedClass{Name: name, Scale: s, Years: judged[name]})
+		}
+		if len(classes) == 0 {
+			return usageError("--method years-in-state without an export needs --years-in-state CLASS=D1,D2,...")
+		}
+		res, err = scenarios.FitFromJudgement(classes, opt)
+	} else {
+		res, err = o.fitFile(args[0], sep, cols, scaleFor, opt)
+	}
+	if err != nil {
+		return err
+	}
+	if o.save != "" {
+		if err := writeFileAtomic(o.save, func(w io.Writer) error { return scenarios.WriteFitFile(w, res) }); err != nil {
+			return err
+		}
+		fmt.Fprintf(cmd.ErrOrStderr(), "wrote the fit file %s\n", o.save)
+	}
+	if err := o.write(cmd, res); err != nil {
+		return err
+	}
+	if o.format != "table" && o.format != "md" {
+		for _, w := range res.Warnings {
+			fmt.Fprintf(cmd.ErrOrStderr(), "warning: %s\n", w)
+		}
+	}
+	return nil
+}
+
+func (o *fitOptions) fitFile(path string, sep rune, cols scenarios.InspectionColumns, scaleFor func(string) *scenarios.Scale, opt scenarios.FitOptions) (*scenarios.FitResult, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		if errors.Is(err, fs.ErrNotExist) {
+			return nil, &scenarios.InputError{Issues: []*scenarios.Issue{{File: path, Msg: "file not found; check the path"}}}
+		}
+		return nil, &exitError{code: exitFailure, err: fmt.Errorf("cannot read %s: %w", path, err)}
+	}
+	defer f.Close()
+	ins, err := scenarios.ReadInspections(f, path, scenarios.InspectionOptions{
+		Columns: cols, Separator: sep, ScaleFor: scaleFor, Only: o.classes, SkipBadRows: o.skipBadRows,
+	})
+	if err != nil {
+		return nil, err
+	}
+	for _, c := range o.classes {
+		found := false
+		for _, ic := range ins.Classes {
+			found = found || ic.Name == c
+		}
+		if !found {
+			return nil, &scenarios.InputError{Issues: []*scenarios.Issue{{File: path, Field: "class", Msg: fmt.Sprintf("--class %s: no inspections of that class in the file", c)}}}
+		}
+	}
+	return scenarios.Fit(ins, opt)
+}
+
+func (o *fitOptions) write(cmd *cobra.Command, r *scenarios.FitResult) error {
+	render1 := func(w io.Writer) error {
+		switch o.format {
+		case "json":
+			return render.FitJSON(w, r)
+		case "csv":
+			return render.FitCSV(w, r, o.table)
+		case "md":
+			return render.FitMarkdown(w, r)
+		default:
+			return render.FitText(w, r)
+		}
+	}
+	if o.out == "" {
+		return render1(cmd.OutOrStdout())
+	}
+	if o.format == "csv" && isDir(o.out) {
+		for _, name := range render.FitCSVTables {
+			path := filepath.Join(o.out, "fit-"+name+".csv")
+			if err := writeFileAtomic(path, func(w io.Writer) error { return render.FitCSV(w, r, name) }); err != nil {
+				return err
+			}
+		}
+		fmt.Fprintf(cmd.ErrOrStderr(), "wrote %d tables to %s\n", len(render.FitCSVTables), o.out)
+		return nil
+	}
+	if err := writeFileAtomic(o.out, render1); err != nil {
+		return err
+	}
+	fmt.Fprintf(cmd.ErrOrStderr(), "wrote %s\n", o.out)
+	return nil
+}

@@ -1,0 +1,354 @@
+package render
+
+import (
+	"encoding/csv"
+	"encoding/json"
+	"fmt"
+	"io"
+	"strconv"
+	"strings"
+
+	"wearplan/scenarios"
+)
+
+// FitCSVTables names the tables of a fit that CSV can write.
+var FitCSVTables = []string{"matrix", "states", "fit", "condition", "data", "counts"}
+
+// FitJSON writes a fit result as JSON: the fit file's content.
+func FitJSON(w io.Writer, r *scenarios.FitResult) error {
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	return enc.Encode(r)
+}
+
+var methodWords = map[string]string{
+	scenarios.MethodCounting:     "counting pairs of inspections one year apart (Anderson and Goodman, 1957)",
+	scenarios.MethodInterval:     "maximum likelihood over pairs of any interval, P^years (panel data, Kalbfleisch and Lawless, 1985)",
+	scenarios.MethodYearsInState: "expected years in each state (judgement)",
+}
+
+func optNum(v *float64, f func(float64) string) string {
+	if v == nil {
+		return "-"
+	}
+	return f(*v)
+}
+
+func prob(v float64) string  { return strconv.FormatFloat(v, 'f', 4, 64) }
+func years(v float64) string { return strconv.FormatFloat(v, 'f', 1, 64) }
+
+func count(v int) string { return thousands(float64(v), 0) }
+
+// fitMatrixTable is the matrix with state names, 4 decimals.
+func fitMatrixTable(c *scenarios.FitClass) table {
+	t := table{header: append([]string{"FROM \\ TO"}, c.States...), right: []bool{false}}
+	for range c.States {
+		t.right = append(t.right, true)
+	}
+	for i, row := range c.Deterioration.Matrix {
+		cells := []string{c.States[i]}
+		for _, v := range row {
+			if v == 0 {
+				cells = append(cells, "0")
+				continue
+			}
+			cells = append(cells, prob(v))
+		}
+		t.rows = append(t.rows, cells)
+	}
+	return t
+}
+
+func interval(lo, hi *float64, f func(float64) string) string {
+	if lo == nil || hi == nil {
+		return "-"
+	}
+	return f(*lo) + " - " + f(*hi)
+}
+
+func fitStateTable(c *scenarios.FitClass) table {
+	t := table{
+		header: []string{"STATE", "PAIRS", "STAY", "95% INTERVAL", "YEARS IN STATE", "95% INTERVAL", "YEARS TO WORST", "SD"},
+		right:  []bool{false, true, true, true, true, true, true, true},
+	}
+	for _, s := range c.PerState {
+		pairs := count(s.Pairs)
+		if c.Data == nil {
+			pairs = "-"
+		}
+		t.rows = append(t.rows, []string{
+			s.State, pairs, prob(s.Stay), interval(s.StayLow, s.StayHigh, prob),
+			optNum(s.YearsInState, years), interval(s.YearsInStateLow, s.YearsInStateHigh, years),
+			optNum(s.YearsToWorst, years), optNum(s.YearsToWorstSD, years),
+		})
+	}
+	return t
+}
+
+const conditionCaveat = "Assets leave this comparison at their first recorded work, which usually goes to assets in poor " +
+	"condition; when much work is recorded the observed mean drifts above the prediction from the first inspection " +
+	"even if the matrix is right. The prediction from the previous inspection does not drift that way."
+
+func fitConditionTable(c *scenarios.FitClass) table {
+	t := table{header: []string{"YEARS ON", "READINGS", "OBSERVED", "FROM FIRST", "DIFFERENCE", "FROM PREVIOUS", "DIFFERENCE"}, right: []bool{true, true, true, true, true, true, true}}
+	for _, p := range c.MeanCondition {
+		t.rows = append(t.rows, []string{fmt.Sprint(p.Years), count(p.Readings), Index(p.Observed), Index(p.FromFirst), Index(p.Observed - p.FromFirst), Index(p.FromPrevious), Index(p.Observed - p.FromPrevious)})
+	}
+	return t
+}
+
+// dataSteps lists the data preparation counts in order.
+func dataSteps(d *scenarios.FitData) [][2]string {
+	kept := "excluded"
+	if d.ImprovedKept {
+		kept = "kept"
+	}
+	steps := [][2]string{
+		{"rows read for the class", count(d.Rows)},
+		{"duplicate inspections dropped", count(d.Duplicates)},
+		{"inspections with conflicting conditions on one date dropped", count(d.Conflicts)},
+		{"inspections listed out of date order (sorted)", count(d.OutOfOrder)},
+		{"assets", count(d.Assets)},
+		{"inspections", count(d.Inspections)},
+		{"consecutive pairs", count(d.Pairs)},
+		{"pairs with work between (excluded)", count(d.WithWork)},
+		{"pairs under half a year apart (excluded)", count(d.TooClose)},
+		{"pairs over 50 years apart (excluded)", count(d.TooFar)},
+		{"pairs improving without recorded work (" + kept + ")", count(d.Improved)},
+		{"pairs dropping more states than years (excluded, one-step)", count(d.Impossible)},
+		{"pairs used", count(d.Used)},
+	}
+	for _, y := range d.ByYears {
+		steps = append(steps, [2]string{fmt.Sprintf("  of which %d year(s) apart", y.Years), count(y.Pairs)})
+	}
+	steps = append(steps, [2]string{"pairs the method uses", count(d.UsedByMethod)})
+	return steps
+}
+
+func gofSentence(g *scenarios.FitTest) string {
+	if g.DF == 0 {
+		return fmt.Sprintf("chi-square %.2f on 0 degrees of freedom: %s", g.Statistic, g.Note)
+	}
+	return fmt.Sprintf("chi-square %.2f on %d degrees of freedom (%d rows, %d cells, %s pairs), p = %s: %s",
+		g.Statistic, g.DF, g.Rows, g.Cells, count(g.Pairs), pvalue(*g.PValue), g.Note)
+}
+
+func pvalue(p float64) string {
+	if p < 0.0001 {
+		return "< 0.0001"
+	}
+	return strconv.FormatFloat(p, 'f', 4, 64)
+}
+
+func bootstrapSentence(r *scenarios.FitResult, c *scenarios.FitClass) string {
+	if c.Bootstrap == nil {
+		return "no bootstrap (--bootstrap 0 or a matrix from judgement): no intervals"
+	}
+	return fmt.Sprintf("95%% percentile intervals from %s bootstrap resamples of assets (seed %d)", count(len(c.Bootstrap.Replicates)), c.Bootstrap.Seed)
+}
+
+// FitText writes a fit result as terminal tables.
+func FitText(w io.Writer, r *scenarios.FitResult) error {
+	ew := &errWriter{w: w}
+	ew.printf("Deterioration fitted from %s\n", r.Source)
+	ew.printf("Method: %s\n", methodWords[r.Method])
+	if r.Rows > 0 {
+		ew.printf("Rows read: %s", count(r.Rows))
+		if r.Skipped > 0 {
+			ew.printf("; %s of other classes skipped", count(r.Skipped))
+		}
+		if r.BadRows > 0 {
+			ew.printf("; %s unreadable rows left out", count(r.BadRows))
+		}
+		ew.printf("\n")
+	}
+	for k := range r.Classes {
+		c := &r.Classes[k]
+		ew.printf("\n== %s (scale %s, %d states) ==\n", c.Class, c.Scale, len(c.States))
+		if c.Data != nil {
+			ew.printf("\nData preparation\n")
+			t := table{header: []string{"STEP", "COUNT"}, right: []bool{false, true}}
+			for _, s := range dataSteps(c.Data) {
+				t.rows = append(t.rows, []string{s[0], s[1]})
+			}
+			tabulate(ew, t)
+		}
+		ew.printf("\nOne-year transition matrix (row: state at an inspection; column: state a year later)\n")
+		tabulate(ew, fitMatrixTable(c))
+		ew.printf("\nPer state: %s\n", bootstrapSentence(r, c))
+		tabulate(ew, fitStateTable(c))
+		if c.GoodnessOfFit != nil {
+			ew.printf("\nGoodness of fit: %s\n", wrap(gofSentence(c.GoodnessOfFit), 100))
+		}
+		if c.Optimizer != nil {
+			ew.printf("Optimizer: log-likelihood %.2f after %d iterations (%s)\n", c.Optimizer.LogLikelihood, c.Optimizer.Iterations, c.Optimizer.Status)
+		}
+		if len(c.MeanCondition) > 0 {
+			ew.printf("\nMean condition index by years since each asset's first inspection (before any recorded work),\n")
+			ew.printf("observed and predicted from each asset's first and from its previous inspection\n")
+			tabulate(ew, fitConditionTable(c))
+			ew.printf("%s\n", wrap(conditionCaveat, 100))
+		}
+		for _, n := range c.Notes {
+			ew.printf("\nNote: %s\n", wrap(n, 100))
+		}
+		block, err := c.DeteriorationBlock(4)
+		if err != nil {
+			return err
+		}
+		ew.printf("\nPaste into the scenario's class %s (or use deterioration: {fit: FILE} with --save FILE):\n%s", c.Class, block)
+	}
+	for _, warn := range r.Warnings {
+		ew.printf("\nWarning: %s\n", wrap(warn, 100))
+	}
+	ew.printf("\n%s\n", wrap(r.Caution, 100))
+	return ew.err
+}
+
+func mdTable(w *errWriter, t table) {
+	esc := func(s string) string { return strings.ReplaceAll(s, "|", "\\|") }
+	cells := make([]string, len(t.header))
+	for i, h := range t.header {
+		cells[i] = esc(h)
+	}
+	w.printf("| %s |\n", strings.Join(cells, " | "))
+	for i := range t.header {
+		if t.right[i] {
+			cells[i] = "---:"
+		} else {
+			cells[i] = "---"
+		}
+	}
+	w.printf("|%s|\n", strings.Join(cells, "|"))
+	for _, row := range t.rows {
+		for i, c := range row {
+			cells[i] = esc(c)
+		}
+		w.printf("| %s |\n", strings.Join(cells, " | "))
+	}
+}
+
+// FitMarkdown writes a fit result as a Markdown report.
+func FitMarkdown(w io.Writer, r *scenarios.FitResult) error {
+	ew := &errWriter{w: w}
+	ew.printf("# Deterioration fitted from %s\n\n", r.Source)
+	ew.printf("Method: %s.\n", methodWords[r.Method])
+	for k := range r.Classes {
+		c := &r.Classes[k]
+		ew.printf("\n## %s\n\nScale %s, %d states.\n", c.Class, c.Scale, len(c.States))
+		if c.Data != nil {
+			ew.printf("\n### Data preparation\n\n")
+			t := table{header: []string{"Step", "Count"}, right: []bool{false, true}}
+			for _, s := range dataSteps(c.Data) {
+				t.rows = append(t.rows, []string{strings.TrimSpace(s[0]), s[1]})
+			}
+			mdTable(ew, t)
+		}
+		ew.printf("\n### One-year transition matrix\n\nRow: state at an inspection; column: state a year later.\n\n")
+		mdTable(ew, fitMatrixTable(c))
+		ew.printf("\n### Per state\n\n%s.\n\n", bootstrapSentence(r, c))
+		mdTable(ew, fitStateTable(c))
+		if c.GoodnessOfFit != nil {
+			ew.printf("\n### Goodness of fit\n\n%s.\n", gofSentence(c.GoodnessOfFit))
+		}
+		if len(c.MeanCondition) > 0 {
+			ew.printf("\n### Mean condition index by years since first inspection\n\n")
+			ew.printf("Observed, and predicted from each asset's first and from its previous inspection (readings before any recorded work).\n\n")
+			mdTable(ew, fitConditionTable(c))
+			ew.printf("\n%s\n", conditionCaveat)
+		}
+		if len(c.Notes) > 0 {
+			ew.printf("\n### Notes\n\n")
+			for _, n := range c.Notes {
+				ew.printf("- %s\n", n)
+			}
+		}
+		block, err := c.DeteriorationBlock(0)
+		if err != nil {
+			return err
+		}
+		ew.printf("\n### For the scenario\n\n```yaml\n%s```\n", block)
+	}
+	if len(r.Warnings) > 0 {
+		ew.printf("\n## Warnings\n\n")
+		for _, warn := range r.Warnings {
+			ew.printf("- %s\n", warn)
+		}
+	}
+	ew.printf("\n---\n\n%s\n", r.Caution)
+	return ew.err
+}
+
+// FitCSV writes one table of a fit result as CSV with a header row.
+func FitCSV(w io.Writer, r *scenarios.FitResult, name string) error {
+	cw := csv.NewWriter(w)
+	var rows [][]string
+	opt := func(v *float64) string {
+		if v == nil {
+			return ""
+		}
+		return Plain(*v)
+	}
+	switch name {
+	case "matrix":
+		rows = append(rows, []string{"class", "from_state", "to_state", "probability"})
+		for _, c := range r.Classes {
+			for i, row := range c.Deterioration.Matrix {
+				for j, v := range row {
+					rows = append(rows, []string{c.Class, c.States[i], c.States[j], Plain(v)})
+				}
+			}
+		}
+	case "states":
+		rows = append(rows, []string{"class", "state", "pairs", "stay", "stay_low", "stay_high", "years_in_state", "years_in_state_low", "years_in_state_high", "years_to_worst", "years_to_worst_sd"})
+		for _, c := range r.Classes {
+			for _, s := range c.PerState {
+				rows = append(rows, []string{c.Class, s.State, fmt.Sprint(s.Pairs), Plain(s.Stay), opt(s.StayLow), opt(s.StayHigh),
+					opt(s.YearsInState), opt(s.YearsInStateLow), opt(s.YearsInStateHigh), opt(s.YearsToWorst), opt(s.YearsToWorstSD)})
+			}
+		}
+	case "fit":
+		rows = append(rows, []string{"class", "method", "chi_square", "degrees_of_freedom", "p_value", "rows", "cells", "pairs", "pooled"})
+		for _, c := range r.Classes {
+			if g := c.GoodnessOfFit; g != nil {
+				rows = append(rows, []string{c.Class, c.Method, Plain(g.Statistic), fmt.Sprint(g.DF), opt(g.PValue), fmt.Sprint(g.Rows), fmt.Sprint(g.Cells), fmt.Sprint(g.Pairs), fmt.Sprint(g.Pooled)})
+			}
+		}
+	case "condition":
+		rows = append(rows, []string{"class", "years_since_first", "readings", "observed", "predicted_from_first", "predicted_from_previous"})
+		for _, c := range r.Classes {
+			for _, p := range c.MeanCondition {
+				rows = append(rows, []string{c.Class, fmt.Sprint(p.Years), fmt.Sprint(p.Readings), Plain(p.Observed), Plain(p.FromFirst), Plain(p.FromPrevious)})
+			}
+		}
+	case "data":
+		rows = append(rows, []string{"class", "step", "count"})
+		for _, c := range r.Classes {
+			if c.Data == nil {
+				continue
+			}
+			for _, s := range dataSteps(c.Data) {
+				rows = append(rows, []string{c.Class, strings.TrimSpace(s[0]), strings.ReplaceAll(s[1], ",", "")})
+			}
+		}
+	case "counts":
+		rows = append(rows, []string{"class", "years", "from_state", "to_state", "pairs"})
+		for _, c := range r.Classes {
+			for _, fc := range c.Counts {
+				for i, row := range fc.Rows {
+					for j, v := range row {
+						if v > 0 {
+							rows = append(rows, []string{c.Class, fmt.Sprint(fc.Years), c.States[i], c.States[j], Plain(v)})
+						}
+					}
+				}
+			}
+		}
+	default:
+		return fmt.Errorf("unknown table %q; choose one of %s", name, strings.Join(FitCSVTables, ", "))
+	}
+	if err := cw.WriteAll(rows); err != nil {
+		return err
+	}
+	return cw.Error()
+}

@@ -1,0 +1,149 @@
+package scenarios_test
+
+import (
+	"bufio"
+	"fmt"
+	"math/rand/v2"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"testing"
+
+	"wearplan/scenarios"
+)
+
+// benchRoads is an invented seven-state pavement matrix for generated
+// exports.
+var benchRoads = [][]float64{
+	{0.78, 0.19, 0.03, 0, 0, 0, 0},
+	{0, 0.76, 0.21, 0.03, 0, 0, 0},
+	{0, 0, 0.72, 0.24, 0.04, 0, 0},
+	{0, 0, 0, 0.72, 0.25, 0.03, 0},
+	{0, 0, 0, 0, 0.70, 0.27, 0.03},
+	{0, 0, 0, 0, 0, 0.66, 0.34},
+	{0, 0, 0, 0, 0, 0, 1},
+}
+
+// writeBenchExport writes a generated export of records inspections of
+// local asphalt segments (PCI values, ISO dates, a work column), ten per
+// segment; with mixed, a third of the segments are seen every year, a
+// third every two years and a third every three. Segments found Poor or
+// worse are overlaid with probability 0.2 a year.
+func writeBenchExport(b *testing.B, records int, mixed bool) string {
+	b.Helper()
+	path := filepath.Join(b.TempDir(), "export.csv")
+	f, err := os.Create(path)
+	if err != nil {
+		b.Fatal(err)
+	}
+	w := bufio.NewWriter(f)
+	w.WriteString("asset,class,inspected,condition,work,crew\n")
+	r := rand.New(rand.NewPCG(1, 2))
+	lo := []int{86, 71, 56, 41, 26, 11, 0}
+	written := 0
+	for a := 0; written < records; a++ {
+		every := 1
+		if mixed {
+			every = 1 + a%3
+		}
+		s := r.IntN(5)
+		work := ""
+		for k := 0; k < 10 && written < records; k++ {
+			for range every {
+				if k == 0 {
+					break
+				}
+				if s >= 3 && r.Float64() < 0.2 {
+					s, work = 0, "overlay"
+					continue
+				}
+				u := r.Float64()
+				for j, p := range benchRoads[s] {
+					if u < p {
+						s = j
+						break
+					}
+					u -= p
+				}
+			}
+			pci := lo[s] + r.IntN(10)
+			fmt.Fprintf(w, "S%07d,local-asphalt,%d-07-%02d,%d,%s,crew %d\n", a, 2000+k*every, 1+r.IntN(28), pci, work, r.IntN(9))
+			work = ""
+			written++
+		}
+	}
+	if err := w.Flush(); err != nil {
+		b.Fatal(err)
+	}
+	f.Close()
+	return path
+}
+
+// peakRSS is the process's resident-set high-water mark in MiB (Linux).
+func peakRSS() float64 {
+	data, err := os.ReadFile("/proc/self/status")
+	if err != nil {
+		return 0
+	}
+	for _, line := range strings.Split(string(data), "\n") {
+		if strings.HasPrefix(line, "VmHWM:") {
+			kb, _ := strconv.ParseFloat(strings.Fields(line)[1], 64)
+			return kb / 1024
+		}
+	}
+	return 0
+}
+
+// resetPeakRSS restarts the high-water mark, so each benchmark reports its
+// own peak.
+func resetPeakRSS() { _ = os.WriteFile("/proc/self/clear_refs", []byte("5"), 0) }
+
+// BenchmarkFit reads a generated export and fits it end to end (reading,
+// data preparation, estimate, bootstrap, goodness of fit, mean condition),
+// as wearplan fit does: 1,000,000 records with the counting method and
+// 100,000 with the interval method, each with and without the default
+// 1,000 bootstrap resamples.
+func BenchmarkFit(b *testing.B) {
+	set, err := scenarios.LoadScaleSet(demoScenario)
+	if err != nil {
+		b.Fatal(err)
+	}
+	cases := []struct {
+		method    string
+		records   int
+		mixed     bool
+		bootstrap int
+	}{
+		{scenarios.MethodCounting, 1_000_000, false, 0},
+		{scenarios.MethodCounting, 1_000_000, false, 1000},
+		{scenarios.MethodInterval, 100_000, true, 0},
+		{scenarios.MethodInterval, 100_000, true, 1000},
+	}
+	for _, c := range cases {
+		name := fmt.Sprintf("%s/%d/bootstrap=%d", c.method, c.records, c.bootstrap)
+		b.Run(name, func(b *testing.B) {
+			path := writeBenchExport(b, c.records, c.mixed)
+			resetPeakRSS()
+			for b.Loop() {
+				f, err := os.Open(path)
+				if err != nil {
+					b.Fatal(err)
+				}
+				ins, err := scenarios.ReadInspections(f, path, scenarios.InspectionOptions{ScaleFor: set.ForClass})
+				f.Close()
+				if err != nil {
+					b.Fatal(err)
+				}
+				res, err := scenarios.Fit(ins, scenarios.FitOptions{Method: c.method, Bootstrap: c.bootstrap, Seed: 1})
+				if err != nil {
+					b.Fatal(err)
+				}
+				if res.Rows != c.records {
+					b.Fatalf("read %d rows, want %d", res.Rows, c.records)
+				}
+			}
+			b.ReportMetric(peakRSS(), "MiB-peak")
+		})
+	}
+}
