@@ -27,6 +27,7 @@ type fileScenario struct {
 }
 
 type fileScale struct {
+	Preset string              `yaml:"preset"`
 	States []fileState         `yaml:"states"`
 	Groups map[string][]string `yaml:"groups"`
 	Lines  lines
