@@ -12,5 +12,6 @@ require (
 require (
 	github.com/expr-lang/expr v1.17.8 // indirect
 	github.com/inconshreveable/mousetrap v1.1.0 // indirect
+	github.com/paulmach/orb v0.14.0 // indirect
 	github.com/spf13/pflag v1.0.9 // indirect
 )
