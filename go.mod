@@ -4,14 +4,14 @@ go 1.26
 
 require (
 	github.com/draffensperger/golp v0.0.0-20250721104811-2d405f0b4e68
+	github.com/expr-lang/expr v1.17.8
+	github.com/paulmach/orb v0.14.0
 	github.com/spf13/cobra v1.10.2
 	gonum.org/v1/gonum v0.17.0
 	gopkg.in/yaml.v3 v3.0.1
 )
 
 require (
-	github.com/expr-lang/expr v1.17.8 // indirect
 	github.com/inconshreveable/mousetrap v1.1.0 // indirect
-	github.com/paulmach/orb v0.14.0 // indirect
 	github.com/spf13/pflag v1.0.9 // indirect
 )

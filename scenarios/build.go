@@ -477,7 +477,14 @@ func buildClasses(sc *Scenario, f *fileScenario, scales map[string]*Scale, catal
 			withWeight++
 		}
 		if c.Scale != nil {
-			buildInventory(&c, fc, field, is)
+			switch {
+			case fc.Inventory != nil && fc.InventoryCSV != nil:
+				is.add(fc.Lines.of("inventory_csv"), field+".inventory_csv", "give inventory or inventory_csv, not both")
+			case fc.Inventory == nil && (fc.InventoryCSV != nil || f.InventoryCSV != nil):
+				c.Initial = make([]float64, len(c.Scale.States)) // read from the CSV below
+			default:
+				buildInventory(&c, fc, field, is)
+			}
 			buildDeterioration(&c, fc, field, is)
 			seen := map[string]bool{}
 			for j, tn := range fc.Treatments {
@@ -511,6 +518,7 @@ func buildClasses(sc *Scenario, f *fileScenario, scales map[string]*Scale, catal
 			}
 		}
 	}
+	readInventories(sc, f, is)
 	switch {
 	case withWeight > 0 && withWeight < len(f.Classes):
 		is.add(f.Lines.of("classes"), "classes", "%d of %d classes give a weight; give weight for every class or for none", withWeight, len(f.Classes))
@@ -545,7 +553,7 @@ func buildInventory(c *Class, fc *fileClass, field string, is *issues) {
 	n := len(c.Scale.States)
 	c.Initial = make([]float64, n)
 	if fc.Inventory == nil {
-		is.add(fc.Lines.of(""), field+".inventory", "missing; give today's quantity in each state, e.g. inventory: {%s: 120, ...}", c.Scale.States[0].Name)
+		is.add(fc.Lines.of(""), field+".inventory", "missing; give today's quantity in each state, e.g. inventory: {%s: 120, ...}, or a segment list with inventory_csv: FILE", c.Scale.States[0].Name)
 		return
 	}
 	for _, e := range fc.Inventory.Entries {

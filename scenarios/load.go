@@ -34,7 +34,7 @@ func Load(fsys fs.FS, name string) (*Scenario, error) {
 		}
 		return nil, &InputError{Issues: []*Issue{{File: name, Msg: fmt.Sprintf("cannot read the file: %v", err)}}}
 	}
-	return Parse(name, data)
+	return parse(inputSource{fsys: fsys, name: name}, data)
 }
 
 var yamlLine = regexp.MustCompile(`line (\d+)`)
@@ -129,8 +129,14 @@ func expandedNodes(n *yaml.Node, limit int, memo map[*yaml.Node]int) int {
 	return total
 }
 
-// Parse validates a scenario held in memory; name is used in messages.
+// Parse validates a scenario held in memory; name is used in messages. A
+// scenario read this way cannot name other files (inventory_csv): use Load.
 func Parse(name string, data []byte) (*Scenario, error) {
+	return parse(inputSource{name: name}, data)
+}
+
+func parse(src inputSource, data []byte) (*Scenario, error) {
+	name := src.name
 	root, err := parseNode(name, data)
 	if err != nil {
 		return nil, err
@@ -144,6 +150,7 @@ func Parse(name string, data []byte) (*Scenario, error) {
 		// problems in vaguer words.
 		return nil, is.err()
 	}
+	f.source = src
 	sc := build(&f, is)
 	if err := is.err(); err != nil {
 		return nil, err

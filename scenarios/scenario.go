@@ -96,6 +96,10 @@ type Class struct {
 	ReplacementCost float64
 	// Weight is the class's normalised weight in network figures.
 	Weight float64
+	// Segments are the class's rows of an inventory CSV (nil when the
+	// inventory is written in the scenario); Inventory says what was read.
+	Segments  []Segment
+	Inventory *Inventory
 }
 
 // Total is the class's total quantity.
@@ -152,6 +156,8 @@ type Scenario struct {
 	Targets      []Target
 	Objective    optimize.Objective
 	Weighting    Weighting
+	// Inventories say what was read from each inventory CSV.
+	Inventories []*Inventory
 	// Notes are things a planner should know about how the file was read
 	// (not errors); results repeat them as warnings.
 	Notes []string
