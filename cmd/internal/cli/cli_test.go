@@ -24,7 +24,7 @@ func TestPlanDemoTable(t *testing.T) {
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
-	for _, want := range []string{"Work program", "Spend against budget", "Condition at the end of each year", "network", "Targets", "Planning estimate only"} {
+	for _, want := range []string{"Work program", "Spend against budget", "Condition at the end of each year", "network", "Asset value and backlog", "Targets", "Planning estimate only"} {
 		if !strings.Contains(out, want) {
 			t.Errorf("plan output lacks %q", want)
 		}
@@ -66,7 +66,7 @@ func TestCSVDirectoryWritesEveryTable(t *testing.T) {
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
-	for _, name := range []string{"work", "condition", "service", "spend", "targets"} {
+	for _, name := range []string{"work", "condition", "service", "spend", "targets", "value"} {
 		f, err := os.Open(filepath.Join(dir, name+".csv"))
 		if err != nil {
 			t.Fatal(err)
