@@ -151,10 +151,7 @@ func TestStrictTargetsNotMet(t *testing.T) {
 	if low == string(data) {
 		t.Fatal("demo budget line not found; update the test")
 	}
-	path := filepath.Join(t.TempDir(), "low.yaml")
-	if err := os.WriteFile(path, []byte(low), 0o644); err != nil {
-		t.Fatal(err)
-	}
+	path := demoCopy(t, "low.yaml", low)
 	code, _, errs := run(t, "plan", path)
 	if code != 0 || !strings.Contains(errs, "network poor share at most 15%") {
 		t.Errorf("without --strict: exit %d, warning:\n%s", code, errs)
@@ -191,4 +188,29 @@ func TestCorpusExitsTwoWithoutOutput(t *testing.T) {
 			t.Errorf("%s: files written despite bad input: %v", base, entries)
 		}
 	}
+}
+
+// demoCopy writes an edited copy of the demo into a temporary folder, with
+// the demo's segment list beside it, and returns its path.
+func demoCopy(t *testing.T, name, text string) string {
+	t.Helper()
+	dir := t.TempDir()
+	csvs, err := filepath.Glob(filepath.Join(filepath.Dir(demo), "*.csv"))
+	if err != nil || len(csvs) == 0 {
+		t.Fatalf("demo segment list: %v %v", csvs, err)
+	}
+	for _, f := range csvs {
+		data, err := os.ReadFile(f)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := os.WriteFile(filepath.Join(dir, filepath.Base(f)), data, 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	path := filepath.Join(dir, name)
+	if err := os.WriteFile(path, []byte(text), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	return path
 }
