@@ -2,6 +2,7 @@ package scenarios
 
 import (
 	"bufio"
+	"cmp"
 	"encoding/csv"
 	"errors"
 	"fmt"
@@ -10,6 +11,7 @@ import (
 	"math"
 	"path"
 	"reflect"
+	"slices"
 	"strconv"
 	"strings"
 	"unicode/utf8"
@@ -59,6 +61,8 @@ type Inventory struct {
 	Priority string
 	// Geometry is "WKT", "lon/lat" or "" (none).
 	Geometry string
+	// idColumn is the id column's name in the header, for messages.
+	idColumn string
 }
 
 // InventoryClass is what one class took from an inventory CSV.
@@ -133,12 +137,6 @@ type inventoryJob struct {
 	only int
 }
 
-// idPlace is where a segment id was first seen.
-type idPlace struct {
-	file string
-	line int
-}
-
 // readInventories reads every inventory CSV the scenario names and fills
 // the classes' quantities and segments.
 func readInventories(sc *Scenario, f *fileScenario, is *issues) {
@@ -167,9 +165,65 @@ func readInventories(sc *Scenario, f *fileScenario, is *issues) {
 			jobs = append(jobs, j)
 		}
 	}
-	ids := map[string]idPlace{}
 	for _, j := range jobs {
-		readInventory(sc, f, j, ids, is)
+		readInventory(sc, f, j, is)
+	}
+	checkUniqueIDs(sc, is)
+}
+
+// checkUniqueIDs reports segment ids used twice among the segments read:
+// ids key the worklist, so they must be unique across the scenario's
+// inventory files. (Sorting the ids once is several times faster than a
+// map of a million strings filled row by row.)
+func checkUniqueIDs(sc *Scenario, is *issues) {
+	type ref struct {
+		id         string
+		file, line int32
+	}
+	fileIndex := map[*Inventory]int{}
+	for i, inv := range sc.Inventories {
+		fileIndex[inv] = i
+	}
+	n := 0
+	for k := range sc.Classes {
+		n += len(sc.Classes[k].Segments)
+	}
+	refs := make([]ref, 0, n)
+	for k := range sc.Classes {
+		c := &sc.Classes[k]
+		if c.Inventory == nil {
+			continue
+		}
+		fi := fileIndex[c.Inventory]
+		for j := range c.Segments {
+			refs = append(refs, ref{c.Segments[j].ID, int32(fi), int32(c.Segments[j].Line)})
+		}
+	}
+	slices.SortFunc(refs, func(a, b ref) int {
+		if v := strings.Compare(a.id, b.id); v != 0 {
+			return v
+		}
+		return cmp.Or(cmp.Compare(a.file, b.file), cmp.Compare(a.line, b.line))
+	})
+	dups := 0
+	for i := 1; i < len(refs); i++ {
+		a, b := refs[i-1], refs[i]
+		if a.id != b.id {
+			continue
+		}
+		if dups++; dups > maxCSVIssues {
+			continue
+		}
+		where := fmt.Sprintf("line %d", a.line)
+		if a.file != b.file {
+			where = fmt.Sprintf("%s:%d", sc.Inventories[a.file].File, a.line)
+		}
+		fis := &issues{file: sc.Inventories[b.file].File}
+		fis.add(int(b.line), sc.Inventories[b.file].idColumn, "%q is already used on %s; ids must be unique (they key the worklist)", b.id, where)
+		is.list = append(is.list, fis.list...)
+	}
+	if dups > maxCSVIssues {
+		is.add(0, "", "and %d more ids used twice, not listed; fix the ones above and check again", dups-maxCSVIssues)
 	}
 }
 
@@ -186,7 +240,7 @@ func (c *csvIssues) add(line int, field, format string, args ...any) {
 	}
 }
 
-func readInventory(sc *Scenario, f *fileScenario, j inventoryJob, ids map[string]idPlace, is *issues) {
+func readInventory(sc *Scenario, f *fileScenario, j inventoryJob, is *issues) {
 	spec := j.spec
 	fileLine := spec.Lines.of("file")
 	if strings.TrimSpace(spec.File) == "" {
@@ -220,7 +274,7 @@ func readInventory(sc *Scenario, f *fileScenario, j inventoryJob, ids map[string
 
 	ci := &csvIssues{issues: &issues{file: name}}
 	inv := &Inventory{File: name, Priority: strings.TrimSpace(spec.Priority)}
-	segs, sums := readRows(sc, j, fh, comma, inv, ids, ci, is)
+	segs, sums := readRows(sc, j, fh, comma, inv, ci, is)
 	if ci.count > maxCSVIssues {
 		ci.issues.add(0, "", "and %d more problems in this file not listed; fix the ones above and check again", ci.count-maxCSVIssues)
 	}
@@ -454,7 +508,7 @@ func firstLine(s string) string {
 
 // readRows reads the CSV's rows into segments and exact quantity sums per
 // class and state. It returns nil segments when the header is unusable.
-func readRows(sc *Scenario, j inventoryJob, r io.Reader, comma rune, inv *Inventory, ids map[string]idPlace, ci *csvIssues, is *issues) ([][]Segment, [][]exactSum) {
+func readRows(sc *Scenario, j inventoryJob, r io.Reader, comma rune, inv *Inventory, ci *csvIssues, is *issues) ([][]Segment, [][]exactSum) {
 	br := bufio.NewReaderSize(r, 1<<16)
 	if bom, err := br.Peek(3); err == nil && string(bom) == "\uFEFF" {
 		br.Discard(3)
@@ -485,6 +539,7 @@ func readRows(sc *Scenario, j inventoryJob, r io.Reader, comma rune, inv *Invent
 	if !ok {
 		return nil, nil
 	}
+	inv.idColumn = header[cols.id]
 	switch {
 	case cols.wkt >= 0:
 		inv.Geometry = "WKT"
@@ -574,15 +629,8 @@ func readRows(sc *Scenario, j inventoryJob, r io.Reader, comma rune, inv *Invent
 		id := strings.TrimSpace(rec[cols.id])
 		if id == "" {
 			fail(header[cols.id], "empty; every segment needs an id (it keys the worklist)")
-		} else if prev, dup := ids[id]; dup {
-			where := fmt.Sprintf("line %d", prev.line)
-			if prev.file != inv.File {
-				where = fmt.Sprintf("%s:%d", prev.file, prev.line)
-			}
-			fail(header[cols.id], "%q is already used on %s; ids must be unique (they key the worklist)", id, where)
 		} else {
-			id = strings.Clone(id)
-			ids[id] = idPlace{file: inv.File, line: line}
+			id = strings.Clone(id) // do not hold the whole row in memory
 		}
 		// Quantity.
 		qs := strings.TrimSpace(rec[cols.quantity])

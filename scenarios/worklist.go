@@ -146,6 +146,11 @@ type classLister struct {
 	base []int32
 	// rankOf[j] is segment j's place in base.
 	rankOf []int32
+	// score[j] is segment j's condition score today (0-100).
+	score []float64
+	// tie[j] orders segments of equal expected state: worst today first,
+	// then priority order (set when first needed).
+	tie []int32
 	// state[j] is segment j's state at the start of the year listed.
 	state []int
 	// belief[j*n:(j+1)*n] is segment j's expected state distribution.
@@ -166,33 +171,43 @@ func listClass(w *Worklist, sc *Scenario, r *Result, k, years int) error {
 	}
 	segs := c.Segments
 	m := len(segs)
-	l.base = make([]int32, m)
-	for j := range l.base {
-		l.base[j] = int32(j)
+	// Today's condition score of each segment (the state's representative
+	// value when the row gave a state name).
+	l.score = make([]float64, m)
+	for j := range segs {
+		v := segs[j].Index
+		if math.IsNaN(v) {
+			v = c.Scale.States[segs[j].State].Value
+		}
+		l.score[j] = c.Scale.Score(v)
 	}
-	score := func(j int32) float64 {
-		s := &segs[j]
-		if math.IsNaN(s.Index) {
-			return c.Scale.Score(c.Scale.States[s.State].Value)
-		}
-		return c.Scale.Score(s.Index)
+	// Priority order: sorting compact keys rather than indexes into the
+	// segments keeps a million-row sort in cache.
+	type baseKey struct {
+		priority, score, quantity float64
+		j                         int32
 	}
-	slices.SortFunc(l.base, func(a, b int32) int {
-		sa, sb := &segs[a], &segs[b]
-		if v := cmp.Compare(sb.Priority, sa.Priority); v != 0 {
+	keys := make([]baseKey, m)
+	for j := range segs {
+		keys[j] = baseKey{segs[j].Priority, l.score[j], segs[j].Quantity, int32(j)}
+	}
+	slices.SortFunc(keys, func(a, b baseKey) int {
+		if v := cmp.Compare(b.priority, a.priority); v != 0 {
 			return v
 		}
-		if v := cmp.Compare(score(a), score(b)); v != 0 {
+		if v := cmp.Compare(a.score, b.score); v != 0 {
 			return v
 		}
-		if v := cmp.Compare(sb.Quantity, sa.Quantity); v != 0 {
+		if v := cmp.Compare(b.quantity, a.quantity); v != 0 {
 			return v
 		}
-		return cmp.Compare(sa.ID, sb.ID)
+		return cmp.Compare(segs[a.j].ID, segs[b.j].ID)
 	})
+	l.base = make([]int32, m)
 	l.rankOf = make([]int32, m)
-	for r, j := range l.base {
-		l.rankOf[j] = int32(r)
+	for r, k := range keys {
+		l.base[r] = k.j
+		l.rankOf[k.j] = int32(r)
 	}
 	l.state = make([]int, m)
 	for j := range segs {
@@ -201,7 +216,7 @@ func listClass(w *Worklist, sc *Scenario, r *Result, k, years int) error {
 	l.treated = make([]int, m)
 	for t := 1; t <= years; t++ {
 		if t > 1 {
-			l.expectedStates(r.Years[t-2].Classes[k].States, score)
+			l.expectedStates(r.Years[t-2].Classes[k].States)
 		}
 		if err := l.assignYear(w, sc, r.Years[t-1].Classes[k], t); err != nil {
 			return err
@@ -350,43 +365,46 @@ func (l *classLister) age() {
 // expectedStates places the segments in states for the start of a later
 // year: ranked by expected state, worst first, against the plan's expected
 // quantities q (end of the previous year), worst state first.
-func (l *classLister) expectedStates(q Quantities, score func(int32) float64) {
+func (l *classLister) expectedStates(q Quantities) {
 	n := l.n
 	m := len(l.state)
-	expected := make([]float64, m)
-	today := make([]float64, m)
+	if l.tie == nil {
+		order := slices.Clone(l.base)
+		slices.SortStableFunc(order, func(a, b int32) int { return cmp.Compare(l.score[a], l.score[b]) })
+		l.tie = make([]int32, m)
+		for r, j := range order {
+			l.tie[j] = int32(r)
+		}
+	}
+	type key struct {
+		expected float64
+		tie, j   int32
+	}
+	keys := make([]key, m)
 	for j := range m {
 		e := 0.0
 		for i, bi := range l.belief[j*n : (j+1)*n] {
 			e += float64(i) * bi
 		}
-		expected[j] = e
-		today[j] = score(int32(j))
+		keys[j] = key{e, l.tie[j], int32(j)}
 	}
-	order := make([]int32, m)
-	for j := range order {
-		order[j] = int32(j)
-	}
-	slices.SortFunc(order, func(a, b int32) int {
-		if v := cmp.Compare(expected[b], expected[a]); v != 0 {
+	slices.SortFunc(keys, func(a, b key) int {
+		if v := cmp.Compare(b.expected, a.expected); v != 0 {
 			return v
 		}
-		if v := cmp.Compare(today[a], today[b]); v != 0 {
-			return v
-		}
-		return cmp.Compare(l.rankOf[a], l.rankOf[b])
+		return cmp.Compare(a.tie, b.tie)
 	})
 	s := n - 1
 	end := q[s].Quantity
 	at := 0.0
-	for _, j := range order {
-		qj := l.c.Segments[j].Quantity
+	for _, k := range keys {
+		qj := l.c.Segments[k.j].Quantity
 		mid := at + qj/2
 		at += qj
 		for s > 0 && mid >= end {
 			s--
 			end += q[s].Quantity
 		}
-		l.state[j] = s
+		l.state[k.j] = s
 	}
 }
