@@ -7,6 +7,7 @@ import (
 	"path/filepath"
 	"strconv"
 	"strings"
+	"syscall"
 	"testing"
 
 	"wearplan/scenarios"
@@ -35,6 +36,17 @@ func peakRSS() float64 {
 
 // resetPeakRSS restarts the high-water mark ("5" to clear_refs).
 func resetPeakRSS() { _ = os.WriteFile("/proc/self/clear_refs", []byte("5"), 0) }
+
+// cpuSeconds is the process's user and system CPU time so far. On a
+// shared machine it varies far less than wall time, so the benchmarks
+// report it per operation beside ns/op.
+func cpuSeconds() float64 {
+	var ru syscall.Rusage
+	if err := syscall.Getrusage(syscall.RUSAGE_SELF, &ru); err != nil {
+		return 0
+	}
+	return float64(ru.Utime.Nano()+ru.Stime.Nano()) / 1e9
+}
 
 // writeMillionSegments writes the demo scenario beside a generated list of
 // rows segments and returns the scenario's path.
@@ -96,6 +108,7 @@ func BenchmarkMillionSegments(b *testing.B) {
 	for _, years := range []int{1, 5} {
 		b.Run(fmt.Sprintf("rows=%d/years=%d", rows, years), func(b *testing.B) {
 			resetPeakRSS()
+			cpu0 := cpuSeconds()
 			var w *scenarios.Worklist
 			for b.Loop() {
 				sc, err := scenarios.LoadFile(path)
@@ -110,6 +123,7 @@ func BenchmarkMillionSegments(b *testing.B) {
 					b.Fatal(err)
 				}
 			}
+			b.ReportMetric((cpuSeconds()-cpu0)/float64(b.N), "cpu-s/op")
 			b.ReportMetric(peakRSS(), "MiB-peak")
 			b.ReportMetric(float64(len(w.Items)), "items")
 		})
@@ -120,10 +134,12 @@ func BenchmarkMillionSegments(b *testing.B) {
 func BenchmarkLoadSegments(b *testing.B) {
 	path := writeMillionSegments(b, 1_000_000)
 	resetPeakRSS()
+	cpu0 := cpuSeconds()
 	for b.Loop() {
 		if _, err := scenarios.LoadFile(path); err != nil {
 			b.Fatal(err)
 		}
 	}
+	b.ReportMetric((cpuSeconds()-cpu0)/float64(b.N), "cpu-s/op")
 	b.ReportMetric(peakRSS(), "MiB-peak")
 }

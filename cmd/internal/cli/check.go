@@ -73,5 +73,5 @@ func inventorySummary(inv *scenarios.Inventory) string {
 	if inv.Priority != "" {
 		priority = "priority: " + inv.Priority
 	}
-	return fmt.Sprintf("inventory %s: %d rows read; %s; %s; %s; %s", inv.File, inv.Rows, strings.Join(parts, ", "), leftOut, geometry, priority)
+	return fmt.Sprintf("inventory %s: %s rows read; %s; %s; %s; %s", inv.File, render.Money(float64(inv.Rows)), strings.Join(parts, ", "), leftOut, geometry, priority)
 }

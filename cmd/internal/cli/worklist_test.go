@@ -224,7 +224,8 @@ func TestCheckSummarisesInventory(t *testing.T) {
 	for _, r := range rows[1:] {
 		perClass[r[1]]++
 	}
-	want := []string{fmt.Sprintf("inventory marrowby-segments-invented.csv: %d rows read", len(rows)-1), "geometry: WKT", "priority: aadt"}
+	n := len(rows) - 1 // a few thousand: written with a thousands comma
+	want := []string{fmt.Sprintf("inventory marrowby-segments-invented.csv: %d,%03d rows read", n/1000, n%1000), "geometry: WKT", "priority: aadt"}
 	for class, n := range perClass {
 		want = append(want, fmt.Sprintf("%s %d segments", class, n))
 	}
