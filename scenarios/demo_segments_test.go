@@ -48,8 +48,6 @@ type demoClassSpec struct {
 	road    bool
 }
 
-var demoPCI = []string{"Good", "Satisfactory", "Fair", "Poor", "Very poor", "Serious", "Failed"}
-
 // demoInventory is the demo's inventory per class and state (invented).
 func demoInventory() []demoClassSpec {
 	k := func(vs ...float64) []int64 {
@@ -59,6 +57,7 @@ func demoInventory() []demoClassSpec {
 		}
 		return out
 	}
+	demoPCI := []string{"Good", "Satisfactory", "Fair", "Poor", "Very poor", "Serious", "Failed"}
 	pciLo := []int{86, 71, 56, 41, 26, 11, 0}
 	pciHi := []int{100, 85, 70, 55, 40, 25, 10}
 	arterials := []string{"Marrow Road", "Tannery Way", "Kilnbridge Road", "Fettle Street", "Sluice Avenue", "Furrow Road", "Quernstone Way", "Wharf Parade"}
