@@ -451,7 +451,7 @@ func (v *identVisitor) Visit(n *ast.Node) {
 }
 
 // compilePriority compiles the priority expression against the header.
-func compilePriority(code string, header []string, cols columns, field string, line int, is *issues) (*priorityProgram, bool) {
+func compilePriority(code string, header []string, field string, line int, is *issues) (*priorityProgram, bool) {
 	tree, err := parser.Parse(code)
 	if err != nil {
 		is.add(line, field, "%q: %s; write an expression over the columns, e.g. aadt * (100 - condition)", code, firstLine(err.Error()))
@@ -548,7 +548,7 @@ func readRows(sc *Scenario, j inventoryJob, r io.Reader, comma rune, inv *Invent
 	}
 	var prio *priorityProgram
 	if inv.Priority != "" {
-		prio, ok = compilePriority(inv.Priority, header, cols, j.field+".priority", j.spec.Lines.of("priority"), is)
+		prio, ok = compilePriority(inv.Priority, header, j.field+".priority", j.spec.Lines.of("priority"), is)
 		if !ok {
 			return nil, nil
 		}
