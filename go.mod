@@ -6,6 +6,8 @@ require (
 	github.com/chromedp/cdproto v0.159.0
 	github.com/chromedp/chromedp v0.23.0
 	github.com/draffensperger/golp v0.0.0-20250721104811-2d405f0b4e68
+	github.com/expr-lang/expr v1.17.8
+	github.com/paulmach/orb v0.14.0
 	github.com/spf13/cobra v1.10.2
 	github.com/xuri/excelize/v2 v2.11.1
 	gonum.org/v1/gonum v0.17.0

@@ -66,17 +66,52 @@ func rate(is *issues, v *float64, line int, field string) float64 {
 
 func buildScales(f *fileScenario, is *issues) map[string]*Scale {
 	out := map[string]*Scale{}
-	if len(f.Scales) == 0 {
-		is.add(f.Lines.of(""), "scales", "missing; define at least one condition scale with its states and groups")
+	if len(f.Scales) == 0 && !anyPresetClass(f) {
+		is.add(f.Lines.of(""), "scales", "missing; define at least one condition scale with its states and groups, or use a preset (scale: preset:NAME in a class)")
 	}
 	for _, name := range sortedKeys(f.Scales) {
 		fs := f.Scales[name]
 		path := "scales." + name
-		if s := buildScale(name, &fs, path, is); s != nil {
+		var s *Scale
+		if fs.Preset != "" {
+			if len(fs.States) > 0 {
+				is.add(fs.Lines.of("states"), path+".states", "a preset scale takes no states; drop them, or drop preset: and write every state")
+				continue
+			}
+			var groups map[string][]string
+			if len(fs.Groups) > 0 {
+				groups = fs.Groups
+			}
+			s = buildPreset(name, fs.Preset, fs.Lines.of("preset"), groups, path+".preset", is)
+		} else {
+			s = buildScale(name, &fs, path, is)
+		}
+		if s != nil {
 			out[name] = s
 		}
 	}
+	// Classes may name a preset directly (scale: preset:NAME); every class
+	// naming the same preset shares one scale.
+	for k := range f.Classes {
+		fc := &f.Classes[k]
+		name, ok := strings.CutPrefix(fc.Scale, PresetPrefix)
+		if !ok || out[fc.Scale] != nil {
+			continue
+		}
+		if s := buildPreset(fc.Scale, name, fc.Lines.of("scale"), nil, fmt.Sprintf("classes[%d].scale", k), is); s != nil {
+			out[fc.Scale] = s
+		}
+	}
 	return out
+}
+
+func anyPresetClass(f *fileScenario) bool {
+	for k := range f.Classes {
+		if strings.HasPrefix(f.Classes[k].Scale, PresetPrefix) {
+			return true
+		}
+	}
+	return false
 }
 
 func buildScale(name string, fs *fileScale, path string, is *issues) *Scale {
@@ -421,8 +456,8 @@ func buildClasses(sc *Scenario, f *fileScenario, scales map[string]*Scale, catal
 		if fc.Scale == "" {
 			is.add(fc.Lines.of(""), field+".scale", "missing; name one of the scales defined under scales")
 		} else if c.Scale == nil {
-			if _, defined := f.Scales[fc.Scale]; !defined {
-				is.add(fc.Lines.of("scale"), field+".scale", "unknown scale %q; define it under scales", fc.Scale)
+			if _, defined := f.Scales[fc.Scale]; !defined && !strings.HasPrefix(fc.Scale, PresetPrefix) {
+				is.add(fc.Lines.of("scale"), field+".scale", "unknown scale %q; define it under scales, or name a preset (%s%s)", fc.Scale, PresetPrefix, strings.ReplaceAll(presetNames(), ", ", ", "+PresetPrefix))
 			}
 		}
 		if fc.ReplacementCost != nil {
@@ -442,7 +477,14 @@ func buildClasses(sc *Scenario, f *fileScenario, scales map[string]*Scale, catal
 			withWeight++
 		}
 		if c.Scale != nil {
-			buildInventory(&c, fc, field, is)
+			switch {
+			case fc.Inventory != nil && fc.InventoryCSV != nil:
+				is.add(fc.Lines.of("inventory_csv"), field+".inventory_csv", "give inventory or inventory_csv, not both")
+			case fc.Inventory == nil && (fc.InventoryCSV != nil || f.InventoryCSV != nil):
+				c.Initial = make([]float64, len(c.Scale.States)) // read from the CSV below
+			default:
+				buildInventory(&c, fc, field, is)
+			}
 			buildDeterioration(&c, fc, field, is)
 			buildRoutine(&c, fc, field, is)
 			seen := map[string]bool{}
@@ -477,6 +519,7 @@ func buildClasses(sc *Scenario, f *fileScenario, scales map[string]*Scale, catal
 			}
 		}
 	}
+	readInventories(sc, f, is)
 	switch {
 	case withWeight > 0 && withWeight < len(f.Classes):
 		is.add(f.Lines.of("classes"), "classes", "%d of %d classes give a weight; give weight for every class or for none", withWeight, len(f.Classes))
@@ -511,7 +554,7 @@ func buildInventory(c *Class, fc *fileClass, field string, is *issues) {
 	n := len(c.Scale.States)
 	c.Initial = make([]float64, n)
 	if fc.Inventory == nil {
-		is.add(fc.Lines.of(""), field+".inventory", "missing; give today's quantity in each state, e.g. inventory: {%s: 120, ...}", c.Scale.States[0].Name)
+		is.add(fc.Lines.of(""), field+".inventory", "missing; give today's quantity in each state, e.g. inventory: {%s: 120, ...}, or a segment list with inventory_csv: FILE", c.Scale.States[0].Name)
 		return
 	}
 	for _, e := range fc.Inventory.Entries {

@@ -31,4 +31,69 @@
 // score under the same money. Sweep plans a list of level budgets and
 // Compare a list of scenarios, in parallel (at most GOMAXPROCS at a time),
 // results in input order. LongRun reports the steady-state policy.
+//
+// # Condition scale presets
+//
+// A class may name a built-in scale with scale: preset:NAME, or a scale
+// under scales: may be written {preset: NAME, groups: {...}} to regroup its
+// states. Presets (presets.go, each citing its source): pci-astm-d6433 (the
+// seven PCI rating classes of ASTM D6433), iri-23cfr490-in-mi and
+// iri-23cfr490-m-km (23 CFR 490 good/fair/poor roughness; lower is better),
+// bridge-nbi-0-9 (National Bridge Inventory ratings 9-0, grouped per 23 CFR
+// 490) and five-state. They pass the same tiling checks as written scales.
+//
+// An index value is placed in a state by Scale.StateOf: ranges include
+// both ends; a value on an end shared by two states counts in the worse
+// one, and a value between two ranges that meet at consecutive whole
+// numbers (85.5 between 71-85 and 86-100) has not reached the better range
+// and counts in the worse one too. A preset may say otherwise where its
+// standard does: 170 in/mi is fair under 23 CFR 490.
+//
+// # Inventory CSV (segment lists)
+//
+// inventory_csv names a CSV of segments, one row each, in a class (rows
+// whose class column names the class, or every row when the file has no
+// class column) or at scenario level (rows split by the class column among
+// the classes that give no inventory of their own). Columns, matched in
+// any case: id, quantity (in the class's unit), condition (an index value,
+// or a state name in any case), class; optional name, wkt or lon and lat
+// (geometry passed through to the worklist); any others may be used by the
+// priority expression. Options: file, delimiter, columns (map a role to
+// the file's own column name), priority, skip_unrated. Quantities are
+// summed exactly as decimals (in billionths of a unit), so totals do not
+// depend on the order of the rows. Every problem is reported with the CSV's
+// line and column (at most 50 per file), and a UTF-8 byte-order mark, CRLF
+// line ends, quoted fields and blank lines are accepted. Scenario.Inventories
+// says what was read. Paths are relative to the scenario's folder and must
+// stay inside it; Parse cannot read files, Load and LoadFile can.
+//
+// The priority expression (github.com/expr-lang/expr syntax, e.g.
+// "aadt * (100 - condition)") gives each segment a number; higher is listed
+// first. Its variables: condition (the row's index value, or the state's
+// representative value), quantity, state (1 = best), and every column by
+// its name in lower case with other characters than letters and digits
+// turned into underscores. Columns it uses must hold numbers.
+//
+// # Asset value and backlog
+//
+// Results carry, for today and the end of every year, each class's and
+// the network's current replacement value (quantity times replacement unit
+// cost) and backlog (the cost of the treatments that the quantities in poor
+// states call for), both at that year's prices (start-year prices
+// escalated by cost_escalation, as the year's work is costed; today's at
+// start-year prices). A poor state calls for the cheapest of the class's
+// treatments that applies to it and leaves nothing in a poor state right
+// after treatment, or, when none does, replacement at the replacement unit
+// cost. Result.BacklogRules lists the choice per state. A figure is nil when
+// unknown (no replacement cost; a poor state nothing lifts and no
+// replacement cost), and the network's is nil when any class's is.
+//
+// # Worklists
+//
+// MakeWorklist assigns a plan's work to whole segments (see its comment
+// for the method): year 1 within one segment's quantity of the plan per
+// class, state and treatment, each segment at most once a year; years 2..N
+// indicative, from each segment's expected state. Worklists carry Caution
+// and WorklistCaution: the list is indicative and each segment is
+// confirmed by inspection.
 package scenarios

@@ -320,7 +320,7 @@ func judgedMatrix(class string, s *Scale, years []float64, is *issues) (*markov.
 }
 
 // firstLine is the line of an asset's first inspection, for messages.
-func firstLine(c *InspectionClass) int {
+func firstInspectionLine(c *InspectionClass) int {
 	for _, h := range c.Histories {
 		if len(h) > 0 {
 			return h[0].Ref
@@ -349,13 +349,13 @@ func fitClass(c *InspectionClass, opt FitOptions, is *issues) (*FitClass, bool) 
 	}
 	switch {
 	case prep.Pairs == 0:
-		fitIssue(is, firstLine(c), c.Name, "no asset has two inspections (%d assets, one inspection each), so there is no change to fit; an export with several years of inspections is needed", prep.Assets)
+		fitIssue(is, firstInspectionLine(c), c.Name, "no asset has two inspections (%d assets, one inspection each), so there is no change to fit; an export with several years of inspections is needed", prep.Assets)
 		return nil, false
 	case prep.Used == 0 && prep.WithWork == prep.Pairs:
-		fitIssue(is, firstLine(c), c.Name, "all %d pairs of consecutive inspections have work recorded between them, so none shows deterioration alone; check the work column (empty, 0 or no mean no work)", prep.Pairs)
+		fitIssue(is, firstInspectionLine(c), c.Name, "all %d pairs of consecutive inspections have work recorded between them, so none shows deterioration alone; check the work column (empty, 0 or no mean no work)", prep.Pairs)
 		return nil, false
 	case prep.Used == 0:
-		fitIssue(is, firstLine(c), c.Name, "none of the %d pairs of consecutive inspections can be used (%s)", prep.Pairs, exclusionSummary(prep))
+		fitIssue(is, firstInspectionLine(c), c.Name, "none of the %d pairs of consecutive inspections can be used (%s)", prep.Pairs, exclusionSummary(prep))
 		return nil, false
 	}
 	noteExclusions(fc, prep, c.Name)
@@ -368,7 +368,7 @@ func fitClass(c *InspectionClass, opt FitOptions, is *issues) (*FitClass, bool) 
 	case MethodCounting:
 		used = sample.Filter(func(pr markov.Pair) bool { return pr.Years == 1 })
 		if len(used.Pairs()) == 0 {
-			fitIssue(is, firstLine(c), c.Name, "no pairs of inspections one year apart (intervals used: %s); the counting method needs yearly pairs: use --method interval", intervalList(prep))
+			fitIssue(is, firstInspectionLine(c), c.Name, "no pairs of inspections one year apart (intervals used: %s); the counting method needs yearly pairs: use --method interval", intervalList(prep))
 			return nil, false
 		}
 		if len(used.Pairs()) < prep.Used/2 {
@@ -384,7 +384,7 @@ func fitClass(c *InspectionClass, opt FitOptions, is *issues) (*FitClass, bool) 
 	case MethodYearsInState:
 		years, ok := opt.YearsInState[c.Name]
 		if !ok {
-			fitIssue(is, firstLine(c), c.Name, "method years-in-state needs the class's expected years in each state: --years-in-state %s=D1,D2,...", c.Name)
+			fitIssue(is, firstInspectionLine(c), c.Name, "method years-in-state needs the class's expected years in each state: --years-in-state %s=D1,D2,...", c.Name)
 			return nil, false
 		}
 		p, ok = judgedMatrix(c.Name, c.Scale, years, is)
@@ -402,10 +402,10 @@ func fitClass(c *InspectionClass, opt FitOptions, is *issues) (*FitClass, bool) 
 				names[k] = strconv.Quote(c.Scale.States[r].Name)
 			}
 			hint := "use --method interval (pairs of any interval), gather more inspections, or set the matrix by judgement"
-			fitIssue(is, firstLine(c), c.Name, "no usable pair starts in state %s, so its row cannot be estimated; %s", strings.Join(names, ", "), hint)
+			fitIssue(is, firstInspectionLine(c), c.Name, "no usable pair starts in state %s, so its row cannot be estimated; %s", strings.Join(names, ", "), hint)
 			return nil, false
 		}
-		fitIssue(is, firstLine(c), c.Name, "%v", err)
+		fitIssue(is, firstInspectionLine(c), c.Name, "%v", err)
 		return nil, false
 	}
 	p = p.Rounded(fitDecimals)

@@ -6,8 +6,6 @@ import (
 	"math/rand/v2"
 	"os"
 	"path/filepath"
-	"strconv"
-	"strings"
 	"testing"
 
 	"wearplan/scenarios"
@@ -79,25 +77,6 @@ func writeBenchExport(b *testing.B, records int, mixed bool) string {
 	f.Close()
 	return path
 }
-
-// peakRSS is the process's resident-set high-water mark in MiB (Linux).
-func peakRSS() float64 {
-	data, err := os.ReadFile("/proc/self/status")
-	if err != nil {
-		return 0
-	}
-	for _, line := range strings.Split(string(data), "\n") {
-		if strings.HasPrefix(line, "VmHWM:") {
-			kb, _ := strconv.ParseFloat(strings.Fields(line)[1], 64)
-			return kb / 1024
-		}
-	}
-	return 0
-}
-
-// resetPeakRSS restarts the high-water mark, so each benchmark reports its
-// own peak.
-func resetPeakRSS() { _ = os.WriteFile("/proc/self/clear_refs", []byte("5"), 0) }
 
 // BenchmarkFit reads a generated export and fits it end to end (reading,
 // data preparation, estimate, bootstrap, goodness of fit, mean condition),

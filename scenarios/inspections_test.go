@@ -132,7 +132,7 @@ func TestReadInspectionsColumnsAndValues(t *testing.T) {
 	// state names, work words read.
 	text := "\ufeffSegment,Type,Survey Date,PCI,Rehab,Crew\n" +
 		"A1,local-asphalt,2021-07-02,86,,x\n" + // 86 is Good (86-100)
-		"A1,local-asphalt,2022-07-02,85.6,no,x\n" + // 85.6 rounds to 86: Good
+		"A1,local-asphalt,2022-07-02,85.6,no,x\n" + // 85.6 has not reached 86: Satisfactory
 		"A1,local-asphalt,2023,Fair,0,x\n" +
 		"A1,local-asphalt,2024,40,milled,x\n" // Very poor, work done
 	cols := scenarios.InspectionColumns{Asset: "segment", Class: "TYPE", Inspected: "survey date", Condition: "pci", Work: "rehab"}
@@ -144,7 +144,7 @@ func TestReadInspectionsColumnsAndValues(t *testing.T) {
 		t.Fatalf("read %+v", ins)
 	}
 	h := ins.Classes[0].Histories[0]
-	wantStates := []int{0, 0, 2, 4}
+	wantStates := []int{0, 1, 2, 4}
 	wantWork := []bool{false, false, false, true}
 	for k, in := range h {
 		if in.State != wantStates[k] || in.Work != wantWork[k] || in.Ref != k+2 {
@@ -202,10 +202,12 @@ func TestScaleStateOf(t *testing.T) {
 		v    float64
 		want int
 	}{
-		{pci, 100, 0}, {pci, 86, 0}, {pci, 85.5, 0}, {pci, 85.4, 1}, {pci, 71, 1}, {pci, 0, 6}, {pci, -0.4, 6},
+		// Scale.StateOf: a value between whole-number ranges has not
+		// reached the better range (common practice, no source).
+		{pci, 100, 0}, {pci, 86, 0}, {pci, 85.5, 1}, {pci, 85.4, 1}, {pci, 71, 1}, {pci, 0, 6}, {pci, -0.4, -1},
 		{pci, 100.6, -1}, {pci, -1, -1},
 		{deck, 9, 0}, {deck, 6, 1}, {deck, 6.4, 1}, {deck, 2, 5}, {deck, 0, 5}, {deck, 10, -1},
-		{set.Scales["five-state"], 80, 0}, {set.Scales["five-state"], 79.9, 1}, // shared end: the better state
+		{set.Scales["five-state"], 80, 1}, {set.Scales["five-state"], 80.1, 0}, {set.Scales["five-state"], 79.9, 1}, // shared end: the worse state
 	}
 	for _, c := range cases {
 		if got := c.s.StateOf(c.v); got != c.want {

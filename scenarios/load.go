@@ -39,7 +39,7 @@ func Load(fsys fs.FS, name string) (*Scenario, error) {
 	if err != nil {
 		return nil, err
 	}
-	sc, read, err := decodeScenario(name, root, files, fsys)
+	sc, read, err := decodeScenario(inputSource{fsys: fsys, name: name}, root, files)
 	if err != nil {
 		return nil, err
 	}
@@ -149,8 +149,8 @@ func expandedNodes(n *yaml.Node, limit int, memo map[*yaml.Node]int) int {
 }
 
 // Parse validates a scenario held in memory; name is used in messages.
-// It has no folder, so it cannot extend a base or take matrices from fit
-// files.
+// It has no folder, so it cannot extend a base or read the files a scenario
+// may name (inventory_csv, fit files): use Load or LoadFile for those.
 func Parse(name string, data []byte) (*Scenario, error) {
 	root, err := parseNode(name, data)
 	if err != nil {
@@ -161,13 +161,15 @@ func Parse(name string, data []byte) (*Scenario, error) {
 		is.add(line, "extends", "a scenario read from memory cannot extend %q; load it from its folder (LoadFile)", ext)
 		return nil, is.err()
 	}
-	sc, _, err := decodeScenario(name, root, nil, nil)
+	sc, _, err := decodeScenario(inputSource{name: name}, root, nil)
 	return sc, err
 }
 
-// decodeScenario decodes and checks a (merged) scenario node tree; files it
-// names (fit files) are read from fsys and returned, in first-use order.
-func decodeScenario(name string, root *yaml.Node, files []string, fsys fs.FS) (*Scenario, []string, error) {
+// decodeScenario decodes and checks a (merged) scenario node tree; the data
+// files it names (fit files, inventory CSVs) are read from src and returned,
+// in first-use order.
+func decodeScenario(src inputSource, root *yaml.Node, files []string) (*Scenario, []string, error) {
+	name, fsys := src.name, src.fsys
 	is := &issues{file: name, files: files}
 	var f fileScenario
 	d := &decoder{issues: is}
@@ -183,6 +185,7 @@ func decodeScenario(name string, root *yaml.Node, files []string, fsys fs.FS) (*
 	if len(is.list) > 0 {
 		return nil, nil, is.err()
 	}
+	f.source = src
 	sc := build(&f, is)
 	if err := is.err(); err != nil {
 		return nil, nil, err

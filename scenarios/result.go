@@ -41,7 +41,9 @@ type Result struct {
 	Initial   Snapshot        `json:"initial"`
 	Years     []Year          `json:"years"`
 	Targets   []TargetOutcome `json:"targets"`
-	Warnings  []string        `json:"warnings"`
+	// BacklogRules say what each poor state's backlog is valued at.
+	BacklogRules []BacklogRule `json:"backlog_rules,omitempty"`
+	Warnings     []string      `json:"warnings"`
 	// Funding answers the funding questions of a plan (funding.go).
 	Funding *Funding `json:"funding,omitempty"`
 	// Baseline is the worst-first rule under the same budget, for
@@ -88,8 +90,9 @@ type ClassCondition struct {
 	Score        float64    `json:"score"`
 	Shares       Shares     `json:"shares"`
 	// ReplacementValue and Backlog are money figures of the asset-value
-	// reporting (set when the scenario gives replacement costs; nil, and
-	// left out of JSON, when unknown).
+	// reporting at that year's prices (value.go has the definitions): set
+	// when the scenario gives what they need, nil and left out of JSON
+	// when unknown.
 	ReplacementValue *float64 `json:"replacement_value,omitempty"`
 	Backlog          *float64 `json:"backlog,omitempty"`
 	Work             []Work   `json:"work,omitzero"` // [] in plans, absent in forecasts

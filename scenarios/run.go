@@ -121,6 +121,10 @@ func assemble(sc *Scenario, p *optimize.Problem, cond [][][]float64, work [][][]
 		r.Weights = append(r.Weights, ClassWeight{Class: sc.Classes[k].Name, Weight: sc.Classes[k].Weight})
 	}
 	shared := sc.SharedScale()
+	bases := valueBases(sc)
+	for k := range bases {
+		r.BacklogRules = append(r.BacklogRules, bases[k].rules...)
+	}
 	snapshot := func(t int) ([]ClassCondition, NetworkCondition) {
 		classes := make([]ClassCondition, len(sc.Classes))
 		var net NetworkCondition
@@ -136,6 +140,9 @@ func assemble(sc *Scenario, p *optimize.Problem, cond [][][]float64, work [][][]
 			cc.AverageIndex = c.Scale.Index(cc.Score)
 			sh := oc.SharesOf(q)
 			cc.Shares = Shares{Good: sh[optimize.Good], Fair: sh[optimize.Fair], Poor: sh[optimize.Poor]}
+			cc.ReplacementValue, cc.Backlog = bases[k].figures(c, q, priceFactor(sc, t))
+			addTo(&net.ReplacementValue, cc.ReplacementValue, k == 0)
+			addTo(&net.Backlog, cc.Backlog, k == 0)
 			classes[k] = cc
 			w := c.Weight
 			net.Score += w * cc.Score

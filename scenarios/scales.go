@@ -8,7 +8,6 @@ import (
 	"os"
 	"path/filepath"
 	"reflect"
-	"strconv"
 	"strings"
 )
 
@@ -85,50 +84,22 @@ func (s *ScaleSet) ForClass(class string) *Scale {
 	return nil
 }
 
-// StateOf returns the state whose index range holds v, or -1 when v lies
-// outside the scale. A value on the shared end of two ranges (80 on a
-// scale with 60-80 and 80-100) belongs to the better state; a value
-// between two whole-number ranges (85.4 with 71-85 and 86-100) is rounded
-// to the nearest whole number first (85.5 rounds up).
-func (s *Scale) StateOf(v float64) int {
-	if math.IsNaN(v) {
-		return -1
-	}
-	for pass := 0; pass < 2; pass++ {
-		for i, st := range s.States {
-			if v >= st.Min && v <= st.Max {
-				return i
-			}
-		}
-		r := math.Round(v)
-		if r == v {
-			break
-		}
-		v = r
-	}
-	return -1
-}
-
 // ParseCondition reads a condition as written in a data file: an index
-// value mapped through the scale's ranges, or the name of a state (case
-// and surrounding spaces ignored). It returns the state and a message
-// saying what is wrong when it cannot.
+// value placed with StateOf, or the name of a state (case and surrounding
+// spaces ignored), as inventory lists are read. It returns the state and a
+// message saying what is wrong when it cannot.
 func (s *Scale) ParseCondition(text string) (int, string) {
 	t := strings.TrimSpace(text)
 	if t == "" {
 		return -1, "condition is empty; give an index value or a state name"
 	}
-	if v, err := strconv.ParseFloat(t, 64); err == nil && !math.IsInf(v, 0) && !math.IsNaN(v) {
-		if i := s.StateOf(v); i >= 0 {
-			return i, ""
-		}
+	i, v := conditionOf(s, t)
+	switch {
+	case i >= 0:
+		return i, ""
+	case !math.IsNaN(v):
 		lo, hi := math.Min(s.Best, s.Worst), math.Max(s.Best, s.Worst)
 		return -1, fmt.Sprintf("condition %s is outside scale %q (%s to %s); check the value or the class's scale", t, s.Name, num(lo), num(hi))
-	}
-	for i, st := range s.States {
-		if strings.EqualFold(strings.TrimSpace(st.Name), t) {
-			return i, ""
-		}
 	}
 	return -1, fmt.Sprintf("condition %q is neither a number nor a state of scale %q (%s)", t, s.Name, stateList(s))
 }

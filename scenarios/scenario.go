@@ -2,6 +2,7 @@ package scenarios
 
 import (
 	"fmt"
+	"math"
 
 	"wearplan/markov"
 	"wearplan/optimize"
@@ -26,6 +27,43 @@ type Scale struct {
 	// Best and Worst are the index values at the best and worst ends of the
 	// scale (Best < Worst for scales where lower is better, such as IRI).
 	Best, Worst float64
+	// Preset names the built-in scale this one comes from ("" for a scale
+	// written in the file); Source cites the standard it follows.
+	Preset, Source string
+	// betterKeepsEnd[i] says that an index value on the end shared by
+	// states i and i+1 counts in the better state i; by default it counts
+	// in the worse one. Only presets set it, where a standard says so.
+	betterKeepsEnd []bool
+}
+
+// StateOf returns the state an index value falls in, or -1 when the value
+// is outside the scale. Ranges include both ends; a value on an end shared
+// by two states counts in the worse state (unless the scale's standard
+// says otherwise), and a value between two ranges that meet at consecutive
+// whole numbers (85.5 between 71-85 and 86-100) has not reached the better
+// state's range, so it counts in the worse state too.
+func (s *Scale) StateOf(v float64) int {
+	if math.IsNaN(v) {
+		return -1
+	}
+	in := func(i int) bool { return v >= s.States[i].Min && v <= s.States[i].Max }
+	n := len(s.States)
+	for i := 0; i < n; i++ {
+		if in(i) {
+			if i+1 < n && in(i+1) && !(i < len(s.betterKeepsEnd) && s.betterKeepsEnd[i]) {
+				continue
+			}
+			return i
+		}
+		if i+1 < n {
+			lo, hi := math.Min(s.States[i].Min, s.States[i+1].Min), math.Max(s.States[i].Max, s.States[i+1].Max)
+			if v > lo && v < hi && !in(i+1) {
+				// Strictly between the two ranges: the gap of a whole-number tiling.
+				return i + 1
+			}
+		}
+	}
+	return -1
 }
 
 // Score maps an index value onto 0 (worst end) - 100 (best end).
@@ -61,6 +99,10 @@ type Class struct {
 	// Routine is the yearly cost per unit left untreated in each state at
 	// start-year prices; nil when the class gives none.
 	Routine []float64
+	// Segments are the class's rows of an inventory CSV (nil when the
+	// inventory is written in the scenario); Inventory says what was read.
+	Segments  []Segment
+	Inventory *Inventory
 }
 
 // Total is the class's total quantity.
@@ -122,6 +164,8 @@ type Scenario struct {
 	// Inputs are the files the scenario was read from, first the scenario
 	// itself, then its bases and any data files, with their digests.
 	Inputs []InputFile
+	// Inventories say what was read from each inventory CSV.
+	Inventories []*Inventory
 	// Notes are things a planner should know about how the file was read
 	// (not errors); results repeat them as warnings.
 	Notes []string

@@ -21,13 +21,17 @@ type fileScenario struct {
 	Scales         map[string]fileScale `yaml:"scales"`
 	Classes        []fileClass          `yaml:"classes"`
 	Treatments     []fileTreatment      `yaml:"treatments"`
+	InventoryCSV   *fileInventoryCSV    `yaml:"inventory_csv"`
 	Budget         *fileBudget          `yaml:"budget"`
 	Targets        []fileTarget         `yaml:"targets"`
 	Objective      string               `yaml:"objective"`
 	Lines          lines
+	// source is where the scenario was read from, for the files it names.
+	source inputSource
 }
 
 type fileScale struct {
+	Preset string              `yaml:"preset"`
 	States []fileState         `yaml:"states"`
 	Groups map[string][]string `yaml:"groups"`
 	Lines  lines
@@ -46,6 +50,7 @@ type fileClass struct {
 	Scale           string             `yaml:"scale"`
 	Unit            string             `yaml:"unit"`
 	Inventory       *stateNumbers      `yaml:"inventory"`
+	InventoryCSV    *fileInventoryCSV  `yaml:"inventory_csv"`
 	Deterioration   *fileDeterioration `yaml:"deterioration"`
 	Treatments      []string           `yaml:"treatments"`
 	ReplacementCost *float64           `yaml:"replacement_cost"`

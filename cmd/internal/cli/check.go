@@ -7,6 +7,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"wearplan/cmd/internal/render"
+	"wearplan/scenarios"
 )
 
 func newCheckCmd() *cobra.Command {
@@ -16,7 +17,8 @@ func newCheckCmd() *cobra.Command {
 		Long: `Check reads each scenario file strictly and reports every problem at once,
 with its line and field: unknown keys, wrong types, matrices whose rows do not
 sum to 1, moves to a better state without work, unknown states or treatments,
-budgets and targets that make no sense. Nothing is written.`,
+budgets and targets that make no sense; for inventory CSVs, every bad row
+with its line and column, and a summary of what was read. Nothing is written.`,
 		Example: `  # Validate the demo scenario
   wearplan check scenarios/examples/marrowby.yaml`,
 		Args: cobra.MinimumNArgs(1),
@@ -36,8 +38,40 @@ budgets and targets that make no sense. Nothing is written.`,
 				}
 				fmt.Fprintf(cmd.OutOrStdout(), "%s: ok: %q, %d-%d, %d classes: %s; %s; %d targets; objective %s\n",
 					path, sc.Name, sc.StartYear, sc.Year(sc.Horizon), len(sc.Classes), strings.Join(classes, ", "), budget, len(sc.Targets), sc.Objective)
+				for _, inv := range sc.Inventories {
+					fmt.Fprintf(cmd.OutOrStdout(), "  %s\n", inventorySummary(inv))
+				}
 			}
 			return nil
 		},
 	}
+}
+
+// inventorySummary says in one line what was read from an inventory CSV.
+func inventorySummary(inv *scenarios.Inventory) string {
+	var parts []string
+	for _, c := range inv.Classes {
+		parts = append(parts, fmt.Sprintf("%s %d segments (%s %s)", c.Class, c.Segments, render.Quantity(c.Quantity), c.Unit))
+	}
+	var left []string
+	for _, l := range []struct {
+		n    int
+		what string
+	}{{inv.OtherClass, "of other classes"}, {inv.Unrated, "unrated"}, {inv.ZeroQuantity, "with zero quantity"}} {
+		if l.n > 0 {
+			left = append(left, fmt.Sprintf("%d %s", l.n, l.what))
+		}
+	}
+	leftOut := "none left out"
+	if len(left) > 0 {
+		leftOut = "left out: " + strings.Join(left, ", ")
+	}
+	geometry, priority := "no geometry", "priority: worst condition first"
+	if inv.Geometry != "" {
+		geometry = "geometry: " + inv.Geometry
+	}
+	if inv.Priority != "" {
+		priority = "priority: " + inv.Priority
+	}
+	return fmt.Sprintf("inventory %s: %s rows read; %s; %s; %s; %s", inv.File, render.Money(float64(inv.Rows)), strings.Join(parts, ", "), leftOut, geometry, priority)
 }

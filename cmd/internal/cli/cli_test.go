@@ -24,7 +24,7 @@ func TestPlanDemoTable(t *testing.T) {
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
-	for _, want := range []string{"Work program", "Spend against budget", "Condition at the end of each year", "network", "Targets", "Planning estimate only"} {
+	for _, want := range []string{"Work program", "Spend against budget", "Condition at the end of each year", "network", "Asset value and backlog", "Targets", "Planning estimate only"} {
 		if !strings.Contains(out, want) {
 			t.Errorf("plan output lacks %q", want)
 		}
@@ -66,7 +66,7 @@ func TestCSVDirectoryWritesEveryTable(t *testing.T) {
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
-	for _, name := range []string{"work", "condition", "service", "spend", "targets"} {
+	for _, name := range []string{"work", "condition", "service", "spend", "targets", "value"} {
 		f, err := os.Open(filepath.Join(dir, name+".csv"))
 		if err != nil {
 			t.Fatal(err)
@@ -151,10 +151,7 @@ func TestStrictTargetsNotMet(t *testing.T) {
 	if low == string(data) {
 		t.Fatal("demo budget line not found; update the test")
 	}
-	path := filepath.Join(t.TempDir(), "low.yaml")
-	if err := os.WriteFile(path, []byte(low), 0o644); err != nil {
-		t.Fatal(err)
-	}
+	path := demoCopy(t, "low.yaml", low)
 	code, _, errs := run(t, "plan", path)
 	if code != 0 || !strings.Contains(errs, "network poor share at most 15%") {
 		t.Errorf("without --strict: exit %d, warning:\n%s", code, errs)
@@ -204,4 +201,29 @@ func TestReportSweep(t *testing.T) {
 	if code, _, _ := run(t, "report", demo, demo, "--sweep", "3e6,4e6"); code != exitInput {
 		t.Errorf("--sweep with two files: exit %d, want %d", code, exitInput)
 	}
+}
+
+// demoCopy writes an edited copy of the demo into a temporary folder, with
+// the demo's segment list beside it, and returns its path.
+func demoCopy(t *testing.T, name, text string) string {
+	t.Helper()
+	dir := t.TempDir()
+	csvs, err := filepath.Glob(filepath.Join(filepath.Dir(demo), "*.csv"))
+	if err != nil || len(csvs) == 0 {
+		t.Fatalf("demo segment list: %v %v", csvs, err)
+	}
+	for _, f := range csvs {
+		data, err := os.ReadFile(f)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := os.WriteFile(filepath.Join(dir, filepath.Base(f)), data, 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	path := filepath.Join(dir, name)
+	if err := os.WriteFile(path, []byte(text), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	return path
 }

@@ -29,11 +29,7 @@ func lowBudgetDemo(t *testing.T) string {
 	if low == string(data) {
 		t.Fatal("demo budget line not found; update the test")
 	}
-	path := filepath.Join(t.TempDir(), "marrowby-low.yaml")
-	if err := os.WriteFile(path, []byte(low), 0o644); err != nil {
-		t.Fatal(err)
-	}
-	return path
+	return demoCopy(t, "marrowby-low.yaml", low)
 }
 
 func readFile(t *testing.T, path string) string {

@@ -89,7 +89,8 @@ treatments, budget, targets), check it, then forecast or plan it.
 Output is a planning estimate, not an engineering assessment of any asset.`,
 		Example: `  wearplan check scenarios/examples/marrowby.yaml
   wearplan forecast scenarios/examples/marrowby.yaml
-  wearplan plan scenarios/examples/marrowby.yaml --format json --out plan.json`,
+  wearplan plan scenarios/examples/marrowby.yaml --format json --out plan.json
+  wearplan worklist scenarios/examples/marrowby.yaml --format csv --out worklist.csv`,
 		Version:       Version,
 		SilenceUsage:  true,
 		SilenceErrors: true,
@@ -97,6 +98,6 @@ Output is a planning estimate, not an engineering assessment of any asset.`,
 	root.SetOut(stdout)
 	root.SetErr(stderr)
 	root.SetFlagErrorFunc(func(_ *cobra.Command, err error) error { return usageError("%v", err) })
-	root.AddCommand(newCheckCmd(), newForecastCmd(), newPlanCmd(), newLongRunCmd(), newSweepCmd(), newCompareCmd(), newReportCmd(), newFitCmd())
+	root.AddCommand(newCheckCmd(), newForecastCmd(), newPlanCmd(), newLongRunCmd(), newSweepCmd(), newCompareCmd(), newReportCmd(), newFitCmd(), newWorklistCmd())
 	return root
 }

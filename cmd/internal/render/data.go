@@ -18,7 +18,7 @@ func JSON(w io.Writer, r *scenarios.Result) error {
 }
 
 // CSVTables names the tables CSV can write, in the order files are written.
-var CSVTables = []string{"work", "condition", "service", "spend", "targets"}
+var CSVTables = []string{"work", "condition", "service", "spend", "targets", "value"}
 
 // CSV writes one table of the result as CSV with a header row. Numbers are
 // written in full precision without separators so spreadsheets read them
@@ -85,6 +85,24 @@ func CSV(w io.Writer, r *scenarios.Result, name string) error {
 			for _, s := range o.Shortfalls {
 				rows = append(rows, append(append([]string(nil), base...), fmt.Sprint(s.Year), Plain(s.Amount)))
 			}
+		}
+	case "value":
+		rows = append(rows, []string{"year", "class", "replacement_value_" + cur, "backlog_" + cur})
+		opt := func(v *float64) string {
+			if v == nil {
+				return ""
+			}
+			return Plain(*v)
+		}
+		add := func(year string, cs []scenarios.ClassCondition, n scenarios.NetworkCondition) {
+			for _, c := range cs {
+				rows = append(rows, []string{year, c.Class, opt(c.ReplacementValue), opt(c.Backlog)})
+			}
+			rows = append(rows, []string{year, "network", opt(n.ReplacementValue), opt(n.Backlog)})
+		}
+		add("today", r.Initial.Classes, r.Initial.Network)
+		for _, y := range r.Years {
+			add(fmt.Sprint(y.Year), y.Classes, y.Network)
 		}
 	default:
 		return fmt.Errorf("unknown table %q; choose one of %s", name, strings.Join(CSVTables, ", "))

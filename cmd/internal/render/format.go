@@ -64,3 +64,13 @@ func Index(v float64) string {
 
 // Plain formats a number for machine-readable output: shortest exact form.
 func Plain(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
+
+// SegmentQuantity formats a segment's quantity as inventories give it: up
+// to three decimals, trailing zeros dropped (0.386 lane-km, 372 m2).
+func SegmentQuantity(v float64) string {
+	s := thousands(v, 3)
+	if strings.Contains(s, ".") {
+		s = strings.TrimRight(strings.TrimRight(s, "0"), ".")
+	}
+	return s
+}

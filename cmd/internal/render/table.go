@@ -22,6 +22,13 @@ func Text(w io.Writer, r *scenarios.Result) error {
 	}
 	ew.printf("\nCondition at the end of each year (share of each class's quantity; network weighted by %s)\n", r.Weighting)
 	tabulate(ew, serviceTable(r, true))
+	if hasValue(r) {
+		ew.printf("\nAsset value and backlog (%s at each year's prices; backlog = cost of the work that lifts poor states out of poor;\nclass columns are each class's backlog)\n", currency(r))
+		tabulate(ew, valueTable(r))
+		for _, line := range backlogBasis(r) {
+			ew.printf("  %s\n", line)
+		}
+	}
 	if len(r.Targets) > 0 {
 		ew.printf("\nTargets\n")
 		tabulate(ew, targetTable(r))
@@ -232,4 +239,75 @@ func (e *errWriter) Write(p []byte) (int, error) {
 
 func (e *errWriter) printf(format string, args ...any) {
 	fmt.Fprintf(e, format, args...)
+}
+
+// hasValue says whether any replacement value or backlog is known.
+func hasValue(r *scenarios.Result) bool {
+	for _, c := range r.Initial.Classes {
+		if c.ReplacementValue != nil || c.Backlog != nil {
+			return true
+		}
+	}
+	return false
+}
+
+// maxClassColumns bounds the per-class backlog columns of the terminal
+// value table; the CSV value table has every class.
+const maxClassColumns = 6
+
+// valueTable lists the network's replacement value and backlog per year,
+// today first, with each class's backlog when there are few classes.
+func valueTable(r *scenarios.Result) table {
+	t := table{header: []string{"YEAR", "REPLACEMENT VALUE", "BACKLOG", "BACKLOG/VALUE"}, right: []bool{false, true, true, true}}
+	perClass := len(r.Initial.Classes) <= maxClassColumns
+	if perClass {
+		for _, c := range r.Initial.Classes {
+			t.header = append(t.header, c.Class)
+			t.right = append(t.right, true)
+		}
+	}
+	money := func(v *float64) string {
+		if v == nil {
+			return "-"
+		}
+		return Money(*v)
+	}
+	add := func(label string, cs []scenarios.ClassCondition, n scenarios.NetworkCondition) {
+		share := "-"
+		if n.Backlog != nil && n.ReplacementValue != nil && *n.ReplacementValue > 0 {
+			share = Percent(*n.Backlog / *n.ReplacementValue)
+		}
+		row := []string{label, money(n.ReplacementValue), money(n.Backlog), share}
+		if perClass {
+			for _, c := range cs {
+				row = append(row, money(c.Backlog))
+			}
+		}
+		t.rows = append(t.rows, row)
+	}
+	add("today", r.Initial.Classes, r.Initial.Network)
+	for _, y := range r.Years {
+		add(fmt.Sprint(y.Year), y.Classes, y.Network)
+	}
+	return t
+}
+
+// backlogBasis says, per class, what each poor state's backlog is valued
+// at (unit costs at start-year prices).
+func backlogBasis(r *scenarios.Result) []string {
+	var out []string
+	unit := map[string]string{}
+	for _, c := range r.Initial.Classes {
+		unit[c.Class] = c.Unit
+	}
+	for i := 0; i < len(r.BacklogRules); {
+		class := r.BacklogRules[i].Class
+		var parts []string
+		for ; i < len(r.BacklogRules) && r.BacklogRules[i].Class == class; i++ {
+			br := r.BacklogRules[i]
+			parts = append(parts, fmt.Sprintf("%s by %s at %s", br.State, br.Treatment, Money(br.UnitCost)))
+		}
+		out = append(out, fmt.Sprintf("%s (per %s): %s", class, unit[class], strings.Join(parts, "; ")))
+	}
+	return out
 }
