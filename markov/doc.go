@@ -48,8 +48,9 @@
 // reaches the worst state has the Kemeny and Snell mean and variance above.
 //
 // Each run draws from its own PCG generator (math/rand/v2) whose seed
-// words are SplitMix64 hashes of (seed, run index, stream): one stream for
-// the lots, visited in the order given, and one for matrix draws. Runs may
+// words are SplitMix64 hashes of (seed, run index, stream): per class, one
+// stream for its lots, visited in the order given, and one for its matrix
+// draws, so that changing one class leaves the others' numbers alone. Runs may
 // then be spread over any number of goroutines and still give the same
 // numbers bit for bit; the caller keeps each run's figures in the run's own
 // slot and aggregates them in run order.

@@ -64,13 +64,13 @@ type RunOutcome struct {
 	Rows [][][][]float64
 }
 
-// Streams of random numbers per run. Lots and matrix draws use separate
-// streams, so that switching matrix uncertainty on or off leaves the lots'
-// own random numbers unchanged (common random numbers).
-const (
-	streamLots     = 1
-	streamMatrices = 2
-)
+// Streams of random numbers per run: each class has one for its lots and
+// one for its matrix draws. Changing one class's matrices (or switching
+// matrix uncertainty on) then leaves every other class's random numbers
+// unchanged, and a class's lots keep theirs when only its matrix source
+// changes in a way that does not move them (common random numbers).
+func lotStream(class int) uint64    { return uint64(class) << 1 }
+func matrixStream(class int) uint64 { return uint64(class)<<1 | 1 }
 
 // mix64 is the SplitMix64 finaliser (Steele, Lea and Flood, 2014): a
 // bijection of 64-bit words that spreads every input bit over the output.
@@ -80,10 +80,10 @@ func mix64(z uint64) uint64 {
 	return z ^ (z >> 31)
 }
 
-// RunSource returns the PCG generator of one stream of one run. Its two
+// runSource returns the PCG generator of one stream of one run. Its two
 // seed words are SplitMix64 hashes of (seed, run, stream), so every run has
 // its own stream that depends on nothing but those three numbers.
-func RunSource(seed uint64, run int, stream uint64) *rand.PCG {
+func runSource(seed uint64, run int, stream uint64) *rand.PCG {
 	hi := mix64(mix64(seed) + uint64(run))
 	lo := mix64(hi ^ mix64(stream+0x9e3779b97f4a7c15))
 	return rand.NewPCG(hi, lo)
@@ -224,7 +224,8 @@ func (sh *simShape) checkRows(rows [][][]float64, policy [][][]float64) error {
 // probability Rows[a][i][j]; lots move independently of each other.
 //
 // Runs are spread over opt.Workers goroutines. Run r draws its random
-// numbers from its own streams (RunSource(opt.Seed, r, ...)), and lots are
+// numbers from its own streams (runSource(opt.Seed, r, ...), one for each
+// class's lots and one for each class's matrix draws), and lots are
 // visited in the order given, so every run's outcome depends only on the
 // seed, the run index and the inputs, never on scheduling. each may be
 // called from several goroutines at once, for different runs and in any
@@ -312,7 +313,8 @@ type simWorker struct {
 	shapes []simShape
 	years  int
 	out    RunOutcome
-	rows   [][]picker // [k][a*states+i]
+	rows   [][]picker  // [k][a*states+i]
+	srcs   []*rand.PCG // [k]: the lots' stream of the current run
 	// flat views of out.Quantity and out.Treated per class
 	qty     [][]float64 // [k][t*states+i]
 	treated [][]float64 // [k][(t*states+i)*actions+a]
@@ -323,6 +325,7 @@ func newSimWorker(classes []SimClass, shapes []simShape, years int) *simWorker {
 	nk := len(classes)
 	w.out = RunOutcome{Quantity: make([][][]float64, nk), Treated: make([][][][]float64, nk), Rows: make([][][][]float64, nk)}
 	w.rows = make([][]picker, nk)
+	w.srcs = make([]*rand.PCG, nk)
 	w.qty = make([][]float64, nk)
 	w.treated = make([][]float64, nk)
 	for k, sh := range shapes {
@@ -347,17 +350,14 @@ func newSimWorker(classes []SimClass, shapes []simShape, years int) *simWorker {
 }
 
 func (w *simWorker) run(classes []SimClass, lots []Lot, seed uint64, run int) error {
-	var matrices *rand.Rand
 	for k := range classes {
 		c := &classes[k]
 		sh := &w.shapes[k]
 		rows := c.Rows
+		w.srcs[k] = runSource(seed, run, lotStream(k))
 		if c.Draw != nil {
-			if matrices == nil {
-				matrices = rand.New(RunSource(seed, run, streamMatrices))
-			}
 			var err error
-			if rows, err = c.Draw(matrices); err != nil {
+			if rows, err = c.Draw(rand.New(runSource(seed, run, matrixStream(k)))); err != nil {
 				return fmt.Errorf("class %d: %w", k, err)
 			}
 			if err := sh.checkRows(rows, c.Policy); err != nil {
@@ -377,10 +377,10 @@ func (w *simWorker) run(classes []SimClass, lots []Lot, seed uint64, run int) er
 		clear(w.qty[k])
 		clear(w.treated[k])
 	}
-	src := RunSource(seed, run, streamLots)
 	years := w.years
 	for _, l := range lots {
 		k := l.Class
+		src := w.srcs[k]
 		sh := &w.shapes[k]
 		ns, na := sh.states, sh.actions
 		qty, treated, rows, policy := w.qty[k], w.treated[k], w.rows[k], sh.policy
