@@ -58,6 +58,10 @@ type Class struct {
 	ReplacementCost float64
 	// Weight is the class's normalised weight in network figures.
 	Weight float64
+	// Evidence is how the matrix was estimated, when it comes from a fit
+	// result; nil for a matrix typed into the scenario. Simulations draw
+	// matrices from it under matrix uncertainty.
+	Evidence *MatrixEvidence
 }
 
 // Total is the class's total quantity.
