@@ -567,7 +567,7 @@ func chooseSamplers(sc *Scenario, opt SimulateOptions, out []markov.MatrixSample
 	}
 	what := map[string]string{MatrixDirichlet: "transition counts", MatrixBootstrap: "bootstrap replicate matrices"}[opt.Matrix]
 	if len(fixed) == len(sc.Classes) {
-		return &OptionError{"matrix uncertainty", fmt.Sprintf("%s needs %s from a fit result (wearplan fit), and no class of %s carries them; every matrix here is typed in, so use %s",
+		return &OptionError{"matrix uncertainty", fmt.Sprintf("%s needs %s from a fit result, and no class of %s takes its matrix from one; a matrix typed into the scenario has no sampling distribution, so use %s",
 			opt.Matrix, what, sc.Source, MatrixNone)}
 	}
 	if len(fixed) > 0 {

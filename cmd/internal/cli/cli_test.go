@@ -133,7 +133,7 @@ func TestMissingFile(t *testing.T) {
 }
 
 func TestHelpShowsExamples(t *testing.T) {
-	for _, c := range []string{"check", "forecast", "plan"} {
+	for _, c := range []string{"check", "forecast", "plan", "simulate"} {
 		code, out, _ := run(t, c, "--help")
 		if code != 0 || !strings.Contains(out, "Examples:") || !strings.Contains(out, "marrowby.yaml") {
 			t.Errorf("%s --help: exit %d, no worked example:\n%s", c, code, out)
