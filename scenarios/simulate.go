@@ -266,30 +266,6 @@ func Simulate(sc *Scenario, opt SimulateOptions) (*SimulationResult, error) {
 		Percentiles: PercentileMethod, Weighting: string(sc.Weighting), Caution: Caution,
 		Warnings: append([]string{}, sc.Notes...),
 	}
-	// The deterministic flow: the plan, or the do-nothing forecast.
-	var det *Result
-	var work [][][][]float64
-	if opt.Policy == PolicyPlan {
-		p.Timeout = opt.Timeout
-		plan, err := optimize.Solve(p)
-		if err != nil {
-			return nil, err
-		}
-		if plan.Status == optimize.Infeasible {
-			return nil, fmt.Errorf("%s: the budgets cannot be kept even by doing nothing; check the budget lines", sc.Source)
-		}
-		det = assemble(sc, p, plan.Condition, plan.Work, plan.Spend)
-		work = plan.Work
-		res.PlanStatus = string(plan.Status)
-		res.PolicyRule = PolicyRule
-	} else {
-		det, err = Forecast(sc)
-		if err != nil {
-			return nil, err
-		}
-	}
-	res.Initial = det.Initial
-
 	segs := opt.Segments
 	from := make([]string, len(sc.Classes))
 	sizes := make([]float64, len(sc.Classes))
@@ -316,6 +292,32 @@ func Simulate(sc *Scenario, opt SimulateOptions) (*SimulationResult, error) {
 	if err := chooseSamplers(sc, opt, samplers, res); err != nil {
 		return nil, err
 	}
+
+	// The deterministic flow, once the options are known to work: the
+	// plan, or the do-nothing forecast.
+	var det *Result
+	var work [][][][]float64
+	if opt.Policy == PolicyPlan {
+		p.Timeout = opt.Timeout
+		plan, err := optimize.Solve(p)
+		if err != nil {
+			return nil, err
+		}
+		if plan.Status == optimize.Infeasible {
+			return nil, fmt.Errorf("%s: the budgets cannot be kept even by doing nothing; check the budget lines", sc.Source)
+		}
+		det = assemble(sc, p, plan.Condition, plan.Work, plan.Spend)
+		work = plan.Work
+		res.PlanStatus = string(plan.Status)
+		res.PolicyRule = PolicyRule
+	} else {
+		det, err = Forecast(sc)
+		if err != nil {
+			return nil, err
+		}
+	}
+	res.Initial = det.Initial
+
 	for k := range sc.Classes {
 		c := &sc.Classes[k]
 		oc := &p.Classes[k]
