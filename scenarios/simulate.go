@@ -38,7 +38,10 @@ const (
 	// MaxLots bounds the lots of one simulation.
 	MaxLots = 2_000_000
 	// MaxRuns bounds the number of runs.
-	MaxRuns = 1_000_000
+	MaxRuns = 100_000
+	// maxFigures bounds the figures kept over all runs (8 bytes each):
+	// classes+1 x years x 5 per run.
+	maxFigures = 40_000_000
 	// fewRuns is the number of runs below which percentiles are rough.
 	fewRuns = 100
 )
@@ -255,6 +258,10 @@ const targetSlack = 1e-6
 func Simulate(sc *Scenario, opt SimulateOptions) (*SimulationResult, error) {
 	if err := opt.normalise(); err != nil {
 		return nil, err
+	}
+	if n := (len(sc.Classes) + 1) * sc.Horizon * figCount * opt.Runs; n > maxFigures {
+		return nil, &OptionError{"runs", fmt.Sprintf("%d runs of %d classes over %d years would keep %d MB of figures; use at most %d runs for this scenario",
+			opt.Runs, len(sc.Classes), sc.Horizon, n*8>>20, maxFigures/((len(sc.Classes)+1)*sc.Horizon*figCount))}
 	}
 	p, err := sc.Problem()
 	if err != nil {

@@ -69,6 +69,9 @@ The same seed gives the same output, byte for byte, on any number of cores.`,
 			if err := parseLotSizes(lotSizes, &opt); err != nil {
 				return err
 			}
+			if !(opt.Prior > 0) {
+				return usageError("--dirichlet-prior %g: give a positive number (0.5 is Jeffreys' prior, 1 the uniform prior)", opt.Prior)
+			}
 			sc, err := loadScenario(args[0])
 			if err != nil {
 				return err
