@@ -635,6 +635,7 @@ func buildDeterioration(c *Class, fc *fileClass, field string, is *issues) {
 			return
 		}
 		c.Transition = t
+		c.Evidence = d.evidence
 	case d.YearsInState != nil:
 		if len(d.YearsInState) != n-1 {
 			is.add(d.Lines.of("years_in_state"), fld+".years_in_state", "%d values for %d states; give one per state except the worst (%d)", len(d.YearsInState), n, n-1)

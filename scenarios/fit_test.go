@@ -331,3 +331,60 @@ func TestFitIntervalOnDemoData(t *testing.T) {
 		}
 	}
 }
+
+// TestFitEvidenceFeedsSimulation: a class that takes its matrix from a fit
+// file carries the fit's one-year counts and bootstrap replicates, and a
+// simulation can draw its matrices from either.
+func TestFitEvidenceFeedsSimulation(t *testing.T) {
+	fitted := fitDemo(t)
+	scen, err := os.ReadFile("examples/marrowby-fitted.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	fsys := fstest.MapFS{"s.yaml": {Data: scen}, "marrowby-fit.yaml": {Data: fitted}}
+	sc, err := scenarios.Load(fsys, "s.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := scenarios.ReadFitFile(fsys, "marrowby-fit.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	for k, c := range sc.Classes {
+		ev := c.Evidence
+		if ev == nil || ev.Source != "marrowby-fit.yaml" {
+			t.Fatalf("class %s: no evidence from the fit file", c.Name)
+		}
+		if len(ev.Replicates) != 5 {
+			t.Errorf("class %s: %d replicates, the fit kept 5", c.Name, len(ev.Replicates))
+		}
+		var oneYear [][]float64
+		for _, fc := range res.Classes[k].Counts {
+			if fc.Years == 1 {
+				oneYear = fc.Rows
+			}
+		}
+		if !reflect.DeepEqual(ev.Counts, oneYear) {
+			t.Errorf("class %s: counts %v, fit file one-year counts %v", c.Name, ev.Counts, oneYear)
+		}
+		// No move to a better state is allowed without work.
+		for i := range ev.Allowed {
+			for j := 0; j < i; j++ {
+				if ev.Allowed[i][j] {
+					t.Errorf("class %s: improvement %d->%d allowed", c.Name, i, j)
+				}
+			}
+		}
+	}
+	for _, m := range []string{scenarios.MatrixDirichlet, scenarios.MatrixBootstrap} {
+		r, err := scenarios.Simulate(sc, scenarios.SimulateOptions{Runs: 20, Seed: 3, Matrix: m})
+		if err != nil {
+			t.Fatalf("%s: %v", m, err)
+		}
+		for _, c := range r.Classes {
+			if c.Matrix == "as given" {
+				t.Errorf("%s: class %s simulated with its matrix as given", m, c.Class)
+			}
+		}
+	}
+}

@@ -252,6 +252,7 @@ func resolveFits(f *fileScenario, fsys fs.FS, is *issues) (read []string) {
 		}
 		d.Matrix = &matrix{Rows: fitted.Deterioration.Matrix, Lines: rows, Line: line}
 		d.AllowImprovement = fitted.Deterioration.AllowImprovement
+		d.evidence = evidenceOf(got.r, fitted, d.Fit)
 	}
 	return read
 }
@@ -281,4 +282,34 @@ func (fc *FitClass) DeteriorationBlock(indent int) (string, error) {
 		lines[i] = pad + lines[i]
 	}
 	return strings.Join(lines, "\n") + "\n", nil
+}
+
+// evidenceOf keeps what a fit file says about how a class's matrix was
+// estimated, for simulations that draw it: the one-year transition counts,
+// the moves the fit allowed, and the bootstrap replicates (those that are
+// not valid transition matrices are dropped; a fit file written by wearplan
+// has none).
+func evidenceOf(r *FitResult, c *FitClass, file string) *MatrixEvidence {
+	n := len(c.States)
+	st := markov.Structure{OneStep: r.OneStep, Improvement: c.Deterioration.AllowImprovement}
+	ev := &MatrixEvidence{Source: file, Allowed: make([][]bool, n)}
+	for i := range ev.Allowed {
+		ev.Allowed[i] = make([]bool, n)
+		for j := range ev.Allowed[i] {
+			ev.Allowed[i][j] = st.Allowed(i, j, n)
+		}
+	}
+	for _, fc := range c.Counts {
+		if fc.Years == 1 && len(fc.Rows) == n {
+			ev.Counts = fc.Rows
+		}
+	}
+	if c.Bootstrap != nil {
+		for _, rows := range c.Bootstrap.Replicates {
+			if t, err := markov.NewTransition(rows, markov.Options{AllowImprovement: st.Improvement}); err == nil {
+				ev.Replicates = append(ev.Replicates, t)
+			}
+		}
+	}
+	return ev
 }

@@ -103,6 +103,10 @@ type Class struct {
 	// inventory is written in the scenario); Inventory says what was read.
 	Segments  []Segment
 	Inventory *Inventory
+	// Evidence is how the matrix was estimated, when it comes from a fit
+	// result; nil for a matrix typed into the scenario. Simulations draw
+	// matrices from it under matrix uncertainty.
+	Evidence *MatrixEvidence
 }
 
 // Total is the class's total quantity.

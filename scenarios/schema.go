@@ -66,6 +66,9 @@ type fileDeterioration struct {
 	Fit              string    `yaml:"fit"`       // a fit file (resolveFits)
 	FitClass         string    `yaml:"fit_class"` // its class, when not named as here
 	Lines            lines
+	// evidence is what the fit file keeps about the estimate (resolveFits),
+	// for simulations that draw the matrix.
+	evidence *MatrixEvidence
 }
 
 type fileTreatment struct {

@@ -133,9 +133,9 @@ func TestMissingFile(t *testing.T) {
 }
 
 func TestHelpShowsExamples(t *testing.T) {
-	for _, c := range []string{"check", "forecast", "plan", "longrun", "sweep", "compare", "report"} {
+	for _, c := range []string{"check", "forecast", "plan", "longrun", "sweep", "compare", "report", "fit", "worklist", "simulate"} {
 		code, out, _ := run(t, c, "--help")
-		if code != 0 || !strings.Contains(out, "Examples:") || !strings.Contains(out, "marrowby.yaml") {
+		if code != 0 || !strings.Contains(out, "Examples:") || !strings.Contains(out, "scenarios/examples/marrowby") {
 			t.Errorf("%s --help: exit %d, no worked example:\n%s", c, code, out)
 		}
 	}

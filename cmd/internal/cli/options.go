@@ -20,37 +20,61 @@ type outputOptions struct {
 	format string
 	out    string
 	table  string
+	tables []string // the tables --format csv can write
 }
 
 var resultFormats = []string{"table", "json", "csv"}
 
+// register adds the output flags of a command that prints a Result.
 func (o *outputOptions) register(cmd *cobra.Command, defaultTable string) {
+	o.registerTables(cmd, render.CSVTables, defaultTable)
+}
+
+// registerTables adds the output flags with the command's own CSV tables.
+func (o *outputOptions) registerTables(cmd *cobra.Command, tables []string, defaultTable string) {
+	o.tables = tables
 	f := cmd.Flags()
 	f.StringVar(&o.format, "format", "table", "output format: "+strings.Join(resultFormats, ", "))
 	f.StringVar(&o.out, "out", "", "write to this file instead of standard output (for csv: a directory gets one file per table)")
-	f.StringVar(&o.table, "table", defaultTable, "table written by --format csv: "+strings.Join(render.CSVTables, ", "))
+	f.StringVar(&o.table, "table", defaultTable, "table written by --format csv: "+strings.Join(tables, ", "))
 }
 
 func (o *outputOptions) validate() error {
 	if !slices.Contains(resultFormats, o.format) {
 		return usageError("--format %q: choose one of %s", o.format, strings.Join(resultFormats, ", "))
 	}
-	if !slices.Contains(render.CSVTables, o.table) {
-		return usageError("--table %q: choose one of %s", o.table, strings.Join(render.CSVTables, ", "))
+	if !slices.Contains(o.tables, o.table) {
+		return usageError("--table %q: choose one of %s", o.table, strings.Join(o.tables, ", "))
 	}
 	return nil
 }
 
+// renderers are one result's writers in each format.
+type renderers struct {
+	json func(io.Writer) error
+	csv  func(w io.Writer, table string) error
+	text func(io.Writer) error
+}
+
 // write renders r in the chosen format to standard output or to --out.
 func (o *outputOptions) write(cmd *cobra.Command, r *scenarios.Result) error {
+	return o.emit(cmd, renderers{
+		json: func(w io.Writer) error { return render.JSON(w, r) },
+		csv:  func(w io.Writer, table string) error { return render.CSV(w, r, table) },
+		text: func(w io.Writer) error { return render.Text(w, r) },
+	})
+}
+
+// emit writes with the chosen renderer to standard output or to --out.
+func (o *outputOptions) emit(cmd *cobra.Command, r renderers) error {
 	render1 := func(w io.Writer) error {
 		switch o.format {
 		case "json":
-			return render.JSON(w, r)
+			return r.json(w)
 		case "csv":
-			return render.CSV(w, r, o.table)
+			return r.csv(w, o.table)
 		default:
-			return render.Text(w, r)
+			return r.text(w)
 		}
 	}
 	if o.out == "" {
@@ -58,13 +82,13 @@ func (o *outputOptions) write(cmd *cobra.Command, r *scenarios.Result) error {
 	}
 	if o.format == "csv" && isDir(o.out) {
 		// One file per table, each written whole or not at all.
-		for _, name := range render.CSVTables {
+		for _, name := range o.tables {
 			path := filepath.Join(o.out, name+".csv")
-			if err := writeFileAtomic(path, func(w io.Writer) error { return render.CSV(w, r, name) }); err != nil {
+			if err := writeFileAtomic(path, func(w io.Writer) error { return r.csv(w, name) }); err != nil {
 				return err
 			}
 		}
-		fmt.Fprintf(cmd.ErrOrStderr(), "wrote %d tables to %s\n", len(render.CSVTables), o.out)
+		fmt.Fprintf(cmd.ErrOrStderr(), "wrote %d tables to %s\n", len(o.tables), o.out)
 		return nil
 	}
 	if err := writeFileAtomic(o.out, render1); err != nil {

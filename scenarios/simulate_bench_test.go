@@ -1,0 +1,77 @@
+package scenarios_test
+
+import (
+	"math"
+	"strconv"
+	"testing"
+
+	"wearplan/scenarios"
+)
+
+// segmentsOf splits each class's quantity in each state into equal
+// segments, counts[k] per class in all, spread over the states in
+// proportion to their quantity (the largest state takes the rounding).
+func segmentsOf(sc *scenarios.Scenario, counts []int) []scenarios.Lot {
+	var out []scenarios.Lot
+	for k := range sc.Classes {
+		c := &sc.Classes[k]
+		n := make([]int, len(c.Initial))
+		left, big := counts[k], 0
+		for i, q := range c.Initial {
+			if q > 0 {
+				n[i] = max(1, int(math.Round(float64(counts[k])*q/c.Total())))
+			}
+			left -= n[i]
+			if q > c.Initial[big] {
+				big = i
+			}
+		}
+		n[big] += left
+		for i, q := range c.Initial {
+			for s := range n[i] {
+				out = append(out, scenarios.Lot{ID: c.Name + "-" + strconv.Itoa(i) + "-" + strconv.Itoa(s), Class: c.Name, State: i, Quantity: q / float64(n[i])})
+			}
+		}
+	}
+	return out
+}
+
+// BenchmarkSimulate10k is the benchmark: the demo plan (invented
+// Marrowby data, 4 classes) simulated for 10,000 segments x 20 years x
+// 1,000 runs, including the plan's LP solve and the bands. Segments:
+// 1,800 and 4,200 road segments of 0.1 lane-km, 3,840 deck segments, 160
+// culverts. With matrix uncertainty every class draws Dirichlet rows from
+// invented counts (about 30 moves per row) in every run.
+func BenchmarkSimulate10k(b *testing.B) {
+	for _, matrix := range []string{scenarios.MatrixNone, scenarios.MatrixDirichlet} {
+		b.Run("matrix-"+matrix, func(b *testing.B) {
+			sc, err := scenarios.LoadFile(demoPath)
+			if err != nil {
+				b.Fatal(err)
+			}
+			segs := segmentsOf(sc, []int{1800, 4200, 3840, 160})
+			if len(segs) != 10000 {
+				b.Fatalf("%d segments, want 10000", len(segs))
+			}
+			if matrix == scenarios.MatrixDirichlet {
+				for k := range sc.Classes {
+					c := &sc.Classes[k]
+					counts := c.Transition.Rows()
+					for i := range counts {
+						for j := range counts[i] {
+							counts[i][j] = math.Round(30 * counts[i][j])
+						}
+					}
+					c.Evidence = &scenarios.MatrixEvidence{Counts: counts}
+				}
+			}
+			resetPeakRSS()
+			for b.Loop() {
+				if _, err := scenarios.Simulate(sc, scenarios.SimulateOptions{Runs: 1000, Seed: 1, Lots: segs, Matrix: matrix}); err != nil {
+					b.Fatal(err)
+				}
+			}
+			b.ReportMetric(peakRSS(), "MiB-peak")
+		})
+	}
+}
