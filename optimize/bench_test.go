@@ -1,7 +1,6 @@
 package optimize
 
 import (
-	"fmt"
 	"math/rand/v2"
 	"os"
 	"strconv"
@@ -17,9 +16,7 @@ var benchSizes = []randomSpec{
 	{classes: 20, states: 7, treatments: 6, years: 30, budgetShare: 0.15},
 }
 
-func (s randomSpec) String() string {
-	return fmt.Sprintf("%dx%dx%dx%d", s.classes, s.states, s.treatments, s.years)
-}
+func (s randomSpec) String() string { return s.gen().String() }
 
 // peakRSS reads the process's resident-set high-water mark in MiB, which
 // includes lp_solve's C allocations that Go's -benchmem cannot see.
