@@ -32,6 +32,18 @@ type Stats struct {
 	Rows, Cols, Nonzeros int
 	// Solves counts solver calls (a lexicographic plan needs two).
 	Solves int
+	// Method is the solver that made the plan: "flat" or "decomposed".
+	// For a decomposed plan, Rows and Cols describe the last master LP and
+	// Nonzeros is zero; Iterations counts pricing rounds over all stages,
+	// Columns the policies generated, and Gap is the largest proven
+	// relative optimality gap of any stage.
+	Method     string
+	Iterations int
+	Columns    int
+	Gap        float64
+	// Restarts counts master solves that lp_solve could not finish from
+	// the last basis and that were solved again from scratch.
+	Restarts int
 }
 
 // Plan is an optimised work program.

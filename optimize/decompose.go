@@ -1,0 +1,460 @@
+package optimize
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"runtime"
+	"sync"
+	"time"
+)
+
+// Method is how a plan is solved.
+type Method int
+
+const (
+	// Auto picks Flat for small models and Decomposed for large ones.
+	Auto Method = iota
+	// Flat solves the whole model as one LP with lp_solve (the reference).
+	Flat
+	// Decomposed solves it by Dantzig-Wolfe column generation.
+	Decomposed
+)
+
+func (m Method) String() string {
+	switch m {
+	case Flat:
+		return "flat"
+	case Decomposed:
+		return "decomposed"
+	}
+	return "auto"
+}
+
+// ParseMethod reads "auto", "flat" or "decomposed".
+func ParseMethod(s string) (Method, error) {
+	switch s {
+	case "auto", "":
+		return Auto, nil
+	case "flat":
+		return Flat, nil
+	case "decomposed":
+		return Decomposed, nil
+	}
+	return Auto, fmt.Errorf("solver %q: use auto, flat or decomposed", s)
+}
+
+// Options tune SolveWith.
+type Options struct {
+	Method Method
+	// Warm, when not nil, seeds a decomposed solve with the policies of
+	// earlier solves kept in it and receives this solve's policies. A Warm
+	// belongs to one sequence of solves: it is not safe for concurrent use.
+	Warm *Warm
+	// MaxIterations caps the column-generation rounds of each stage of a
+	// decomposed solve; zero means DefaultMaxIterations.
+	MaxIterations int
+}
+
+// DefaultMaxIterations caps the rounds of one decomposition stage.
+const DefaultMaxIterations = 2000
+
+// autoFlatColumns is the largest flat model (in columns) that Auto solves
+// flat: below it lp_solve on the whole model is as fast as the decomposition.
+const autoFlatColumns = 2500
+
+// RelativeGap is the proven optimality gap at which the decomposition stops:
+// (bound - value) <= RelativeGap × max(|value|, 1e-6) in model units.
+const RelativeGap = 1e-7
+
+// ErrIterationCap is wrapped by the error of a decomposed solve that
+// reached its iteration cap before proving the gap.
+var ErrIterationCap = errors.New("decomposition iteration cap reached")
+
+// SolveWith plans the problem with the chosen method.
+func SolveWith(p *Problem, o Options) (*Plan, error) {
+	if err := p.Validate(); err != nil {
+		return nil, err
+	}
+	m := o.Method
+	if m == Auto {
+		m = Flat
+		if flatColumns(p) > autoFlatColumns {
+			m = Decomposed
+		}
+	}
+	if m == Flat {
+		plan, err := Solve(p)
+		if plan != nil {
+			plan.Stats.Method = Flat.String()
+		}
+		return plan, err
+	}
+	return solveDecomposed(p, o)
+}
+
+// flatColumns is the column count of the flat model.
+func flatColumns(p *Problem) int {
+	n := 0
+	for k := range p.Classes {
+		c := &p.Classes[k]
+		for i := range c.Initial {
+			for a := range c.Actions {
+				if c.Actions[a].Applies[i] {
+					n++
+				}
+			}
+		}
+	}
+	return n * p.Horizon
+}
+
+// decomposer holds one decomposed solve.
+type decomposer struct {
+	p         *Problem
+	b         *builder // the flat model's layout and terms (no model is built)
+	classes   []*dwClass
+	weights   []float64
+	moneyUnit float64
+	escFactor []float64 // (1+e)^t / money unit
+	pvFactor  []float64 // (1+e)^t (1+r)^-t / money unit
+	links     []link
+	pool      []*column
+	seen      []map[uint64]bool // per class: keys of pooled policies
+	maxIter   int
+	deadline  time.Time
+	stats     Stats
+}
+
+type stage struct {
+	obj  objKind
+	sign float64 // +1 maximise, -1 minimise
+}
+
+func newDecomposer(p *Problem, o Options) *decomposer {
+	b := newBuilder(p)
+	dw := &decomposer{p: p, b: b, weights: b.weights, moneyUnit: b.moneyUnit, maxIter: o.MaxIterations}
+	if dw.maxIter <= 0 {
+		dw.maxIter = DefaultMaxIterations
+	}
+	if p.Timeout > 0 {
+		dw.deadline = time.Now().Add(p.Timeout)
+	}
+	dw.escFactor = make([]float64, p.Horizon)
+	dw.pvFactor = make([]float64, p.Horizon)
+	for t := range dw.escFactor {
+		dw.escFactor[t] = p.escalation(t) / b.moneyUnit
+		dw.pvFactor[t] = p.escalation(t) * p.discount(t) / b.moneyUnit
+	}
+	dw.classes = make([]*dwClass, len(p.Classes))
+	dw.seen = make([]map[uint64]bool, len(p.Classes))
+	for k := range p.Classes {
+		dw.classes[k] = newDWClass(p, k, b.lay.pairs[k], b.terms[k], b.weights[k])
+		dw.seen[k] = map[uint64]bool{}
+	}
+	dw.links = dw.linkRows()
+	return dw
+}
+
+// callTimeout is what is left of the problem's time limit for one master
+// solve (zero: no limit).
+func (dw *decomposer) callTimeout() time.Duration {
+	if dw.deadline.IsZero() {
+		return 0
+	}
+	return max(time.Until(dw.deadline), time.Millisecond)
+}
+
+// add puts a policy of class k into the pool unless the pool already holds
+// one that acts the same on every state it reaches.
+func (dw *decomposer) add(k int, pol policy) bool {
+	col := dw.classes[k].roll(k, pol)
+	if dw.seen[k][col.key] {
+		return false
+	}
+	dw.seen[k][col.key] = true
+	dw.pool = append(dw.pool, col)
+	return true
+}
+
+func solveDecomposed(p *Problem, o Options) (*Plan, error) {
+	dw := newDecomposer(p, o)
+	for k, d := range dw.classes {
+		dw.add(k, d.doNothing())
+	}
+	if o.Warm != nil {
+		o.Warm.seed(dw)
+	}
+	var stages []stage
+	if len(p.Targets) > 0 {
+		stages = append(stages, stage{obj: objSlack, sign: 1})
+	}
+	primary := objKindOf(p.Objective)
+	secondary := objKindOf(other(p.Objective))
+	sign := func(k objKind) float64 {
+		if k == objCondition {
+			return 1
+		}
+		return -1
+	}
+	stages = append(stages, stage{obj: primary, sign: sign(primary)}, stage{obj: secondary, sign: sign(secondary)})
+	var res *masterResult
+	for n := range stages {
+		st := &stages[n]
+		r, err := dw.generate(st)
+		if err != nil {
+			return nil, err
+		}
+		res = r
+		if n == len(stages)-1 {
+			break
+		}
+		// Hold this stage's optimum in the later ones.
+		z := r.z
+		if st.obj == objSlack {
+			s := -z
+			if s <= 1e-12 {
+				s = 0
+			}
+			dw.links = append(dw.links, link{kind: linkSlackHold, name: "holdshort", sense: LessEq, rhs: s + holdTolerance(s), active: true, price: holdPrice})
+			continue
+		}
+		v := st.sign * z
+		tol := holdTolerance(v)
+		l := link{kind: linkHold, name: fmt.Sprintf("hold%d", n+1), hold: st.obj, active: true, price: holdPrice}
+		if st.sign > 0 {
+			l.sense, l.rhs = GreaterEq, v-tol
+		} else {
+			l.sense, l.rhs = LessEq, v+tol
+		}
+		dw.links = append(dw.links, l)
+	}
+	if o.Warm != nil {
+		o.Warm.keep(dw, res)
+	}
+	return dw.plan(res), nil
+}
+
+// generate runs column generation for one stage until the Lagrangian bound
+// proves the master's value optimal within RelativeGap.
+func (dw *decomposer) generate(st *stage) (*masterResult, error) {
+	K := len(dw.classes)
+	pr := make([]prices, K)
+	for k := range pr {
+		pr[k] = newPrices(dw.p.Horizon)
+	}
+	pols := make([]policy, K)
+	vals := make([]float64, K)
+	dm := newDualMaster(dw, st)
+	for iter := 1; ; iter++ {
+		if !dw.deadline.IsZero() && time.Now().After(dw.deadline) {
+			return nil, &SolverError{Status: "timeout", Advice: fmt.Sprintf("the decomposition did not prove an optimal plan within the time limit of %s; raise the limit", dw.p.Timeout)}
+		}
+		res, err := dm.solve()
+		dw.stats.Solves++
+		if err != nil {
+			return nil, fmt.Errorf("decomposition master: %w", err)
+		}
+		dw.stats.Rows, dw.stats.Cols = res.rows, res.cols
+		if dw.activateViolated(res) {
+			continue
+		}
+		if st.obj == objSlack && res.z >= -1e-12 {
+			// No shortfall at all: nothing can do better.
+			return res, nil
+		}
+		// Prices: the stage objective less the duals of the active rows.
+		for k := range pr {
+			pr[k].reset()
+		}
+		if st.obj != objSlack {
+			dw.addObjective(pr, st.obj, st.sign)
+		}
+		bound := 0.0
+		for r := range dw.links {
+			if pi := res.pi[r]; pi != 0 {
+				dw.addRowPrice(pr, &dw.links[r], pi)
+				bound += pi * dw.links[r].rhs
+			}
+		}
+		dw.priceAll(pr, pols, vals)
+		dw.stats.Iterations++
+		for k := range vals {
+			bound += vals[k]
+		}
+		bound += dw.slackBound(st, res)
+		gap := bound - res.z
+		scale := math.Max(math.Abs(res.z), 1e-6)
+		added := 0
+		for k := 0; k < K; k++ {
+			if vals[k]-res.mu[k] > 1e-12*math.Max(1, math.Abs(res.z)) && dw.add(k, pols[k]) {
+				added++
+			}
+		}
+		if gap <= RelativeGap*scale || added == 0 {
+			if dw.raiseHoldPrices(res) {
+				continue
+			}
+			dw.stats.Gap = math.Max(dw.stats.Gap, math.Max(gap, 0)/scale)
+			return res, nil
+		}
+		if iter >= dw.maxIter {
+			return nil, fmt.Errorf("%w: after %d rounds the plan is proven within %.2g (relative) of the optimum, not %.0g; raise the cap or solve with --solver flat", ErrIterationCap, iter, gap/scale, RelativeGap)
+		}
+	}
+}
+
+// raiseHoldPrices raises the bound on every hold row's price that the
+// master's prices reach, and reports whether it raised any: the hold was
+// elastic there, and must not be.
+func (dw *decomposer) raiseHoldPrices(res *masterResult) bool {
+	raised := false
+	for r := range dw.links {
+		l := &dw.links[r]
+		if (l.kind == linkHold || l.kind == linkSlackHold) && math.Abs(res.pi[r]) >= 0.999*l.price && l.price < maxHoldPrice {
+			l.price *= 100
+			raised = true
+		}
+	}
+	return raised
+}
+
+// slackBound is the shortfalls' part of the Lagrangian bound: a shortfall
+// column priced above zero could add its reduced cost times its largest
+// useful value (1: shares and scores are on 0-1 in the model).
+func (dw *decomposer) slackBound(st *stage, res *masterResult) float64 {
+	hold := 0.0
+	for r := range dw.links {
+		if dw.links[r].kind == linkSlackHold {
+			hold += res.pi[r]
+		}
+	}
+	s := 0.0
+	for r := range dw.links {
+		l := &dw.links[r]
+		if !l.active || l.kind != linkTarget {
+			continue
+		}
+		c := 0.0
+		if st.obj == objSlack {
+			c = -1
+		}
+		rc := c - res.pi[r]*slackSign(l) - hold
+		s += math.Max(rc, 0)
+	}
+	return s
+}
+
+// activateViolated adds to the master every inactive target row that the
+// master's current plan violates, and reports whether it added any.
+func (dw *decomposer) activateViolated(res *masterResult) bool {
+	T := dw.p.Horizon
+	K := len(dw.classes)
+	var score [][]float64
+	var group [][][3]float64
+	added := false
+	for r := range dw.links {
+		l := &dw.links[r]
+		if l.active || l.kind != linkTarget {
+			continue
+		}
+		if score == nil {
+			score = make([][]float64, K)
+			group = make([][][3]float64, K)
+			for k := range score {
+				score[k] = make([]float64, T)
+				group[k] = make([][3]float64, T)
+			}
+			for j, w := range res.lambda {
+				if w <= 0 {
+					continue
+				}
+				col := dw.pool[j]
+				for t := 0; t < T; t++ {
+					score[col.class][t] += w * col.score[t]
+					for g := 0; g < 3; g++ {
+						group[col.class][t][g] += w * col.group[t][g]
+					}
+				}
+			}
+		}
+		tg := &dw.p.Targets[l.target]
+		v := 0.0
+		for k := 0; k < K; k++ {
+			w := dw.targetWeight(tg, k)
+			if w == 0 {
+				continue
+			}
+			if tg.Kind == MinScore || tg.Kind == Hold {
+				v += w * score[k][l.year] / 100
+			} else {
+				v += w * group[k][l.year][tg.Group]
+			}
+		}
+		if (l.sense == LessEq && v > l.rhs+1e-9) || (l.sense == GreaterEq && v < l.rhs-1e-9) {
+			l.active = true
+			added = true
+		}
+	}
+	return added
+}
+
+// priceAll solves every class's pricing problem, in parallel on the
+// available cores; each class's answer lands in its own slot, so the result
+// is the same whatever the core count.
+func (dw *decomposer) priceAll(pr []prices, pols []policy, vals []float64) {
+	K := len(dw.classes)
+	workers := min(runtime.GOMAXPROCS(0), K)
+	var wg sync.WaitGroup
+	for w := 0; w < workers; w++ {
+		wg.Add(1)
+		go func(w int) {
+			defer wg.Done()
+			var vNext, vCur []float64
+			for k := w; k < K; k += workers {
+				d := dw.classes[k]
+				ns := d.states()
+				if cap(vNext) < ns {
+					vNext, vCur = make([]float64, ns), make([]float64, ns)
+				}
+				pol := make(policy, dw.p.Horizon*ns)
+				vals[k] = d.price(&pr[k], pol, vNext[:ns], vCur[:ns])
+				pols[k] = pol
+			}
+		}(w)
+	}
+	wg.Wait()
+}
+
+// plan turns the last master's weights into the flat model's column values
+// and reads the plan the flat way.
+func (dw *decomposer) plan(res *masterResult) *Plan {
+	b := dw.b
+	nx := b.structural()
+	x := make([]float64, nx)
+	for j, w := range res.lambda { // the pool may have grown since
+		if w <= 0 {
+			continue
+		}
+		col := dw.pool[j]
+		k := col.class
+		dw.classes[k].occupation(col.pol, w, x, func(t, n int) int { return b.lay.col(k, t, n) })
+	}
+	var slacks []slackCol
+	for r := range dw.links {
+		l := &dw.links[r]
+		if l.kind == linkTarget && res.slack[r] > 0 {
+			slacks = append(slacks, slackCol{col: len(x), target: l.target, year: l.year + 1})
+			x = append(x, res.slack[r])
+		}
+	}
+	plan := b.readPlan(x, slacks)
+	plan.Status = Optimal
+	if len(plan.Shortfalls) > 0 {
+		plan.Status = TargetsNotMet
+	}
+	dw.stats.Method = Decomposed.String()
+	dw.stats.Columns = len(dw.pool)
+	plan.Stats = dw.stats
+	return plan
+}

@@ -1,0 +1,206 @@
+package optimize
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"runtime"
+	"testing"
+)
+
+// agreementProblem draws a random scenario for the decomposition checks:
+// up to 6 classes, budgets that bind, some with years without a cap,
+// carry-over, group budgets, no budget at all, targets that can and cannot
+// be met, both objectives.
+func agreementProblem(rng *rand.Rand, c int) *Problem {
+	spec := randomSpec{classes: 1 + rng.IntN(6), states: 3 + rng.IntN(4), treatments: 2 + rng.IntN(3), years: 3 + rng.IntN(10), targets: c%2 == 1, budgetShare: 0.03 + 0.3*rng.Float64()}
+	if c%7 == 3 {
+		spec.budgetShare = 0 // min-cost with no cap (targets or nothing)
+	}
+	p := randomProblem(rng, spec)
+	switch c % 5 {
+	case 1:
+		p.CarryOver = true
+	case 2:
+		if p.Budget != nil {
+			p.Budget[rng.IntN(len(p.Budget))] = math.Inf(1)
+		}
+	case 3:
+		if len(p.Classes) > 1 && p.Budget != nil {
+			g := GroupBudget{Name: "g", Classes: []int{0, len(p.Classes) - 1}, Yearly: make([]float64, p.Horizon)}
+			for t := range g.Yearly {
+				g.Yearly[t] = p.Budget[t] * 0.3
+			}
+			p.GroupBudgets = append(p.GroupBudgets, g)
+		}
+	case 4:
+		if len(p.Targets) > 0 {
+			// Out of reach: almost nothing poor from the first year.
+			p.Targets = append(p.Targets, Target{Label: "strict poor", Class: Network, Kind: MaxShare, Group: Poor, Value: 0.01 * rng.Float64(), From: 1, To: p.Horizon})
+		}
+	}
+	if c%11 == 5 {
+		// Max-condition with money for everything: bounded only by the
+		// scale's best state.
+		p.Budget, p.GroupBudgets, p.Objective = nil, nil, MaxCondition
+	}
+	return p
+}
+
+// totalShortfall sums a plan's shortfalls on the model's 0-1 scale.
+func totalShortfall(p *Problem, plan *Plan) float64 {
+	s := 0.0
+	for _, sf := range plan.Shortfalls {
+		v := sf.Amount
+		if k := p.Targets[sf.Target].Kind; k == MinScore || k == Hold {
+			v /= 100
+		}
+		s += v
+	}
+	return s
+}
+
+// TestDecomposedAgreesWithFlat: on 60 random scenarios, the decomposition
+// and the flat LP solved by lp_solve (the reference path, itself checked
+// against GLPK's glpsol in TestAgreesWithGLPK) agree on the status, the
+// least total shortfall, the primary optimum within 1e-6 relative and the
+// tie-broken secondary objective within 1e-5 relative; the decomposed
+// plan keeps every invariant of TestPlanInvariants.
+func TestDecomposedAgreesWithFlat(t *testing.T) {
+	rng := rand.New(rand.NewPCG(8, 2027))
+	const cases = 60
+	var optimal, notMet, carry, groups, multi int
+	for c := 0; c < cases; c++ {
+		p := agreementProblem(rng, c)
+		if p.CarryOver {
+			carry++
+		}
+		if len(p.GroupBudgets) > 0 {
+			groups++
+		}
+		if len(p.Classes) > 3 {
+			multi++
+		}
+		t.Run(fmt.Sprintf("case%02d", c), func(t *testing.T) {
+			flat, err := Solve(p)
+			if err != nil {
+				t.Fatalf("flat: %v", err)
+			}
+			dec, err := SolveWith(p, Options{Method: Decomposed})
+			if err != nil {
+				t.Fatalf("decomposed: %v", err)
+			}
+			if dec.Status != flat.Status {
+				t.Fatalf("status %s, flat %s (shortfall %g vs %g)", dec.Status, flat.Status, totalShortfall(p, dec), totalShortfall(p, flat))
+			}
+			switch dec.Status {
+			case Optimal:
+				optimal++
+			case TargetsNotMet:
+				notMet++
+				if a, b := totalShortfall(p, dec), totalShortfall(p, flat); math.Abs(a-b) > 1e-6*math.Max(1, b) {
+					t.Errorf("total shortfall %.10g, flat %.10g", a, b)
+				}
+			}
+			// Objectives as the model measures them (score on 0-1, money
+			// in the model's unit), so that "relative" means relative to
+			// the model's scale even where an optimum is near zero.
+			mu := newBuilder(p).moneyUnit
+			prim := [2]float64{dec.ConditionScore / 100, flat.ConditionScore / 100}
+			sec := [2]float64{dec.PresentValue / mu, flat.PresentValue / mu}
+			if p.Objective == MinCost {
+				prim, sec = sec, prim
+			}
+			if !relClose(prim[0], prim[1], 1e-6) {
+				t.Errorf("%s optimum %.12g, flat %.12g", p.Objective, prim[0], prim[1])
+			}
+			if !relClose(sec[0], sec[1], 1e-5) {
+				t.Errorf("tie-break objective %.12g, flat %.12g", sec[0], sec[1])
+			}
+			checkConservation(t, c, p, dec)
+			checkBudget(t, c, p, dec)
+			if dec.Status == Optimal {
+				checkTargets(t, c, p, dec)
+			}
+			t.Logf("%d classes, %d years: %s, %d rounds, %d policies, gap %.2g", len(p.Classes), p.Horizon, dec.Status, dec.Stats.Iterations, dec.Stats.Columns, dec.Stats.Gap)
+		})
+	}
+	if optimal < 20 || notMet < 8 || carry < 5 || groups < 3 || multi < 15 {
+		t.Errorf("coverage: %d optimal, %d targets-not-met, %d carry-over, %d group budgets, %d with 4-6 classes; the generator no longer covers the cases", optimal, notMet, carry, groups, multi)
+	}
+}
+
+// TestWarmStartSameOptimumFewerRounds: a budget sweep solved with a Warm
+// reaches the same optima (within 1e-6 relative, against cold solves) in
+// fewer pricing rounds in total.
+func TestWarmStartSameOptimumFewerRounds(t *testing.T) {
+	base := Generate(rand.New(rand.NewPCG(5, 5)), GenSpec{Classes: 6, States: 5, Treatments: 4, Years: 12, BudgetShare: 0.1})
+	var warm Warm
+	coldRounds, warmRounds := 0, 0
+	for step := 0; step < 6; step++ {
+		p := *base
+		p.Budget = make([]float64, len(base.Budget))
+		for y := range p.Budget {
+			p.Budget[y] = base.Budget[y] * (0.5 + 0.25*float64(step))
+		}
+		cold, err := SolveWith(&p, Options{Method: Decomposed})
+		if err != nil {
+			t.Fatal(err)
+		}
+		hot, err := SolveWith(&p, Options{Method: Decomposed, Warm: &warm})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !relClose(hot.ConditionScore, cold.ConditionScore, 1e-6) {
+			t.Errorf("step %d: warm score %.12g, cold %.12g", step, hot.ConditionScore, cold.ConditionScore)
+		}
+		coldRounds += cold.Stats.Iterations
+		if step > 0 {
+			warmRounds += hot.Stats.Iterations
+		} else {
+			coldRounds -= cold.Stats.Iterations
+		}
+	}
+	if warm.Policies() == 0 {
+		t.Fatal("the Warm kept no policies")
+	}
+	if warmRounds >= coldRounds {
+		t.Errorf("warm sweep took %d rounds, cold %d", warmRounds, coldRounds)
+	}
+	t.Logf("rounds after the first point: warm %d, cold %d", warmRounds, coldRounds)
+}
+
+// TestDecomposedIsDeterministic: the same problem gives the same plan bit
+// for bit, whatever the number of cores pricing runs on.
+func TestDecomposedIsDeterministic(t *testing.T) {
+	p := Generate(rand.New(rand.NewPCG(3, 1)), GenSpec{Classes: 7, States: 5, Treatments: 3, Years: 10, Targets: true, BudgetShare: 0.1})
+	first, err := SolveWith(p, Options{Method: Decomposed})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, procs := range []int{1, 2, 5} {
+		prev := setProcs(procs)
+		again, err := SolveWith(p, Options{Method: Decomposed})
+		setProcs(prev)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if fmt.Sprint(again.Work, again.Condition, again.Spend, again.Shortfalls) != fmt.Sprint(first.Work, first.Condition, first.Spend, first.Shortfalls) {
+			t.Fatalf("GOMAXPROCS=%d: a different plan", procs)
+		}
+	}
+}
+
+// TestIterationCapSaysSo: a cap too small to prove the gap is an error
+// that names the cap and the gap reached.
+func TestIterationCapSaysSo(t *testing.T) {
+	p := Generate(rand.New(rand.NewPCG(1, 1)), GenSpec{Classes: 4, States: 5, Treatments: 4, Years: 20, BudgetShare: 0.15})
+	_, err := SolveWith(p, Options{Method: Decomposed, MaxIterations: 2})
+	if !errors.Is(err, ErrIterationCap) {
+		t.Fatalf("error %v, want the iteration cap", err)
+	}
+	t.Log(err)
+}
+
+func setProcs(n int) int { return runtime.GOMAXPROCS(n) }
