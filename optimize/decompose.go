@@ -122,13 +122,13 @@ type decomposer struct {
 	pool      []*column
 	seen      []map[uint64]bool // per class: keys of pooled policies
 	maxIter   int
-	deadline  time.Time
-	stats     Stats
-}
-
-type stage struct {
-	obj  objKind
-	sign float64 // +1 maximise, -1 minimise
+	// leastShortfall is the least total target shortfall, when positive.
+	leastShortfall float64
+	// hardTargets: the targets can all be met, so target rows carry no
+	// shortfall in the master.
+	hardTargets bool
+	deadline    time.Time
+	stats       Stats
 }
 
 func newDecomposer(p *Problem, o Options) *decomposer {
@@ -185,54 +185,99 @@ func solveDecomposed(p *Problem, o Options) (*Plan, error) {
 	if o.Warm != nil {
 		o.Warm.seed(dw)
 	}
-	var stages []stage
-	if len(p.Targets) > 0 {
-		stages = append(stages, stage{obj: objSlack, sign: 1})
-	}
-	primary := objKindOf(p.Objective)
-	secondary := objKindOf(other(p.Objective))
 	sign := func(k objKind) float64 {
 		if k == objCondition {
 			return 1
 		}
 		return -1
 	}
-	stages = append(stages, stage{obj: primary, sign: sign(primary)}, stage{obj: secondary, sign: sign(secondary)})
-	var res *masterResult
-	for n := range stages {
-		st := &stages[n]
-		r, err := dw.generate(st)
+	primary := objKindOf(p.Objective)
+	secondary := objKindOf(other(p.Objective))
+
+	// Stage 1, with targets: the least total shortfall.
+	elastic := false
+	if len(p.Targets) > 0 {
+		res, err := dw.generate(&stage{obj: objSlack, sign: 1})
 		if err != nil {
 			return nil, err
 		}
-		res = r
-		if n == len(stages)-1 {
-			break
-		}
-		// Hold this stage's optimum in the later ones.
-		z := r.z
-		if st.obj == objSlack {
-			s := -z
-			if s <= 1e-12 {
-				s = 0
-			}
-			dw.links = append(dw.links, link{kind: linkSlackHold, name: "holdshort", sense: LessEq, rhs: s + holdTolerance(s), active: true, price: holdPrice})
-			continue
-		}
-		v := st.sign * z
-		tol := holdTolerance(v)
-		l := link{kind: linkHold, name: fmt.Sprintf("hold%d", n+1), hold: st.obj, active: true, price: holdPrice}
-		if st.sign > 0 {
-			l.sense, l.rhs = GreaterEq, v-tol
+		short := -res.z
+		if short <= 1e-12 {
+			// Every target can be met: the target rows stay hard.
+			dw.hardTargets = true
 		} else {
-			l.sense, l.rhs = LessEq, v+tol
+			elastic = true
+			dw.leastShortfall = short
 		}
-		dw.links = append(dw.links, l)
+	}
+	// Stage 2: the primary objective, keeping the least shortfall.
+	st := &stage{obj: primary, sign: sign(primary)}
+	if elastic {
+		st.weighted, st.hold, st.holdSign, st.weight, st.held = true, objSlack, -1, firstWeight, -dw.leastShortfall
+	}
+	res, err := dw.generate(st)
+	if err != nil {
+		return nil, err
+	}
+	if elastic {
+		// Keep each target's shortfall where stage 2's plan put it: relax
+		// every row that plan misses to what it reaches (and a hair more,
+		// so that the plan stays feasible to lp_solve), and drop the
+		// shortfall columns.
+		score, group := dw.mixMeasures(res)
+		for r := range dw.links {
+			l := &dw.links[r]
+			if l.kind != linkTarget {
+				continue
+			}
+			v := dw.targetValue(l, score, group)
+			if l.sense == LessEq && v > l.rhs {
+				l.rhs, l.active = v+1e-10, true
+			} else if l.sense == GreaterEq && v < l.rhs {
+				l.rhs, l.active = v-1e-10, true
+			}
+		}
+		dw.hardTargets = true
+	}
+	// Stage 3: the tie-break, keeping the primary optimum.
+	held := 0.0
+	for j, w := range res.lambda {
+		held += w * sign(primary) * dw.objValue(primary, dw.pool[j])
+	}
+	st3 := &stage{obj: secondary, sign: sign(secondary), weighted: true, hold: primary, holdSign: sign(primary), weight: firstWeight, held: held}
+	if res, err = dw.generate(st3); err != nil {
+		return nil, err
 	}
 	if o.Warm != nil {
-		o.Warm.keep(dw, res)
+		o.Warm.keep(dw)
 	}
 	return dw.plan(res), nil
+}
+
+// firstWeight and maxWeight bound the weight on a held objective in a
+// lexicographic stage (see doc.go): a stage starts at firstWeight and
+// multiplies it by 100 while its plan gives up more of the held objective
+// than holdTolerance allows.
+const (
+	firstWeight = 1e4
+	maxWeight   = 1e12
+)
+
+// holdKept reports whether the master's plan keeps the held objective of
+// a weighted stage within holdTolerance.
+func (dw *decomposer) holdKept(st *stage, res *masterResult) bool {
+	if st.hold == objSlack {
+		s := 0.0
+		for _, v := range res.slack {
+			s += v
+		}
+		return -s >= st.held-holdTolerance(st.held)
+	}
+	v := 0.0
+	for j, w := range res.lambda {
+		v += w * st.holdSign * dw.objValue(st.hold, dw.pool[j])
+	}
+	return v >= st.held-holdTolerance(st.held)
 }
 
 // generate runs column generation for one stage until the Lagrangian bound
@@ -270,6 +315,9 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 		if st.obj != objSlack {
 			dw.addObjective(pr, st.obj, st.sign)
 		}
+		if st.weighted && st.hold != objSlack {
+			dw.addObjective(pr, st.hold, st.weight*st.holdSign)
+		}
 		bound := 0.0
 		for r := range dw.links {
 			if pi := res.pi[r]; pi != 0 {
@@ -292,7 +340,10 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 			}
 		}
 		if gap <= RelativeGap*scale || added == 0 {
-			if dw.raiseHoldPrices(res) {
+			if st.weighted && st.weight < maxWeight && !dw.holdKept(st, res) {
+				// The weight was too light to keep the earlier optimum.
+				st.weight *= 100
+				dm = newDualMaster(dw, st)
 				continue
 			}
 			dw.stats.Gap = math.Max(dw.stats.Gap, math.Max(gap, 0)/scale)
@@ -304,52 +355,69 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 	}
 }
 
-// raiseHoldPrices raises the bound on every hold row's price that the
-// master's prices reach, and reports whether it raised any: the hold was
-// elastic there, and must not be.
-func (dw *decomposer) raiseHoldPrices(res *masterResult) bool {
-	raised := false
-	for r := range dw.links {
-		l := &dw.links[r]
-		if (l.kind == linkHold || l.kind == linkSlackHold) && math.Abs(res.pi[r]) >= 0.999*l.price && l.price < maxHoldPrice {
-			l.price *= 100
-			raised = true
-		}
-	}
-	return raised
-}
-
 // slackBound is the shortfalls' part of the Lagrangian bound: a shortfall
 // column priced above zero could add its reduced cost times its largest
 // useful value (1: shares and scores are on 0-1 in the model).
 func (dw *decomposer) slackBound(st *stage, res *masterResult) float64 {
-	hold := 0.0
-	for r := range dw.links {
-		if dw.links[r].kind == linkSlackHold {
-			hold += res.pi[r]
-		}
+	if dw.hardTargets {
+		return 0
 	}
 	s := 0.0
 	for r := range dw.links {
 		l := &dw.links[r]
-		if !l.active || l.kind != linkTarget {
-			continue
+		if l.active && l.kind == linkTarget {
+			s += math.Max(st.slackValue()-res.pi[r]*slackSign(l), 0)
 		}
-		c := 0.0
-		if st.obj == objSlack {
-			c = -1
-		}
-		rc := c - res.pi[r]*slackSign(l) - hold
-		s += math.Max(rc, 0)
 	}
 	return s
+}
+
+// mixMeasures returns, per class and year, the expected end-of-year score
+// and group shares of the master's plan.
+func (dw *decomposer) mixMeasures(res *masterResult) ([][]float64, [][][3]float64) {
+	T, K := dw.p.Horizon, len(dw.classes)
+	score := make([][]float64, K)
+	group := make([][][3]float64, K)
+	for k := range score {
+		score[k] = make([]float64, T)
+		group[k] = make([][3]float64, T)
+	}
+	for j, w := range res.lambda {
+		if w <= 0 {
+			continue
+		}
+		col := dw.pool[j]
+		for t := 0; t < T; t++ {
+			score[col.class][t] += w * col.score[t]
+			for g := 0; g < 3; g++ {
+				group[col.class][t][g] += w * col.group[t][g]
+			}
+		}
+	}
+	return score, group
+}
+
+// targetValue is a target row's measure under the measures of mixMeasures.
+func (dw *decomposer) targetValue(l *link, score [][]float64, group [][][3]float64) float64 {
+	tg := &dw.p.Targets[l.target]
+	v := 0.0
+	for k := range dw.classes {
+		w := dw.targetWeight(tg, k)
+		if w == 0 {
+			continue
+		}
+		if tg.Kind == MinScore || tg.Kind == Hold {
+			v += w * score[k][l.year] / 100
+		} else {
+			v += w * group[k][l.year][tg.Group]
+		}
+	}
+	return v
 }
 
 // activateViolated adds to the master every inactive target row that the
 // master's current plan violates, and reports whether it added any.
 func (dw *decomposer) activateViolated(res *masterResult) bool {
-	T := dw.p.Horizon
-	K := len(dw.classes)
 	var score [][]float64
 	var group [][][3]float64
 	added := false
@@ -359,38 +427,9 @@ func (dw *decomposer) activateViolated(res *masterResult) bool {
 			continue
 		}
 		if score == nil {
-			score = make([][]float64, K)
-			group = make([][][3]float64, K)
-			for k := range score {
-				score[k] = make([]float64, T)
-				group[k] = make([][3]float64, T)
-			}
-			for j, w := range res.lambda {
-				if w <= 0 {
-					continue
-				}
-				col := dw.pool[j]
-				for t := 0; t < T; t++ {
-					score[col.class][t] += w * col.score[t]
-					for g := 0; g < 3; g++ {
-						group[col.class][t][g] += w * col.group[t][g]
-					}
-				}
-			}
+			score, group = dw.mixMeasures(res)
 		}
-		tg := &dw.p.Targets[l.target]
-		v := 0.0
-		for k := 0; k < K; k++ {
-			w := dw.targetWeight(tg, k)
-			if w == 0 {
-				continue
-			}
-			if tg.Kind == MinScore || tg.Kind == Hold {
-				v += w * score[k][l.year] / 100
-			} else {
-				v += w * group[k][l.year][tg.Group]
-			}
-		}
+		v := dw.targetValue(l, score, group)
 		if (l.sense == LessEq && v > l.rhs+1e-9) || (l.sense == GreaterEq && v < l.rhs-1e-9) {
 			l.active = true
 			added = true
@@ -440,12 +479,19 @@ func (dw *decomposer) plan(res *masterResult) *Plan {
 		k := col.class
 		dw.classes[k].occupation(col.pol, w, x, func(t, n int) int { return b.lay.col(k, t, n) })
 	}
+	// Shortfalls are measured on the plan against the targets' own
+	// bounds (readPlan reports those above shortfallFloor).
 	var slacks []slackCol
+	score, group := dw.mixMeasures(res)
 	for r := range dw.links {
 		l := &dw.links[r]
-		if l.kind == linkTarget && res.slack[r] > 0 {
+		if l.kind != linkTarget {
+			continue
+		}
+		short := (dw.targetValue(l, score, group) - l.goal) * -slackSign(l)
+		if short > 0 {
 			slacks = append(slacks, slackCol{col: len(x), target: l.target, year: l.year + 1})
-			x = append(x, res.slack[r])
+			x = append(x, short)
 		}
 	}
 	plan := b.readPlan(x, slacks)

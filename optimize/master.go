@@ -11,10 +11,8 @@ import (
 type linkKind int
 
 const (
-	linkBudget    linkKind = iota // spend of some classes in a year (or up to a year, with carry-over)
-	linkTarget                    // a target's measure at the end of a year
-	linkHold                      // an earlier stage's objective held at its optimum
-	linkSlackHold                 // the total target shortfall held at its minimum
+	linkBudget linkKind = iota // spend of some classes in a year (or up to a year, with carry-over)
+	linkTarget                 // a target's measure at the end of a year
 )
 
 // objKind is an objective the master can optimise or hold.
@@ -34,8 +32,8 @@ func objKindOf(o Objective) objKind {
 }
 
 // link is one linking row of the master: a row of the flat model that ties
-// classes together (budgets, targets) or a lexicographic hold row. Target
-// rows enter the master only once the master's plan violates them.
+// classes together (budgets, targets). Target rows enter the master only
+// once the master's plan violates them.
 type link struct {
 	kind   linkKind
 	name   string
@@ -45,10 +43,10 @@ type link struct {
 	from   int   // first year a budget row covers (earlier than year with carry-over)
 	cls    []int // classes a budget covers; nil means all
 	target int
-	hold   objKind
 	active bool
-	// price bounds the dual price of a hold row (see holdPrice).
-	price float64
+	// goal is the target's own bound; rhs may be relaxed from it by the
+	// least shortfall once targets are known to be out of reach.
+	goal float64
 }
 
 // linkRows builds the linking rows of a problem in a fixed order: network
@@ -93,7 +91,7 @@ func (dw *decomposer) linkRows() []link {
 		}
 		sense, rhs := b.targetBound(tg)
 		for y := from; y <= to; y++ {
-			out = append(out, link{kind: linkTarget, name: fmt.Sprintf("target%d_%d", n+1, y), sense: sense, rhs: rhs, year: y - 1, target: n})
+			out = append(out, link{kind: linkTarget, name: fmt.Sprintf("target%d_%d", n+1, y), sense: sense, rhs: rhs, goal: rhs, year: y - 1, target: n})
 		}
 	}
 	return out
@@ -163,8 +161,6 @@ func (dw *decomposer) coef(l *link, col *column) float64 {
 			return w * col.score[l.year] / 100
 		}
 		return w * col.group[l.year][tg.Group]
-	case linkHold:
-		return dw.objValue(l.hold, col)
 	}
 	return 0
 }
@@ -218,17 +214,49 @@ func (dw *decomposer) addRowPrice(pr []prices, l *link, pi float64) {
 				pr[k].group[l.year][tg.Group] -= pi * w
 			}
 		}
-	case linkHold:
-		dw.addObjective(pr, l.hold, -pi)
 	}
+}
+
+// stage is one lexicographic stage of a decomposed solve: maximise sign ×
+// obj, plus, when weighted, weight × an earlier stage's objective (hold,
+// signed by holdSign) so that the earlier optimum is kept. See doc.go.
+type stage struct {
+	obj      objKind
+	sign     float64
+	weighted bool
+	hold     objKind
+	holdSign float64
+	weight   float64
+	// held is the earlier stage's optimum (signed: larger is better).
+	held float64
+}
+
+// colValue is a policy's coefficient in the stage objective.
+func (dw *decomposer) colValue(st *stage, col *column) float64 {
+	v := st.sign * dw.objValue(st.obj, col)
+	if st.weighted {
+		v += st.weight * st.holdSign * dw.objValue(st.hold, col)
+	}
+	return v
+}
+
+// slackValue is each shortfall's coefficient in the stage objective.
+func (st *stage) slackValue() float64 {
+	v := 0.0
+	if st.obj == objSlack {
+		v = -1
+	}
+	if st.weighted && st.hold == objSlack {
+		v -= st.weight
+	}
+	return v
 }
 
 // masterResult is one solve of the restricted master.
 type masterResult struct {
 	z      float64
-	zDual  float64
 	lambda []float64 // per pool column (the pool may grow after the solve)
-	slack  []float64 // per link (zero where the link has no slack)
+	slack  []float64 // per link (zero where the link has no shortfall column)
 	pi     []float64 // per link (zero for inactive links)
 	mu     []float64 // per class
 	rows   int
@@ -240,18 +268,17 @@ type masterResult struct {
 //
 //	min Σ_r b_r π_r + Σ_k μ_k
 //	    Σ_r a_r(p) π_r + μ_k ≥ c(p)     for every pooled policy p of class k
-//	    ±π_r (+ π_h) ≥ c_s               for the shortfall of every target row r
+//	    ±π_r ≥ c_s                        for the shortfall of every target row r
 //	    π_r ≥ 0 (at most rows), ≤ 0 (at least rows), fixed at 0 (rows not
 //	    yet in the master)
 //
-// Each new policy is a new row (a cutting plane on the dual prices: Kelley,
+// Each new policy is a new row (a cutting plane on the prices: Kelley,
 // 1960), which golp can add to a solved LP so that lp_solve goes on from the
 // last basis; golp cannot add columns. The policies' weights λ_p and the
-// shortfalls are the duals of these rows. Solving this form also avoids a
-// defect of lp_solve's default scaling, which golp cannot change: on
-// masters with nearly parallel target rows (the same target in successive
-// years of a policy that has settled) the primal form sometimes stopped at
-// a vertex that is not optimal by 1e-5, and glpsol confirmed it.
+// shortfalls are the duals of these rows. The primal form is the fallback:
+// lp_solve's default scaling, which golp cannot change, stopped it 1e-5
+// short of the optimum on masters with nearly parallel target rows (the same
+// target in successive years of a settled policy), as glpsol confirmed.
 type dualMaster struct {
 	lp       *golp.LP
 	dw       *decomposer
@@ -261,52 +288,26 @@ type dualMaster struct {
 	rowScale []float64 // per cut row: the factor it was multiplied by
 	pooled   int       // pool columns already rows
 	bound    []bool    // per link: its price is free to move (the row is in the master)
-	limit    []float64 // per link: the hold price bound last set
 	synced   bool
 }
 
 const lpInfinity = 1e30
 
-// holdPrice is the first bound on the dual price of a held objective: the
-// later stages may give up a unit of the held objective only for more than
-// that many units of their own. Objectives are on 0-1 (condition) or in
-// money units near one year's budget, so it rarely binds; when it does,
-// generate raises it a hundredfold and goes on, up to maxHoldPrice, so the
-// hold is exact in the end. Without a bound the hold at the optimum leaves
-// the master's dual nearly unbounded along this price, and lp_solve then
-// calls it unbounded.
-const (
-	holdPrice    = 1e4
-	maxHoldPrice = 1e10
-)
-
 func newDualMaster(dw *decomposer, st *stage) *dualMaster {
 	L, K := len(dw.links), len(dw.classes)
-	dm := &dualMaster{dw: dw, st: st, nvar: L + K, bound: make([]bool, L), limit: make([]float64, L)}
+	dm := &dualMaster{dw: dw, st: st, nvar: L + K, bound: make([]bool, L)}
 	dm.lp = golp.NewLP(0, dm.nvar)
 	dm.lp.SetVerboseLevel(golp.NEUTRAL)
-	hold := -1
-	for r := range dw.links {
-		if dw.links[r].kind == linkSlackHold {
-			hold = r
+	if !dw.hardTargets {
+		for r := range dw.links {
+			l := &dw.links[r]
+			if l.kind != linkTarget {
+				continue
+			}
+			dm.lp.AddConstraintSparse([]golp.Entry{{Col: r, Val: slackSign(l)}}, golp.GE, st.slackValue())
+			dm.rowOf = append(dm.rowOf, -1-r)
+			dm.rowScale = append(dm.rowScale, 1)
 		}
-	}
-	for r := range dw.links {
-		l := &dw.links[r]
-		if l.kind != linkTarget {
-			continue
-		}
-		e := []golp.Entry{{Col: r, Val: slackSign(l)}}
-		if hold >= 0 {
-			e = append(e, golp.Entry{Col: hold, Val: 1})
-		}
-		c := 0.0
-		if st.obj == objSlack {
-			c = -1
-		}
-		dm.lp.AddConstraintSparse(e, golp.GE, c)
-		dm.rowOf = append(dm.rowOf, -1-r)
-		dm.rowScale = append(dm.rowScale, 1)
 	}
 	dm.addPool()
 	obj := make([]float64, dm.nvar)
@@ -322,16 +323,6 @@ func newDualMaster(dw *decomposer, st *stage) *dualMaster {
 	return dm
 }
 
-// rebuild makes a new master with the same pool and links, to solve from
-// scratch.
-func (dm *dualMaster) rebuild() *dualMaster {
-	fresh := newDualMaster(dm.dw, dm.st)
-	if t := dm.dw.callTimeout(); t > 0 {
-		fresh.lp.SetTimeout(max(int(math.Ceil(t.Seconds())), 1))
-	}
-	return fresh
-}
-
 // addPool adds a row for every pool column not yet in the master.
 func (dm *dualMaster) addPool() {
 	dw, L := dm.dw, len(dm.dw.links)
@@ -344,9 +335,8 @@ func (dm *dualMaster) addPool() {
 			}
 		}
 		e = append(e, golp.Entry{Col: L + col.class, Val: 1})
-		// Each row is scaled so its largest coefficient is 1 (an
-		// exact change: the row's dual, the policy's weight, is
-		// scaled back when read).
+		// Each row is scaled so its largest coefficient is 1 (an exact
+		// change: the row's dual, the policy's weight, is scaled back).
 		big := 0.0
 		for _, x := range e {
 			big = math.Max(big, math.Abs(x.Val))
@@ -355,7 +345,7 @@ func (dm *dualMaster) addPool() {
 		for i := range e {
 			e[i].Val *= f
 		}
-		dm.lp.AddConstraintSparse(e, golp.GE, f*dm.st.sign*dw.objValue(dm.st.obj, col))
+		dm.lp.AddConstraintSparse(e, golp.GE, f*dw.colValue(dm.st, col))
 		dm.rowOf = append(dm.rowOf, dm.pooled)
 		dm.rowScale = append(dm.rowScale, f)
 	}
@@ -366,22 +356,15 @@ func (dm *dualMaster) addPool() {
 func (dm *dualMaster) syncBounds() {
 	for r := range dm.dw.links {
 		l := &dm.dw.links[r]
-		if dm.synced && l.active == dm.bound[r] && l.price == dm.limit[r] {
+		if dm.synced && l.active == dm.bound[r] {
 			continue
 		}
-		dm.bound[r], dm.limit[r] = l.active, l.price
+		dm.bound[r] = l.active
 		switch {
 		case !l.active:
 			dm.lp.SetBounds(r, 0, 0)
 		case l.sense == LessEq:
 			dm.lp.SetBounds(r, 0, lpInfinity)
-		case l.kind == linkHold || l.kind == linkSlackHold:
-			// A held objective is elastic at a price bound (holdPrice).
-			if l.sense == GreaterEq {
-				dm.lp.SetBounds(r, -l.price, 0)
-			} else {
-				dm.lp.SetBounds(r, 0, l.price)
-			}
 		case l.sense == GreaterEq:
 			dm.lp.SetBounds(r, -lpInfinity, 0)
 		default:
@@ -392,7 +375,9 @@ func (dm *dualMaster) syncBounds() {
 }
 
 // solve brings the master up to date with the pool and the active links
-// and solves it.
+// and solves it. When lp_solve gives no answer going on from the last
+// basis, the same master is rebuilt and solved from scratch, and failing
+// that solved in its primal form.
 func (dm *dualMaster) solve() (*masterResult, error) {
 	dw := dm.dw
 	dm.addPool()
@@ -402,16 +387,14 @@ func (dm *dualMaster) solve() (*masterResult, error) {
 	}
 	st := dm.lp.Solve()
 	if st != golp.OPTIMAL && st != golp.TIMEOUT {
-		// lp_solve sometimes loses accuracy going on from a basis after
-		// many rows were added; solve the same master from scratch.
-		fresh := dm.rebuild()
 		dw.stats.Restarts++
+		fresh := newDualMaster(dw, dm.st)
+		if t := dw.callTimeout(); t > 0 {
+			fresh.lp.SetTimeout(max(int(math.Ceil(t.Seconds())), 1))
+		}
 		st = fresh.lp.Solve()
 		*dm = *fresh
 		if st != golp.OPTIMAL && st != golp.TIMEOUT {
-			// Still no answer: lp_solve's default scaling, which golp
-			// cannot change, fails on a few masters in a thousand. The
-			// primal form of the same master is a different LP for it.
 			if res, err := dw.solvePrimal(dm.st); err == nil {
 				return res, nil
 			}
@@ -419,8 +402,6 @@ func (dm *dualMaster) solve() (*masterResult, error) {
 	}
 	switch st {
 	case golp.OPTIMAL:
-	case golp.UNBOUNDED:
-		return nil, &SolverError{Status: "infeasible master", Advice: "the decomposition's master lost feasibility, which points to a defect in wearplan; solve with --solver flat and please report it with the scenario"}
 	case golp.TIMEOUT, golp.SUBOPTIMAL:
 		return nil, &SolverError{Status: "timeout", Advice: fmt.Sprintf("no optimal plan within the time limit of %s; raise the limit", dw.p.Timeout)}
 	default:
@@ -429,7 +410,7 @@ func (dm *dualMaster) solve() (*masterResult, error) {
 	L, K := len(dw.links), len(dw.classes)
 	v := dm.lp.Variables()
 	duals := dm.lp.Duals()
-	res := &masterResult{z: dm.lp.Objective(), lambda: make([]float64, dm.pooled), slack: make([]float64, L), pi: make([]float64, L), mu: make([]float64, K), rows: len(dm.rowOf), cols: dm.nvar}
+	res := &masterResult{lambda: make([]float64, dm.pooled), slack: make([]float64, L), pi: make([]float64, L), mu: make([]float64, K), rows: len(dm.rowOf), cols: dm.nvar}
 	for r := range dw.links {
 		if dm.bound[r] {
 			res.pi[r] = v[r]
@@ -455,27 +436,20 @@ func (dm *dualMaster) solve() (*masterResult, error) {
 			res.lambda[j] /= s
 		}
 	}
-	// Primal plan and dual prices describe the restricted master's
-	// optimum; the objective is the plan's value (the dual objective
-	// equals it at the optimum, up to lp_solve's tolerances).
-	res.zDual = res.z
-	res.z = dm.primalValue(res)
+	res.z = dw.primalValue(dm.st, res)
 	return res, nil
 }
 
 // primalValue is the stage objective of the master's plan.
-func (dm *dualMaster) primalValue(res *masterResult) float64 {
-	dw := dm.dw
+func (dw *decomposer) primalValue(st *stage, res *masterResult) float64 {
 	z := 0.0
 	for j, w := range res.lambda {
 		if w > 0 {
-			z += w * dm.st.sign * dw.objValue(dm.st.obj, dw.pool[j])
+			z += w * dw.colValue(st, dw.pool[j])
 		}
 	}
-	if dm.st.obj == objSlack {
-		for _, s := range res.slack {
-			z -= s
-		}
+	for _, s := range res.slack {
+		z += s * st.slackValue()
 	}
 	return z
 }
@@ -490,16 +464,13 @@ func (dw *decomposer) solvePrimal(st *stage) (*masterResult, error) {
 	slackCol := make([]int, L)
 	for r := range dw.links {
 		slackCol[r] = -1
-		if l := &dw.links[r]; l.active && l.kind == linkTarget {
-			slackCol[r] = m.addCol(fmt.Sprintf("short_%s", l.name), 0)
-			if st.obj == objSlack {
-				m.Obj[slackCol[r]] = -1
-			}
+		if l := &dw.links[r]; l.active && l.kind == linkTarget && !dw.hardTargets {
+			slackCol[r] = m.addCol(fmt.Sprintf("short_%s", l.name), st.slackValue())
 		}
 	}
 	base := len(m.Cols)
 	for j, col := range dw.pool {
-		m.addCol(fmt.Sprintf("p%d", j), st.sign*dw.objValue(st.obj, col))
+		m.addCol(fmt.Sprintf("p%d", j), dw.colValue(st, col))
 	}
 	rowOf := make([]int, L)
 	for r := range dw.links {
@@ -509,20 +480,12 @@ func (dw *decomposer) solvePrimal(st *stage) (*masterResult, error) {
 			continue
 		}
 		row := Row{Name: l.name, Sense: l.sense, RHS: l.rhs}
-		if l.kind == linkSlackHold {
-			for q := range dw.links {
-				if slackCol[q] >= 0 {
-					row.Entries = append(row.Entries, Entry{slackCol[q], 1})
-				}
-			}
-		} else {
-			if slackCol[r] >= 0 {
-				row.Entries = append(row.Entries, Entry{slackCol[r], slackSign(l)})
-			}
-			for j, col := range dw.pool {
-				if v := dw.coef(l, col); v != 0 {
-					row.Entries = append(row.Entries, Entry{base + j, v})
-				}
+		if slackCol[r] >= 0 {
+			row.Entries = append(row.Entries, Entry{slackCol[r], slackSign(l)})
+		}
+		for j, col := range dw.pool {
+			if v := dw.coef(l, col); v != 0 {
+				row.Entries = append(row.Entries, Entry{base + j, v})
 			}
 		}
 		if len(row.Entries) == 0 {

@@ -69,7 +69,7 @@ func (w *Warm) seed(dw *decomposer) {
 }
 
 // keep replaces the Warm's policies with the pool of a finished solve.
-func (w *Warm) keep(dw *decomposer, _ *masterResult) {
+func (w *Warm) keep(dw *decomposer) {
 	w.classes = make([]warmClass, len(dw.classes))
 	for k, d := range dw.classes {
 		w.classes[k] = warmClass{name: d.c.Name, states: d.states(), years: d.years}
