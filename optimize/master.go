@@ -410,7 +410,15 @@ func (dm *dualMaster) solve() (*masterResult, error) {
 	L, K := len(dw.links), len(dw.classes)
 	v := dm.lp.Variables()
 	duals := dm.lp.Duals()
-	res := &masterResult{lambda: make([]float64, dm.pooled), slack: make([]float64, L), pi: make([]float64, L), mu: make([]float64, K), rows: len(dm.rowOf), cols: dm.nvar}
+	// Sizes as the primal master would have them: a row per active link
+	// and per class, a column per policy and shortfall.
+	rows := K
+	for r := range dw.links {
+		if dm.bound[r] {
+			rows++
+		}
+	}
+	res := &masterResult{lambda: make([]float64, dm.pooled), slack: make([]float64, L), pi: make([]float64, L), mu: make([]float64, K), rows: rows, cols: len(dm.rowOf)}
 	for r := range dw.links {
 		if dm.bound[r] {
 			res.pi[r] = v[r]
