@@ -77,3 +77,24 @@ func BenchmarkSolve(b *testing.B) {
 		})
 	}
 }
+
+// BenchmarkSolveDecomposed measures a whole plan by the decomposition, at
+// the three sizes (make bench prints them beside the peers).
+func BenchmarkSolveDecomposed(b *testing.B) {
+	for _, spec := range append(benchSizes, randomSpec{classes: 60, states: 10, treatments: 8, years: 40, budgetShare: 0.15}) {
+		p := randomProblem(rand.New(rand.NewPCG(1, 1)), spec)
+		b.Run(spec.String(), func(b *testing.B) {
+			resetPeakRSS()
+			var plan *Plan
+			for b.Loop() {
+				var err error
+				if plan, err = SolveWith(p, Options{Method: Decomposed}); err != nil {
+					b.Fatal(err)
+				}
+			}
+			b.ReportMetric(peakRSS(), "MiB-peak")
+			b.ReportMetric(float64(plan.Stats.Iterations), "rounds")
+			b.ReportMetric(float64(plan.Stats.Columns), "policies")
+		})
+	}
+}

@@ -121,6 +121,7 @@ type decomposer struct {
 	links     []link
 	pool      []*column
 	seen      []map[uint64]bool // per class: keys of pooled policies
+	used      []bool            // per pool column: in some stage's final plan
 	maxIter   int
 	// leastShortfall is the least total target shortfall, when positive.
 	leastShortfall float64
@@ -306,6 +307,7 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 		}
 		if st.obj == objSlack && res.z >= -1e-12 {
 			// No shortfall at all: nothing can do better.
+			dw.markUsed(res)
 			return res, nil
 		}
 		// Prices: the stage objective less the duals of the active rows.
@@ -347,10 +349,25 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 				continue
 			}
 			dw.stats.Gap = math.Max(dw.stats.Gap, math.Max(gap, 0)/scale)
+			dw.markUsed(res)
 			return res, nil
 		}
 		if iter >= dw.maxIter {
 			return nil, fmt.Errorf("%w: after %d rounds the plan is proven within %.2g (relative) of the optimum, not %.0g; raise the cap or solve with --solver flat", ErrIterationCap, iter, gap/scale, RelativeGap)
+		}
+	}
+}
+
+// markUsed notes the policies a stage's final plan uses: a Warm keeps
+// those (keeping every generated policy made warm sweeps slower than cold
+// ones, the master growing with each point).
+func (dw *decomposer) markUsed(res *masterResult) {
+	for len(dw.used) < len(dw.pool) {
+		dw.used = append(dw.used, false)
+	}
+	for j, w := range res.lambda {
+		if w > 0 {
+			dw.used[j] = true
 		}
 	}
 }

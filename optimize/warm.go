@@ -68,13 +68,17 @@ func (w *Warm) seed(dw *decomposer) {
 	}
 }
 
-// keep replaces the Warm's policies with the pool of a finished solve.
+// keep replaces the Warm's policies with those that the final plan of some
+// stage of a finished solve used.
 func (w *Warm) keep(dw *decomposer) {
 	w.classes = make([]warmClass, len(dw.classes))
 	for k, d := range dw.classes {
 		w.classes[k] = warmClass{name: d.c.Name, states: d.states(), years: d.years}
 	}
-	for _, col := range dw.pool {
+	for j, col := range dw.pool {
+		if j >= len(dw.used) || !dw.used[j] {
+			continue
+		}
 		d := dw.classes[col.class]
 		acts := make([]int16, len(col.pol))
 		for idx, n := range col.pol {
