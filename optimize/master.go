@@ -395,7 +395,7 @@ func (dm *dualMaster) solve() (*masterResult, error) {
 		st = fresh.lp.Solve()
 		*dm = *fresh
 		if st != golp.OPTIMAL && st != golp.TIMEOUT {
-			if res, err := dw.solvePrimal(dm.st); err == nil {
+			if res, err := dw.solvePrimal(dm.st, nil); err == nil {
 				return res, nil
 			}
 		}
@@ -463,10 +463,11 @@ func (dw *decomposer) primalValue(st *stage, res *masterResult) float64 {
 }
 
 // solvePrimal solves the restricted master of a stage in its primal form,
-// from scratch: one column per pooled policy and per shortfall of an active
-// target row, the active links and one convexity row per class as rows. It
-// is the fallback when lp_solve fails on the dual form.
-func (dw *decomposer) solvePrimal(st *stage) (*masterResult, error) {
+// from scratch: one column per pooled policy (those marked in keep, all
+// when keep is nil) and per shortfall of an active target row, the active
+// links and one convexity row per class as rows. It is the fallback when
+// lp_solve fails on the dual form, and polishes a stage's final weights.
+func (dw *decomposer) solvePrimal(st *stage, keep []bool) (*masterResult, error) {
 	m := &Model{Name: "master", Maximize: true}
 	L, K := len(dw.links), len(dw.classes)
 	slackCol := make([]int, L)
@@ -476,9 +477,12 @@ func (dw *decomposer) solvePrimal(st *stage) (*masterResult, error) {
 			slackCol[r] = m.addCol(fmt.Sprintf("short_%s", l.name), st.slackValue())
 		}
 	}
-	base := len(m.Cols)
+	colOf := make([]int, len(dw.pool)) // model column of each pool column, -1 when left out
 	for j, col := range dw.pool {
-		m.addCol(fmt.Sprintf("p%d", j), dw.colValue(st, col))
+		colOf[j] = -1
+		if keep == nil || (j < len(keep) && keep[j]) {
+			colOf[j] = m.addCol(fmt.Sprintf("p%d", j), dw.colValue(st, col))
+		}
 	}
 	rowOf := make([]int, L)
 	for r := range dw.links {
@@ -492,8 +496,11 @@ func (dw *decomposer) solvePrimal(st *stage) (*masterResult, error) {
 			row.Entries = append(row.Entries, Entry{slackCol[r], slackSign(l)})
 		}
 		for j, col := range dw.pool {
+			if colOf[j] < 0 {
+				continue
+			}
 			if v := dw.coef(l, col); v != 0 {
-				row.Entries = append(row.Entries, Entry{base + j, v})
+				row.Entries = append(row.Entries, Entry{colOf[j], v})
 			}
 		}
 		if len(row.Entries) == 0 {
@@ -503,7 +510,9 @@ func (dw *decomposer) solvePrimal(st *stage) (*masterResult, error) {
 	}
 	conv := make([][]Entry, K)
 	for j, col := range dw.pool {
-		conv[col.class] = append(conv[col.class], Entry{base + j, 1})
+		if colOf[j] >= 0 {
+			conv[col.class] = append(conv[col.class], Entry{colOf[j], 1})
+		}
 	}
 	convRow := len(m.Rows)
 	for k := 0; k < K; k++ {
@@ -518,7 +527,12 @@ func (dw *decomposer) solvePrimal(st *stage) (*masterResult, error) {
 		return nil, err
 	}
 	duals := s.lp.Duals()
-	res := &masterResult{z: z, lambda: append([]float64(nil), x[base:]...), slack: make([]float64, L), pi: make([]float64, L), mu: make([]float64, K), rows: len(m.Rows), cols: len(m.Cols)}
+	res := &masterResult{z: z, lambda: make([]float64, len(dw.pool)), slack: make([]float64, L), pi: make([]float64, L), mu: make([]float64, K), rows: len(m.Rows), cols: len(m.Cols)}
+	for j, c := range colOf {
+		if c >= 0 {
+			res.lambda[j] = math.Max(x[c], 0)
+		}
+	}
 	for r := range dw.links {
 		if slackCol[r] >= 0 {
 			res.slack[r] = x[slackCol[r]]
@@ -539,4 +553,24 @@ func (dw *decomposer) solvePrimal(st *stage) (*masterResult, error) {
 		res.mu[k] = duals[convRow+k]
 	}
 	return res, nil
+}
+
+// polish re-solves a stage's final master in the primal form over the
+// policies its plan uses. The weights read from the dual form's duals meet
+// the rows only to lp_solve's tolerances (1e-8 was measured: enough for a
+// later stage, which relaxes targets to what this plan reaches, to trade
+// that much more shortfall for condition); a primal simplex on these few
+// columns gives weights that meet them to its feasibility tolerance. The
+// polished plan replaces the master's only when it is as good.
+func (dw *decomposer) polish(st *stage, res *masterResult) *masterResult {
+	keep := make([]bool, len(res.lambda))
+	for j, w := range res.lambda {
+		keep[j] = w > 0
+	}
+	p, err := dw.solvePrimal(st, keep)
+	if err != nil || p.z < res.z-holdTolerance(res.z) {
+		return res
+	}
+	p.pi, p.mu = res.pi, res.mu
+	return p
 }
