@@ -60,8 +60,10 @@ type Options struct {
 const DefaultMaxIterations = 2000
 
 // autoFlatColumns is the largest flat model (in columns) that Auto solves
-// flat: below it lp_solve on the whole model is as fast as the decomposition.
-const autoFlatColumns = 2500
+// flat. Measured on generated models (best of 3, 2 shared cores): 220
+// columns flat 2.8 ms, decomposed 3.8 ms; 1,140 columns 52 ms and 26 ms;
+// 2,240 columns 183 ms and 12 ms; 5,220 columns 5.2 s and 12 ms.
+const autoFlatColumns = 500
 
 // RelativeGap is the proven optimality gap at which the decomposition stops:
 // (bound - value) <= RelativeGap × max(|value|, 1e-6) in model units.
