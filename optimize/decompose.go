@@ -73,7 +73,9 @@ const RelativeGap = 1e-7
 // reached its iteration cap before proving the gap.
 var ErrIterationCap = errors.New("decomposition iteration cap reached")
 
-// SolveWith plans the problem with the chosen method.
+// SolveWith plans the problem with the chosen method. With Auto, a
+// decomposition that lp_solve gives up on (a SolverError other than a
+// timeout) is solved again flat.
 func SolveWith(p *Problem, o Options) (*Plan, error) {
 	if err := p.Validate(); err != nil {
 		return nil, err
@@ -85,14 +87,20 @@ func SolveWith(p *Problem, o Options) (*Plan, error) {
 			m = Decomposed
 		}
 	}
-	if m == Flat {
-		plan, err := Solve(p)
-		if plan != nil {
-			plan.Stats.Method = Flat.String()
+	if m == Decomposed {
+		plan, err := solveDecomposed(p, o)
+		var se *SolverError
+		if err == nil || o.Method == Decomposed || !errors.As(err, &se) || se.Status == "timeout" {
+			return plan, err
 		}
-		return plan, err
+		// Auto: lp_solve gave up on a master even after the fallbacks;
+		// the flat model is the other way to the same optimum.
 	}
-	return solveDecomposed(p, o)
+	plan, err := Solve(p)
+	if plan != nil {
+		plan.Stats.Method = Flat.String()
+	}
+	return plan, err
 }
 
 // flatColumns is the column count of the flat model.
