@@ -371,7 +371,7 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 			return res, nil
 		}
 		if iter >= dw.maxIter {
-			return nil, fmt.Errorf("%w: after %d rounds the plan is proven within %.2g (relative) of the optimum, not %.0g; raise the cap or solve with --solver flat", ErrIterationCap, iter, gap/scale, RelativeGap)
+			return nil, fmt.Errorf("%w: after %d rounds the plan is proven within %.2g (relative) of the optimum, not %.0g; solve with --solver flat, or raise optimize.Options.MaxIterations", ErrIterationCap, iter, gap/scale, RelativeGap)
 		}
 	}
 }
