@@ -48,8 +48,10 @@ func ParseMethod(s string) (Method, error) {
 type Options struct {
 	Method Method
 	// Warm, when not nil, seeds a decomposed solve with the policies of
-	// earlier solves kept in it and receives this solve's policies. A Warm
-	// belongs to one sequence of solves: it is not safe for concurrent use.
+	// earlier solves kept in it, and then keeps the policies that this
+	// solve's final plans use (see Warm). The flat method ignores it. A
+	// Warm belongs to one sequence of solves: it is not safe for
+	// concurrent use.
 	Warm *Warm
 	// MaxIterations caps the column-generation rounds of each stage of a
 	// decomposed solve; zero means DefaultMaxIterations.
