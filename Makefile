@@ -20,7 +20,7 @@ $(SUDO) env DEBIAN_FRONTEND=noninteractive apt-get install -y -q --no-install-re
   { $(SUDO) apt-get update -q >/dev/null && $(SUDO) env DEBIAN_FRONTEND=noninteractive apt-get install -y -q --no-install-recommends $(1); }
 endef
 
-.PHONY: demo test build deps deps-test bench clean
+.PHONY: demo test build deps deps-test deps-bench bench bench-go clean
 
 deps:
 	@dpkg -s liblpsolve55-dev >/dev/null 2>&1 || { echo "installing liblpsolve55-dev"; $(call apt_install,liblpsolve55-dev); }
@@ -40,7 +40,17 @@ test: deps-test
 	go vet ./...
 	go test ./...
 
-bench: deps-test
+deps-bench: deps-test
+	@command -v lp_solve >/dev/null 2>&1 || { echo "installing lp-solve"; $(call apt_install,lp-solve); }
+
+# One table: wearplan (decomposed and flat) and the peers (glpsol simplex and
+# interior point, clp barrier, the lp_solve CLI) on the same generated
+# models, then a 20-point budget sweep. BENCH_FLAGS="-timeout 30s -reps 5".
+bench: deps-bench
+	go run ./optimize/internal/benchtable $(BENCH_FLAGS)
+
+# Go micro-benchmarks (model build, flat and decomposed solves).
+bench-go: deps-test
 	go test -run '^$$' -bench . -benchmem ./...
 
 clean:

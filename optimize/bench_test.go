@@ -1,7 +1,6 @@
 package optimize
 
 import (
-	"fmt"
 	"math/rand/v2"
 	"os"
 	"strconv"
@@ -17,9 +16,7 @@ var benchSizes = []randomSpec{
 	{classes: 20, states: 7, treatments: 6, years: 30, budgetShare: 0.15},
 }
 
-func (s randomSpec) String() string {
-	return fmt.Sprintf("%dx%dx%dx%d", s.classes, s.states, s.treatments, s.years)
-}
+func (s randomSpec) String() string { return s.gen().String() }
 
 // peakRSS reads the process's resident-set high-water mark in MiB, which
 // includes lp_solve's C allocations that Go's -benchmem cannot see.
@@ -77,6 +74,27 @@ func BenchmarkSolve(b *testing.B) {
 			b.ReportMetric(peakRSS(), "MiB-peak")
 			b.ReportMetric(float64(plan.Stats.Cols), "cols")
 			b.ReportMetric(float64(plan.Stats.Solves), "solves")
+		})
+	}
+}
+
+// BenchmarkSolveDecomposed measures a whole plan by the decomposition, at
+// the three sizes (make bench prints them beside the peers).
+func BenchmarkSolveDecomposed(b *testing.B) {
+	for _, spec := range append(benchSizes, randomSpec{classes: 60, states: 10, treatments: 8, years: 40, budgetShare: 0.15}) {
+		p := randomProblem(rand.New(rand.NewPCG(1, 1)), spec)
+		b.Run(spec.String(), func(b *testing.B) {
+			resetPeakRSS()
+			var plan *Plan
+			for b.Loop() {
+				var err error
+				if plan, err = SolveWith(p, Options{Method: Decomposed}); err != nil {
+					b.Fatal(err)
+				}
+			}
+			b.ReportMetric(peakRSS(), "MiB-peak")
+			b.ReportMetric(float64(plan.Stats.Iterations), "rounds")
+			b.ReportMetric(float64(plan.Stats.Columns), "policies")
 		})
 	}
 }

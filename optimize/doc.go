@@ -82,4 +82,92 @@
 // maximisation as the minimisation of the negated objective, LP format keeps
 // the sense. BuildModel fills the model's Notes with a legend of its columns,
 // rows and units, which both writers print as comments.
+//
+// # Large networks: Dantzig-Wolfe decomposition
+//
+// Each class is an independent finite-horizon Markov decision process; only
+// the linking rows (yearly and group budgets, targets) tie the classes
+// together. SolveWith with Decomposed (Auto from 500 flat columns) uses
+// that (Dantzig and Wolfe, 1960). With today's shares fixed, the flow rows
+// of class k define a polytope X_k whose vertices are the occupation
+// vectors of deterministic year-by-year policies (one action per year and
+// state), so every plan of the class is a convex combination Σ_p λ_p x(p)
+// of policies. The master LP has one weight λ_p per policy in a pool, the
+// linking rows written through the policies' measures (a policy's spend,
+// end-of-year score and group shares per year), and one convexity row
+// Σ_p λ_p = 1 per class. The plan is Σ_p λ_p x(p), read like the flat one.
+//
+// Pricing. With the master's prices π_r on the linking rows and μ_k on the
+// convexity rows, taking pair n = (i, a) in year t earns the reward
+//
+//	r_t(n) = c_t(n) - Σ_r π_r a_r,t(n)
+//
+// where c is the stage objective's coefficient (see Stages) and a_r,t(n)
+// the pair's coefficient in row r: cost × (1+e)^(t-1) / money unit in the
+// budget rows of year t (of every year from t on, with carry-over), the
+// class's weight × expected end-of-year score / 100 or group share in the
+// target rows of year t. A backward dynamic program over years and states,
+//
+//	V_{T+1}(j) = 0,   V_t(i) = max_a [ r_t(i,a) + Σ_j M_a(i,j)·V_{t+1}(j) ],
+//
+// finds the policy with the largest total reward V_k = Σ_i n_k(i)·V_1(i)
+// (n_k: today's shares); ties keep the first action (do nothing first). Its
+// reduced cost is V_k - μ_k; the policy joins the pool when that is
+// positive and the pool does not already hold a policy acting the same on
+// every state it reaches. Pricing runs on all cores, one class per task,
+// each result in its class's slot, so that the outcome does not depend on
+// the core count.
+//
+// Bound and stopping rule. For any prices of the right signs (π_r ≥ 0 on at
+// most rows, ≤ 0 on at least rows of a maximisation), the Lagrangian
+// relaxation of the linking rows bounds the stage's optimum:
+//
+//	z* ≤ L(π) = Σ_r π_r b_r + Σ_k V_k(π) + Σ_s max(0, c_s - π·a_s)
+//
+// (the last sum over the shortfall columns, which are at most 1). The stage
+// stops when the best bound found so far exceeds the master's value z by at
+// most RelativeGap = 1e-7 × max(|z|, 1e-6), or when no new policy prices
+// positive; after DefaultMaxIterations rounds it fails with
+// ErrIterationCap and the gap it reached. Prices are smoothed (Wentges,
+// 1997): the pricing problems see ½ × the prices of the best bound so far
+// plus ½ × the master's, and when that finds nothing that improves the
+// master, the master's own prices.
+//
+// Target rows that no plan of the master misses (most of them, in most
+// years) stay out of the master: after each master solve the plan is
+// measured against every missing target row, and the rows it misses by
+// more than 1e-10 join. Budget rows are always in.
+//
+// Stages. The flat model's lexicographic order is kept: (1) with targets,
+// the least total shortfall; if it is zero the target rows are hard from
+// then on; (2) the primary objective (MaxCondition or MinCost); (3) the
+// other one as tie-break. Stages 2 and 3 keep the earlier optimum not with
+// a hold row, whose price at the optimum left the master's dual nearly
+// unbounded (lp_solve then took seconds per round and reported it
+// unbounded), but with a weight: stage 3 maximises tie-break + w × primary,
+// stage 2 with unmet targets primary - w × shortfall, starting at w = 1e4
+// (objectives are near 1 in the model's units) and multiplying w by 100
+// while the stage's plan gives up more of the earlier objective than the
+// flat model's hold tolerance. Before stage 3 with unmet targets, each
+// target row is relaxed to what stage 2's plan reaches, so the shortfall
+// per target and year stays where stage 2 put it. Shortfalls are reported
+// by measuring the final plan against the targets.
+//
+// The master through golp. golp can add rows to a solved LP, which lp_solve
+// then re-solves from the last basis, but cannot add columns; so the master
+// is held as its dual, min Σ_r b_r π_r + Σ_k μ_k subject to one row
+// a(p)·π + μ_k ≥ c(p) per policy (a cutting plane on the prices: Kelley,
+// 1960), and each round only adds rows. The weights λ_p are that LP's duals;
+// at the end of each stage they are re-solved in the primal form over the
+// policies they use, which meets the rows to lp_solve's primal tolerance.
+// When lp_solve gives no answer from the last basis, the master is rebuilt
+// and solved from scratch, and failing that in the primal form.
+//
+// A Warm carries the policies that the final plans used from one solve to
+// the next (sweeps, what-if runs); they are re-rolled under the new data, so
+// a Warm changes the work, not the optimum.
+//
+// The long-run (steady-state) LP has one column per class, state and action
+// and no years, a few thousand columns at most: it is solved flat and needs
+// no decomposition.
 package optimize

@@ -32,6 +32,18 @@ type Stats struct {
 	Rows, Cols, Nonzeros int
 	// Solves counts solver calls (a lexicographic plan needs two).
 	Solves int
+	// Method is the solver that made the plan: "flat" or "decomposed".
+	// For a decomposed plan, Rows and Cols describe the last master LP and
+	// Nonzeros is zero; Iterations counts pricing rounds over all stages,
+	// Columns the policies generated, and Gap is the largest proven
+	// relative optimality gap of any stage.
+	Method     string
+	Iterations int
+	Columns    int
+	Gap        float64
+	// Restarts counts master solves that lp_solve could not finish from
+	// the last basis and that were solved again from scratch.
+	Restarts int
 }
 
 // Plan is an optimised work program.
@@ -121,8 +133,7 @@ func solveFlat(p *Problem) (*flatResult, error) {
 		return nil, err
 	}
 	if len(p.Targets) == 0 {
-		r.status = Infeasible
-		return r, nil
+		return r, infeasibleOrFailure(p, r)
 	}
 	// Elastic model: a slack on every target row, least total slack first.
 	em, slackCols := b.elastic()
@@ -137,8 +148,7 @@ func solveFlat(p *Problem) (*flatResult, error) {
 	x, n, err := lexicographic(em, p, objs)
 	r.stats.Solves += n
 	if errors.Is(err, ErrInfeasible) {
-		r.status = Infeasible
-		return r, nil
+		return r, infeasibleOrFailure(p, r)
 	}
 	if err != nil {
 		return nil, err
@@ -326,4 +336,80 @@ func (b *builder) readPlan(x []float64, slacks []slackCol) *Plan {
 		plan.Shortfalls = append(plan.Shortfalls, Shortfall{Target: sc.target, Year: sc.year, Amount: v})
 	}
 	return plan
+}
+
+// infeasibleOrFailure settles an infeasibility that lp_solve reported for
+// a model whose only hard rows are flow and budgets (no targets, or the
+// elastic model): it is genuine only when doing nothing overspends a cap
+// (routine costs counted against the budget). Otherwise doing nothing is a
+// feasible plan, and lp_solve has failed numerically (seen on degenerate
+// elastic models); the caller gets a SolverError it can act on (SolveWith
+// tries the other method) instead of a wrong verdict.
+func infeasibleOrFailure(p *Problem, r *flatResult) error {
+	if !doNothingFits(p) {
+		r.status = Infeasible
+		return nil
+	}
+	return &SolverError{Status: "numerical failure", Advice: "lp_solve called a feasible model infeasible; solve with the other --solver, or report it with the scenario"}
+}
+
+// doNothingFits reports whether leaving everything untreated keeps every
+// budget cap: it costs nothing unless routine costs count against the
+// budget.
+func doNothingFits(p *Problem) bool {
+	if !p.RoutineInBudget {
+		return true
+	}
+	spend := make([][]float64, len(p.Classes)) // [class][year]
+	for k := range p.Classes {
+		c := &p.Classes[k]
+		spend[k] = make([]float64, p.Horizon)
+		q := append([]float64(nil), c.Initial...)
+		for t := 0; t < p.Horizon; t++ {
+			next := make([]float64, len(q))
+			for i, v := range q {
+				if c.Routine != nil {
+					spend[k][t] += v * c.Routine[i] * p.escalation(t)
+				}
+				for j, pj := range c.Actions[0].Rows[i] {
+					next[j] += v * pj
+				}
+			}
+			q = next
+		}
+	}
+	fits := func(caps []float64, classes []int) bool {
+		cum, capSum := 0.0, 0.0
+		for t := 0; t < p.Horizon; t++ {
+			s := 0.0
+			if classes == nil {
+				for k := range p.Classes {
+					s += spend[k][t]
+				}
+			} else {
+				for _, k := range classes {
+					s += spend[k][t]
+				}
+			}
+			cum += s
+			capSum += caps[t]
+			used, limit := s, caps[t]
+			if p.CarryOver {
+				used, limit = cum, capSum
+			}
+			if used > limit*(1+1e-9)+1e-9 {
+				return false
+			}
+		}
+		return true
+	}
+	if p.Budget != nil && !fits(p.Budget, nil) {
+		return false
+	}
+	for _, g := range p.GroupBudgets {
+		if !fits(g.Yearly, g.Classes) {
+			return false
+		}
+	}
+	return true
 }

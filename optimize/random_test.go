@@ -1,151 +1,17 @@
 package optimize
 
-import (
-	"math"
-	"math/rand/v2"
+import "math/rand/v2"
 
-	"wearplan/markov"
-	"wearplan/treatments"
-)
-
-// randomSpec bounds a randomly generated planning problem.
+// randomSpec bounds a randomly generated planning problem (see GenSpec).
 type randomSpec struct {
 	classes, states, treatments, years int
 	targets                            bool
 	budgetShare                        float64 // yearly cap as a share of "treat the worst half once"
 }
 
-// randomChain returns an upper-triangular stochastic matrix whose units stay
-// put with probability 0.6-0.95 and otherwise drop one or two states.
-func randomChain(rng *rand.Rand, n int) *markov.Transition {
-	rows := make([][]float64, n)
-	for i := range rows {
-		rows[i] = make([]float64, n)
-		if i == n-1 {
-			rows[i][i] = 1
-			continue
-		}
-		stay := 0.6 + 0.35*rng.Float64()
-		rows[i][i] = stay
-		if i+2 < n && rng.IntN(2) == 0 {
-			two := (1 - stay) * 0.3 * rng.Float64()
-			rows[i][i+2] = two
-			rows[i][i+1] = 1 - stay - two
-		} else {
-			rows[i][i+1] = 1 - stay
-		}
-	}
-	t, err := markov.NewTransition(rows, markov.Options{})
-	if err != nil {
-		panic(err)
-	}
-	return t
+func (s randomSpec) gen() GenSpec {
+	return GenSpec{Classes: s.classes, States: s.states, Treatments: s.treatments, Years: s.years, Targets: s.targets, BudgetShare: s.budgetShare}
 }
 
-// randomTreatments returns nt treatments over an n-state scale, from cheap
-// preservation on good states to reconstruction of the worst.
-func randomTreatments(rng *rand.Rand, n, nt int) []treatments.Treatment {
-	out := make([]treatments.Treatment, 0, nt)
-	for a := 0; a < nt; a++ {
-		tr := treatments.Treatment{Name: string(rune('A' + a)), Cost: make([]float64, n)}
-		// Treatment a works on a band of states further down the scale and costs more.
-		lo := min(a*n/max(nt, 1), n-1)
-		hi := min(lo+1+rng.IntN(2), n-1)
-		for i := lo; i <= hi; i++ {
-			tr.Applies = append(tr.Applies, i)
-			tr.Cost[i] = (10 + 40*float64(a)*float64(a) + 5*float64(i)) * (0.8 + 0.4*rng.Float64())
-		}
-		switch rng.IntN(3) {
-		case 0:
-			tr.Effect = treatments.Effect{Kind: treatments.ToState, State: 0}
-		case 1:
-			tr.Effect = treatments.Effect{Kind: treatments.Improve, Steps: 1 + rng.IntN(2)}
-		default:
-			tr.Effect = treatments.Effect{Kind: treatments.Distribution, Rows: map[int][]float64{}}
-			for _, i := range tr.Applies {
-				d := make([]float64, n)
-				best := max(i-2, 0)
-				d[best] = 0.7
-				d[min(best+1, n-1)] += 0.3
-				tr.Effect.Rows[i] = d
-			}
-		}
-		tr.SkipsAging = rng.IntN(3) == 0
-		out = append(out, tr)
-	}
-	return out
-}
-
-// randomProblem draws a valid problem. Budgets are set from the cost of
-// treating the worse half of the network once, so that they bind.
-func randomProblem(rng *rand.Rand, s randomSpec) *Problem {
-	p := &Problem{Horizon: s.years, Escalation: 0.03 * rng.Float64(), DiscountRate: 0.05 * rng.Float64()}
-	if rng.IntN(2) == 0 {
-		p.Objective = MinCost
-	}
-	need := 0.0
-	for k := 0; k < s.classes; k++ {
-		n := s.states
-		c := Class{Name: string(rune('k' + k)), Initial: make([]float64, n), Score: make([]float64, n), Group: make([]Group, n)}
-		scale := math.Pow(10, float64(rng.IntN(3))) // quantities of 1-1000 units
-		for i := range c.Initial {
-			if rng.IntN(5) > 0 {
-				c.Initial[i] = scale * (1 + 99*rng.Float64())
-			}
-			c.Score[i] = 100 * float64(n-1-i) / float64(n-1)
-			switch {
-			case i < (n+1)/3:
-				c.Group[i] = Good
-			case i < 2*n/3:
-				c.Group[i] = Fair
-			default:
-				c.Group[i] = Poor
-			}
-		}
-		c.Initial[0] += scale // never empty
-		c.Weight = 0.5 + rng.Float64()
-		acts, err := treatments.Actions(randomChain(rng, n), randomTreatments(rng, n, s.treatments))
-		if err != nil {
-			panic(err)
-		}
-		c.Actions = acts
-		for i := n / 2; i < n; i++ {
-			cheapest := math.Inf(1)
-			for _, a := range acts[1:] {
-				if a.Applies[i] {
-					cheapest = math.Min(cheapest, a.Cost[i])
-				}
-			}
-			if !math.IsInf(cheapest, 1) {
-				need += cheapest * c.Initial[i]
-			}
-		}
-		p.Classes = append(p.Classes, c)
-	}
-	if s.budgetShare > 0 {
-		p.Budget = make([]float64, p.Horizon)
-		for t := range p.Budget {
-			p.Budget[t] = need * s.budgetShare * (0.7 + 0.6*rng.Float64())
-		}
-		p.Objective = MaxCondition
-		if s.targets && rng.IntN(3) == 0 {
-			p.Objective = MinCost
-		}
-	}
-	if s.targets {
-		p.Targets = append(p.Targets, Target{Label: "network poor share", Class: Network, Kind: MaxShare, Group: Poor, Value: 0.2 + 0.3*rng.Float64(), From: (p.Horizon + 1) / 2, To: p.Horizon})
-		if rng.IntN(2) == 0 {
-			p.Targets = append(p.Targets, Target{Label: "class 1 score", Class: 0, Kind: MinScore, Value: 30 + 30*rng.Float64(), From: 1, To: p.Horizon})
-		}
-		if rng.IntN(2) == 0 {
-			p.Targets = append(p.Targets, Target{Label: "hold", Class: Network, Kind: Hold})
-		}
-		if rng.IntN(3) == 0 {
-			p.Targets = append(p.Targets, Target{Label: "good share", Class: Network, Kind: MinShare, Group: Good, Value: 0.2 * rng.Float64(), From: 1, To: p.Horizon})
-		}
-	}
-	if p.Budget == nil && p.Objective == MaxCondition {
-		p.Objective = MinCost
-	}
-	return p
-}
+// randomProblem draws a valid problem with Generate.
+func randomProblem(rng *rand.Rand, s randomSpec) *Problem { return Generate(rng, s.gen()) }

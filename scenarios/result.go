@@ -59,12 +59,17 @@ type ClassWeight struct {
 	Weight float64 `json:"weight"`
 }
 
-// ModelSize describes the LP that was solved.
+// ModelSize describes the LP that was solved: the flat model, or for the
+// decomposition the last master LP (Iterations pricing rounds, Policies
+// generated).
 type ModelSize struct {
-	Rows     int `json:"rows"`
-	Columns  int `json:"columns"`
-	Nonzeros int `json:"nonzeros"`
-	Solves   int `json:"solves"`
+	Solver     string `json:"solver,omitempty"`
+	Rows       int    `json:"rows"`
+	Columns    int    `json:"columns"`
+	Nonzeros   int    `json:"nonzeros"`
+	Solves     int    `json:"solves"`
+	Iterations int    `json:"iterations,omitempty"`
+	Policies   int    `json:"policies,omitempty"`
 }
 
 // Snapshot is the condition of every class and the network at one time.

@@ -10,12 +10,19 @@ import (
 
 // Options tune a run.
 type Options struct {
-	// Timeout bounds each solver call; zero means no limit.
+	// Timeout bounds each solver call (a decomposed solve as a whole);
+	// zero means no limit.
 	Timeout time.Duration
 	// SkipFunding leaves out the funding answers (least level budget,
 	// extra money) and the worst-first baseline: sweeps and comparisons
 	// that need only the plan save their solves.
 	SkipFunding bool
+	// Solver picks the flat LP or the decomposition; the zero value is
+	// optimize.Auto.
+	Solver optimize.Method
+	// Warm, when not nil, carries generated policies from one decomposed
+	// run to the next (sweeps, what-if runs): see optimize.Warm.
+	Warm *optimize.Warm
 }
 
 // Forecast rolls today's condition forward with no work done.
@@ -44,7 +51,7 @@ func Plan(sc *Scenario, opt Options) (*Result, error) {
 		return nil, err
 	}
 	p.Timeout = opt.Timeout
-	plan, err := optimize.Solve(p)
+	plan, err := optimize.SolveWith(p, optimize.Options{Method: opt.Solver, Warm: opt.Warm})
 	if err != nil {
 		return nil, err
 	}
@@ -54,7 +61,7 @@ func Plan(sc *Scenario, opt Options) (*Result, error) {
 	r := assemble(sc, p, plan.Condition, plan.Work, plan.Spend)
 	addRoutine(sc, r, plan.Routine)
 	r.Kind, r.Status, r.Objective = "plan", string(plan.Status), sc.Objective.String()
-	r.Model = &ModelSize{Rows: plan.Stats.Rows, Columns: plan.Stats.Cols, Nonzeros: plan.Stats.Nonzeros, Solves: plan.Stats.Solves}
+	r.Model = &ModelSize{Solver: plan.Stats.Method, Rows: plan.Stats.Rows, Columns: plan.Stats.Cols, Nonzeros: plan.Stats.Nonzeros, Solves: plan.Stats.Solves, Iterations: plan.Stats.Iterations, Policies: plan.Stats.Columns}
 	for _, s := range plan.Shortfalls {
 		t := &r.Targets[s.Target]
 		amount := s.Amount

@@ -110,6 +110,9 @@ type SimulateOptions struct {
 	Workers int
 	// Timeout bounds each solver call of the plan; zero means no limit.
 	Timeout time.Duration
+	// Solver picks how the plan is solved (optimize.Auto by default); both
+	// methods reach the same optimum.
+	Solver optimize.Method
 }
 
 // OptionError is a simulation option that cannot be used, with the fix.
@@ -184,7 +187,7 @@ func Simulate(sc *Scenario, opt SimulateOptions) (*SimulationResult, error) {
 	var work [][][][]float64
 	if opt.Policy == PolicyPlan {
 		p.Timeout = opt.Timeout
-		plan, err := optimize.Solve(p)
+		plan, err := optimize.SolveWith(p, optimize.Options{Method: opt.Solver})
 		if err != nil {
 			return nil, err
 		}

@@ -89,15 +89,39 @@ func Sweep(sc *Scenario, budgets []float64, opt Options) (*SweepResult, error) {
 	}
 	r := &SweepResult{Scenario: sc.Name, Source: sc.Source, Kind: "sweep", Currency: sc.Currency, Points: make([]SweepPoint, len(budgets)), Caution: Caution, Warnings: append([]string{}, sc.Notes...)}
 	jobs := make([]func() error, 0, len(budgets)+2)
-	for n, b := range budgets {
+	point := func(n int, b float64, o Options) error {
+		pt, err := sweepPoint(sc, b, o)
+		if err != nil {
+			return fmt.Errorf("budget %s: %w", money(b), err)
+		}
+		r.Points[n] = *pt
+		return nil
+	}
+	p, err := sc.Problem()
+	if err != nil {
+		return nil, err
+	}
+	if optimize.Chosen(p, opt.Solver) == optimize.Decomposed {
+		// Decomposed points run in budget order, each starting from the
+		// policies of the one before (a warm start that the decomposition
+		// profits from far more than from parallel cold starts); the fixed
+		// order keeps results independent of the core count.
 		jobs = append(jobs, func() error {
-			pt, err := sweepPoint(sc, b, opt)
-			if err != nil {
-				return fmt.Errorf("budget %s: %w", money(b), err)
+			o := opt
+			if o.Warm == nil {
+				o.Warm = &optimize.Warm{}
 			}
-			r.Points[n] = *pt
+			for n, b := range budgets {
+				if err := point(n, b, o); err != nil {
+					return err
+				}
+			}
 			return nil
 		})
+	} else {
+		for n, b := range budgets {
+			jobs = append(jobs, func() error { return point(n, b, opt) })
+		}
 	}
 	level := func(targets []optimize.Target, out **float64) func() error {
 		return func() error {

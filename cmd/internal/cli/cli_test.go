@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"encoding/csv"
 	"encoding/json"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -109,6 +110,40 @@ func TestBadInputExitsTwoAndWritesNothing(t *testing.T) {
 	}
 }
 
+// TestSolverFlag: --solver decomposed plans the demo with the
+// decomposition, says so in the JSON, gives the same bytes on every run and
+// the same condition score as the flat LP within 1e-6 relative (the
+// optimum; the work may differ where several plans are optimal).
+func TestSolverFlag(t *testing.T) {
+	score := map[string]float64{}
+	for _, solver := range []string{"flat", "decomposed"} {
+		code, out, errs := run(t, "plan", demo, "--format", "json", "--solver", solver)
+		if code != 0 {
+			t.Fatalf("--solver %s: exit %d: %s", solver, code, errs)
+		}
+		_, again, _ := run(t, "plan", demo, "--format", "json", "--solver", solver)
+		if again != out {
+			t.Errorf("--solver %s: output differs between two runs", solver)
+		}
+		var r struct {
+			ConditionScore float64 `json:"condition_score"`
+			Model          struct {
+				Solver string `json:"solver"`
+			} `json:"model"`
+		}
+		if err := json.Unmarshal([]byte(out), &r); err != nil {
+			t.Fatal(err)
+		}
+		if r.Model.Solver != solver {
+			t.Errorf("--solver %s: model.solver is %q", solver, r.Model.Solver)
+		}
+		score[solver] = r.ConditionScore
+	}
+	if d := math.Abs(score["flat"] - score["decomposed"]); d > 1e-6*score["flat"] {
+		t.Errorf("condition score flat %.10g, decomposed %.10g", score["flat"], score["decomposed"])
+	}
+}
+
 func TestUsageErrors(t *testing.T) {
 	cases := [][]string{
 		{"plan", demo, "--format", "docx"},
@@ -116,6 +151,7 @@ func TestUsageErrors(t *testing.T) {
 		{"plan", demo, "--no-such-flag"},
 		{"nonsense"},
 		{"forecast", demo, "--table", "nope"},
+		{"plan", demo, "--solver", "simplex"},
 	}
 	for _, args := range cases {
 		code, _, errs := run(t, args...)

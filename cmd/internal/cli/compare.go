@@ -28,6 +28,10 @@ calendar years, or last.`,
   wearplan compare scenarios/examples/marrowby.yaml scenarios/examples/marrowby-reduced.yaml --years 2030,2036,last --format csv`,
 		Args: cobra.MinimumNArgs(2),
 		RunE: func(cmd *cobra.Command, args []string) error {
+			solveOpt, err := solve.scenarioOptions()
+			if err != nil {
+				return err
+			}
 			if err := out.validate(); err != nil {
 				return err
 			}
@@ -44,7 +48,7 @@ calendar years, or last.`,
 				sc.Source = path
 				scs = append(scs, sc)
 			}
-			r, err := scenarios.Compare(scs, ys, solve.scenarioOptions())
+			r, err := scenarios.Compare(scs, ys, solveOpt)
 			if err != nil {
 				return usageIfYears(err)
 			}

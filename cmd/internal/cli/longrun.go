@@ -29,6 +29,10 @@ year's budget buys every year.`,
   wearplan longrun scenarios/examples/marrowby.yaml --format csv --out policy.csv`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
+			solveOpt, err := solve.scenarioOptions()
+			if err != nil {
+				return err
+			}
 			if err := out.validate(); err != nil {
 				return err
 			}
@@ -36,7 +40,7 @@ year's budget buys every year.`,
 			if err != nil {
 				return err
 			}
-			r, err := scenarios.LongRun(sc, solve.scenarioOptions())
+			r, err := scenarios.LongRun(sc, solveOpt)
 			if err != nil {
 				return err
 			}

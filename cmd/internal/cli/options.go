@@ -12,6 +12,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"wearplan/cmd/internal/render"
+	"wearplan/optimize"
 	"wearplan/scenarios"
 )
 
@@ -179,14 +180,20 @@ func writeFileAtomic(path string, fill func(io.Writer) error) error {
 // solveOptions are the flags of commands that run the optimizer.
 type solveOptions struct {
 	timeout time.Duration
+	solver  string
 }
 
 func (o *solveOptions) register(cmd *cobra.Command) {
 	cmd.Flags().DurationVar(&o.timeout, "timeout", 5*time.Minute, "give up on a solve after this long (e.g. 30s, 10m)")
+	cmd.Flags().StringVar(&o.solver, "solver", "auto", "auto, flat (one LP, the reference) or decomposed (column generation, for large networks); auto picks by model size")
 }
 
-func (o *solveOptions) scenarioOptions() scenarios.Options {
-	return scenarios.Options{Timeout: o.timeout}
+func (o *solveOptions) scenarioOptions() (scenarios.Options, error) {
+	m, err := optimize.ParseMethod(o.solver)
+	if err != nil {
+		return scenarios.Options{}, usageError("--solver %q: choose one of auto, flat, decomposed", o.solver)
+	}
+	return scenarios.Options{Timeout: o.timeout, Solver: m}, nil
 }
 
 // loadScenario reads and checks a scenario file.

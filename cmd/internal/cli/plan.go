@@ -26,12 +26,21 @@ With a budget the default objective is max-condition: the best mean network
 condition the money buys. Without one it is min-cost: the least present-value
 spend that meets the targets. When the targets cannot be met within the
 budget, the plan reports status targets-not-met and, per target and year, how
-far it falls short; it still exits 0 unless --strict is given (exit 3).`,
+far it falls short; it still exits 0 unless --strict is given (exit 3).
+
+Large networks (dozens of classes, long horizons) are solved by column
+generation over each class's policies instead of as one LP; --solver picks
+flat or decomposed by hand, auto (the default) by model size. Both give the
+same optimum to within 1e-6; where several plans are optimal they may pick
+different ones.`,
 		Example: `  # Plan the demo and print the tables
   wearplan plan scenarios/examples/marrowby.yaml
 
   # The JSON contract, for other tools
   wearplan plan scenarios/examples/marrowby.yaml --format json --out plan.json
+
+  # A state-wide network: force the decomposition
+  wearplan plan network.yaml --solver decomposed
 
   # Every table as CSV files in a folder
   mkdir -p out && wearplan plan scenarios/examples/marrowby.yaml --format csv --out out
@@ -47,6 +56,10 @@ far it falls short; it still exits 0 unless --strict is given (exit 3).`,
 			if err := checkModelPath(modelPath); err != nil {
 				return err
 			}
+			opt, err := solve.scenarioOptions()
+			if err != nil {
+				return err
+			}
 			sc, err := loadScenario(args[0])
 			if err != nil {
 				return err
@@ -56,7 +69,7 @@ far it falls short; it still exits 0 unless --strict is given (exit 3).`,
 					return err
 				}
 			}
-			r, err := scenarios.Plan(sc, solve.scenarioOptions())
+			r, err := scenarios.Plan(sc, opt)
 			if err != nil {
 				return err
 			}

@@ -56,6 +56,10 @@ give the same HTML and Markdown, byte for byte.`,
   wearplan report scenarios/examples/marrowby.yaml --sweep 2e6:6e6:500000 --out marrowby.html`,
 		Args: cobra.MinimumNArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
+			solveOpt, err := solve.scenarioOptions()
+			if err != nil {
+				return err
+			}
 			if !slices.Contains(reportFormats, format) {
 				return usageError("--format %q: choose one of %s", format, strings.Join(reportFormats, ", "))
 			}
@@ -83,7 +87,7 @@ give the same HTML and Markdown, byte for byte.`,
 				if err != nil {
 					return err
 				}
-				r, err := scenarios.Plan(sc, solve.scenarioOptions())
+				r, err := scenarios.Plan(sc, solveOpt)
 				if err != nil {
 					return err
 				}
@@ -99,7 +103,7 @@ give the same HTML and Markdown, byte for byte.`,
 				}
 			}
 			if sweepBudgets != nil {
-				sr, err := scenarios.Sweep(rep.Runs[0].Scenario, sweepBudgets, solve.scenarioOptions())
+				sr, err := scenarios.Sweep(rep.Runs[0].Scenario, sweepBudgets, solveOpt)
 				if err != nil {
 					return err
 				}

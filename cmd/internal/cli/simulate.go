@@ -79,7 +79,11 @@ The same seed gives the same output, byte for byte, on any number of cores.`,
 			if err != nil {
 				return err
 			}
-			opt.Timeout = solve.timeout
+			so, err := solve.scenarioOptions()
+			if err != nil {
+				return err
+			}
+			opt.Timeout, opt.Solver = so.Timeout, so.Solver
 			r, err := scenarios.Simulate(sc, opt)
 			var oe *scenarios.OptionError
 			if errors.As(err, &oe) {

@@ -32,6 +32,10 @@ planned in parallel on the available cores; the output is in budget order.`,
   wearplan sweep scenarios/examples/marrowby.yaml --budget 3e6,4e6,4.5e6,5e6 --format csv`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
+			solveOpt, err := solve.scenarioOptions()
+			if err != nil {
+				return err
+			}
 			if err := out.validate(); err != nil {
 				return err
 			}
@@ -43,7 +47,7 @@ planned in parallel on the available cores; the output is in budget order.`,
 			if err != nil {
 				return err
 			}
-			r, err := scenarios.Sweep(sc, list, solve.scenarioOptions())
+			r, err := scenarios.Sweep(sc, list, solveOpt)
 			if err != nil {
 				return err
 			}

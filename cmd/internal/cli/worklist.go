@@ -47,6 +47,10 @@ segment by inspection.`,
   wearplan worklist scenarios/examples/marrowby.yaml --format geojson --out worklist.geojson`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
+			solveOpt, err := solve.scenarioOptions()
+			if err != nil {
+				return err
+			}
 			if !slices.Contains(worklistFormats, format) {
 				return usageError("--format %q: choose one of %s", format, strings.Join(worklistFormats, ", "))
 			}
@@ -70,7 +74,7 @@ segment by inspection.`,
 			if format == "geojson" && !geometry {
 				return usageError("%s: the inventory has no geometry (a wkt column, or lon and lat columns), so there is nothing to map; use --format csv and join on segment_id", args[0])
 			}
-			r, err := scenarios.Plan(sc, solve.scenarioOptions())
+			r, err := scenarios.Plan(sc, solveOpt)
 			if err != nil {
 				return err
 			}

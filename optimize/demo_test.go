@@ -1,0 +1,47 @@
+package optimize_test
+
+import (
+	"path/filepath"
+	"testing"
+
+	"wearplan/optimize"
+	"wearplan/scenarios"
+)
+
+// TestDemoDecomposedMatchesGLPK: on the demo town's scenario, the
+// decomposition's optimum equals GLPK 5.0's glpsol (Debian package
+// glpk-utils, simplex) on the exported flat model within 1e-6 relative.
+func TestDemoDecomposedMatchesGLPK(t *testing.T) {
+	glpsol := optimize.RequireTool(t, "glpsol")
+	sc, err := scenarios.LoadFile(filepath.Join("..", "scenarios", "examples", "marrowby.yaml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	p, err := sc.Problem()
+	if err != nil {
+		t.Fatal(err)
+	}
+	m, err := optimize.BuildModel(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want, ok := optimize.GlpsolOptimum(t, glpsol, m)
+	if !ok {
+		t.Fatal("glpsol found no optimum of the demo's flat model")
+	}
+	plan, err := optimize.SolveWith(p, optimize.Options{Method: optimize.Decomposed})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if plan.Status != optimize.Optimal {
+		t.Fatalf("status %s", plan.Status)
+	}
+	got := plan.ConditionScore / 100 // the demo maximises condition: the model's objective is the mean score on 0-1
+	if p.Objective != optimize.MaxCondition {
+		t.Fatalf("the demo's objective changed to %s; update this check", p.Objective)
+	}
+	if !optimize.RelClose(got, want, 1e-6) {
+		t.Errorf("decomposed optimum %.12g, glpsol %.12g", got, want)
+	}
+	t.Logf("decomposed %.12g, glpsol %.12g: %d rounds, %d policies", got, want, plan.Stats.Iterations, plan.Stats.Columns)
+}
