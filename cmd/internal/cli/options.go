@@ -204,6 +204,9 @@ type simulateOptions struct {
 	lotSizes []string
 }
 
+// simulateFlagNames are the flags simulateOptions registers.
+var simulateFlagNames = []string{"runs", "seed", "matrix-uncertainty", "dirichlet-prior", "lot-size"}
+
 // simulateFlags maps each simulation option (scenarios.OptionError.Option)
 // to the flag that sets it.
 var simulateFlags = map[string]string{
@@ -223,6 +226,16 @@ func (o *simulateOptions) register(cmd *cobra.Command) {
 	f.StringArrayVar(&o.lotSizes, "lot-size", nil, "size of the lots cut from the quantities, in each class's unit: SIZE for all classes or CLASS=SIZE (repeatable; default: the inventory list's segments, else 1)")
 }
 
+// changed returns the first simulation flag given on the command line, or "".
+func (o *simulateOptions) changed(cmd *cobra.Command) string {
+	for _, name := range simulateFlagNames {
+		if cmd.Flags().Changed(name) {
+			return "--" + name
+		}
+	}
+	return ""
+}
+
 // options checks the flags and returns the simulation options they set,
 // with the solver's timeout. The policy is left for the caller.
 func (o *simulateOptions) options(solve solveOptions) (scenarios.SimulateOptions, error) {
@@ -237,13 +250,17 @@ func (o *simulateOptions) options(solve solveOptions) (scenarios.SimulateOptions
 }
 
 // simulateError turns an option the simulation refused into a usage error
-// that names the flag; other errors pass unchanged.
-func simulateError(err error) error {
+// that names the flag, after prefix (a file name, or ""); other errors pass
+// unchanged.
+func simulateError(prefix string, err error) error {
 	var oe *scenarios.OptionError
 	if errors.As(err, &oe) {
 		flag, ok := simulateFlags[oe.Option]
 		if !ok {
 			flag = oe.Option
+		}
+		if prefix != "" {
+			flag = prefix + ": " + flag
 		}
 		return usageError("%s: %s", flag, oe.Msg)
 	}

@@ -67,7 +67,7 @@ The same seed gives the same output, byte for byte, on any number of cores.`,
 			}
 			r, err := scenarios.Simulate(sc, opt)
 			if err != nil {
-				return simulateError(err)
+				return simulateError("", err)
 			}
 			return out.emit(cmd, renderers{
 				json: func(w io.Writer) error { return render.SimulationJSON(w, r) },
