@@ -253,7 +253,7 @@ func (b *shadedBand) draw(c *draw.Canvas, lo, hi []vg.Point) {
 		poly = append(poly, lo[i])
 	}
 	c.FillPolygon(bandFill, c.ClipPolygonXY(poly))
-	if lines := hatchLines(lo, hi, 3); len(lines) > 0 {
+	if lines := hatchLines(lo, hi, hatchSpacing); len(lines) > 0 {
 		c.StrokeLines(bandEdgeLine, c.ClipLinesXY(lines...)...)
 	}
 	c.StrokeLines(bandEdgeLine, c.ClipLinesXY(lo)...)
