@@ -76,12 +76,14 @@ func (p *pageEvents) listen(ev any) {
 	}
 }
 
-// TestReportOpensInChromium opens the HTML reports of the demo and of a
-// comparison in headless Chromium (Debian's chromium, driven with chromedp)
-// and checks, in the page the browser built: no console errors or
-// warnings, no network requests, the level-of-service table with a row
-// for every class and the network, and every chart drawn at a visible size
-// with its text. Screenshots are saved outside the repository.
+// TestReportOpensInChromium opens the HTML reports of the demo, of a
+// comparison and of the demo with uncertainty bands in headless Chromium
+// (Debian's chromium, driven with chromedp) and checks, in the page the
+// browser built: no console errors or warnings, no network requests, the
+// level-of-service table with a row for every class and the network (and
+// the poor share's range with bands), and every chart, band charts
+// included, drawn at a visible size with its text. Screenshots are saved
+// outside the repository.
 func TestReportOpensInChromium(t *testing.T) {
 	browser := requireBrowser(t)
 	dir := t.TempDir()
@@ -93,6 +95,10 @@ func TestReportOpensInChromium(t *testing.T) {
 	if code, _, errs := run(t, "report", demo, lowBudgetDemo(t), "--date", "2027-01-15", "--out", compare); code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
+	bands := filepath.Join(dir, "bands.html")
+	if code, _, errs := run(t, "report", demo, "--bands", "--runs", "100", "--date", "2027-01-15", "--out", bands); code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
 	// The demo has four classes; every run section has a network chart,
 	// one per class and the spend chart; a comparison adds two.
 	runCharts := func(run string) []string {
@@ -101,6 +107,11 @@ func TestReportOpensInChromium(t *testing.T) {
 			ids = append(ids, fmt.Sprintf("%s-chart-class-%d", run, k))
 		}
 		return append(ids, run+"-chart-spend")
+	}
+	// With bands, a band chart follows the network's and each class's.
+	bandCharts := append(runCharts("run-1"), "run-1-chart-bands-network")
+	for k := 1; k <= 4; k++ {
+		bandCharts = append(bandCharts, fmt.Sprintf("run-1-chart-bands-class-%d", k))
 	}
 	// The single report is captured whole; the long comparison only as far
 	// as the window shows, which keeps the test fast.
@@ -113,6 +124,7 @@ func TestReportOpensInChromium(t *testing.T) {
 		{single, "marrowby-report.png", true, []string{"run-1-los"}, runCharts("run-1")},
 		{compare, "marrowby-comparison.png", false, []string{"compare-los", "compare-spend", "run-1-los", "run-2-los"},
 			append(append([]string{"compare-chart-score", "compare-chart-spend"}, runCharts("run-1")...), runCharts("run-2")...)},
+		{bands, "marrowby-bands.png", true, []string{"run-1-los"}, bandCharts},
 	}
 
 	events := &pageEvents{}
@@ -157,6 +169,22 @@ func TestReportOpensInChromium(t *testing.T) {
 			}
 			if len(rows) < 5 {
 				t.Errorf("%s: table #%s has %d rows", filepath.Base(pg.file), id, len(rows))
+			}
+		}
+		if pg.file == bands {
+			// The poor share's range for each class and the network, and a
+			// probability for each of the demo's two targets.
+			ranges, err := chromedp.Run(tctx, chromedp.Evaluate[int](
+				`[...document.querySelectorAll('#run-1-los tbody tr')].filter(r => r.cells[0].textContent.startsWith('Poor, 5th-95th percentile of 100 runs')).length`))
+			if err != nil {
+				t.Fatal(err)
+			}
+			chances, err := chromedp.Run(tctx, chromedp.Evaluate[int](`document.querySelectorAll('#run-1-bands-targets tbody tr').length`))
+			if err != nil {
+				t.Fatal(err)
+			}
+			if ranges != 5 || chances != 2 {
+				t.Errorf("bands report: %d range rows (want 5), %d target probability rows (want 2)", ranges, chances)
 			}
 		}
 		// Every chart: an SVG at least 300 x 150 CSS pixels with axis text.

@@ -1,11 +1,14 @@
 package cli
 
 import (
+	"errors"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"path/filepath"
 	"slices"
+	"strconv"
 	"strings"
 	"time"
 
@@ -194,6 +197,116 @@ func (o *solveOptions) scenarioOptions() (scenarios.Options, error) {
 		return scenarios.Options{}, usageError("--solver %q: choose one of auto, flat, decomposed", o.solver)
 	}
 	return scenarios.Options{Timeout: o.timeout, Solver: m}, nil
+}
+
+// simulateOptions are the flags that set up a simulation, shared by
+// simulate and report --bands (which adds the bands to the report). The
+// policy is not among them: simulate has --policy, and a report's bands are
+// always those of the plan it shows.
+type simulateOptions struct {
+	runs     int
+	seed     uint64
+	matrix   string
+	prior    float64
+	lotSizes []string
+}
+
+// simulateFlagNames are the flags simulateOptions registers.
+var simulateFlagNames = []string{"runs", "seed", "matrix-uncertainty", "dirichlet-prior", "lot-size"}
+
+// simulateFlags maps each simulation option (scenarios.OptionError.Option)
+// to the flag that sets it.
+var simulateFlags = map[string]string{
+	"runs":               "--runs",
+	"policy":             "--policy",
+	"matrix uncertainty": "--matrix-uncertainty",
+	"dirichlet prior":    "--dirichlet-prior",
+	"lot size":           "--lot-size",
+}
+
+func (o *simulateOptions) register(cmd *cobra.Command) {
+	f := cmd.Flags()
+	f.IntVar(&o.runs, "runs", 1000, "number of simulated runs")
+	f.Uint64Var(&o.seed, "seed", 1, "random seed: the same seed gives the same output")
+	f.StringVar(&o.matrix, "matrix-uncertainty", scenarios.MatrixNone, "draw matrices per run: none, dirichlet (posterior of fitted counts) or bootstrap (fitted replicates)")
+	f.Float64Var(&o.prior, "dirichlet-prior", 0.5, "symmetric Dirichlet prior for --matrix-uncertainty dirichlet: 0.5 (Jeffreys) or 1 (uniform)")
+	f.StringArrayVar(&o.lotSizes, "lot-size", nil, "size of the lots cut from the quantities, in each class's unit: SIZE for all classes or CLASS=SIZE (repeatable; default: the inventory list's segments, else 1)")
+}
+
+// changed returns the first simulation flag given on the command line, or "".
+func (o *simulateOptions) changed(cmd *cobra.Command) string {
+	for _, name := range simulateFlagNames {
+		if cmd.Flags().Changed(name) {
+			return "--" + name
+		}
+	}
+	return ""
+}
+
+// options checks the flags and returns the simulation options they set,
+// with the solver's timeout and method. The policy is left for the caller.
+func (o *simulateOptions) options(solve solveOptions) (scenarios.SimulateOptions, error) {
+	so, err := solve.scenarioOptions()
+	if err != nil {
+		return scenarios.SimulateOptions{}, err
+	}
+	opt := scenarios.SimulateOptions{Runs: o.runs, Seed: o.seed, Matrix: o.matrix, Prior: o.prior, Timeout: so.Timeout, Solver: so.Solver}
+	if err := parseLotSizes(o.lotSizes, &opt); err != nil {
+		return opt, err
+	}
+	if !(opt.Prior > 0) {
+		return opt, usageError("--dirichlet-prior %g: give a positive number (0.5 is Jeffreys' prior, 1 the uniform prior)", opt.Prior)
+	}
+	return opt, nil
+}
+
+// simulateError turns an option the simulation refused into a usage error
+// that names the flag, after prefix (a file name, or ""); other errors pass
+// unchanged.
+func simulateError(prefix string, err error) error {
+	var oe *scenarios.OptionError
+	if errors.As(err, &oe) {
+		flag, ok := simulateFlags[oe.Option]
+		if !ok {
+			flag = oe.Option
+		}
+		if prefix != "" {
+			flag = prefix + ": " + flag
+		}
+		return usageError("%s: %s", flag, oe.Msg)
+	}
+	return err
+}
+
+// parseLotSizes reads --lot-size values: SIZE or CLASS=SIZE.
+func parseLotSizes(values []string, opt *scenarios.SimulateOptions) error {
+	for _, v := range values {
+		name, size, perClass := "", v, false
+		if i := strings.LastIndex(v, "="); i >= 0 {
+			name, size, perClass = strings.TrimSpace(v[:i]), v[i+1:], true
+		}
+		x, err := strconv.ParseFloat(strings.TrimSpace(size), 64)
+		if err != nil || !(x > 0) || math.IsInf(x, 0) {
+			return usageError("--lot-size %q: give a positive size in the class's unit, as SIZE (all classes) or CLASS=SIZE, e.g. --lot-size 0.5 or --lot-size bridge-decks=450", v)
+		}
+		switch {
+		case perClass && name == "":
+			return usageError("--lot-size %q: the class name before = is missing, e.g. bridge-decks=450", v)
+		case perClass:
+			if opt.ClassLotSize == nil {
+				opt.ClassLotSize = map[string]float64{}
+			}
+			if _, dup := opt.ClassLotSize[name]; dup {
+				return usageError("--lot-size: class %q is given twice; keep one size per class", name)
+			}
+			opt.ClassLotSize[name] = x
+		case opt.LotSize != 0:
+			return usageError("--lot-size %q: a size for all classes is already given (%s); give it once, and CLASS=SIZE for exceptions", v, strconv.FormatFloat(opt.LotSize, 'g', -1, 64))
+		default:
+			opt.LotSize = x
+		}
+	}
+	return nil
 }
 
 // loadScenario reads and checks a scenario file.

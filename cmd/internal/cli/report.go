@@ -18,6 +18,8 @@ var reportFormats = []string{"html", "md", "xlsx"}
 
 func newReportCmd() *cobra.Command {
 	var solve solveOptions
+	var sim simulateOptions
+	var withBands bool
 	var format, out, date, sweep string
 	cmd := &cobra.Command{
 		Use:   "report FILE [FILE...]",
@@ -41,7 +43,16 @@ func newReportCmd() *cobra.Command {
 Several files make a comparison report: level of service and spend side by
 side, then a section for each scenario. The date defaults to today; give
 --date to make the report reproducible: the same files, version and date
-give the same HTML and Markdown, byte for byte.`,
+give the same HTML and Markdown, byte for byte.
+
+--bands also simulates each plan at segment level, as wearplan simulate does
+(--runs, --seed, --lot-size, --matrix-uncertainty and --dirichlet-prior set
+it up the same way), and adds how sure the forecast is: for the network and
+each class a chart of the poor and good shares with the plan, the median and
+the 5th-95th percentile band of the runs; the poor share's range in the
+level-of-service table; the probability that each target is met; which
+sources of uncertainty the bands include; and in the workbook the sheets
+Bands and Target probabilities. The same seed gives the same report.`,
 		Example: `  # The demo as a web page
   wearplan report scenarios/examples/marrowby.yaml --out marrowby.html
 
@@ -53,7 +64,10 @@ give the same HTML and Markdown, byte for byte.`,
   wearplan report scenarios/examples/marrowby.yaml scenarios/examples/marrowby-reduced.yaml --out options.html
 
   # With the condition score against yearly budget from 2 to 6 million
-  wearplan report scenarios/examples/marrowby.yaml --sweep 2e6:6e6:500000 --out marrowby.html`,
+  wearplan report scenarios/examples/marrowby.yaml --sweep 2e6:6e6:500000 --out marrowby.html
+
+  # With uncertainty bands from 1000 simulated runs (seed 7)
+  wearplan report scenarios/examples/marrowby.yaml --bands --seed 7 --out marrowby.html`,
 		Args: cobra.MinimumNArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			solveOpt, err := solve.scenarioOptions()
@@ -70,6 +84,16 @@ give the same HTML and Markdown, byte for byte.`,
 				date = time.Now().Format(time.DateOnly)
 			} else if _, err := time.Parse(time.DateOnly, date); err != nil {
 				return usageError("--date %q: give the date as YYYY-MM-DD, e.g. 2027-01-15", date)
+			}
+			var simOpt scenarios.SimulateOptions
+			if withBands {
+				var err error
+				if simOpt, err = sim.options(solve); err != nil {
+					return err
+				}
+				simOpt.Policy = scenarios.PolicyPlan
+			} else if flag := sim.changed(cmd); flag != "" {
+				return usageError("%s sets up the uncertainty bands: add --bands", flag)
 			}
 			var sweepBudgets []float64
 			if sweep != "" {
@@ -95,7 +119,17 @@ give the same HTML and Markdown, byte for byte.`,
 					fmt.Fprintf(cmd.ErrOrStderr(), "%s: ", path)
 					warnShortfalls(cmd, r)
 				}
-				rep.Runs = append(rep.Runs, report.Run{Scenario: sc, Result: r})
+				run := report.Run{Scenario: sc, Result: r}
+				if withBands {
+					prefix := ""
+					if len(args) > 1 {
+						prefix = path
+					}
+					if run.Simulation, err = scenarios.Simulate(sc, simOpt); err != nil {
+						return simulateError(prefix, err)
+					}
+				}
+				rep.Runs = append(rep.Runs, run)
 				for _, in := range sc.Inputs {
 					// Names are relative to the scenario's folder; show them
 					// as the user would type them.
@@ -136,6 +170,8 @@ give the same HTML and Markdown, byte for byte.`,
 	cmd.Flags().StringVar(&out, "out", "", "write to this file instead of standard output (required for xlsx)")
 	cmd.Flags().StringVar(&sweep, "sweep", "", "also plan these yearly budgets and chart condition against budget: FROM:TO:STEP or a list (one scenario only)")
 	cmd.Flags().StringVar(&date, "date", "", "report date as YYYY-MM-DD (default today); fix it for reproducible output")
+	cmd.Flags().BoolVar(&withBands, "bands", false, "also simulate each plan and show uncertainty bands and target probabilities (set up with --runs, --seed, --lot-size, --matrix-uncertainty)")
 	solve.register(cmd)
+	sim.register(cmd)
 	return cmd
 }

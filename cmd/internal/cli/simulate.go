@@ -1,11 +1,7 @@
 package cli
 
 import (
-	"errors"
 	"io"
-	"math"
-	"strconv"
-	"strings"
 
 	"github.com/spf13/cobra"
 
@@ -13,20 +9,11 @@ import (
 	"wearplan/scenarios"
 )
 
-// simulateFlags maps each simulation option to the flag that sets it.
-var simulateFlags = map[string]string{
-	"runs":               "--runs",
-	"policy":             "--policy",
-	"matrix uncertainty": "--matrix-uncertainty",
-	"dirichlet prior":    "--dirichlet-prior",
-	"lot size":           "--lot-size",
-}
-
 func newSimulateCmd() *cobra.Command {
 	var out outputOptions
 	var solve solveOptions
-	var opt scenarios.SimulateOptions
-	var lotSizes []string
+	var sim simulateOptions
+	policy := scenarios.PolicyPlan
 	cmd := &cobra.Command{
 		Use:   "simulate FILE",
 		Short: "Uncertainty bands: simulate the plan segment by segment",
@@ -69,28 +56,18 @@ The same seed gives the same output, byte for byte, on any number of cores.`,
 			if err := out.validate(); err != nil {
 				return err
 			}
-			if err := parseLotSizes(lotSizes, &opt); err != nil {
+			opt, err := sim.options(solve)
+			if err != nil {
 				return err
 			}
-			if !(opt.Prior > 0) {
-				return usageError("--dirichlet-prior %g: give a positive number (0.5 is Jeffreys' prior, 1 the uniform prior)", opt.Prior)
-			}
+			opt.Policy = policy
 			sc, err := loadScenario(args[0])
 			if err != nil {
 				return err
 			}
-			so, err := solve.scenarioOptions()
-			if err != nil {
-				return err
-			}
-			opt.Timeout, opt.Solver = so.Timeout, so.Solver
 			r, err := scenarios.Simulate(sc, opt)
-			var oe *scenarios.OptionError
-			if errors.As(err, &oe) {
-				return usageError("%s: %s", simulateFlags[oe.Option], oe.Msg)
-			}
 			if err != nil {
-				return err
+				return simulateError("", err)
 			}
 			return out.emit(cmd, renderers{
 				json: func(w io.Writer) error { return render.SimulationJSON(w, r) },
@@ -101,43 +78,7 @@ The same seed gives the same output, byte for byte, on any number of cores.`,
 	}
 	out.registerTables(cmd, render.SimulationCSVTables, "bands")
 	solve.register(cmd)
-	f := cmd.Flags()
-	f.IntVar(&opt.Runs, "runs", 1000, "number of simulated runs")
-	f.Uint64Var(&opt.Seed, "seed", 1, "random seed: the same seed gives the same output")
-	f.StringVar(&opt.Policy, "policy", scenarios.PolicyPlan, "what the runs follow: plan or do-nothing")
-	f.StringVar(&opt.Matrix, "matrix-uncertainty", scenarios.MatrixNone, "draw matrices per run: none, dirichlet (posterior of fitted counts) or bootstrap (fitted replicates)")
-	f.Float64Var(&opt.Prior, "dirichlet-prior", 0.5, "symmetric Dirichlet prior for --matrix-uncertainty dirichlet: 0.5 (Jeffreys) or 1 (uniform)")
-	f.StringArrayVar(&lotSizes, "lot-size", nil, "size of the lots cut from the quantities, in each class's unit: SIZE for all classes or CLASS=SIZE (repeatable; default: the inventory list's segments, else 1)")
+	sim.register(cmd)
+	cmd.Flags().StringVar(&policy, "policy", scenarios.PolicyPlan, "what the runs follow: plan or do-nothing")
 	return cmd
-}
-
-// parseLotSizes reads --lot-size values: SIZE or CLASS=SIZE.
-func parseLotSizes(values []string, opt *scenarios.SimulateOptions) error {
-	for _, v := range values {
-		name, size, perClass := "", v, false
-		if i := strings.LastIndex(v, "="); i >= 0 {
-			name, size, perClass = strings.TrimSpace(v[:i]), v[i+1:], true
-		}
-		x, err := strconv.ParseFloat(strings.TrimSpace(size), 64)
-		if err != nil || !(x > 0) || math.IsInf(x, 0) {
-			return usageError("--lot-size %q: give a positive size in the class's unit, as SIZE (all classes) or CLASS=SIZE, e.g. --lot-size 0.5 or --lot-size bridge-decks=450", v)
-		}
-		switch {
-		case perClass && name == "":
-			return usageError("--lot-size %q: the class name before = is missing, e.g. bridge-decks=450", v)
-		case perClass:
-			if opt.ClassLotSize == nil {
-				opt.ClassLotSize = map[string]float64{}
-			}
-			if _, dup := opt.ClassLotSize[name]; dup {
-				return usageError("--lot-size: class %q is given twice; keep one size per class", name)
-			}
-			opt.ClassLotSize[name] = x
-		case opt.LotSize != 0:
-			return usageError("--lot-size %q: a size for all classes is already given (%s); give it once, and CLASS=SIZE for exceptions", v, strconv.FormatFloat(opt.LotSize, 'g', -1, 64))
-		default:
-			opt.LotSize = x
-		}
-	}
-	return nil
 }

@@ -214,9 +214,9 @@ func chanceTable(r *scenarios.SimulationResult) table {
 					lo = y
 				}
 			}
-			lowest = fmt.Sprintf("%s in %d", chance(lo.Probability), lo.Year)
+			lowest = fmt.Sprintf("%s in %d", Chance(lo.Probability), lo.Year)
 		}
-		t.rows = append(t.rows, []string{fmt.Sprintf("T%d", n+1), tc.Target, met, chance(tc.AllYears), lowest})
+		t.rows = append(t.rows, []string{fmt.Sprintf("T%d", n+1), tc.Target, met, Chance(tc.AllYears), lowest})
 	}
 	return t
 }
@@ -233,7 +233,7 @@ func chanceByYearTable(r *scenarios.SimulationResult) table {
 		t.header = append(t.header, fmt.Sprintf("T%d", n+1))
 		t.right = append(t.right, true)
 		for _, y := range tc.Years {
-			years[y.Year][n] = chance(y.Probability)
+			years[y.Year][n] = Chance(y.Probability)
 		}
 	}
 	for _, y := range order {
@@ -249,9 +249,9 @@ func chanceByYearTable(r *scenarios.SimulationResult) table {
 	return t
 }
 
-// chance formats a probability as a whole percentage, keeping "<1%" and
+// Chance formats a probability as a whole percentage, keeping "<1%" and
 // ">99%" apart from certainty.
-func chance(p float64) string {
+func Chance(p float64) string {
 	switch {
 	case p == 0:
 		return "0%"

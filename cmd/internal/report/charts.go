@@ -96,6 +96,12 @@ func drawSVG(p *plot.Plot, legend *plot.Legend, label string) (svg template.HTML
 		legend.Draw(la)
 	}
 	p.Draw(plotArea)
+	return inlineSVG(c, label)
+}
+
+// inlineSVG writes a drawn canvas as SVG for inlining in HTML: no XML
+// prologue, fonts with fallbacks, a role and a label.
+func inlineSVG(c *vgsvg.Canvas, label string) (template.HTML, error) {
 	var buf bytes.Buffer
 	if _, err := c.WriteTo(&buf); err != nil {
 		return "", err

@@ -60,6 +60,7 @@ type runView struct {
 	LOS         table
 	Charts      []chart
 	Targets     *table
+	Bands       *bandsView
 	Spend       *table
 	Work        *table
 	Assumptions *assumptions
@@ -174,11 +175,21 @@ func buildRun(id string, run Run, withCharts bool) (runView, error) {
 		if err != nil {
 			return rv, err
 		}
+		if run.Simulation != nil {
+			bs, err := bandCharts(id, run.Simulation)
+			if err != nil {
+				return rv, err
+			}
+			cs = withBandCharts(cs, bs)
+		}
 		rv.Charts = cs
 	}
 	if len(r.Targets) > 0 {
 		t := targetTable(id+"-targets", r)
 		rv.Targets = &t
+	}
+	if run.Simulation != nil {
+		rv.Bands = buildBands(id, run.Simulation)
 	}
 	if r.Kind == "plan" {
 		s, w := spendTable(id+"-spend", r), workTable(id+"-work", r)
@@ -319,6 +330,9 @@ func losTable(id string, run Run) table {
 		shareRow("Good", func(s scenarios.Shares) float64 { return s.Good })
 		shareRow("Fair", func(s scenarios.Shares) float64 { return s.Fair })
 		shareRow("Poor", func(s scenarios.Shares) float64 { return s.Poor })
+		if run.Simulation != nil {
+			t.add(poorRangeRow(run.Simulation, k, years)...)
+		}
 		cells := []string{"Average index" + scaleNote(run.Scenario, c.Class)}
 		for _, c := range cs {
 			cells = append(cells, render.Index(c.AverageIndex))
@@ -345,6 +359,9 @@ func losTable(id string, run Run) table {
 			cells = append(cells, render.Percent(g.get(n.Shares)))
 		}
 		t.add(cells...)
+		if g.label == "Poor" && run.Simulation != nil {
+			t.add(poorRangeRow(run.Simulation, -1, years)...)
+		}
 	}
 	if ns[0].AverageIndex != nil {
 		cells := []string{"Average index"}
@@ -365,6 +382,9 @@ func losTable(id string, run Run) table {
 	moneyRow("Replacement value ("+cur+")", rv)
 	moneyRow("Backlog ("+cur+")", bl)
 	t.Note = "Shares are of each class's quantity; good, fair and poor group the states of each class's scale. Years mean the condition at the end of the year."
+	if run.Simulation != nil {
+		t.Note += " The 5th-95th percentile rows come from simulating the plan (see \"How sure the forecast is\"); today's condition is known, so it has no range."
+	}
 	return t
 }
 

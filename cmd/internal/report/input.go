@@ -5,7 +5,8 @@
 //
 // One run gives a report of one scenario; several runs give a comparison
 // report (side-by-side level of service and spend) followed by a section per
-// run. Output is deterministic: the same Report gives the same bytes of HTML
+// run. A run may carry the simulation of its plan (scenarios.Simulate): its
+// section then shows uncertainty bands (bands.go, bandcharts.go). Output is deterministic: the same Report gives the same bytes of HTML
 // and Markdown (fixed element ids, no map iteration, no clock: the date is
 // part of the input).
 package report
@@ -36,6 +37,12 @@ type Run struct {
 	// it. It may be nil, and the section is then left out.
 	Scenario *scenarios.Scenario
 	Result   *scenarios.Result
+	// Simulation, when set, is the simulation of the same plan
+	// (scenarios.Simulate with the plan policy): the report then adds the
+	// uncertainty bands to the level-of-service table and the charts, the
+	// probability that each target is met, and a section on what the bands
+	// include.
+	Simulation *scenarios.SimulationResult
 }
 
 // Details identify the run: who made the report, from what, and when.
@@ -88,9 +95,41 @@ func (r *Report) validate() error {
 		if len(run.Result.Initial.Classes) == 0 {
 			return fmt.Errorf("report: run %d (%s) has no asset classes", i+1, run.Result.Scenario)
 		}
+		if err := checkSimulation(run); err != nil {
+			return fmt.Errorf("report: run %d (%s): %w", i+1, run.Result.Scenario, err)
+		}
 	}
 	if !datePattern.MatchString(r.Details.Date) {
 		return fmt.Errorf("report: date %q is not YYYY-MM-DD", r.Details.Date)
+	}
+	return nil
+}
+
+// checkSimulation checks that a run's simulation is of its plan: the same
+// years and classes, and the plan policy.
+func checkSimulation(run Run) error {
+	sim, r := run.Simulation, run.Result
+	if sim == nil {
+		return nil
+	}
+	if sim.Policy != scenarios.PolicyPlan || r.Kind != "plan" {
+		return fmt.Errorf("the bands must come from simulating the plan the report shows (simulation policy %q, result %q)", sim.Policy, r.Kind)
+	}
+	if sim.StartYear != r.StartYear || len(sim.Years) != len(r.Years) || sim.Runs < 1 {
+		return fmt.Errorf("the simulation covers %d years from %d (%d runs), the plan %d from %d", len(sim.Years), sim.StartYear, sim.Runs, len(r.Years), r.StartYear)
+	}
+	if len(sim.Classes) != len(r.Initial.Classes) || len(sim.Initial.Classes) != len(r.Initial.Classes) {
+		return fmt.Errorf("the simulation has %d classes, the plan %d", len(sim.Classes), len(r.Initial.Classes))
+	}
+	for k, c := range sim.Classes {
+		if c.Class != r.Initial.Classes[k].Class {
+			return fmt.Errorf("class %d is %q in the simulation and %q in the plan", k+1, c.Class, r.Initial.Classes[k].Class)
+		}
+		for _, y := range sim.Years {
+			if len(y.Classes) != len(sim.Classes) || y.Classes[k].Class != c.Class {
+				return fmt.Errorf("the simulation's year %d lacks the bands of class %q", y.Year, c.Class)
+			}
+		}
 	}
 	return nil
 }

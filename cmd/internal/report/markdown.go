@@ -45,12 +45,44 @@ func Markdown(w io.Writer, rep *Report) error {
 		m.line("### Level of service")
 		m.blank()
 		m.table(r.LOS)
-		m.line("Charts of condition by year and of spend against budget are in the HTML report (`wearplan report --format html`).")
+		if r.Bands != nil {
+			m.line("Charts of condition by year, of the poor and good shares with their 5th-95th percentile bands, and of spend against budget are in the HTML report (`wearplan report --format html --bands`).")
+		} else {
+			m.line("Charts of condition by year and of spend against budget are in the HTML report (`wearplan report --format html`).")
+		}
 		m.blank()
 		if r.Targets != nil {
 			m.line("### Targets")
 			m.blank()
 			m.table(*r.Targets)
+		}
+		if b := r.Bands; b != nil {
+			m.line("### How sure the forecast is")
+			m.blank()
+			m.facts(b.Facts)
+			m.line("Included in the bands:")
+			m.blank()
+			for _, s := range b.Included {
+				m.line("- ", mdText(s))
+			}
+			m.blank()
+			m.line("Not included:")
+			m.blank()
+			for _, s := range b.Excluded {
+				m.line("- ", mdText(s))
+			}
+			m.blank()
+			if b.Chances != nil {
+				m.table(*b.Chances)
+			}
+			m.table(b.Classes)
+			m.facts(b.Method)
+			for _, n := range b.Notes {
+				m.line("Note: ", mdText(n))
+				m.blank()
+			}
+			m.line("> **", mdText(b.Caution), "**")
+			m.blank()
 		}
 		if r.Spend != nil {
 			m.line("### Spend against budget")

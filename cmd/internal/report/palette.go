@@ -125,4 +125,9 @@ var (
 	ink      = color.RGBA{26, 26, 26, 255}    // text and budget marks
 	spendInk = lch(60, 14, 250)               // spend bars: a cool grey-blue, apart from the condition ramp
 	gridInk  = color.RGBA{190, 190, 190, 255} // light rules
+	// Uncertainty bands: a very light neutral fill with mid-grey hatching
+	// and edges, so that a band stays visible where a printer drops light
+	// fills, and never looks like a condition state.
+	bandFill = lch(92, 3, 250)
+	bandEdge = lch(62, 3, 250)
 )

@@ -21,6 +21,10 @@ const (
 	SheetSpend     = "Spend and budget"
 	SheetTargets   = "Targets"
 	SheetInputs    = "Inputs"
+	// SheetBands and SheetTargetChances follow SheetTargets when the
+	// report has bands.
+	SheetBands         = "Bands"
+	SheetTargetChances = "Target probabilities"
 )
 
 // Number formats of workbook columns. Values are stored at full precision;
@@ -56,7 +60,9 @@ type sheetData struct {
 // details. Every table has a scenario column, so that comparison workbooks
 // keep the same shape; numbers are stored as numbers (shares as fractions
 // shown as percentages) with units in the headers; header rows are frozen
-// and filtered.
+// and filtered. When a run carries a simulation, the Bands and Target
+// probabilities sheets follow Targets, and the About sheet says what the
+// bands include.
 func Workbook(w io.Writer, rep *Report) error {
 	if err := rep.validate(); err != nil {
 		return err
@@ -67,7 +73,11 @@ func Workbook(w io.Writer, rep *Report) error {
 	if err := wb.about(rep); err != nil {
 		return err
 	}
-	for _, s := range []sheetData{workSheet(rep), conditionSheet(rep), serviceSheet(rep), spendSheet(rep), targetSheet(rep)} {
+	sheets := []sheetData{workSheet(rep), conditionSheet(rep), serviceSheet(rep), spendSheet(rep), targetSheet(rep)}
+	if hasBands(rep) {
+		sheets = append(sheets, bandSheet(rep), chanceSheet(rep))
+	}
+	for _, s := range sheets {
 		if err := wb.table(s); err != nil {
 			return fmt.Errorf("sheet %q: %w", s.name, err)
 		}
@@ -390,6 +400,72 @@ func targetSheet(rep *Report) sheetData {
 	return s
 }
 
+// hasBands says whether any run of the report carries a simulation.
+func hasBands(rep *Report) bool {
+	for _, run := range rep.Runs {
+		if run.Simulation != nil {
+			return true
+		}
+	}
+	return false
+}
+
+// bandSheet holds each run's share bands: per year, class (then the
+// network) and group, the 5th, 50th and 95th percentile and the plan.
+func bandSheet(rep *Report) sheetData {
+	s := sheetData{name: SheetBands, cols: []column{
+		{"Scenario", fmtText, 30}, {"Year (end of)", fmtInt, 8}, {"Class (or network)", fmtText, 18}, {"Group", fmtText, 8},
+		{"5th percentile (share)", fmtShare, 11}, {"Median (share)", fmtShare, 11}, {"95th percentile (share)", fmtShare, 11},
+		{"Plan (share)", fmtShare, 11}, {"Runs", fmtInt, 8},
+	}}
+	for _, run := range rep.Runs {
+		sim := run.Simulation
+		if sim == nil {
+			continue
+		}
+		add := func(year int, class string, sh scenarios.ShareBands) {
+			for _, g := range []struct {
+				name string
+				b    scenarios.Band
+			}{{"good", sh.Good}, {"fair", sh.Fair}, {"poor", sh.Poor}} {
+				s.rows = append(s.rows, []any{run.Result.Scenario, year, class, g.name, g.b.P5, g.b.P50, g.b.P95, g.b.Plan, sim.Runs})
+			}
+		}
+		for _, y := range sim.Years {
+			for _, c := range y.Classes {
+				add(y.Year, c.Class, c.Shares)
+			}
+			add(y.Year, "network", y.Network.Shares)
+		}
+	}
+	return s
+}
+
+// chanceSheet holds, per target and year, the share of runs meeting it.
+func chanceSheet(rep *Report) sheetData {
+	s := sheetData{name: SheetTargetChances, cols: []column{
+		{"Scenario", fmtText, 30}, {"Target", fmtText, 44}, {"Plan meets it", fmtText, 8},
+		{"Probability met in every year it covers (share of runs)", fmtShare, 14},
+		{"Year", fmtInt, 8}, {"Probability met in the year (share of runs)", fmtShare, 14}, {"Runs", fmtInt, 8},
+	}}
+	for _, run := range rep.Runs {
+		sim := run.Simulation
+		if sim == nil {
+			continue
+		}
+		for _, tc := range sim.Targets {
+			met := "yes"
+			if !tc.MetByPlan {
+				met = "no"
+			}
+			for _, y := range tc.Years {
+				s.rows = append(s.rows, []any{run.Result.Scenario, tc.Target, met, tc.AllYears, y.Year, y.Probability, sim.Runs})
+			}
+		}
+	}
+	return s
+}
+
 // about writes the first sheet: title, caution, what each sheet holds, and
 // the run details.
 func (wb *workbook) about(rep *Report) error {
@@ -418,8 +494,32 @@ func (wb *workbook) about(rep *Report) error {
 		[]any{SheetService, "good, fair and poor shares (fractions shown as percentages), average index and condition score per class and for the network; replacement value and backlog where known"},
 		[]any{SheetSpend, "spend against the budget cap each year, and its present value"},
 		[]any{SheetTargets, "each target, whether it holds, its worst year, and any shortfall by year"},
+	)
+	if hasBands(rep) {
+		lines = append(lines,
+			[]any{SheetBands, "5th, 50th and 95th percentile over the simulated runs of the good, fair and poor shares per class and for the network at the end of each year, beside the plan's share"},
+			[]any{SheetTargetChances, "for each target and year it covers, the share of simulated runs in which it is met, and the share in which it is met in every year"},
+		)
+	}
+	lines = append(lines,
 		[]any{SheetInputs, "the assumptions: rates, budget, classes, condition scales, deterioration matrices and treatments"},
 		[]any{},
+	)
+	for _, run := range rep.Runs {
+		sim := run.Simulation
+		if sim == nil {
+			continue
+		}
+		lines = append(lines,
+			[]any{"Bands", fmt.Sprintf("%s: %d simulated runs of the plan, seed %d", run.Result.Scenario, sim.Runs, sim.Seed)},
+			[]any{"Included", strings.Join(sim.Uncertainty.Included, "; ")},
+			[]any{"Not included", strings.Join(sim.Uncertainty.Excluded, "; ")},
+		)
+	}
+	if hasBands(rep) {
+		lines = append(lines, []any{"About the bands", bandsCaution}, []any{})
+	}
+	lines = append(lines,
 		[]any{"Run details", ""},
 		[]any{"wearplan version", rep.Details.Version},
 		[]any{"Report date", rep.Details.Date},
