@@ -31,4 +31,10 @@
 // score under the same money. Sweep plans a list of level budgets and
 // Compare a list of scenarios, in parallel (at most GOMAXPROCS at a time),
 // results in input order. LongRun reports the steady-state policy.
+//
+// What-if changes (whatif.go, for the `wearplan serve` page): an Editable
+// keeps a loaded scenario's YAML tree; Changes (budget level and yearly
+// steps, escalation, targets, objective) are laid over it as an overlay
+// file and checked by the same decoder and build as a file, and the result
+// can be written back out as one stand-alone scenario file.
 package scenarios
