@@ -348,7 +348,7 @@ type issueJSON struct {
 }
 
 func inputProblems(ie *scenarios.InputError) *apiError {
-	e := &apiError{status: http.StatusUnprocessableEntity, Message: "the changes cannot be planned; fix the problems listed"}
+	e := &apiError{status: http.StatusUnprocessableEntity, Message: "These changes cannot be planned; fix the problems listed."}
 	for _, is := range ie.Issues {
 		e.Issues = append(e.Issues, issueJSON{File: is.File, Line: is.Line, Field: is.Field, Message: is.Msg, Text: is.Error()})
 	}

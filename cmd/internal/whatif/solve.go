@@ -197,10 +197,11 @@ func (s *Server) solve(ctx context.Context, src *Source, ch scenarios.Changes) (
 		s.log.Printf("%s: %v", src.Path, err)
 		return nil, err
 	}
-	// Hook for more panels (the simulation bands of issue 9, "when asked
-	// for"): compute them here from sc, add them to planAnswer, and draw
-	// them in app.js's showPlan. Keep them out of the memo key unless the
-	// request asks for them.
+	// Hook for more panels (the uncertainty bands of the "How sure is the
+	// forecast" issue, shown when asked for): add a request field that
+	// asks for them (it then becomes part of the memo key), compute them
+	// here from sc and res, add them to planAnswer, and draw them in
+	// app.js's showPlan. DEVELOPERS.md, "The what-if page".
 	panel, err := report.RunPanel("current", report.Run{Scenario: sc, Result: res})
 	if err != nil {
 		return nil, err

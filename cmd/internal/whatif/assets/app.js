@@ -308,7 +308,11 @@
       const list = el('ul');
       for (const is of body.issues) {
         const where = is.file === 'what-if changes' ? fieldLabel(is.field || '') + (is.field ? ' (' + is.field + ')' : '') : is.text;
-        list.append(el('li', { text: is.file === 'what-if changes' ? where + ': ' + is.message : where }));
+        let text = is.file === 'what-if changes' ? where + ': ' + is.message : where;
+        // The message is the one a scenario file gets; this page takes
+        // shares in percent.
+        if (/_share$/.test(is.field || '')) text += ' (on this page, type shares in percent: 15 for 15%)';
+        list.append(el('li', { text }));
         const c = controlOf(is.field || '');
         if (c) c.setAttribute('aria-invalid', 'true');
       }
@@ -350,8 +354,16 @@
 
   // ---- kept alternatives -------------------------------------------------
 
+  // planShown says whether the page shows the plan of its controls (not
+  // an older one under a list of problems).
+  function planShown() {
+    if (state.last && $('problems').hidden) return true;
+    setStatus('Fix the problems first: the plan shown is not the one of the controls.', 'failed');
+    return false;
+  }
+
   function keep() {
-    if (!state.last) return;
+    if (!planShown()) return;
     const n = state.kept.length + 1;
     // A name left as the file's gets a number, so that the kept
     // alternatives, their files and reports can be told apart.
@@ -476,7 +488,7 @@
     });
     $('keep').addEventListener('click', keep);
     document.querySelectorAll('[data-download]').forEach((b) => b.addEventListener('click', () => {
-      if (state.last) download(b.dataset.download, [state.last.request]);
+      if (planShown()) download(b.dataset.download, [state.last.request]);
     }));
     document.querySelectorAll('[data-compare]').forEach((b) => b.addEventListener('click', () => {
       download(b.dataset.compare, state.kept.map((k) => k.request));
