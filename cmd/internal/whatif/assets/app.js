@@ -367,7 +367,7 @@
     const n = state.kept.length + 1;
     // A name left as the file's gets a number, so that the kept
     // alternatives, their files and reports can be told apart.
-    let name = state.last.request.changes.name || state.info.name;
+    let name = $('alt-name').value.trim() || state.info.name;
     if (name === state.info.name || state.kept.some((k) => k.name === name)) name += ', alternative ' + n;
     const request = structuredClone(state.last.request);
     request.changes.name = name;
@@ -488,7 +488,11 @@
     });
     $('keep').addEventListener('click', keep);
     document.querySelectorAll('[data-download]').forEach((b) => b.addEventListener('click', () => {
-      if (planShown()) download(b.dataset.download, [state.last.request]);
+      if (!planShown()) return;
+      // The name may have changed since the plan (a name changes no figure).
+      const request = structuredClone(state.last.request);
+      request.changes.name = $('alt-name').value.trim();
+      download(b.dataset.download, [request]);
     }));
     document.querySelectorAll('[data-compare]').forEach((b) => b.addEventListener('click', () => {
       download(b.dataset.compare, state.kept.map((k) => k.request));
