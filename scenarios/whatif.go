@@ -8,6 +8,7 @@ import (
 	"slices"
 	"strconv"
 	"strings"
+	"unicode/utf8"
 
 	"gopkg.in/yaml.v3"
 )
@@ -233,7 +234,7 @@ func (e *Editable) overlay(ch Changes) (*yaml.Node, []string, error) {
 	o := overlayNodes{line: at}
 	top := o.mapping(yaml.Style(0))
 	if name := strings.TrimSpace(ch.Name); name != "" {
-		if len(name) > maxNameLength || strings.ContainsAny(name, "\n\r\t") {
+		if utf8.RuneCountInString(name) > maxNameLength || strings.ContainsAny(name, "\n\r\t") {
 			is.add(at, "name", "a name is one line of at most %d characters", maxNameLength)
 		}
 		o.set(top, "name", o.str(name))
