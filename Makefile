@@ -20,7 +20,7 @@ $(SUDO) env DEBIAN_FRONTEND=noninteractive apt-get install -y -q --no-install-re
   { $(SUDO) apt-get update -q >/dev/null && $(SUDO) env DEBIAN_FRONTEND=noninteractive apt-get install -y -q --no-install-recommends $(1); }
 endef
 
-.PHONY: demo test build deps deps-test deps-bench bench bench-go clean
+.PHONY: demo serve test build deps deps-test deps-bench bench bench-go clean
 
 deps:
 	@dpkg -s liblpsolve55-dev >/dev/null 2>&1 || { echo "installing liblpsolve55-dev"; $(call apt_install,liblpsolve55-dev); }
@@ -36,9 +36,18 @@ build: deps
 demo: build
 	./bin/wearplan plan $(DEMO)
 
+# The what-if page for the demo, on http://127.0.0.1:8321/ (Ctrl-C stops it).
+serve: build
+	./bin/wearplan serve $(DEMO)
+
+# The race detector runs on the what-if server's concurrency tests (cgo
+# works with -race: lp_solve is not instrumented, the Go around it is). Its
+# first run compiles a race build of the dependencies (a minute or two on a
+# fresh machine); after that it takes a few seconds.
 test: deps-test
 	go vet ./...
 	go test ./...
+	go test -race -run 'Concurrent|Memo|Serve|TimeLimit' ./cmd/internal/whatif/
 
 deps-bench: deps-test
 	@command -v lp_solve >/dev/null 2>&1 || { echo "installing lp-solve"; $(call apt_install,lp-solve); }

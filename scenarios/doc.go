@@ -110,9 +110,10 @@
 // of the nearest year with quantity in state i are used, the earlier on a
 // tie, and a state the plan never holds is left untreated (PolicyRule).
 //
-// Until inventories give segment lists, CutLots cuts each class's quantity
-// in each state into lots of a given size (1 unit by default): floor(q/L)
-// lots of L plus one lot of the remainder. The lot size sets the spread:
+// A class read from a segment list moves segment by segment; otherwise (or
+// when a lot size is given for it) CutLots cuts each class's quantity in
+// each state into lots of a given size (1 unit by default): floor(q/L) lots
+// of L plus one lot of the remainder. The lot size sets the spread:
 // n independent lots with chance p of being poor give a poor share with
 // standard deviation sqrt(p(1-p)/n), so lots should match the pieces that
 // really move together (a deck, a block of road).
@@ -130,4 +131,10 @@
 // its matrix comes from a fit result: the Dirichlet posterior of each row's
 // counts (Jeffreys' prior by default) or the bootstrap replicates. Classes
 // without evidence keep their matrix in every run, and the result says so.
+//
+// What-if changes (whatif.go, for the `wearplan serve` page): an Editable
+// keeps a loaded scenario's YAML tree; Changes (budget level and yearly
+// steps, escalation, targets, objective) are laid over it as an overlay
+// file and checked by the same decoder and build as a file, and the result
+// can be written back out as one stand-alone scenario file.
 package scenarios

@@ -10,6 +10,7 @@ import (
 	"path/filepath"
 	"reflect"
 	"regexp"
+	"slices"
 	"strconv"
 	"strings"
 	"unicode/utf8"
@@ -28,20 +29,27 @@ func LoadFile(path string) (*Scenario, error) {
 
 // Load reads and validates the scenario name from fsys.
 func Load(fsys fs.FS, name string) (*Scenario, error) {
+	sc, _, _, err := load(fsys, name)
+	return sc, err
+}
+
+// load reads and validates a scenario, and also returns its merged node
+// tree and the files of its extends chain (kept by LoadEditable).
+func load(fsys fs.FS, name string) (*Scenario, *yaml.Node, []string, error) {
 	data, err := fs.ReadFile(fsys, name)
 	if err != nil {
 		if errors.Is(err, fs.ErrNotExist) {
-			return nil, &InputError{Issues: []*Issue{{File: name, Msg: "file not found; check the path"}}}
+			return nil, nil, nil, &InputError{Issues: []*Issue{{File: name, Msg: "file not found; check the path"}}}
 		}
-		return nil, &InputError{Issues: []*Issue{{File: name, Msg: fmt.Sprintf("cannot read the file: %v", err)}}}
+		return nil, nil, nil, &InputError{Issues: []*Issue{{File: name, Msg: fmt.Sprintf("cannot read the file: %v", err)}}}
 	}
 	root, files, err := loadChain(fsys, name, data)
 	if err != nil {
-		return nil, err
+		return nil, nil, nil, err
 	}
 	sc, read, err := decodeScenario(inputSource{fsys: fsys, name: name}, root, files)
 	if err != nil {
-		return nil, err
+		return nil, nil, nil, err
 	}
 	// Digests of every file read (the scenario, its bases and the data
 	// files they name), so reports can show exactly which inputs produced
@@ -49,11 +57,11 @@ func Load(fsys fs.FS, name string) (*Scenario, error) {
 	for _, f := range append(files, read...) {
 		b, err := fs.ReadFile(fsys, f)
 		if err != nil {
-			return nil, &InputError{Issues: []*Issue{{File: f, Msg: fmt.Sprintf("cannot read the file: %v", err)}}}
+			return nil, nil, nil, &InputError{Issues: []*Issue{{File: f, Msg: fmt.Sprintf("cannot read the file: %v", err)}}}
 		}
 		sc.Inputs = append(sc.Inputs, InputFile{Name: f, SHA256: fmt.Sprintf("%x", sha256.Sum256(b))})
 	}
-	return sc, nil
+	return sc, root, files, nil
 }
 
 var yamlLine = regexp.MustCompile(`line (\d+)`)
@@ -191,5 +199,10 @@ func decodeScenario(src inputSource, root *yaml.Node, files []string) (*Scenario
 		return nil, nil, err
 	}
 	sc.Source = name
+	for _, inv := range sc.Inventories {
+		if !slices.Contains(read, inv.File) {
+			read = append(read, inv.File)
+		}
+	}
 	return sc, read, nil
 }

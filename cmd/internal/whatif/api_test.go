@@ -1,0 +1,474 @@
+package whatif
+
+import (
+	"archive/zip"
+	"bytes"
+	"context"
+	"encoding/json"
+	"fmt"
+	"io"
+	"net"
+	"net/http"
+	"net/http/httptest"
+	"os"
+	"regexp"
+	"strconv"
+	"strings"
+	"sync"
+	"testing"
+	"time"
+
+	"wearplan/scenarios"
+)
+
+const examples = "../../../scenarios/examples"
+
+// demoSources loads the invented demo scenarios of Marrowby.
+func demoSources(t testing.TB, names ...string) []Source {
+	t.Helper()
+	var out []Source
+	for _, n := range names {
+		ed, err := scenarios.LoadEditable(os.DirFS(examples), n)
+		if err != nil {
+			t.Fatal(err)
+		}
+		out = append(out, Source{Path: "scenarios/examples/" + n, Scenario: ed})
+	}
+	return out
+}
+
+func newTestServer(t testing.TB, opt Options, names ...string) (*Server, *httptest.Server) {
+	t.Helper()
+	if len(names) == 0 {
+		names = []string{"marrowby.yaml", "marrowby-reduced.yaml"}
+	}
+	opt.Now = func() time.Time { return time.Date(2027, 1, 15, 9, 0, 0, 0, time.UTC) }
+	if opt.Version == "" {
+		opt.Version = "test"
+	}
+	s, err := New(demoSources(t, names...), opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ts := httptest.NewServer(s)
+	t.Cleanup(ts.Close)
+	return s, ts
+}
+
+type reply struct {
+	status int
+	header http.Header
+	body   []byte
+}
+
+func call(t testing.TB, ts *httptest.Server, method, path, contentType, body string, headers ...string) reply {
+	t.Helper()
+	req, err := http.NewRequest(method, ts.URL+path, strings.NewReader(body))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if contentType != "" {
+		req.Header.Set("Content-Type", contentType)
+	}
+	for i := 0; i+1 < len(headers); i += 2 {
+		if headers[i] == "Host" {
+			req.Host = headers[i+1]
+		} else {
+			req.Header.Set(headers[i], headers[i+1])
+		}
+	}
+	res, err := ts.Client().Do(req)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer res.Body.Close()
+	b, err := io.ReadAll(res.Body)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return reply{res.StatusCode, res.Header, b}
+}
+
+func postJSON(t testing.TB, ts *httptest.Server, path, body string) reply {
+	t.Helper()
+	return call(t, ts, "POST", path, "application/json", body)
+}
+
+func decodeAnswer(t testing.TB, r reply) *planAnswer {
+	t.Helper()
+	if r.status != http.StatusOK {
+		t.Fatalf("status %d: %s", r.status, r.body)
+	}
+	var a planAnswer
+	if err := json.Unmarshal(r.body, &a); err != nil {
+		t.Fatal(err)
+	}
+	return &a
+}
+
+func figureOf(t testing.TB, a *planAnswer, label string) string {
+	t.Helper()
+	for _, f := range a.Figures {
+		if f.Label == label {
+			return f.Value
+		}
+	}
+	t.Fatalf("no figure %q in %+v", label, a.Figures)
+	return ""
+}
+
+func percentOf(t testing.TB, s string) float64 {
+	t.Helper()
+	v, err := strconv.ParseFloat(strings.TrimSuffix(s, "%"), 64)
+	if err != nil {
+		t.Fatalf("%q is not a percentage", s)
+	}
+	return v
+}
+
+func TestPageAndAssets(t *testing.T) {
+	_, ts := newTestServer(t, Options{})
+	page := call(t, ts, "GET", "/", "", "")
+	if page.status != 200 || !strings.HasPrefix(page.header.Get("Content-Type"), "text/html") {
+		t.Fatalf("GET /: %d %s", page.status, page.header.Get("Content-Type"))
+	}
+	html := string(page.body)
+	if !strings.Contains(html, scenarios.Caution) {
+		t.Error("the page lacks the caution paragraph")
+	}
+	// No inline script: every script element loads a file of this server.
+	for _, tag := range regexp.MustCompile(`<script[^>]*>`).FindAllString(html, -1) {
+		if !strings.Contains(tag, `src="/static/`) {
+			t.Errorf("inline or outside script: %s", tag)
+		}
+	}
+	if regexp.MustCompile(`(?i)(src|href)="(https?:)?//`).MatchString(html) {
+		t.Error("the page refers to another site")
+	}
+	csp := page.header.Get("Content-Security-Policy")
+	for _, want := range []string{"default-src 'none'", "script-src 'self'", "connect-src 'self'", "frame-ancestors 'none'"} {
+		if !strings.Contains(csp, want) {
+			t.Errorf("content security policy %q lacks %q", csp, want)
+		}
+	}
+	if strings.Contains(csp, "unsafe-eval") || strings.Contains(strings.Split(strings.Split(csp, "script-src")[1], ";")[0], "unsafe-inline") {
+		t.Errorf("content security policy allows inline or evaluated script: %q", csp)
+	}
+	if page.header.Get("X-Content-Type-Options") != "nosniff" {
+		t.Error("no nosniff header")
+	}
+	for file, typ := range map[string]string{"app.js": "text/javascript", "app.css": "text/css", "report.css": "text/css", "palette.css": "text/css", "icon.svg": "image/svg+xml"} {
+		r := call(t, ts, "GET", "/static/"+file, "", "")
+		if r.status != 200 || !strings.HasPrefix(r.header.Get("Content-Type"), typ) || len(r.body) == 0 {
+			t.Errorf("%s: %d %s, %d bytes", file, r.status, r.header.Get("Content-Type"), len(r.body))
+		}
+	}
+	for _, c := range []struct{ method, path string }{{"GET", "/static/index.html"}, {"GET", "/static/../server.go"}, {"GET", "/nothing"}, {"GET", "/api/plan"}, {"PUT", "/api/plan"}, {"POST", "/"}} {
+		if r := call(t, ts, c.method, c.path, "", ""); r.status < 400 {
+			t.Errorf("%s %s: %d, want an error", c.method, c.path, r.status)
+		}
+	}
+}
+
+func TestScenarioList(t *testing.T) {
+	_, ts := newTestServer(t, Options{})
+	var list []scenarioInfo
+	r := call(t, ts, "GET", "/api/scenarios", "", "")
+	if err := json.Unmarshal(r.body, &list); err != nil || len(list) != 2 {
+		t.Fatalf("%d scenarios, %v", len(list), err)
+	}
+	demo := list[0]
+	if demo.StartYear != 2027 || demo.Horizon != 20 || len(demo.Classes) != 4 || demo.NetworkIndex {
+		t.Errorf("demo: %+v", demo)
+	}
+	if s := demo.Settings; s.BudgetLevel == nil || *s.BudgetLevel != 4.5e6 || s.Targets == nil || len(*s.Targets) != 2 || s.Objective != "max-condition" {
+		t.Errorf("demo settings: %+v", s)
+	}
+	if list[1].Settings.BudgetLevel == nil || *list[1].Settings.BudgetLevel != 4e6 {
+		t.Errorf("reduced alternative's budget: %+v", list[1].Settings.BudgetLevel)
+	}
+	if demo.BudgetMax < 2*4.5e6-demo.BudgetStep || demo.BudgetStep <= 0 {
+		t.Errorf("slider range %v step %v", demo.BudgetMax, demo.BudgetStep)
+	}
+}
+
+// The page shows the plan wearplan plan makes: the same scenario planned
+// directly gives the figures the answer carries.
+func TestPlanMatchesTheCommandLine(t *testing.T) {
+	_, ts := newTestServer(t, Options{})
+	a := decodeAnswer(t, postJSON(t, ts, "/api/plan", `{"scenario": 0, "changes": {}}`))
+	sc, err := scenarios.LoadFile(examples + "/marrowby.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := scenarios.Plan(sc, scenarios.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if a.Status != res.Status || a.Status != "optimal" {
+		t.Errorf("status %s, want %s", a.Status, res.Status)
+	}
+	if got, want := figureOf(t, a, "Condition score (0-100, average over the years)"), strconv.FormatFloat(res.ConditionScore, 'f', 1, 64); got != want {
+		t.Errorf("score %s, want %s", got, want)
+	}
+	if got, want := figureOf(t, a, "Network poor share, end of 2046"), fmt.Sprintf("%.1f%%", 100*res.Years[19].Network.Shares.Poor); got != want {
+		t.Errorf("poor share %s, want %s", got, want)
+	}
+	if a.Caution != scenarios.Caution || len(a.Shortfalls) != 0 || !strings.Contains(a.Headline, "Every target is met") {
+		t.Errorf("words: %q %q %q", a.Caution, a.Shortfalls, a.Headline)
+	}
+	if len(a.Panel.Charts) != 6 || !strings.Contains(string(a.Panel.LOS), `id="current-los"`) || !strings.Contains(string(a.Panel.Charts[0].HTML), "<svg") {
+		t.Errorf("panel: %d charts, LOS %d bytes", len(a.Panel.Charts), len(a.Panel.LOS))
+	}
+	for _, w := range a.Warnings {
+		if strings.Contains(w, "What-if changes") {
+			t.Errorf("no changes, yet the warning %q", w)
+		}
+	}
+}
+
+func TestLowerBudgetRaisesThePoorShare(t *testing.T) {
+	_, ts := newTestServer(t, Options{})
+	base := decodeAnswer(t, postJSON(t, ts, "/api/plan", `{"scenario": 0, "changes": {"budget_level": 4500000}}`))
+	low := decodeAnswer(t, postJSON(t, ts, "/api/plan", `{"scenario": 0, "changes": {"budget_level": 3000000}}`))
+	for _, y := range []string{"2031", "2036", "2046"} {
+		label := "Network poor share, end of " + y
+		if b, l := percentOf(t, figureOf(t, base, label)), percentOf(t, figureOf(t, low, label)); l <= b {
+			t.Errorf("%s: %.1f%% with 3.0 million, %.1f%% with 4.5 million", label, l, b)
+		}
+	}
+	if low.Status != "targets-not-met" || len(low.Shortfalls) == 0 || !strings.Contains(low.Shortfalls[0], "network poor share at most 15%") {
+		t.Errorf("3.0 million: status %s, shortfalls %q", low.Status, low.Shortfalls)
+	}
+	// The least level budget meeting the targets does not depend on the
+	// budget planned: README and `wearplan plan marrowby-reduced.yaml` give
+	// 4,457,172 for the demo's targets.
+	if !strings.Contains(strings.Join(low.Funding, " "), "USD 4,457,172 a year") {
+		t.Errorf("funding words %q lack the least level budget", low.Funding)
+	}
+	if !strings.Contains(strings.Join(low.Warnings, " "), "network budget 3,000,000 a year (file: 4,500,000 a year)") {
+		t.Errorf("warnings %q do not name the change", low.Warnings)
+	}
+}
+
+func TestBadRequests(t *testing.T) {
+	_, ts := newTestServer(t, Options{})
+	cases := []struct {
+		name, contentType, body string
+		status                  int
+		contains                string
+	}{
+		{"not JSON", "application/json", `{"scenario": 0,`, 400, "not valid JSON"},
+		{"empty", "application/json", ``, 400, "not valid JSON"},
+		{"form", "application/x-www-form-urlencoded", `scenario=0`, 415, "application/json"},
+		{"no type", "", `{"scenario": 0}`, 415, "application/json"},
+		{"unknown field", "application/json", `{"scenario": 0, "changes": {"budget": 1}}`, 400, `unknown field \"budget\"`},
+		{"wrong type", "application/json", `{"scenario": 0, "changes": {"budget_level": "lots"}}`, 400, "budget_level"},
+		{"two values", "application/json", `{"scenario": 0} {"scenario": 1}`, 400, "more than one"},
+		{"no such scenario", "application/json", `{"scenario": 7, "changes": {}}`, 400, "scenarios 0 to 1"},
+		{"negative level", "application/json", `{"scenario": 0, "changes": {"budget_level": -5}}`, 422, "budget.yearly"},
+		{"share as percent", "application/json", `{"scenario": 0, "changes": {"targets": [{"class": "all", "group": "poor", "max_share": 15}]}}`, 422, "targets[0].max_share"},
+		{"step before the plan", "application/json", `{"scenario": 0, "changes": {"budget_steps": [{"from_year": 2020, "percent": -15}]}}`, 422, "budget_steps[0].from_year"},
+		{"objective", "application/json", `{"scenario": 1, "changes": {"objective": "cheapest"}}`, 422, "unknown objective"},
+	}
+	for _, c := range cases {
+		r := call(t, ts, "POST", "/api/plan", c.contentType, c.body)
+		if r.status != c.status || !strings.Contains(string(r.body), c.contains) {
+			t.Errorf("%s: %d %s, want %d with %q", c.name, r.status, r.body, c.status, c.contains)
+			continue
+		}
+		var e struct {
+			Error  string      `json:"error"`
+			Issues []issueJSON `json:"issues"`
+		}
+		if err := json.Unmarshal(r.body, &e); err != nil || e.Error == "" {
+			t.Errorf("%s: error body %s", c.name, r.body)
+		}
+		if c.status == 422 && (len(e.Issues) != 1 || e.Issues[0].File != scenarios.ChangesFile || e.Issues[0].Message == "") {
+			t.Errorf("%s: issues %+v", c.name, e.Issues)
+		}
+	}
+}
+
+func TestOversizedBody(t *testing.T) {
+	_, ts := newTestServer(t, Options{})
+	big := `{"scenario": 0, "changes": {"name": "` + strings.Repeat("a", maxBody) + `"}}`
+	for _, path := range []string{"/api/plan", "/api/download"} {
+		if r := postJSON(t, ts, path, big); r.status != http.StatusRequestEntityTooLarge {
+			t.Errorf("%s: %d bytes gave %d %s", path, len(big), r.status, r.body)
+		}
+	}
+	// Just under the limit is read, and the name then checked as a file's.
+	name := strings.Repeat("a", 300)
+	if r := postJSON(t, ts, "/api/plan", `{"scenario": 0, "changes": {"name": "`+name+`"}}`); r.status != 422 || !strings.Contains(string(r.body), "at most 200 characters") {
+		t.Errorf("a long name: %d %s", r.status, r.body)
+	}
+}
+
+// Requests from other sites, and Host names this server does not answer
+// to (a page's own name resolving to this machine), are refused.
+func TestOtherSitesRefused(t *testing.T) {
+	_, ts := newTestServer(t, Options{})
+	body := `{"scenario": 0, "changes": {}}`
+	if r := call(t, ts, "POST", "/api/plan", "application/json", body, "Sec-Fetch-Site", "cross-site"); r.status != http.StatusForbidden {
+		t.Errorf("cross-site fetch: %d", r.status)
+	}
+	if r := call(t, ts, "POST", "/api/plan", "application/json", body, "Origin", "http://planner.example"); r.status != http.StatusForbidden {
+		t.Errorf("other origin: %d", r.status)
+	}
+	if r := call(t, ts, "GET", "/api/scenarios", "", "", "Host", "planner.example:8321"); r.status != http.StatusMisdirectedRequest {
+		t.Errorf("other host name: %d", r.status)
+	}
+	if r := call(t, ts, "GET", "/", "", "", "Host", "localhost:8321"); r.status != 200 {
+		t.Errorf("localhost: %d", r.status)
+	}
+}
+
+func TestHostAllowed(t *testing.T) {
+	s := &Server{opt: Options{Hosts: []string{"planning-pc"}}}
+	for host, want := range map[string]bool{
+		"127.0.0.1:8321": true, "localhost:8321": true, "LOCALHOST": true, "[::1]:8321": true, "192.168.1.20:8321": true,
+		"planning-pc:8321": true, "planner.example:8321": false, "localhost.planner.example": false, "": false,
+	} {
+		if got := s.hostAllowed(host); got != want {
+			t.Errorf("host %q: %v, want %v", host, got, want)
+		}
+	}
+}
+
+// Solves at the same time, some of them identical: every answer is right
+// (the same as a request made alone), identical requests share a solve,
+// and a request made again comes from the memo. Run with -race.
+func TestConcurrentSolves(t *testing.T) {
+	_, ts := newTestServer(t, Options{})
+	levels := []string{"3000000", "3500000", "4000000", "3000000", "3500000", "4000000"}
+	bodies := make([]string, len(levels))
+	sources := make([]string, len(levels))
+	var wg sync.WaitGroup
+	for i, lv := range levels {
+		wg.Go(func() {
+			r := postJSON(t, ts, "/api/plan", `{"scenario": 0, "changes": {"budget_level": `+lv+`}}`)
+			if r.status != 200 {
+				t.Errorf("level %s: %d %s", lv, r.status, r.body)
+				return
+			}
+			bodies[i], sources[i] = string(r.body), r.header.Get("X-Wearplan-From")
+		})
+	}
+	wg.Wait()
+	if t.Failed() {
+		return
+	}
+	solved := 0
+	for i := range levels {
+		if bodies[i] != bodies[(i+3)%6] {
+			t.Errorf("level %s: two identical requests got different answers", levels[i])
+		}
+		if sources[i] == string(fromSolve) {
+			solved++
+		}
+	}
+	if solved > 3 {
+		t.Errorf("%d solves for 3 different requests (from: %v)", solved, sources)
+	}
+	// A request made alone gets the same answer, from the memo.
+	r := postJSON(t, ts, "/api/plan", `{"scenario": 0, "changes": {"budget_level": 3500000}}`)
+	if string(r.body) != bodies[1] || r.header.Get("X-Wearplan-From") != string(fromMemo) {
+		t.Errorf("again: from %s, same answer %v", r.header.Get("X-Wearplan-From"), string(r.body) == bodies[1])
+	}
+	// The scores fall with the budget.
+	var scores []float64
+	for _, b := range bodies[:3] {
+		a := decodeAnswer(t, reply{status: 200, body: []byte(b)})
+		v, _ := strconv.ParseFloat(figureOf(t, a, "Condition score (0-100, average over the years)"), 64)
+		scores = append(scores, v)
+	}
+	if !(scores[0] < scores[1] && scores[1] < scores[2]) {
+		t.Errorf("scores for 3.0, 3.5, 4.0 million: %v", scores)
+	}
+}
+
+func TestTimeLimit(t *testing.T) {
+	_, ts := newTestServer(t, Options{Plan: scenarios.Options{Timeout: time.Nanosecond}})
+	r := postJSON(t, ts, "/api/plan", `{"scenario": 0, "changes": {}}`)
+	if r.status != http.StatusGatewayTimeout || !strings.Contains(string(r.body), "--timeout") {
+		t.Errorf("%d %s", r.status, r.body)
+	}
+}
+
+func TestDownloads(t *testing.T) {
+	_, ts := newTestServer(t, Options{})
+	cut := `{"scenario": 0, "changes": {"name": "Cut 15% from 2029 (invented example)", "budget_steps": [{"from_year": 2029, "percent": -15}]}}`
+	r := postJSON(t, ts, "/api/download", `{"format": "html", "alternatives": [`+cut+`]}`)
+	if r.status != 200 || !strings.HasPrefix(r.header.Get("Content-Type"), "text/html") {
+		t.Fatalf("html: %d %s", r.status, r.body)
+	}
+	if cd := r.header.Get("Content-Disposition"); cd != `attachment; filename="cut-15-from-2029-invented-example-what-if.html"` {
+		t.Errorf("html file name: %s", cd)
+	}
+	page := string(r.body)
+	for _, want := range []string{scenarios.Caution, "Cut 15% from 2029 (invented example)", "What-if changes to marrowby.yaml", "2027-01-15", "scenarios/examples/marrowby.yaml", "3,825,000"} {
+		if !strings.Contains(page, want) {
+			t.Errorf("html report lacks %q", want)
+		}
+	}
+	r = postJSON(t, ts, "/api/download", `{"format": "xlsx", "alternatives": [`+cut+`]}`)
+	if _, err := zip.NewReader(bytes.NewReader(r.body), int64(len(r.body))); r.status != 200 || err != nil {
+		t.Errorf("xlsx: %d, %v", r.status, err)
+	}
+	r = postJSON(t, ts, "/api/download", `{"format": "html", "alternatives": [{"scenario": 0, "changes": {}}, `+cut+`, {"scenario": 1, "changes": {}}]}`)
+	if r.status != 200 || !strings.Contains(string(r.body), "Comparison of 3 scenarios") || !strings.Contains(r.header.Get("Content-Disposition"), "-comparison.html") {
+		t.Errorf("comparison: %d %s", r.status, r.header.Get("Content-Disposition"))
+	}
+	r = postJSON(t, ts, "/api/download", `{"format": "yaml", "alternatives": [`+cut+`]}`)
+	if r.status != 200 || !strings.Contains(string(r.body), "yearly: [4500000, 4500000, 3825000,") {
+		t.Errorf("yaml: %d %s", r.status, r.body)
+	}
+	many := strings.TrimSuffix(strings.Repeat(cut+",", MaxAlternatives+1), ",")
+	for _, c := range []struct {
+		body   string
+		status int
+	}{
+		{`{"format": "pdf", "alternatives": [` + cut + `]}`, 400},
+		{`{"format": "yaml", "alternatives": [` + cut + `, ` + cut + `]}`, 400},
+		{`{"format": "html", "alternatives": []}`, 400},
+		{`{"format": "html", "alternatives": [` + many + `]}`, 400},
+		{`{"format": "yaml", "alternatives": [{"scenario": 0, "changes": {"cost_escalation": 5}}]}`, 422},
+		{`{"format": "html", "alternatives": [{"scenario": 0, "changes": {"objective": "x"}}]}`, 422},
+	} {
+		if r := postJSON(t, ts, "/api/download", c.body); r.status != c.status {
+			t.Errorf("%.80s: %d %s, want %d", c.body, r.status, r.body, c.status)
+		}
+	}
+}
+
+func TestServeStopsWhenAsked(t *testing.T) {
+	s, err := New(demoSources(t, "marrowby.yaml"), Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	ln, err := net.Listen("tcp", "127.0.0.1:0")
+	if err != nil {
+		t.Fatal(err)
+	}
+	ctx, cancel := context.WithCancel(context.Background())
+	done := make(chan error, 1)
+	go func() { done <- s.Serve(ctx, ln) }()
+	res, err := http.Get("http://" + ln.Addr().String() + "/")
+	if err != nil || res.StatusCode != 200 {
+		t.Fatalf("GET /: %v %v", res, err)
+	}
+	res.Body.Close()
+	cancel()
+	select {
+	case err := <-done:
+		if err != nil {
+			t.Errorf("Serve: %v", err)
+		}
+	case <-time.After(10 * time.Second):
+		t.Fatal("Serve did not stop")
+	}
+	if _, err := http.Get("http://" + ln.Addr().String() + "/"); err == nil {
+		t.Error("still answering after stopping")
+	}
+}

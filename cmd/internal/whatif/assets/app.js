@@ -1,0 +1,517 @@
+// The what-if page of wearplan serve. Plain JavaScript, no library.
+//
+// The controls hold the page's changes to the scenario; every change posts
+// them all to /api/plan, which answers with the plan in words, the report's
+// tables and charts as HTML fragments (drawn on the server by the reports'
+// own code), and the figures of a comparison column. Kept alternatives are
+// a list in this page. Server fragments go in with innerHTML; everything
+// else, including every text a user typed, with textContent.
+'use strict';
+
+(() => {
+  const $ = (id) => document.getElementById(id);
+  const el = (tag, props = {}, ...children) => {
+    const e = document.createElement(tag);
+    for (const [k, v] of Object.entries(props)) {
+      if (k === 'class') e.className = v;
+      else if (k === 'text') e.textContent = v;
+      else if (k.startsWith('data-') || k.startsWith('aria-')) e.setAttribute(k, v);
+      else e[k] = v;
+    }
+    e.append(...children);
+    return e;
+  };
+  const word = (text) => el('span', { text });
+  const whole = new Intl.NumberFormat('en-US', { maximumFractionDigits: 0 });
+  // round keeps a percentage typed as 2.5 from showing as 2.5000000000000004.
+  const round = (v, digits = 6) => Number(v.toFixed(digits));
+
+  const state = {
+    scenarios: [],
+    info: null, // the chosen scenario (from /api/scenarios)
+    steps: [], // {from, to, kind: 'percent' | 'amount', value}
+    targets: [], // {who, measure: good|fair|poor|index|hold, bound: max|min, value, from, to}
+    seq: 0,
+    inflight: null,
+    timer: 0,
+    solves: 0,
+    last: null, // {request, answer}
+    kept: [], // {name, request, figures}
+  };
+
+  // ---- controls ----------------------------------------------------------
+
+  function years() {
+    const out = [];
+    for (let y = state.info.start_year; y < state.info.start_year + state.info.horizon; y++) out.push(y);
+    return out;
+  }
+
+  function yearSelect(value, blank, label) {
+    const s = el('select', { 'aria-label': label });
+    if (blank) s.append(el('option', { value: '', text: blank }));
+    for (const y of years()) s.append(el('option', { value: String(y), text: String(y) }));
+    s.value = value == null ? '' : String(value);
+    return s;
+  }
+
+  function money(v) {
+    return (state.info.currency ? state.info.currency + ' ' : '') + whole.format(v);
+  }
+
+  function chooseScenario(id) {
+    state.info = state.scenarios[id];
+    const info = state.info;
+    const set = info.settings;
+    document.querySelectorAll('.currency').forEach((e) => { e.textContent = info.currency ? info.currency + ', ' : ''; });
+    const slider = $('budget-slider');
+    slider.max = String(info.budget_max);
+    slider.step = String(info.budget_step);
+    setLevel(set.budget_level == null ? null : set.budget_level);
+    const file = info.budget;
+    let words = 'The file sets no network budget.';
+    if (file && file.every((v) => v === file[0])) words = 'In the file: ' + money(file[0]) + ' a year.';
+    else if (file) words = 'In the file: by year, ' + money(Math.min(...file)) + ' to ' + money(Math.max(...file)) + '. Leave the amount empty to keep it.';
+    if (info.budget_groups.length) words += ' Budget groups (' + info.budget_groups.join(', ') + ') keep their caps.';
+    $('budget-file').textContent = words;
+    state.steps = [];
+    $('escalation').value = String(round((set.cost_escalation || 0) * 100));
+    for (const r of document.querySelectorAll('input[name=objective]')) r.checked = r.value === set.objective;
+    state.targets = (set.targets || []).map(targetRow);
+    $('alt-name').value = set.name || info.name;
+    drawSteps();
+    drawTargets();
+  }
+
+  function setLevel(v) {
+    $('budget-level').value = v == null ? '' : String(v);
+    if (v != null) $('budget-slider').value = String(v);
+    showLevel();
+  }
+
+  function showLevel() {
+    const v = $('budget-level').value;
+    $('budget-words').textContent = v === '' ? 'as in the file' : money(Number(v)) + ' a year';
+  }
+
+  function drawSteps() {
+    const list = $('steps');
+    list.replaceChildren();
+    state.steps.forEach((st, i) => {
+      const from = yearSelect(st.from, null, 'Change ' + (i + 1) + ': from year');
+      const to = yearSelect(st.to, 'the last year', 'Change ' + (i + 1) + ': to year');
+      const kind = el('select', { 'aria-label': 'Change ' + (i + 1) + ': kind' },
+        el('option', { value: 'percent', text: 'change by %' }),
+        el('option', { value: 'amount', text: 'set to' }));
+      kind.value = st.kind;
+      const value = el('input', { type: 'number', step: 'any', inputMode: 'decimal', 'aria-label': 'Change ' + (i + 1) + ': value', value: String(st.value) });
+      if (st.kind === 'amount') value.className = 'amount';
+      const remove = el('button', { type: 'button', class: 'remove', text: '\u00d7', 'aria-label': 'Remove change ' + (i + 1) });
+      from.addEventListener('change', () => { st.from = Number(from.value); });
+      to.addEventListener('change', () => { st.to = to.value === '' ? null : Number(to.value); });
+      kind.addEventListener('change', () => { st.kind = kind.value; drawSteps(); });
+      value.addEventListener('change', () => { st.value = value.value === '' ? 0 : Number(value.value); });
+      remove.addEventListener('click', () => { state.steps.splice(i, 1); drawSteps(); schedule(); });
+      list.append(el('li', { 'data-field': 'budget_steps[' + i + ']' }, word('from'), from, word('to'), to, kind, value, remove));
+    });
+  }
+
+  // targetRow turns a target as written in the file into a row.
+  function targetRow(t) {
+    const row = { who: t.class || 'all', measure: 'poor', bound: 'max', value: 15, from: t.from_year ?? null, to: t.to_year ?? null };
+    if (t.hold) row.measure = 'hold';
+    else if (t.min_average_index != null) { row.measure = 'index'; row.value = t.min_average_index; }
+    else {
+      row.measure = t.group || 'poor';
+      row.bound = t.max_share != null ? 'max' : 'min';
+      row.value = round(100 * (t.max_share ?? t.min_share ?? 0));
+    }
+    return row;
+  }
+
+  // targetSpec turns a row back into a target with the file's keys.
+  function targetSpec(row) {
+    const t = { class: row.who };
+    if (row.measure === 'hold') { t.hold = true; return t; }
+    if (row.measure === 'index') t.min_average_index = row.value;
+    else {
+      t.group = row.measure;
+      t[row.bound === 'max' ? 'max_share' : 'min_share'] = row.value / 100;
+    }
+    if (row.from != null) t.from_year = row.from;
+    if (row.to != null) t.to_year = row.to;
+    return t;
+  }
+
+  function scaleOf(who) {
+    const c = state.info.classes.find((c) => c.name === who);
+    return c || (state.info.network_index ? state.info.classes[0] : null);
+  }
+
+  function drawTargets() {
+    const list = $('targets');
+    list.replaceChildren();
+    state.targets.forEach((row, i) => {
+      const n = 'Target ' + (i + 1) + ': ';
+      const who = el('select', { 'aria-label': n + 'applies to' }, el('option', { value: 'all', text: 'network' }));
+      for (const c of state.info.classes) who.append(el('option', { value: c.name, text: c.name }));
+      who.value = row.who;
+      const measure = el('select', { 'aria-label': n + 'measure' },
+        el('option', { value: 'poor', text: 'poor share' }),
+        el('option', { value: 'fair', text: 'fair share' }),
+        el('option', { value: 'good', text: 'good share' }),
+        el('option', { value: 'index', text: 'average index' }),
+        el('option', { value: 'hold', text: "today's condition held" }));
+      measure.value = row.measure;
+      const parts = [who, measure];
+      if (row.measure !== 'hold') {
+        const scale = scaleOf(row.who);
+        if (row.measure === 'index') {
+          const word = scale && scale.lower_is_better ? 'at most' : 'at least';
+          parts.push(el('span', { text: word }));
+        } else {
+          const bound = el('select', { 'aria-label': n + 'bound' },
+            el('option', { value: 'max', text: 'at most' }), el('option', { value: 'min', text: 'at least' }));
+          bound.value = row.bound;
+          bound.addEventListener('change', () => { row.bound = bound.value; });
+          parts.push(bound);
+        }
+        const value = el('input', { type: 'number', step: 'any', inputMode: 'decimal', 'aria-label': n + 'value', value: String(row.value) });
+        value.addEventListener('change', () => { row.value = value.value === '' ? 0 : Number(value.value); });
+        parts.push(value, el('span', { text: row.measure === 'index' ? (scale ? scale.scale : 'index') : '%' }));
+        const from = yearSelect(row.from, 'the first year', n + 'from year');
+        const to = yearSelect(row.to, 'the last year', n + 'to year');
+        from.addEventListener('change', () => { row.from = from.value === '' ? null : Number(from.value); });
+        to.addEventListener('change', () => { row.to = to.value === '' ? null : Number(to.value); });
+        parts.push(word('from'), from, word('to'), to);
+      }
+      const remove = el('button', { type: 'button', class: 'remove', text: '\u00d7', 'aria-label': 'Remove target ' + (i + 1) });
+      who.addEventListener('change', () => { row.who = who.value; drawTargets(); });
+      measure.addEventListener('change', () => {
+        const was = row.measure;
+        row.measure = measure.value;
+        if (row.measure === 'index' && was !== 'index') {
+          const s = scaleOf(row.who);
+          row.value = s ? round((s.index_low + s.index_high) / 2, 1) : 50;
+        } else if (was === 'index' && row.measure !== 'hold') row.value = 15;
+        drawTargets();
+      });
+      remove.addEventListener('click', () => { state.targets.splice(i, 1); drawTargets(); schedule(); });
+      parts.push(remove);
+      list.append(el('li', { 'data-field': 'targets[' + i + ']' }, ...parts));
+    });
+  }
+
+  // changes reads the controls into the changes the API takes.
+  function changes() {
+    const ch = {
+      name: $('alt-name').value.trim(),
+      budget_steps: state.steps.map((st) => {
+        const s = { from_year: st.from };
+        if (st.to != null) s.to_year = st.to;
+        s[st.kind] = st.value;
+        return s;
+      }),
+      cost_escalation: Number($('escalation').value || 0) / 100,
+      targets: state.targets.map(targetSpec),
+      objective: (document.querySelector('input[name=objective]:checked') || {}).value || '',
+    };
+    const level = $('budget-level').value;
+    if (level !== '') ch.budget_level = Number(level);
+    return ch;
+  }
+
+  // ---- planning ----------------------------------------------------------
+
+  function schedule(delay = 150) {
+    clearTimeout(state.timer);
+    state.timer = setTimeout(plan, delay);
+  }
+
+  function setStatus(text, kind) {
+    const s = $('status');
+    s.textContent = text;
+    s.className = 'status' + (kind ? ' ' + kind : '');
+  }
+
+  async function post(path, body, signal) {
+    return fetch(path, { method: 'POST', headers: { 'Content-Type': 'application/json' }, body: JSON.stringify(body), signal });
+  }
+
+  async function plan() {
+    const request = { scenario: state.info.id, changes: changes() };
+    const seq = ++state.seq;
+    if (state.inflight) state.inflight.abort();
+    const ctl = new AbortController();
+    state.inflight = ctl;
+    setStatus('Planning\u2026', 'busy');
+    const started = performance.now();
+    let res, body;
+    try {
+      res = await post('/api/plan', request, ctl.signal);
+      body = await res.json();
+    } catch (e) {
+      if (e.name === 'AbortError') return;
+      if (seq === state.seq) failed('No answer from the server (' + e.message + '). Is wearplan serve still running?');
+      return;
+    }
+    if (seq !== state.seq) return;
+    state.inflight = null;
+    if (!res.ok) {
+      showProblems(body);
+      setStatus('Not planned: see the problems below.', 'failed');
+      $('results').classList.add('stale');
+      return;
+    }
+    showPlan(body, request, res.headers, performance.now() - started);
+  }
+
+  function failed(text) {
+    setStatus(text, 'failed');
+    $('results').classList.add('stale');
+  }
+
+  // fieldLabel names a field of the changes as the page shows it.
+  function fieldLabel(field) {
+    let m = /^targets\[(\d+)\]/.exec(field);
+    if (m) return 'Target ' + (Number(m[1]) + 1);
+    m = /^budget_steps\[(\d+)\]/.exec(field);
+    if (m) return 'Change by year ' + (Number(m[1]) + 1);
+    if (field.startsWith('budget')) return 'Yearly budget';
+    if (field.startsWith('cost_escalation')) return 'Cost escalation';
+    if (field.startsWith('objective')) return 'Objective';
+    if (field.startsWith('name')) return 'Name';
+    return field;
+  }
+
+  function controlOf(field) {
+    let m = /^(targets|budget_steps)\[(\d+)\]/.exec(field);
+    if (m) return document.querySelector('[data-field="' + m[1] + '[' + m[2] + ']"]');
+    if (field.startsWith('budget')) return $('budget-level');
+    if (field.startsWith('cost_escalation')) return $('escalation');
+    if (field.startsWith('name')) return $('alt-name');
+    if (field.startsWith('objective')) return $('f-objective');
+    return null;
+  }
+
+  function clearProblems() {
+    $('problems').hidden = true;
+    $('problems').replaceChildren();
+    document.querySelectorAll('[aria-invalid]').forEach((e) => e.removeAttribute('aria-invalid'));
+  }
+
+  function showProblems(body) {
+    clearProblems();
+    const box = $('problems');
+    box.append(el('strong', { text: body.error || 'The server could not plan these changes.' }));
+    if (body.issues && body.issues.length) {
+      const list = el('ul');
+      for (const is of body.issues) {
+        const where = is.file === 'what-if changes' ? fieldLabel(is.field || '') + (is.field ? ' (' + is.field + ')' : '') : is.text;
+        let text = is.file === 'what-if changes' ? where + ': ' + is.message : where;
+        // The message is the one a scenario file gets; this page takes
+        // shares in percent.
+        if (/_share$/.test(is.field || '')) text += ' (on this page, type shares in percent: 15 for 15%)';
+        list.append(el('li', { text }));
+        const c = controlOf(is.field || '');
+        if (c) c.setAttribute('aria-invalid', 'true');
+      }
+      box.append(list);
+    }
+    box.hidden = false;
+  }
+
+  function fill(id, items) {
+    $(id).replaceChildren(...items.map((t) => el('li', { text: t })));
+  }
+
+  function showPlan(a, request, headers, ms) {
+    clearProblems();
+    $('results').classList.remove('stale');
+    const from = headers.get('X-Wearplan-From');
+    const took = headers.get('X-Wearplan-Solve-Ms');
+    setStatus(from === 'memo' ? 'Planned before; shown from memory (' + Math.round(ms) + ' ms).' : 'Planned in ' + took + ' ms on the server; shown after ' + Math.round(ms) + ' ms.', '');
+    $('caution').textContent = a.caution;
+    $('headline').textContent = a.headline;
+    fill('shortfalls', a.shortfalls);
+    fill('funding', a.funding);
+    fill('warnings', a.warnings.map((w) => 'Note: ' + w));
+    const charts = a.panel.charts;
+    const main = charts.filter((c) => c.id === 'current-chart-network' || c.id === 'current-chart-spend');
+    const classes = charts.filter((c) => !main.includes(c));
+    $('charts-main').innerHTML = main.map((c) => c.html).join('');
+    $('charts-classes').innerHTML = classes.map((c) => c.html).join('');
+    $('los').innerHTML = a.panel.los;
+    $('targets-table').innerHTML = a.panel.targets;
+    $('spend-table').innerHTML = a.panel.spend;
+    $('work-table').innerHTML = a.panel.work;
+    $('summary').innerHTML = a.panel.summary;
+    state.last = { request, answer: a };
+    state.solves++;
+    document.body.dataset.solves = String(state.solves);
+    drawCompare();
+  }
+
+  // ---- kept alternatives -------------------------------------------------
+
+  // planShown says whether the page shows the plan of its controls (not
+  // an older one under a list of problems).
+  function planShown() {
+    if (state.last && $('problems').hidden) return true;
+    setStatus('Fix the problems first: the plan shown is not the one of the controls.', 'failed');
+    return false;
+  }
+
+  function keep() {
+    if (!planShown()) return;
+    const n = state.kept.length + 1;
+    // A name left as the file's gets a number, so that the kept
+    // alternatives, their files and reports can be told apart.
+    let name = $('alt-name').value.trim() || state.info.name;
+    if (name === state.info.name || state.kept.some((k) => k.name === name)) name += ', alternative ' + n;
+    const request = structuredClone(state.last.request);
+    request.changes.name = name;
+    state.kept.push({ name, request, figures: state.last.answer.figures });
+    drawCompare();
+    $('compare').scrollIntoView({ behavior: 'smooth', block: 'nearest' });
+  }
+
+  function restore(k) {
+    const info = state.scenarios[k.request.scenario];
+    $('scenario').value = String(info.id);
+    const saved = info.settings;
+    info.settings = k.request.changes; // draw the controls from the kept changes
+    chooseScenario(info.id);
+    info.settings = saved;
+    state.steps = (k.request.changes.budget_steps || []).map((s) => ({
+      from: s.from_year, to: s.to_year ?? null, kind: s.percent != null ? 'percent' : 'amount', value: s.percent ?? s.amount,
+    }));
+    if (k.request.changes.budget_level == null) setLevel(null);
+    drawSteps();
+    schedule(0);
+  }
+
+  function drawCompare() {
+    const section = $('compare');
+    if (!state.kept.length) { section.hidden = true; return; }
+    section.hidden = false;
+    const cols = [{ name: 'Now on the page', figures: state.last ? state.last.answer.figures : [], current: true }, ...state.kept];
+    const labels = [];
+    for (const c of cols) for (const f of c.figures) if (!labels.includes(f.label)) labels.push(f.label);
+    const table = el('table', { id: 'compare-alternatives' });
+    table.append(el('caption', { text: 'Kept alternatives and the one now on the page' }));
+    const head = el('tr', {}, el('th', { scope: 'col', text: 'Figure' }));
+    cols.forEach((c, i) => {
+      const th = el('th', { scope: 'col', class: c.current ? 'current' : '' }, c.name);
+      if (!c.current) {
+        const show = el('button', { type: 'button', text: 'Show', 'aria-label': 'Show ' + c.name + ' on the page' });
+        const yaml = el('button', { type: 'button', text: 'YAML', 'aria-label': 'Save ' + c.name + ' as a scenario file' });
+        const drop = el('button', { type: 'button', class: 'remove', text: '\u00d7', 'aria-label': 'Remove ' + c.name + ' from the list' });
+        show.addEventListener('click', () => restore(c));
+        yaml.addEventListener('click', () => download('yaml', [c.request]));
+        drop.addEventListener('click', () => { state.kept.splice(i - 1, 1); drawCompare(); });
+        th.append(el('div', { class: 'col-actions' }, show, yaml, drop));
+      }
+      head.append(th);
+    });
+    table.append(el('thead', {}, head));
+    const body = el('tbody');
+    for (const label of labels) {
+      const values = cols.map((c) => (c.figures.find((f) => f.label === label) || { value: '-' }).value);
+      const tr = el('tr', {}, el('th', { scope: 'row', text: label }));
+      values.forEach((v, i) => {
+        const differs = i > 0 && values.slice(1).some((w) => w !== values[1]);
+        tr.append(el('td', { class: (cols[i].current ? 'current ' : '') + (differs ? 'differs' : ''), text: v }));
+      });
+      body.append(tr);
+    }
+    table.append(body);
+    $('compare-table').replaceChildren(table);
+  }
+
+  // ---- downloads ---------------------------------------------------------
+
+  async function download(format, alternatives) {
+    setStatus('Preparing the ' + format + ' file\u2026', 'busy');
+    let res;
+    try {
+      res = await post('/api/download', { format, alternatives });
+    } catch (e) {
+      failed('No answer from the server (' + e.message + ').');
+      return;
+    }
+    if (!res.ok) {
+      showProblems(await res.json());
+      setStatus('Not saved: see the problems below.', 'failed');
+      return;
+    }
+    const blob = await res.blob();
+    const m = /filename="([^"]+)"/.exec(res.headers.get('Content-Disposition') || '');
+    const url = URL.createObjectURL(blob);
+    const a = el('a', { href: url, download: m ? m[1] : 'wearplan.' + format });
+    document.body.append(a);
+    a.click();
+    a.remove();
+    setTimeout(() => URL.revokeObjectURL(url), 30000);
+    setStatus('Saved ' + a.download + '.', '');
+  }
+
+  // ---- start -------------------------------------------------------------
+
+  function wire() {
+    const form = $('controls');
+    form.addEventListener('submit', (e) => { e.preventDefault(); schedule(0); });
+    form.addEventListener('change', (e) => {
+      if (e.target.id === 'scenario') { chooseScenario(Number(e.target.value)); schedule(0); return; }
+      if (e.target.id === 'alt-name') return; // a name changes no figure
+      schedule();
+    });
+    $('budget-slider').addEventListener('input', (e) => { $('budget-level').value = e.target.value; showLevel(); });
+    $('budget-level').addEventListener('input', showLevel);
+    $('budget-reset').addEventListener('click', () => {
+      const set = state.info.settings;
+      setLevel(set.budget_level == null ? null : set.budget_level);
+      state.steps = [];
+      drawSteps();
+      schedule(0);
+    });
+    $('add-step').addEventListener('click', () => {
+      const ys = years();
+      state.steps.push({ from: ys[Math.min(2, ys.length - 1)], to: null, kind: 'percent', value: -15 });
+      drawSteps();
+      schedule();
+    });
+    $('add-target').addEventListener('click', () => {
+      state.targets.push({ who: 'all', measure: 'poor', bound: 'max', value: 15, from: null, to: null });
+      drawTargets();
+      schedule();
+    });
+    $('keep').addEventListener('click', keep);
+    document.querySelectorAll('[data-download]').forEach((b) => b.addEventListener('click', () => {
+      if (!planShown()) return;
+      // The name may have changed since the plan (a name changes no figure).
+      const request = structuredClone(state.last.request);
+      request.changes.name = $('alt-name').value.trim();
+      download(b.dataset.download, [request]);
+    }));
+    document.querySelectorAll('[data-compare]').forEach((b) => b.addEventListener('click', () => {
+      download(b.dataset.compare, state.kept.map((k) => k.request));
+    }));
+    $('compare-clear').addEventListener('click', () => { state.kept = []; drawCompare(); });
+  }
+
+  async function start() {
+    wire();
+    try {
+      const res = await fetch('/api/scenarios');
+      state.scenarios = await res.json();
+    } catch (e) {
+      failed('Could not load the scenarios (' + e.message + ').');
+      return;
+    }
+    chooseScenario(0);
+    plan();
+  }
+
+  start();
+})();

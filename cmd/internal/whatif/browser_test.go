@@ -1,0 +1,243 @@
+package whatif
+
+import (
+	"context"
+	"fmt"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"sync"
+	"testing"
+	"time"
+
+	cdplog "github.com/chromedp/cdproto/log"
+	"github.com/chromedp/cdproto/network"
+	"github.com/chromedp/cdproto/runtime"
+	"github.com/chromedp/chromedp"
+)
+
+// requireBrowser finds Debian's chromium: skipped locally when it is
+// missing, a failure under WEARPLAN_REQUIRE_REFERENCE=1 (set by .ci/run),
+// like the reports' browser test.
+func requireBrowser(t *testing.T) string {
+	t.Helper()
+	for _, name := range []string{"chromium", "chromium-browser"} {
+		if path, err := exec.LookPath(name); err == nil {
+			return path
+		}
+	}
+	if os.Getenv("WEARPLAN_REQUIRE_REFERENCE") != "" {
+		t.Fatal("chromium not found; install it (make deps-test) to run the browser test")
+	}
+	t.Skip("chromium not found; run `make deps-test` to install it")
+	return ""
+}
+
+// browserEvents collects what the page did that it must not: requests to
+// anywhere but this server, console errors and warnings, uncaught
+// exceptions, and error entries of the browser log (refused loads and
+// content security policy violations show there).
+type browserEvents struct {
+	mu       sync.Mutex
+	origin   string
+	outside  []string
+	problems []string
+}
+
+func (b *browserEvents) listen(ev any) {
+	b.mu.Lock()
+	defer b.mu.Unlock()
+	switch e := ev.(type) {
+	case *network.EventRequestWillBeSent:
+		if !strings.HasPrefix(e.Request.URL, b.origin+"/") && !strings.HasPrefix(e.Request.URL, "data:") {
+			b.outside = append(b.outside, e.Request.URL)
+		}
+	case *runtime.EventConsoleAPICalled:
+		if e.Type == runtime.ConsoleAPICalledTypeError || e.Type == runtime.ConsoleAPICalledTypeWarning || e.Type == runtime.ConsoleAPICalledTypeAssert {
+			b.problems = append(b.problems, fmt.Sprintf("console %s", e.Type))
+		}
+	case *runtime.EventExceptionThrown:
+		b.problems = append(b.problems, "exception: "+e.ExceptionDetails.Text)
+	case *cdplog.EventEntryAdded:
+		if e.Entry.Level == cdplog.EntryLevelError || e.Entry.Level == cdplog.EntryLevelWarning {
+			b.problems = append(b.problems, fmt.Sprintf("log %s (%s): %s", e.Entry.Level, e.Entry.Source, e.Entry.Text))
+		}
+	}
+}
+
+// seen is what the test reads off the page after a plan.
+type seen struct {
+	Solves    string
+	Budget    string
+	PoorEnd   string // the network's poor share in the table's last column
+	LOS       string // the level-of-service table's text
+	Chart     string // the network condition chart's SVG
+	SpendSVG  string
+	Headline  string
+	Shortfall int
+	Caution   string
+	Problems  bool
+}
+
+const readPage = `(() => {
+	const rows = [...document.querySelectorAll('#current-los tbody tr')];
+	let network = false, poor = '';
+	for (const r of rows) {
+		const head = r.cells[0].textContent;
+		if (r.classList.contains('group')) network = head.startsWith('Network');
+		else if (network && head === 'Poor') poor = r.cells[r.cells.length - 1].textContent;
+	}
+	const svg = (id) => { const s = document.querySelector('#' + id + ' svg'); return s ? s.outerHTML : ''; };
+	return {
+		Solves: document.body.dataset.solves || '',
+		Budget: document.getElementById('budget-level').value,
+		PoorEnd: poor,
+		LOS: (document.getElementById('current-los') || {}).textContent || '',
+		Chart: svg('current-chart-network'),
+		SpendSVG: svg('current-chart-spend'),
+		Headline: document.getElementById('headline').textContent,
+		Shortfall: document.querySelectorAll('#shortfalls li').length,
+		Caution: document.getElementById('caution').textContent,
+		Problems: !document.getElementById('problems').hidden,
+	};
+})()`
+
+func shareOf(t *testing.T, s string) float64 {
+	t.Helper()
+	v, err := strconv.ParseFloat(strings.TrimSuffix(s, "%"), 64)
+	if err != nil {
+		t.Fatalf("poor share %q is not a percentage", s)
+	}
+	return v
+}
+
+// TestPageInChromium opens the what-if page for the demo in headless
+// Chromium (Debian's chromium driven with chromedp), waits for the first
+// plan, lowers the yearly budget by clicking on the slider at a third of
+// its track, and checks that the plan is made again: the level-of-service
+// table and the charts change, the network's poor share at the end of the
+// plan rises, and the shortfall is told in words. It then keeps the
+// alternative and checks the side-by-side list. No console errors, no
+// policy violations, no requests to anywhere but the server.
+func TestPageInChromium(t *testing.T) {
+	browser := requireBrowser(t)
+	_, ts := newTestServer(t, Options{}, "marrowby.yaml")
+	events := &browserEvents{origin: ts.URL}
+	opts := append(chromedp.DefaultExecAllocatorOptions[:],
+		chromedp.ExecPath(browser),
+		chromedp.UserDataDir(t.TempDir()),
+		chromedp.WindowSize(1400, 1000),
+		chromedp.Flag("no-sandbox", true),
+		chromedp.Flag("disable-gpu", true),
+		chromedp.Flag("disable-quic", true),
+		chromedp.Flag("disable-component-update", true),
+		chromedp.Flag("disable-sync", true),
+		chromedp.Flag("disable-background-networking", true),
+	)
+	actx, acancel := chromedp.NewExecAllocator(context.Background(), opts...)
+	defer acancel()
+	ctx, cancel := chromedp.NewContext(actx, chromedp.WithListener(events.listen))
+	defer cancel()
+	ctx, tcancel := context.WithTimeout(ctx, 90*time.Second)
+	defer tcancel()
+
+	read := func() seen {
+		t.Helper()
+		v, err := chromedp.Run(ctx, chromedp.Evaluate[seen](readPage))
+		if err != nil {
+			t.Fatal(err)
+		}
+		return v
+	}
+	// waitSolves waits until the page has shown n plans.
+	waitSolves := func(n int) seen {
+		t.Helper()
+		if err := chromedp.Do(ctx, chromedp.WaitVisible(chromedp.CSS(fmt.Sprintf(`body[data-solves="%d"]`, n)))); err != nil {
+			t.Fatalf("waiting for plan %d: %v (status: %v)", n, err, read())
+		}
+		return read()
+	}
+
+	if err := chromedp.Do(ctx, chromedp.Navigate(ts.URL+"/")); err != nil {
+		t.Fatal(err)
+	}
+	before := waitSolves(1)
+	if before.Budget != "4500000" || before.PoorEnd == "" || before.Chart == "" || before.SpendSVG == "" || before.Problems {
+		t.Fatalf("first plan: budget %q, poor share %q, chart %d bytes, problems shown %v", before.Budget, before.PoorEnd, len(before.Chart), before.Problems)
+	}
+	if before.Caution == "" || !strings.Contains(before.Headline, "Every target is met") {
+		t.Errorf("first plan: caution %q, headline %q", before.Caution, before.Headline)
+	}
+
+	// Lower the budget as a person would: click the slider a third of the
+	// way along (its range is 0 to twice the file's 4.5 million).
+	type box struct{ X, Y, W, H float64 }
+	b, err := chromedp.Run(ctx, chromedp.Evaluate[box](`(() => { const r = document.getElementById('budget-slider').getBoundingClientRect(); return {X: r.x, Y: r.y, W: r.width, H: r.height}; })()`))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := chromedp.Do(ctx, chromedp.MouseClickXY(b.X+b.W/3, b.Y+b.H/2)); err != nil {
+		t.Fatal(err)
+	}
+	after := waitSolves(2)
+	budget, err := strconv.ParseFloat(after.Budget, 64)
+	if err != nil || budget < 2.5e6 || budget > 3.5e6 {
+		t.Fatalf("the slider set the budget to %q, want about 3 million", after.Budget)
+	}
+	if after.LOS == before.LOS {
+		t.Error("the level-of-service table did not change")
+	}
+	if after.Chart == before.Chart || after.SpendSVG == before.SpendSVG {
+		t.Error("the charts did not change")
+	}
+	if p0, p1 := shareOf(t, before.PoorEnd), shareOf(t, after.PoorEnd); p1 <= p0 {
+		t.Errorf("network poor share at the end: %.1f%% with 4.5 million, %.1f%% with %s", p0, p1, after.Budget)
+	}
+	if after.Shortfall == 0 || !strings.Contains(after.Headline, "Not every target") {
+		t.Errorf("lower budget: headline %q, %d shortfalls in words", after.Headline, after.Shortfall)
+	}
+
+	// Keep it: the side-by-side list shows the page's plan and the kept one.
+	if err := chromedp.Do(ctx, chromedp.Click(chromedp.ID("keep"))); err != nil {
+		t.Fatal(err)
+	}
+	cols, err := chromedp.Run(ctx, chromedp.Evaluate[int](`document.querySelectorAll('#compare-alternatives thead th').length`))
+	if err != nil || cols != 3 {
+		t.Errorf("comparison has %d header cells (want figure, page, kept): %v", cols, err)
+	}
+
+	shot, err := chromedp.Run(ctx, chromedp.FullScreenshot(100))
+	if err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(screenshotDir(t), "what-if-page.png")
+	if err := os.WriteFile(out, shot, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	t.Logf("screenshot: %s", out)
+
+	events.mu.Lock()
+	defer events.mu.Unlock()
+	if len(events.outside) > 0 {
+		t.Errorf("requests outside the server: %v", events.outside)
+	}
+	if len(events.problems) > 0 {
+		t.Errorf("console problems: %v", events.problems)
+	}
+}
+
+// screenshotDir is where browser tests leave screenshots for people to
+// look at: WEARPLAN_SCREENSHOT_DIR, or a folder in the system's temporary
+// directory, never inside the repository.
+func screenshotDir(t *testing.T) string {
+	dir := os.Getenv("WEARPLAN_SCREENSHOT_DIR")
+	if dir == "" {
+		dir = filepath.Join(os.TempDir(), "wearplan-screenshots")
+	}
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	return dir
+}

@@ -1,0 +1,329 @@
+package whatif
+
+import (
+	"bytes"
+	"container/list"
+	"context"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"net/http"
+	"strconv"
+	"sync"
+	"time"
+
+	"wearplan/cmd/internal/report"
+	"wearplan/optimize"
+	"wearplan/scenarios"
+)
+
+// outcome is a planned alternative: the changed scenario, its plan, and
+// the /api/plan answer, encoded once.
+type outcome struct {
+	scenario *scenarios.Scenario
+	result   *scenarios.Result
+	body     []byte
+	took     time.Duration
+}
+
+// memo remembers the outcomes of recent requests (least recently used
+// first out) and lets identical requests that arrive together share one
+// solve. Everything in it is guarded by mu.
+type memo struct {
+	mu       sync.Mutex
+	size     int
+	order    *list.List // of *memoEntry, most recent first
+	entries  map[string]*list.Element
+	inflight map[string]*flight
+}
+
+type memoEntry struct {
+	key string
+	out *outcome
+}
+
+// flight is one solve that requests wait for. out and err are written
+// before done is closed; waiters is guarded by the memo's mutex. When the
+// last waiter gives up before the solve has started, cancel stops it.
+type flight struct {
+	done    chan struct{}
+	out     *outcome
+	err     error
+	waiters int
+	cancel  context.CancelFunc
+}
+
+func newMemo(size int) *memo {
+	return &memo{size: size, order: list.New(), entries: map[string]*list.Element{}, inflight: map[string]*flight{}}
+}
+
+// source says where an answer came from: the memo, a solve shared with
+// another request, or a solve of its own.
+type source string
+
+const (
+	fromMemo   source = "memo"
+	fromShared source = "shared"
+	fromSolve  source = "solve"
+)
+
+// get returns the outcome for key, computing it at most once however many
+// requests ask at the same time. compute runs in its own goroutine with a
+// context that ends when every request waiting for it has gone.
+func (m *memo) get(ctx context.Context, key string, compute func(context.Context) (*outcome, error)) (*outcome, source, error) {
+	m.mu.Lock()
+	if el, ok := m.entries[key]; ok {
+		m.order.MoveToFront(el)
+		m.mu.Unlock()
+		return el.Value.(*memoEntry).out, fromMemo, nil
+	}
+	f, shared := m.inflight[key]
+	if !shared {
+		fctx, cancel := context.WithCancel(context.Background())
+		f = &flight{done: make(chan struct{}), cancel: cancel}
+		m.inflight[key] = f
+		go func() {
+			out, err := compute(fctx)
+			m.mu.Lock()
+			if m.inflight[key] == f {
+				delete(m.inflight, key)
+			}
+			if err == nil {
+				m.add(key, out)
+			}
+			m.mu.Unlock()
+			f.out, f.err = out, err
+			close(f.done)
+			cancel()
+		}()
+	}
+	f.waiters++
+	m.mu.Unlock()
+	from := fromSolve
+	if shared {
+		from = fromShared
+	}
+	select {
+	case <-f.done:
+		return f.out, from, f.err
+	case <-ctx.Done():
+		m.mu.Lock()
+		f.waiters--
+		if f.waiters == 0 {
+			// Nobody waits: let a later request start afresh rather than
+			// join a solve that is being called off.
+			f.cancel()
+			if m.inflight[key] == f {
+				delete(m.inflight, key)
+			}
+		}
+		m.mu.Unlock()
+		return nil, from, ctx.Err()
+	}
+}
+
+// add remembers an outcome; m.mu is held.
+func (m *memo) add(key string, out *outcome) {
+	if el, ok := m.entries[key]; ok {
+		el.Value.(*memoEntry).out = out
+		m.order.MoveToFront(el)
+		return
+	}
+	m.entries[key] = m.order.PushFront(&memoEntry{key: key, out: out})
+	for m.order.Len() > m.size {
+		last := m.order.Back()
+		m.order.Remove(last)
+		delete(m.entries, last.Value.(*memoEntry).key)
+	}
+}
+
+// plan returns the outcome of an alternative: from the memo when the same
+// scenario and changes were planned recently, else solved (at most
+// MaxSolves at once). The request waits at most the solve time limit.
+func (s *Server) plan(ctx context.Context, alt alternative) (*outcome, source, *apiError) {
+	src, bad := s.source(alt.Scenario)
+	if bad != nil {
+		return nil, "", bad
+	}
+	// The changes encode to the same JSON exactly when they are the same
+	// (struct fields in a fixed order), which makes them a memo key.
+	ch, err := json.Marshal(alt.Changes)
+	if err != nil {
+		return nil, "", requestProblem(http.StatusBadRequest, "%v", err)
+	}
+	key := strconv.Itoa(alt.Scenario) + "\n" + string(ch)
+	ctx, cancel := context.WithTimeout(ctx, s.opt.Plan.Timeout)
+	defer cancel()
+	out, from, err := s.memo.get(ctx, key, func(fctx context.Context) (*outcome, error) {
+		return s.solve(fctx, src, alt.Changes)
+	})
+	if err == nil {
+		return out, from, nil
+	}
+	var ie *scenarios.InputError
+	var se *optimize.SolverError
+	switch {
+	case errors.As(err, &ie):
+		return nil, from, inputProblems(ie)
+	case errors.Is(err, context.DeadlineExceeded), errors.As(err, &se) && se.Status == "timeout":
+		return nil, from, requestProblem(http.StatusGatewayTimeout, "no plan within the time limit of %s; try again, or start wearplan serve with a longer --timeout", s.opt.Plan.Timeout)
+	case errors.Is(err, context.Canceled):
+		return nil, from, requestProblem(http.StatusServiceUnavailable, "the request was called off (the page sent a newer one, or the server is stopping)")
+	default:
+		return nil, from, requestProblem(http.StatusInternalServerError, "planning failed: %v", err)
+	}
+}
+
+// solve applies the changes and plans, holding one of the MaxSolves slots.
+// ctx only stops a solve that has not started: lp_solve cannot be
+// interrupted, and scenarios.Options.Timeout bounds each of its runs.
+func (s *Server) solve(ctx context.Context, src *Source, ch scenarios.Changes) (*outcome, error) {
+	select {
+	case s.sem <- struct{}{}:
+	case <-ctx.Done():
+		return nil, ctx.Err()
+	}
+	defer func() { <-s.sem }()
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
+	start := time.Now()
+	sc, err := src.Scenario.Apply(ch)
+	if err != nil {
+		return nil, err
+	}
+	res, err := scenarios.Plan(sc, s.opt.Plan)
+	if err != nil {
+		s.log.Printf("%s: %v", src.Path, err)
+		return nil, err
+	}
+	// Hook for more panels (the uncertainty bands of the "How sure is the
+	// forecast" issue, shown when asked for): add a request field that
+	// asks for them (it then becomes part of the memo key), compute them
+	// here from sc and res, add them to planAnswer, and draw them in
+	// app.js's showPlan. DEVELOPERS.md, "The what-if page".
+	panel, err := report.RunPanel("current", report.Run{Scenario: sc, Result: res})
+	if err != nil {
+		return nil, err
+	}
+	body, err := encodeAnswer(answer(sc, res, panel))
+	if err != nil {
+		return nil, err
+	}
+	return &outcome{scenario: sc, result: res, body: body, took: time.Since(start)}, nil
+}
+
+// servePlan answers POST /api/plan {scenario, changes} with the plan of
+// the changed scenario (planAnswer), 422 and the Issues when the changes
+// have problems.
+func (s *Server) servePlan(w http.ResponseWriter, r *http.Request) {
+	var alt alternative
+	if bad := decodeBody(w, r, &alt); bad != nil {
+		s.fail(w, r, bad)
+		return
+	}
+	out, from, bad := s.plan(r.Context(), alt)
+	if bad != nil {
+		s.fail(w, r, bad)
+		return
+	}
+	h := w.Header()
+	h.Set("Content-Type", "application/json; charset=utf-8")
+	h.Set("Cache-Control", "no-store")
+	h.Set("X-Wearplan-From", string(from))
+	h.Set("X-Wearplan-Solve-Ms", strconv.FormatInt(out.took.Milliseconds(), 10))
+	w.Write(out.body)
+}
+
+// downloadRequest asks for one alternative as a scenario file or report,
+// or several as a comparison report.
+type downloadRequest struct {
+	Format       string        `json:"format"`
+	Alternatives []alternative `json:"alternatives"`
+}
+
+var downloadTypes = map[string]string{
+	"yaml": "application/yaml; charset=utf-8",
+	"html": "text/html; charset=utf-8",
+	"md":   "text/markdown; charset=utf-8",
+	"xlsx": "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet",
+}
+
+// serveDownload answers POST /api/download {format, alternatives} with a
+// file to save: yaml (one alternative as a stand-alone scenario file),
+// html, md or xlsx (the report; a comparison for several).
+func (s *Server) serveDownload(w http.ResponseWriter, r *http.Request) {
+	var req downloadRequest
+	if bad := decodeBody(w, r, &req); bad != nil {
+		s.fail(w, r, bad)
+		return
+	}
+	typ, ok := downloadTypes[req.Format]
+	switch {
+	case !ok:
+		s.fail(w, r, requestProblem(http.StatusBadRequest, "format %q: choose yaml, html, md or xlsx", req.Format))
+		return
+	case len(req.Alternatives) == 0 || len(req.Alternatives) > MaxAlternatives:
+		s.fail(w, r, requestProblem(http.StatusBadRequest, "give 1 to %d alternatives, not %d", MaxAlternatives, len(req.Alternatives)))
+		return
+	case req.Format == "yaml" && len(req.Alternatives) != 1:
+		s.fail(w, r, requestProblem(http.StatusBadRequest, "a scenario file holds one alternative; download them one at a time"))
+		return
+	}
+	first := req.Alternatives[0]
+	src, bad := s.source(first.Scenario)
+	if bad != nil {
+		s.fail(w, r, bad)
+		return
+	}
+	name := fileName(src.Path, first.Changes.Name, len(req.Alternatives) > 1) + "." + req.Format
+	var body []byte
+	if req.Format == "yaml" {
+		var b bytes.Buffer
+		if err := src.Scenario.WriteYAML(&b, first.Changes); err != nil {
+			var ie *scenarios.InputError
+			if errors.As(err, &ie) {
+				s.fail(w, r, inputProblems(ie))
+			} else {
+				s.fail(w, r, requestProblem(http.StatusInternalServerError, "%v", err))
+			}
+			return
+		}
+		body = b.Bytes()
+	} else {
+		rep := &report.Report{Details: report.Details{Version: s.opt.Version, Date: s.opt.Now().Format(time.DateOnly)}}
+		seen := map[int]bool{}
+		for _, alt := range req.Alternatives {
+			out, _, bad := s.plan(r.Context(), alt)
+			if bad != nil {
+				s.fail(w, r, bad)
+				return
+			}
+			rep.Runs = append(rep.Runs, report.Run{Scenario: out.scenario, Result: out.result})
+			if !seen[alt.Scenario] {
+				seen[alt.Scenario] = true
+				rep.Details.Inputs = append(rep.Details.Inputs, s.sources[alt.Scenario].inputs()...)
+			}
+		}
+		var b bytes.Buffer
+		var err error
+		switch req.Format {
+		case "html":
+			err = report.HTML(&b, rep)
+		case "md":
+			err = report.Markdown(&b, rep)
+		default:
+			err = report.Workbook(&b, rep)
+		}
+		if err != nil {
+			s.fail(w, r, requestProblem(http.StatusInternalServerError, "writing the report: %v", err))
+			return
+		}
+		body = b.Bytes()
+	}
+	h := w.Header()
+	h.Set("Content-Type", typ)
+	h.Set("Cache-Control", "no-store")
+	h.Set("Content-Disposition", fmt.Sprintf("attachment; filename=%q", name))
+	w.Write(body)
+}

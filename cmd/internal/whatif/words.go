@@ -1,0 +1,365 @@
+package whatif
+
+import (
+	"bytes"
+	"encoding/json"
+	"fmt"
+	"html/template"
+	"math"
+	"path/filepath"
+	"regexp"
+	"strconv"
+	"strings"
+
+	"wearplan/cmd/internal/render"
+	"wearplan/cmd/internal/report"
+	"wearplan/optimize"
+	"wearplan/scenarios"
+)
+
+// planAnswer is the answer to /api/plan: the plan in plain words, the
+// figures of a comparison column, and the report's pieces to show.
+type planAnswer struct {
+	Scenario  string `json:"scenario"`
+	Status    string `json:"status"`
+	Objective string `json:"objective"`
+	// Headline says in one or two sentences what the plan achieves.
+	Headline string `json:"headline"`
+	// Shortfalls says, per target missed, by how much and when.
+	Shortfalls []string `json:"shortfalls"`
+	// Funding says what money would meet the targets, and what the same
+	// money buys spent worst first.
+	Funding  []string `json:"funding"`
+	Warnings []string `json:"warnings"`
+	Caution  string   `json:"caution"`
+	// Figures are label and value pairs, formatted, that the page lines
+	// up side by side for kept alternatives.
+	Figures []figure    `json:"figures"`
+	Panel   panelAnswer `json:"panel"`
+}
+
+type figure struct {
+	Label string `json:"label"`
+	Value string `json:"value"`
+}
+
+type panelAnswer struct {
+	Summary template.HTML `json:"summary"`
+	LOS     template.HTML `json:"los"`
+	Targets template.HTML `json:"targets"`
+	Spend   template.HTML `json:"spend"`
+	Work    template.HTML `json:"work"`
+	Charts  []chartAnswer `json:"charts"`
+}
+
+type chartAnswer struct {
+	ID    string        `json:"id"`
+	Title string        `json:"title"`
+	HTML  template.HTML `json:"html"`
+}
+
+// encodeAnswer writes the answer as JSON without escaping <, > and &: it is
+// read by the page's script, never placed inside HTML as text, and the
+// charts would otherwise grow by half.
+func encodeAnswer(a *planAnswer) ([]byte, error) {
+	var b bytes.Buffer
+	enc := json.NewEncoder(&b)
+	enc.SetEscapeHTML(false)
+	if err := enc.Encode(a); err != nil {
+		return nil, err
+	}
+	return b.Bytes(), nil
+}
+
+func answer(sc *scenarios.Scenario, r *scenarios.Result, p *report.Panel) *planAnswer {
+	a := &planAnswer{
+		Scenario: r.Scenario, Status: r.Status, Objective: r.Objective, Caution: r.Caution,
+		Headline: headline(sc, r), Shortfalls: shortfallWords(sc, r), Funding: fundingWords(r),
+		Warnings: r.Warnings, Figures: figures(sc, r),
+		Panel: panelAnswer{Summary: p.Summary, LOS: p.LOS, Targets: p.Targets, Spend: p.Spend, Work: p.Work},
+	}
+	if a.Warnings == nil {
+		a.Warnings = []string{}
+	}
+	for _, c := range p.Charts {
+		a.Panel.Charts = append(a.Panel.Charts, chartAnswer{ID: c.ID, Title: c.Title, HTML: c.HTML})
+	}
+	return a
+}
+
+func currency(r *scenarios.Result) string {
+	if r.Currency == "" {
+		return ""
+	}
+	return r.Currency + " "
+}
+
+func targetsMet(r *scenarios.Result) int {
+	n := 0
+	for _, t := range r.Targets {
+		if t.Met {
+			n++
+		}
+	}
+	return n
+}
+
+func score(v float64) string { return strconv.FormatFloat(v, 'f', 1, 64) }
+
+func plural(n int, one, many string) string {
+	if n == 1 {
+		return "1 " + one
+	}
+	return strconv.Itoa(n) + " " + many
+}
+
+func headline(sc *scenarios.Scenario, r *scenarios.Result) string {
+	cur := currency(r)
+	years := plural(r.Horizon, "year", "years")
+	scoreText := fmt.Sprintf("condition score %s out of 100 (the network's average over the %s)", score(r.ConditionScore), years)
+	missed := len(r.Targets) - targetsMet(r)
+	switch {
+	case missed > 0:
+		return fmt.Sprintf("Not every target can be met with this budget: %d of %d missed. The plan keeps the shortfall as small as possible; %s.",
+			missed, len(r.Targets), scoreText)
+	case sc.Objective == optimize.MinCost && len(r.Targets) > 0:
+		return fmt.Sprintf("Every target is met at the least cost: %s%s over %s (present value %s%s); %s.",
+			cur, render.Money(r.TotalCost), years, cur, render.Money(r.PresentValue), scoreText)
+	case len(r.Targets) > 0:
+		return fmt.Sprintf("Every target is met; %s.", scoreText)
+	default:
+		return fmt.Sprintf("The best plan for the money: %s. The scenario has no targets.", upperFirst(scoreText))
+	}
+}
+
+func upperFirst(s string) string {
+	if s == "" {
+		return s
+	}
+	return strings.ToUpper(s[:1]) + s[1:]
+}
+
+// isShare says whether a target is on a group share (else on an index).
+func isShare(sc *scenarios.Scenario, i int) bool {
+	if i >= len(sc.Targets) {
+		return false
+	}
+	k := sc.Targets[i].Spec.Kind
+	return k == optimize.MaxShare || k == optimize.MinShare
+}
+
+// shortfallWords says, for each target missed, when and by how much.
+func shortfallWords(sc *scenarios.Scenario, r *scenarios.Result) []string {
+	out := []string{}
+	for i, t := range r.Targets {
+		if t.Met {
+			continue
+		}
+		share := isShare(sc, i)
+		value := render.Index
+		if share {
+			value = render.Percent
+		}
+		worst := fmt.Sprintf("worst in %d: %s against a limit of %s", t.WorstYear, value(t.WorstValue), value(t.Limit))
+		if len(t.Shortfalls) == 0 {
+			out = append(out, fmt.Sprintf("Missed: %s (%s).", t.Target, worst))
+			continue
+		}
+		biggest := 0.0
+		for _, s := range t.Shortfalls {
+			biggest = math.Max(biggest, s.Amount)
+		}
+		by := render.Index(biggest) + " index points"
+		if share {
+			by = strconv.FormatFloat(100*biggest, 'f', 1, 64) + " percentage points"
+		}
+		n := len(t.Shortfalls)
+		when := fmt.Sprintf("in %d", t.Shortfalls[0].Year)
+		if n > 1 {
+			when = fmt.Sprintf("in %d years from %d to %d", n, t.Shortfalls[0].Year, t.Shortfalls[n-1].Year)
+		}
+		out = append(out, fmt.Sprintf("Missed: %s, %s, by up to %s (%s).", t.Target, when, by, worst))
+	}
+	return out
+}
+
+// fundingWords says what money would meet the targets, and how the same
+// money spent worst first compares.
+func fundingWords(r *scenarios.Result) []string {
+	out := []string{}
+	cur := currency(r)
+	if f := r.Funding; f != nil {
+		if f.Unreachable != "" {
+			out = append(out, "No amount of money meets every target: "+f.Unreachable+".")
+		}
+		if f.LevelBudget != nil {
+			out = append(out, fmt.Sprintf("A level budget of %s%s a year (the same amount every year) would meet every target.", cur, render.Money(*f.LevelBudget)))
+		}
+		if f.ExtraTotal != nil {
+			parts := moneyByYear(cur, f.ExtraMoney)
+			for _, g := range f.ExtraGroups {
+				parts = append(parts, "for budget group "+g.Name+" "+strings.Join(moneyByYear(cur, g.Years), ", "))
+			}
+			s := fmt.Sprintf("Or keep this budget and add %s: the extra money that meets every target at the least present value", strings.Join(parts, ", "))
+			if len(parts) > 1 {
+				s += fmt.Sprintf(" (%s%s in all, present value %s%s)", cur, render.Money(*f.ExtraTotal), cur, render.Money(*f.ExtraPresentValue))
+			}
+			out = append(out, s+".")
+		}
+	}
+	if b := r.Baseline; b != nil {
+		out = append(out, fmt.Sprintf("The same money spent worst first (each year on the worst states, the cheapest treatment that helps; common practice, no source) gives a condition score of %s: %s points %s this plan's.",
+			score(b.ConditionScore), score(math.Abs(b.Gain)), map[bool]string{true: "below", false: "above"}[b.Gain >= 0]))
+	}
+	return out
+}
+
+// moneyByYear lists amounts by year, the first six and a count of the rest.
+func moneyByYear(cur string, ys []scenarios.YearMoney) []string {
+	var out []string
+	for i, y := range ys {
+		if i == 6 {
+			out = append(out, fmt.Sprintf("and %s more", plural(len(ys)-6, "year", "years")))
+			break
+		}
+		out = append(out, fmt.Sprintf("%s%s in %d", cur, render.Money(y.Amount), y.Year))
+	}
+	return out
+}
+
+// losYears are the years the level-of-service figures show, as in the
+// reports: year 1, 5, 10 and the last.
+func losYears(horizon int) []int {
+	var out []int
+	for _, t := range []int{1, 5, 10, horizon} {
+		if t >= 1 && t <= horizon && (len(out) == 0 || out[len(out)-1] < t) {
+			out = append(out, t)
+		}
+	}
+	return out
+}
+
+// figures are the rows of a comparison column.
+func figures(sc *scenarios.Scenario, r *scenarios.Result) []figure {
+	cur := currency(r)
+	status := "every target met"
+	if r.Status != "optimal" {
+		status = strings.ReplaceAll(r.Status, "-", " ")
+	}
+	labels := make([]string, len(sc.Targets))
+	for i, t := range sc.Targets {
+		labels[i] = t.Label
+	}
+	targets := "none"
+	if len(labels) > 0 {
+		targets = strings.Join(labels, "; ")
+	}
+	fs := []figure{
+		{"Network budget", budgetWords(r)},
+		{"Cost escalation", strconv.FormatFloat(math.Round(100*r.Escalation*1e6)/1e6, 'f', -1, 64) + "% a year"},
+		{"Objective", r.Objective},
+		{"Targets", targets},
+		{"Status", status},
+		{"Condition score (0-100, average over the years)", score(r.ConditionScore)},
+		{"Total spend", cur + render.Money(r.TotalCost)},
+		{"Present value of spend", cur + render.Money(r.PresentValue)},
+		{"Targets met", fmt.Sprintf("%d of %d", targetsMet(r), len(r.Targets))},
+	}
+	fs = append(fs, figure{fmt.Sprintf("Network poor share today (start of %d)", r.StartYear), render.Percent(r.Initial.Network.Shares.Poor)})
+	for _, t := range losYears(r.Horizon) {
+		y := r.Years[t-1]
+		fs = append(fs, figure{fmt.Sprintf("Network poor share, end of %d", y.Year), render.Percent(y.Network.Shares.Poor)})
+	}
+	last := r.Years[len(r.Years)-1]
+	fs = append(fs,
+		figure{fmt.Sprintf("Network good share, end of %d", last.Year), render.Percent(last.Network.Shares.Good)},
+		figure{fmt.Sprintf("Network condition score, end of %d", last.Year), score(last.Network.Score)},
+	)
+	level, extra := "-", "-"
+	if f := r.Funding; f != nil {
+		if f.LevelBudget != nil {
+			level = cur + render.Money(*f.LevelBudget)
+		}
+		if f.ExtraPresentValue != nil {
+			extra = cur + render.Money(*f.ExtraPresentValue)
+		}
+		if f.Unreachable != "" {
+			level, extra = "no amount", "no amount"
+		}
+	}
+	fs = append(fs, figure{"Least level budget meeting every target", level}, figure{"Extra money closing the shortfalls (present value)", extra})
+	if b := r.Baseline; b != nil {
+		fs = append(fs, figure{"Condition score of the same money spent worst first", score(b.ConditionScore)})
+	}
+	return fs
+}
+
+// budgetWords writes the network budget of a plan: one amount a year, or
+// the amounts by runs of years.
+func budgetWords(r *scenarios.Result) string {
+	cur := currency(r)
+	var runs []string
+	for i := 0; i < len(r.Years); {
+		b := r.Years[i].Budget
+		j := i
+		for j+1 < len(r.Years) && sameBudget(r.Years[j+1].Budget, b) {
+			j++
+		}
+		amount := "no cap"
+		if b != nil {
+			amount = cur + render.Money(*b)
+		}
+		span := strconv.Itoa(r.Years[i].Year)
+		if j > i {
+			span += "-" + strconv.Itoa(r.Years[j].Year)
+		}
+		runs = append(runs, amount+" in "+span)
+		i = j + 1
+	}
+	if len(runs) == 1 {
+		if r.Years[0].Budget == nil {
+			return "no cap"
+		}
+		return cur + render.Money(*r.Years[0].Budget) + " a year"
+	}
+	if len(runs) > 5 {
+		runs = append(runs[:4], fmt.Sprintf("and %d more changes", len(runs)-4))
+	}
+	return strings.Join(runs, ", ")
+}
+
+func sameBudget(a, b *float64) bool {
+	return (a == nil && b == nil) || (a != nil && b != nil && *a == *b)
+}
+
+// inputs lists the source's files for a report's run details, as paths
+// beside the path given on the command line.
+func (src *Source) inputs() []report.InputFile {
+	var out []report.InputFile
+	for _, in := range src.Scenario.Scenario.Inputs {
+		out = append(out, report.InputFile{Path: filepath.Join(filepath.Dir(src.Path), filepath.FromSlash(in.Name)), SHA256: in.SHA256})
+	}
+	return out
+}
+
+var nonWord = regexp.MustCompile(`[^a-z0-9]+`)
+
+// fileName names a download: the alternative's name, or the scenario
+// file's, made safe for any file system.
+func fileName(path, name string, comparison bool) string {
+	base := strings.TrimSuffix(filepath.Base(path), filepath.Ext(path))
+	if n := strings.Trim(nonWord.ReplaceAllString(strings.ToLower(name), "-"), "-"); n != "" {
+		base = n
+	}
+	base = strings.Trim(nonWord.ReplaceAllString(strings.ToLower(base), "-"), "-")
+	if len(base) > 60 {
+		base = strings.TrimRight(base[:60], "-")
+	}
+	if base == "" {
+		base = "scenario"
+	}
+	if comparison {
+		return base + "-comparison"
+	}
+	return base + "-what-if"
+}
