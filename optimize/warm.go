@@ -35,6 +35,20 @@ func (w *Warm) Policies() int {
 	return n
 }
 
+// Clone returns a Warm with the same policies, for a solve that must start
+// from this Warm without changing it (a server answering requests from the
+// base scenario's policies, the same whatever came before).
+func (w *Warm) Clone() *Warm {
+	c := &Warm{classes: make([]warmClass, len(w.classes))}
+	for k, wc := range w.classes {
+		c.classes[k] = warmClass{name: wc.name, states: wc.states, years: wc.years, policies: make([][]int16, len(wc.policies))}
+		for n, pol := range wc.policies {
+			c.classes[k].policies[n] = append([]int16(nil), pol...)
+		}
+	}
+	return c
+}
+
 // seed adds the Warm's policies that fit the problem to the pool.
 func (w *Warm) seed(dw *decomposer) {
 	for k, d := range dw.classes {

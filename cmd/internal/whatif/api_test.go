@@ -472,3 +472,43 @@ func TestServeStopsWhenAsked(t *testing.T) {
 		t.Error("still answering after stopping")
 	}
 }
+
+// TestBandsWhenAskedFor: with bands asked for, the answer carries the band
+// charts the reports draw (the network's first, after its condition chart)
+// and the level-of-service table the poor share's 5th-95th percentile row;
+// without, neither. The two are remembered apart.
+func TestBandsWhenAskedFor(t *testing.T) {
+	_, ts := newTestServer(t, Options{})
+	plain := decodeAnswer(t, postJSON(t, ts, "/api/plan", `{"scenario": 0, "changes": {}}`))
+	banded := decodeAnswer(t, postJSON(t, ts, "/api/plan", `{"scenario": 0, "changes": {}, "bands": true}`))
+	ids := func(a *planAnswer) string {
+		var s []string
+		for _, c := range a.Panel.Charts {
+			s = append(s, c.ID)
+		}
+		return strings.Join(s, " ")
+	}
+	if strings.Contains(ids(plain), "bands") || strings.Contains(string(plain.Panel.LOS), "percentile") {
+		t.Errorf("bands without asking: %s", ids(plain))
+	}
+	if !strings.Contains(ids(banded), "current-chart-bands-network") || !strings.Contains(string(banded.Panel.LOS), "percentile") {
+		t.Errorf("no bands when asked: %s", ids(banded))
+	}
+}
+
+// TestAnswersDoNotDependOnHistory: each request starts from the base
+// plan's policies, not from the requests before it, so the same request
+// gets the same bytes on a fresh server and after other requests.
+func TestAnswersDoNotDependOnHistory(t *testing.T) {
+	const req = `{"scenario": 0, "changes": {"budget_level": 3800000}}`
+	_, fresh := newTestServer(t, Options{})
+	first := postJSON(t, fresh, "/api/plan", req)
+	_, used := newTestServer(t, Options{})
+	for _, b := range []string{"2500000", "6000000", "4100000"} {
+		postJSON(t, used, "/api/plan", `{"scenario": 0, "changes": {"budget_level": `+b+`}}`)
+	}
+	later := postJSON(t, used, "/api/plan", req)
+	if first.status != 200 || string(first.body) != string(later.body) {
+		t.Errorf("the same request answered differently after other requests (status %d, %d)", first.status, later.status)
+	}
+}

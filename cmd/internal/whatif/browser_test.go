@@ -208,6 +208,17 @@ func TestPageInChromium(t *testing.T) {
 		t.Errorf("comparison has %d header cells (want figure, page, kept): %v", cols, err)
 	}
 
+	// Ask for the uncertainty bands: the page plans again and shows the
+	// band chart of the network beside its condition chart.
+	if err := chromedp.Do(ctx, chromedp.Click(chromedp.ID("bands"))); err != nil {
+		t.Fatal(err)
+	}
+	waitSolves(3)
+	visible, err := chromedp.Run(ctx, chromedp.Evaluate[bool](`(() => { const e = document.querySelector('#charts-main #current-chart-bands-network'); return !!e && e.getBoundingClientRect().height > 50; })()`))
+	if err != nil || !visible {
+		t.Errorf("no visible band chart after asking for bands: %v", err)
+	}
+
 	shot, err := chromedp.Run(ctx, chromedp.FullScreenshot(100))
 	if err != nil {
 		t.Fatal(err)

@@ -38,6 +38,7 @@ import (
 	"time"
 
 	"wearplan/cmd/internal/report"
+	"wearplan/optimize"
 	"wearplan/scenarios"
 )
 
@@ -51,6 +52,11 @@ type Source struct {
 	Path string
 	// Scenario is the loaded scenario.
 	Scenario *scenarios.Editable
+	// warm holds the policies of the scenario's own plan, solved once at
+	// start-up: every request starts from a copy of it (optimize.Warm), so
+	// that an answer depends on the request alone, not on the requests
+	// before it. nil when that plan failed or was solved flat.
+	warm *optimize.Warm
 }
 
 // Options configure a Server.
@@ -125,6 +131,14 @@ func New(sources []Source, opt Options) (*Server, error) {
 		memo:    newMemo(opt.MemoSize),
 		palette: []byte(report.PaletteCSS()),
 		icon:    iconSVG(report.Palette()),
+	}
+	for i := range s.sources {
+		// The base plan's policies seed every request's decomposition.
+		opt := s.opt.Plan
+		opt.Warm = &optimize.Warm{}
+		if _, err := scenarios.Plan(s.sources[i].Scenario.Scenario, opt); err == nil && opt.Warm.Policies() > 0 {
+			s.sources[i].warm = opt.Warm
+		}
 	}
 	page, err := template.ParseFS(assets, "assets/index.html")
 	if err != nil {
@@ -413,6 +427,9 @@ func decodeBody(w http.ResponseWriter, r *http.Request, v any) *apiError {
 type alternative struct {
 	Scenario int               `json:"scenario"`
 	Changes  scenarios.Changes `json:"changes"`
+	// Bands asks for the uncertainty bands of the plan (BandRuns simulated
+	// runs, seed 1): scenarios.Simulate, drawn as the reports draw them.
+	Bands bool `json:"bands,omitempty"`
 }
 
 func (s *Server) source(id int) (*Source, *apiError) {

@@ -22,6 +22,9 @@ import (
 type outcome struct {
 	scenario *scenarios.Scenario
 	result   *scenarios.Result
+	// simulation holds the uncertainty bands when the request asked for
+	// them (nil otherwise); downloaded reports carry them too.
+	simulation *scenarios.SimulationResult
 	body     []byte
 	took     time.Duration
 }
@@ -151,11 +154,11 @@ func (s *Server) plan(ctx context.Context, alt alternative) (*outcome, source, *
 	if err != nil {
 		return nil, "", requestProblem(http.StatusBadRequest, "%v", err)
 	}
-	key := strconv.Itoa(alt.Scenario) + "\n" + string(ch)
+	key := strconv.Itoa(alt.Scenario) + "\n" + strconv.FormatBool(alt.Bands) + "\n" + string(ch)
 	ctx, cancel := context.WithTimeout(ctx, s.opt.Plan.Timeout)
 	defer cancel()
 	out, from, err := s.memo.get(ctx, key, func(fctx context.Context) (*outcome, error) {
-		return s.solve(fctx, src, alt.Changes)
+		return s.solve(fctx, src, alt.Changes, alt.Bands)
 	})
 	if err == nil {
 		return out, from, nil
@@ -174,10 +177,15 @@ func (s *Server) plan(ctx context.Context, alt alternative) (*outcome, source, *
 	}
 }
 
+// BandRuns is the number of simulated runs behind the page's uncertainty
+// bands: enough for the 5th and 95th percentiles to settle to a few tenths
+// of a percentage point on the demo, few enough to answer within a second.
+const BandRuns = 200
+
 // solve applies the changes and plans, holding one of the MaxSolves slots.
 // ctx only stops a solve that has not started: lp_solve cannot be
 // interrupted, and scenarios.Options.Timeout bounds each of its runs.
-func (s *Server) solve(ctx context.Context, src *Source, ch scenarios.Changes) (*outcome, error) {
+func (s *Server) solve(ctx context.Context, src *Source, ch scenarios.Changes, bands bool) (*outcome, error) {
 	select {
 	case s.sem <- struct{}{}:
 	case <-ctx.Done():
@@ -192,17 +200,26 @@ func (s *Server) solve(ctx context.Context, src *Source, ch scenarios.Changes) (
 	if err != nil {
 		return nil, err
 	}
-	res, err := scenarios.Plan(sc, s.opt.Plan)
+	opt := s.opt.Plan
+	if src.warm != nil {
+		opt.Warm = src.warm.Clone()
+	}
+	res, err := scenarios.Plan(sc, opt)
 	if err != nil {
 		s.log.Printf("%s: %v", src.Path, err)
 		return nil, err
 	}
-	// Hook for more panels (the uncertainty bands of the "How sure is the
-	// forecast" issue, shown when asked for): add a request field that
-	// asks for them (it then becomes part of the memo key), compute them
-	// here from sc and res, add them to planAnswer, and draw them in
-	// app.js's showPlan. DEVELOPERS.md, "The what-if page".
-	panel, err := report.RunPanel("current", report.Run{Scenario: sc, Result: res})
+	run := report.Run{Scenario: sc, Result: res}
+	if bands {
+		// The bands of the plan shown: the simulation plans the same
+		// scenario with the same options.
+		so := scenarios.SimulateOptions{Runs: BandRuns, Seed: 1, Timeout: opt.Timeout, Solver: opt.Solver}
+		if run.Simulation, err = scenarios.Simulate(sc, so); err != nil {
+			s.log.Printf("%s: bands: %v", src.Path, err)
+			return nil, err
+		}
+	}
+	panel, err := report.RunPanel("current", run)
 	if err != nil {
 		return nil, err
 	}
@@ -210,7 +227,7 @@ func (s *Server) solve(ctx context.Context, src *Source, ch scenarios.Changes) (
 	if err != nil {
 		return nil, err
 	}
-	return &outcome{scenario: sc, result: res, body: body, took: time.Since(start)}, nil
+	return &outcome{scenario: sc, result: res, simulation: run.Simulation, body: body, took: time.Since(start)}, nil
 }
 
 // servePlan answers POST /api/plan {scenario, changes} with the plan of
@@ -299,7 +316,7 @@ func (s *Server) serveDownload(w http.ResponseWriter, r *http.Request) {
 				s.fail(w, r, bad)
 				return
 			}
-			rep.Runs = append(rep.Runs, report.Run{Scenario: out.scenario, Result: out.result})
+			rep.Runs = append(rep.Runs, report.Run{Scenario: out.scenario, Result: out.result, Simulation: out.simulation})
 			if !seen[alt.Scenario] {
 				seen[alt.Scenario] = true
 				rep.Details.Inputs = append(rep.Details.Inputs, s.sources[alt.Scenario].inputs()...)

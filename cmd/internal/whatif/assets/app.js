@@ -239,7 +239,7 @@
   }
 
   async function plan() {
-    const request = { scenario: state.info.id, changes: changes() };
+    const request = { scenario: state.info.id, changes: changes(), bands: $('bands').checked };
     const seq = ++state.seq;
     if (state.inflight) state.inflight.abort();
     const ctl = new AbortController();
@@ -337,7 +337,7 @@
     fill('funding', a.funding);
     fill('warnings', a.warnings.map((w) => 'Note: ' + w));
     const charts = a.panel.charts;
-    const main = charts.filter((c) => c.id === 'current-chart-network' || c.id === 'current-chart-spend');
+    const main = charts.filter((c) => c.id === 'current-chart-network' || c.id === 'current-chart-bands-network' || c.id === 'current-chart-spend');
     const classes = charts.filter((c) => !main.includes(c));
     $('charts-main').innerHTML = main.map((c) => c.html).join('');
     $('charts-classes').innerHTML = classes.map((c) => c.html).join('');
