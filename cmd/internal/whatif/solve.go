@@ -25,8 +25,8 @@ type outcome struct {
 	// simulation holds the uncertainty bands when the request asked for
 	// them (nil otherwise); downloaded reports carry them too.
 	simulation *scenarios.SimulationResult
-	body     []byte
-	took     time.Duration
+	body       []byte
+	took       time.Duration
 }
 
 // memo remembers the outcomes of recent requests (least recently used
