@@ -45,6 +45,12 @@ type SweepPoint struct {
 	Targets    int `json:"targets"`
 }
 
+// sweepChains is the number of warm-started chains a decomposed sweep is
+// cut into: enough to keep a few cores busy, few enough that most points
+// start from a neighbour's policies. It is fixed, not the core count, so
+// that results are the same on every machine.
+const sweepChains = 4
+
 // BudgetRange expands FROM:TO:STEP into the budgets FROM, FROM+STEP, ...
 // up to TO (included when reached within a millionth of a step).
 func BudgetRange(from, to, step float64) ([]float64, error) {
@@ -102,22 +108,28 @@ func Sweep(sc *Scenario, budgets []float64, opt Options) (*SweepResult, error) {
 		return nil, err
 	}
 	if optimize.Chosen(p, opt.Solver) == optimize.Decomposed {
-		// Decomposed points run in budget order, each starting from the
-		// policies of the one before (a warm start that the decomposition
-		// profits from far more than from parallel cold starts); the fixed
-		// order keeps results independent of the core count.
-		jobs = append(jobs, func() error {
-			o := opt
-			if o.Warm == nil {
+		// Decomposed points run in sweepChains chains of neighbouring
+		// budgets, each point starting from the policies of the one
+		// before it in its chain (a warm start), the chains in parallel.
+		// The chains are cut the same way on any machine, so results do
+		// not depend on the core count.
+		chains := min(sweepChains, len(budgets))
+		for c := 0; c < chains; c++ {
+			lo, hi := c*len(budgets)/chains, (c+1)*len(budgets)/chains
+			jobs = append(jobs, func() error {
+				o := opt
 				o.Warm = &optimize.Warm{}
-			}
-			for n, b := range budgets {
-				if err := point(n, b, o); err != nil {
-					return err
+				if opt.Warm != nil {
+					o.Warm = opt.Warm.Clone()
 				}
-			}
-			return nil
-		})
+				for n := lo; n < hi; n++ {
+					if err := point(n, budgets[n], o); err != nil {
+						return err
+					}
+				}
+				return nil
+			})
+		}
 	} else {
 		for n, b := range budgets {
 			jobs = append(jobs, func() error { return point(n, b, opt) })

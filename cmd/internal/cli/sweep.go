@@ -25,7 +25,9 @@ condition score, the network's poor share and average index at the end of
 the horizon, total spend and whether the targets hold. It also finds the
 least level budget that holds today's network condition to the end of the
 horizon, and the least that meets the scenario's targets. Budgets are
-planned in parallel on the available cores; the output is in budget order.`,
+planned in parallel on the available cores (large models in four chains of
+neighbouring budgets, each point starting from the one before); the output
+is in budget order and the same on any machine.`,
 		Example: `  # Twenty budgets from 2 to 6.75 million
   wearplan sweep scenarios/examples/marrowby.yaml --budget 2e6:6.75e6:250000
   # A list of budgets, as CSV for a chart
