@@ -11,6 +11,11 @@ import (
 )
 
 // peakRSS reads the process's resident-set high-water mark in MiB.
+//
+// It and resetPeakRSS are copies of optimizetest.PeakRSS and ResetPeakRSS,
+// kept here on purpose: markov is the bottom of the one-way layout (cmd ->
+// scenarios -> optimize -> treatments -> markov) and its tests import
+// nothing from the optimize tree, wearplan/optimize/optimizetest included.
 func peakRSS() float64 {
 	b, err := os.ReadFile("/proc/self/status")
 	if err != nil {

@@ -2,10 +2,9 @@ package optimize
 
 import (
 	"math/rand/v2"
-	"os"
-	"strconv"
-	"strings"
 	"testing"
+
+	"wearplan/optimize/optimizetest"
 )
 
 // Benchmark sizes: classes x states x treatments x years, each with a
@@ -17,27 +16,6 @@ var benchSizes = []randomSpec{
 }
 
 func (s randomSpec) String() string { return s.gen().String() }
-
-// peakRSS reads the process's resident-set high-water mark in MiB, which
-// includes lp_solve's C allocations that Go's -benchmem cannot see.
-func peakRSS() float64 {
-	b, err := os.ReadFile("/proc/self/status")
-	if err != nil {
-		return 0
-	}
-	for _, line := range strings.Split(string(b), "\n") {
-		if strings.HasPrefix(line, "VmHWM:") {
-			f := strings.Fields(line)
-			kb, _ := strconv.ParseFloat(f[1], 64)
-			return kb / 1024
-		}
-	}
-	return 0
-}
-
-// resetPeakRSS restarts the high-water mark (Linux: "5" to clear_refs), so
-// that each benchmark reports its own peak.
-func resetPeakRSS() { _ = os.WriteFile("/proc/self/clear_refs", []byte("5"), 0) }
 
 // BenchmarkBuild measures building the flat LP (no solve).
 func BenchmarkBuild(b *testing.B) {
@@ -63,7 +41,7 @@ func BenchmarkSolve(b *testing.B) {
 	for _, spec := range benchSizes {
 		p := randomProblem(rand.New(rand.NewPCG(1, 1)), spec)
 		b.Run(spec.String(), func(b *testing.B) {
-			resetPeakRSS()
+			optimizetest.ResetPeakRSS()
 			var plan *Plan
 			for b.Loop() {
 				var err error
@@ -71,7 +49,7 @@ func BenchmarkSolve(b *testing.B) {
 					b.Fatal(err)
 				}
 			}
-			b.ReportMetric(peakRSS(), "MiB-peak")
+			b.ReportMetric(optimizetest.PeakRSS(), "MiB-peak")
 			b.ReportMetric(float64(plan.Stats.Cols), "cols")
 			b.ReportMetric(float64(plan.Stats.Solves), "solves")
 		})
@@ -84,7 +62,7 @@ func BenchmarkSolveDecomposed(b *testing.B) {
 	for _, spec := range append(benchSizes, randomSpec{classes: 60, states: 10, treatments: 8, years: 40, budgetShare: 0.15}) {
 		p := randomProblem(rand.New(rand.NewPCG(1, 1)), spec)
 		b.Run(spec.String(), func(b *testing.B) {
-			resetPeakRSS()
+			optimizetest.ResetPeakRSS()
 			var plan *Plan
 			for b.Loop() {
 				var err error
@@ -92,7 +70,7 @@ func BenchmarkSolveDecomposed(b *testing.B) {
 					b.Fatal(err)
 				}
 			}
-			b.ReportMetric(peakRSS(), "MiB-peak")
+			b.ReportMetric(optimizetest.PeakRSS(), "MiB-peak")
 			b.ReportMetric(float64(plan.Stats.Iterations), "rounds")
 			b.ReportMetric(float64(plan.Stats.Columns), "policies")
 		})

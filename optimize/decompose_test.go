@@ -6,11 +6,10 @@ import (
 	"math"
 	"math/rand/v2"
 	"os"
-	"os/exec"
 	"runtime"
-	"strconv"
-	"strings"
 	"testing"
+
+	"wearplan/optimize/optimizetest"
 )
 
 // agreementProblem draws a random scenario for the decomposition checks:
@@ -247,39 +246,19 @@ func TestDecomposedMatchesGLPKOnLargeModel(t *testing.T) {
 	if testing.Short() {
 		t.Skip("-short: skipping the 60 x 10 x 8 x 40 reference solve")
 	}
-	glpsol := requireTool(t, "glpsol")
+	optimizetest.RequireTool(t, "glpsol")
 	p := Generate(rand.New(rand.NewPCG(1, 1)), GenSpec{Classes: 60, States: 10, Treatments: 8, Years: 40, BudgetShare: 0.15})
 	m, err := BuildModel(p)
 	if err != nil {
 		t.Fatal(err)
 	}
-	path := writeModel(t, m, "large")
-	args := []string{"--freemps", path, "--interior", "-w", path + ".sol"}
-	kind := "ipt"
+	options, kind := []string{"--interior"}, "ipt"
 	if os.Getenv("WEARPLAN_LARGE_REFERENCE") == "simplex" {
-		args, kind = []string{"--freemps", path, "-w", path + ".sol"}, "bas"
+		options, kind = nil, "bas"
 	}
-	if out, err := exec.Command(glpsol, args...).CombinedOutput(); err != nil {
-		t.Fatalf("glpsol: %v\n%s", err, out)
-	}
-	sol, err := os.ReadFile(path + ".sol")
-	if err != nil {
-		t.Fatal(err)
-	}
-	want, found := 0.0, false
-	for _, line := range strings.Split(string(sol), "\n") {
-		// "s ipt ROWS COLS STATUS OBJ" (interior) or "s bas ROWS COLS PST DST OBJ"
-		f := strings.Fields(line)
-		if len(f) >= 6 && f[0] == "s" && f[1] == kind {
-			if (kind == "ipt" && f[4] != "o") || (kind == "bas" && (f[4] != "f" || f[5] != "f")) {
-				t.Fatalf("glpsol did not reach an optimum: %s", line)
-			}
-			want, err = strconv.ParseFloat(f[len(f)-1], 64)
-			found = err == nil
-		}
-	}
-	if !found {
-		t.Fatalf("no solution line in glpsol's output:\n%.500s", sol)
+	want, optimal, _ := optimizetest.GlpsolObjective(t, "--freemps", writeModel(t, m, "large"), options...)
+	if !optimal {
+		t.Fatalf("glpsol (%s) did not reach an optimum: objective %g", kind, want)
 	}
 	want = -want // a maximisation is written as the minimisation of its negation
 	plan, err := SolveWith(p, Options{Method: Decomposed})

@@ -5,6 +5,7 @@ import (
 	"testing"
 
 	"wearplan/optimize"
+	"wearplan/optimize/optimizetest"
 	"wearplan/scenarios"
 )
 
@@ -12,7 +13,7 @@ import (
 // decomposition's optimum equals GLPK 5.0's glpsol (Debian package
 // glpk-utils, simplex) on the exported flat model within 1e-6 relative.
 func TestDemoDecomposedMatchesGLPK(t *testing.T) {
-	glpsol := optimize.RequireTool(t, "glpsol")
+	optimizetest.RequireTool(t, "glpsol")
 	sc, err := scenarios.LoadFile(filepath.Join("..", "scenarios", "examples", "marrowby.yaml"))
 	if err != nil {
 		t.Fatal(err)
@@ -25,7 +26,7 @@ func TestDemoDecomposedMatchesGLPK(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	want, ok := optimize.GlpsolOptimum(t, glpsol, m)
+	want, ok := optimize.GlpsolOptimum(t, m)
 	if !ok {
 		t.Fatal("glpsol found no optimum of the demo's flat model")
 	}

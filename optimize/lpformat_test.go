@@ -6,10 +6,11 @@ import (
 	"math"
 	"math/rand/v2"
 	"os"
-	"os/exec"
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"wearplan/optimize/optimizetest"
 )
 
 func writeLPFile(t *testing.T, m *Model, name string) string {
@@ -25,18 +26,6 @@ func writeLPFile(t *testing.T, m *Model, name string) string {
 	return path
 }
 
-// runGlpsolLP solves a CPLEX LP file with GLPK's glpsol and reads its raw
-// solution file, like runGlpsol does for MPS.
-func runGlpsolLP(t *testing.T, glpsol, path string) glpsolResult {
-	t.Helper()
-	sol := path + ".sol"
-	out, err := exec.Command(glpsol, "--lp", path, "-w", sol).CombinedOutput()
-	if err != nil {
-		t.Fatalf("glpsol --lp: %v\n%s", err, out)
-	}
-	return readGlpsolSolution(t, sol, out)
-}
-
 // TestLPFormatSmallModelByHand: the two-product example of Hillier and
 // Lieberman, "Introduction to Operations Research" (max 3x + 5y subject to
 // x <= 4, 2y <= 12, 3x + 2y <= 18; optimum 36 at x = 2, y = 6; numbers from
@@ -45,7 +34,7 @@ func runGlpsolLP(t *testing.T, glpsol, path string) glpsolResult {
 // right-hand sides are written the way readers understand them. A column in
 // no row and an empty row must not change it.
 func TestLPFormatSmallModelByHand(t *testing.T) {
-	glpsol := requireTool(t, "glpsol")
+	optimizetest.RequireTool(t, "glpsol")
 	m := &Model{
 		Name:     "byhand",
 		Cols:     []string{"x", "y", "unused"},
@@ -61,9 +50,8 @@ func TestLPFormatSmallModelByHand(t *testing.T) {
 		},
 	}
 	path := writeLPFile(t, m, "byhand")
-	ref := runGlpsolLP(t, glpsol, path)
-	if !ref.optimal || math.Abs(ref.obj-36) > 1e-9 {
-		t.Fatalf("glpsol: %+v, want optimal 36", ref)
+	if obj, optimal, _ := optimizetest.GlpsolObjective(t, "--lp", path); !optimal || math.Abs(obj-36) > 1e-9 {
+		t.Fatalf("glpsol: objective %g (optimal %t), want optimal 36", obj, optimal)
 	}
 	text, _ := os.ReadFile(path)
 	if !strings.Contains(string(text), "\\ two products second line") {
@@ -75,8 +63,8 @@ func TestLPFormatSmallModelByHand(t *testing.T) {
 	// The same model as a minimisation of -3x - 5y: the optimum is -36.
 	m.Maximize = false
 	m.Obj = []float64{-3, -5, 0}
-	if ref := runGlpsolLP(t, glpsol, writeLPFile(t, m, "min")); !ref.optimal || math.Abs(ref.obj+36) > 1e-9 {
-		t.Fatalf("glpsol on the minimisation: %+v, want optimal -36", ref)
+	if obj, optimal, _ := optimizetest.GlpsolObjective(t, "--lp", writeLPFile(t, m, "min")); !optimal || math.Abs(obj+36) > 1e-9 {
+		t.Fatalf("glpsol on the minimisation: objective %g (optimal %t), want optimal -36", obj, optimal)
 	}
 }
 
@@ -85,7 +73,7 @@ func TestLPFormatSmallModelByHand(t *testing.T) {
 // optimum that lp_solve found, within 1e-6 relative, and agrees on which
 // plans cannot meet their targets.
 func TestLPFormatAgreesWithGLPK(t *testing.T) {
-	glpsol := requireTool(t, "glpsol")
+	optimizetest.RequireTool(t, "glpsol")
 	rng := rand.New(rand.NewPCG(6, 2027))
 	const cases = 12
 	optimal := 0
@@ -100,24 +88,24 @@ func TestLPFormatAgreesWithGLPK(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			ref := runGlpsolLP(t, glpsol, writeLPFile(t, m, "plan"))
+			refObj, refOptimal, refFeasible := optimizetest.GlpsolObjective(t, "--lp", writeLPFile(t, m, "plan"))
 			r, err := solveFlat(p)
 			if err != nil {
 				t.Fatal(err)
 			}
 			if r.status != Optimal {
-				if ref.feasible {
-					t.Fatalf("lp_solve: %s; glpsol found a feasible solution (objective %g)", r.status, ref.obj)
+				if refFeasible {
+					t.Fatalf("lp_solve: %s; glpsol found a feasible solution (objective %g)", r.status, refObj)
 				}
 				return
 			}
-			if !ref.optimal {
-				t.Fatalf("lp_solve optimal, glpsol not (%+v)", ref)
+			if !refOptimal {
+				t.Fatalf("lp_solve optimal, glpsol not (feasible %t, objective %g)", refFeasible, refObj)
 			}
 			optimal++
 			got := m.Value(r.x[:len(m.Cols)])
-			if !relClose(got, ref.obj, 1e-6) {
-				t.Errorf("primary objective %.12g, glpsol on the LP file %.12g", got, ref.obj)
+			if !relClose(got, refObj, 1e-6) {
+				t.Errorf("primary objective %.12g, glpsol on the LP file %.12g", got, refObj)
 			}
 		})
 	}

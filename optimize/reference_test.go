@@ -1,7 +1,6 @@
 package optimize
 
 import (
-	"bufio"
 	"bytes"
 	"fmt"
 	"math"
@@ -15,64 +14,9 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/optimize/convex/lp"
+
+	"wearplan/optimize/optimizetest"
 )
-
-// requireTool finds an external reference solver. CI sets
-// WEARPLAN_REQUIRE_REFERENCE=1 so that a missing solver fails the run
-// instead of skipping the check.
-func requireTool(t *testing.T, name string) string {
-	t.Helper()
-	path, err := exec.LookPath(name)
-	if err != nil {
-		if os.Getenv("WEARPLAN_REQUIRE_REFERENCE") != "" {
-			t.Fatalf("%s not found; install it (make deps) to run the reference checks", name)
-		}
-		t.Skipf("%s not found; run `make deps` to install the reference solvers", name)
-	}
-	return path
-}
-
-// glpsolResult runs GLPK's glpsol on a free MPS file and reads its raw
-// solution file ("s bas rows cols primal dual objective").
-type glpsolResult struct {
-	feasible bool
-	optimal  bool
-	obj      float64
-}
-
-func runGlpsol(t *testing.T, glpsol, mps string) glpsolResult {
-	t.Helper()
-	sol := mps + ".sol"
-	out, err := exec.Command(glpsol, "--freemps", mps, "-w", sol).CombinedOutput()
-	if err != nil {
-		t.Fatalf("glpsol: %v\n%s", err, out)
-	}
-	return readGlpsolSolution(t, sol, out)
-}
-
-// readGlpsolSolution reads the status and objective from glpsol's raw
-// solution file; out is glpsol's console output, shown on failure.
-func readGlpsolSolution(t *testing.T, sol string, out []byte) glpsolResult {
-	t.Helper()
-	f, err := os.Open(sol)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	sc := bufio.NewScanner(f)
-	for sc.Scan() {
-		fields := strings.Fields(sc.Text())
-		if len(fields) == 7 && fields[0] == "s" && fields[1] == "bas" {
-			obj, err := strconv.ParseFloat(fields[6], 64)
-			if err != nil {
-				t.Fatalf("glpsol objective %q: %v", fields[6], err)
-			}
-			return glpsolResult{feasible: fields[4] == "f", optimal: fields[4] == "f" && fields[5] == "f", obj: obj}
-		}
-	}
-	t.Fatalf("no solution line in glpsol output:\n%s", out)
-	return glpsolResult{}
-}
 
 func writeModel(t *testing.T, m *Model, name string) string {
 	t.Helper()
@@ -97,7 +41,7 @@ func relClose(a, b, tol float64) bool {
 // The plan's final (tie-broken) solution must still attain glpsol's optimum
 // of the primary objective within 1e-6 relative.
 func TestAgreesWithGLPK(t *testing.T) {
-	glpsol := requireTool(t, "glpsol")
+	optimizetest.RequireTool(t, "glpsol")
 	rng := rand.New(rand.NewPCG(20270101, 7))
 	const cases = 24
 	optimal, notMet := 0, 0
@@ -109,24 +53,24 @@ func TestAgreesWithGLPK(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			ref := runGlpsol(t, glpsol, writeModel(t, m, "plan"))
+			refObj, refOptimal, refFeasible := optimizetest.GlpsolObjective(t, "--freemps", writeModel(t, m, "plan"))
 			r, err := solveFlat(p)
 			if err != nil {
 				t.Fatal(err)
 			}
 			if r.status == TargetsNotMet {
 				notMet++
-				if ref.feasible {
-					t.Fatalf("lp_solve says infeasible, glpsol found a feasible solution (objective %g)", ref.obj)
+				if refFeasible {
+					t.Fatalf("lp_solve says infeasible, glpsol found a feasible solution (objective %g)", refObj)
 				}
 				return
 			}
-			if !ref.optimal {
-				t.Fatalf("lp_solve optimal, glpsol not (%+v)", ref)
+			if !refOptimal {
+				t.Fatalf("lp_solve optimal, glpsol not (feasible %t, objective %g)", refFeasible, refObj)
 			}
 			optimal++
 			got := m.Value(r.x[:len(m.Cols)])
-			want := ref.obj
+			want := refObj
 			if m.Maximize {
 				want = -want // written as a minimisation
 			}
@@ -233,7 +177,7 @@ func TestAgreesWithGonumSimplex(t *testing.T) {
 // the same optimum. CLP prints the objective with about nine significant
 // digits, well inside the 1e-6 relative tolerance.
 func TestCLPReadsTheExportedModel(t *testing.T) {
-	clp := requireTool(t, "clp")
+	clp := optimizetest.RequireTool(t, "clp")
 	rng := rand.New(rand.NewPCG(11, 5))
 	for c := 0; c < 6; c++ {
 		p := randomProblem(rng, randomSpec{classes: 1 + rng.IntN(3), states: 3 + rng.IntN(4), treatments: 2 + rng.IntN(3), years: 3 + rng.IntN(6), budgetShare: 0.1 + 0.2*rng.Float64()})

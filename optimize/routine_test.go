@@ -5,6 +5,8 @@ import (
 	"math"
 	"math/rand/v2"
 	"testing"
+
+	"wearplan/optimize/optimizetest"
 )
 
 // addRoutine gives every class a routine cost rising down the scale, of
@@ -26,7 +28,7 @@ func addRoutine(rng *rand.Rand, p *Problem) {
 // the untreated quantities (the definition: routine cost per unit left
 // untreated, escalated like treatment prices).
 func TestRoutineCostAgreesWithGLPK(t *testing.T) {
-	glpsol := requireTool(t, "glpsol")
+	optimizetest.RequireTool(t, "glpsol")
 	rng := rand.New(rand.NewPCG(47, 2027))
 	for c := 0; c < 12; c++ {
 		p := randomProblem(rng, randomSpec{classes: 1 + rng.IntN(3), states: 3 + rng.IntN(3), treatments: 2 + rng.IntN(3), years: 3 + rng.IntN(5), targets: c%2 == 1, budgetShare: 0.1 + 0.3*rng.Float64()})
@@ -42,18 +44,18 @@ func TestRoutineCostAgreesWithGLPK(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			ref := runGlpsol(t, glpsol, writeModel(t, m, "routine"))
+			refObj, _, refFeasible := optimizetest.GlpsolObjective(t, "--freemps", writeModel(t, m, "routine"))
 			r, err := solveFlat(p)
 			if err != nil {
 				t.Fatal(err)
 			}
 			if r.status != Optimal {
-				if ref.feasible {
+				if refFeasible {
 					t.Fatalf("lp_solve: %s; glpsol found a feasible solution", r.status)
 				}
 				return
 			}
-			got, want := m.Value(r.x[:len(m.Cols)]), ref.obj
+			got, want := m.Value(r.x[:len(m.Cols)]), refObj
 			if m.Maximize {
 				want = -want
 			}

@@ -8,6 +8,7 @@ import (
 	"path/filepath"
 	"testing"
 
+	"wearplan/optimize/optimizetest"
 	"wearplan/scenarios"
 )
 
@@ -103,7 +104,7 @@ func BenchmarkFit(b *testing.B) {
 		name := fmt.Sprintf("%s/%d/bootstrap=%d", c.method, c.records, c.bootstrap)
 		b.Run(name, func(b *testing.B) {
 			path := writeBenchExport(b, c.records, c.mixed)
-			resetPeakRSS()
+			optimizetest.ResetPeakRSS()
 			for b.Loop() {
 				f, err := os.Open(path)
 				if err != nil {
@@ -122,7 +123,7 @@ func BenchmarkFit(b *testing.B) {
 					b.Fatalf("read %d rows, want %d", res.Rows, c.records)
 				}
 			}
-			b.ReportMetric(peakRSS(), "MiB-peak")
+			b.ReportMetric(optimizetest.PeakRSS(), "MiB-peak")
 		})
 	}
 }

@@ -5,11 +5,10 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
-	"strconv"
 	"strings"
-	"syscall"
 	"testing"
 
+	"wearplan/optimize/optimizetest"
 	"wearplan/scenarios"
 )
 
@@ -18,36 +17,6 @@ import (
 // WKT lines or points and a traffic column, written to a temporary file
 // and read, aggregated, planned and listed as `wearplan worklist` does.
 // Peak memory is the process's resident-set high-water mark.
-
-// peakRSS is the process's resident-set high-water mark in MiB (Linux):
-// the benchmarks of this package report it as their peak memory.
-func peakRSS() float64 {
-	b, err := os.ReadFile("/proc/self/status")
-	if err != nil {
-		return 0
-	}
-	for _, line := range strings.Split(string(b), "\n") {
-		if strings.HasPrefix(line, "VmHWM:") {
-			kb, _ := strconv.ParseFloat(strings.Fields(line)[1], 64)
-			return kb / 1024
-		}
-	}
-	return 0
-}
-
-// resetPeakRSS restarts the high-water mark ("5" to clear_refs).
-func resetPeakRSS() { _ = os.WriteFile("/proc/self/clear_refs", []byte("5"), 0) }
-
-// cpuSeconds is the process's user and system CPU time so far. On a
-// shared machine it varies far less than wall time, so the benchmarks
-// report it per operation beside ns/op.
-func cpuSeconds() float64 {
-	var ru syscall.Rusage
-	if err := syscall.Getrusage(syscall.RUSAGE_SELF, &ru); err != nil {
-		return 0
-	}
-	return float64(ru.Utime.Nano()+ru.Stime.Nano()) / 1e9
-}
 
 // writeMillionSegments writes the demo scenario beside a generated list of
 // rows segments and returns the scenario's path.
@@ -108,8 +77,8 @@ func BenchmarkMillionSegments(b *testing.B) {
 	path := writeMillionSegments(b, rows)
 	for _, years := range []int{1, 5} {
 		b.Run(fmt.Sprintf("rows=%d/years=%d", rows, years), func(b *testing.B) {
-			resetPeakRSS()
-			cpu0 := cpuSeconds()
+			optimizetest.ResetPeakRSS()
+			cpu0 := optimizetest.CPUSeconds()
 			var w *scenarios.Worklist
 			for b.Loop() {
 				sc, err := scenarios.LoadFile(path)
@@ -124,8 +93,8 @@ func BenchmarkMillionSegments(b *testing.B) {
 					b.Fatal(err)
 				}
 			}
-			b.ReportMetric((cpuSeconds()-cpu0)/float64(b.N), "cpu-s/op")
-			b.ReportMetric(peakRSS(), "MiB-peak")
+			b.ReportMetric((optimizetest.CPUSeconds()-cpu0)/float64(b.N), "cpu-s/op")
+			b.ReportMetric(optimizetest.PeakRSS(), "MiB-peak")
 			b.ReportMetric(float64(len(w.Items)), "items")
 		})
 	}
@@ -134,13 +103,13 @@ func BenchmarkMillionSegments(b *testing.B) {
 // BenchmarkLoadSegments is the reading and aggregation alone.
 func BenchmarkLoadSegments(b *testing.B) {
 	path := writeMillionSegments(b, 1_000_000)
-	resetPeakRSS()
-	cpu0 := cpuSeconds()
+	optimizetest.ResetPeakRSS()
+	cpu0 := optimizetest.CPUSeconds()
 	for b.Loop() {
 		if _, err := scenarios.LoadFile(path); err != nil {
 			b.Fatal(err)
 		}
 	}
-	b.ReportMetric((cpuSeconds()-cpu0)/float64(b.N), "cpu-s/op")
-	b.ReportMetric(peakRSS(), "MiB-peak")
+	b.ReportMetric((optimizetest.CPUSeconds()-cpu0)/float64(b.N), "cpu-s/op")
+	b.ReportMetric(optimizetest.PeakRSS(), "MiB-peak")
 }

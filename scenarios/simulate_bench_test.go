@@ -5,6 +5,7 @@ import (
 	"strconv"
 	"testing"
 
+	"wearplan/optimize/optimizetest"
 	"wearplan/scenarios"
 )
 
@@ -65,13 +66,13 @@ func BenchmarkSimulate10k(b *testing.B) {
 					c.Evidence = &scenarios.MatrixEvidence{Counts: counts}
 				}
 			}
-			resetPeakRSS()
+			optimizetest.ResetPeakRSS()
 			for b.Loop() {
 				if _, err := scenarios.Simulate(sc, scenarios.SimulateOptions{Runs: 1000, Seed: 1, Lots: segs, Matrix: matrix}); err != nil {
 					b.Fatal(err)
 				}
 			}
-			b.ReportMetric(peakRSS(), "MiB-peak")
+			b.ReportMetric(optimizetest.PeakRSS(), "MiB-peak")
 		})
 	}
 }

@@ -16,9 +16,11 @@ import (
 	"github.com/chromedp/cdproto/network"
 	"github.com/chromedp/cdproto/runtime"
 	"github.com/chromedp/chromedp"
+
+	"wearplan/optimize/optimizetest"
 )
 
-// requireBrowser finds Debian's chromium, following requireTool's rule:
+// requireBrowser finds Debian's chromium, following optimizetest.RequireTool's rule:
 // skip locally when it is missing, fail under WEARPLAN_REQUIRE_REFERENCE=1.
 func requireBrowser(t *testing.T) string {
 	t.Helper()
@@ -27,7 +29,7 @@ func requireBrowser(t *testing.T) string {
 			return path
 		}
 	}
-	return requireTool(t, "chromium")
+	return optimizetest.RequireTool(t, "chromium")
 }
 
 // screenshotDir is where the browser test leaves its screenshots for

@@ -7,7 +7,6 @@
 package main
 
 import (
-	"bufio"
 	"context"
 	"errors"
 	"flag"
@@ -24,6 +23,7 @@ import (
 	"time"
 
 	"wearplan/optimize"
+	"wearplan/optimize/optimizetest"
 )
 
 // sizes are the benchmark models: a binding yearly budget, the
@@ -74,10 +74,10 @@ type peer struct {
 var peers = []peer{
 	{"glpsol simplex", func(mps, sol string) (string, []string) {
 		return "glpsol", []string{"--freemps", mps, "-w", sol}
-	}, glpsolObjective("bas")},
+	}, glpsolObjective},
 	{"glpsol --interior", func(mps, sol string) (string, []string) {
 		return "glpsol", []string{"--freemps", mps, "--interior", "-w", sol}
-	}, glpsolObjective("ipt")},
+	}, glpsolObjective},
 	{"clp -barrier", func(mps, sol string) (string, []string) {
 		return "clp", []string{mps, "-barrier"}
 	}, clpObjective},
@@ -164,7 +164,7 @@ func runWearplan(p *optimize.Problem, method optimize.Method, reps int, timeout 
 	q.Timeout = timeout
 	best := result{secs: math.Inf(1)}
 	rounds := 0
-	resetPeak()
+	optimizetest.ResetPeakRSS()
 	for i := 0; i < reps; i++ {
 		start := time.Now()
 		plan, err := optimize.SolveWith(&q, optimize.Options{Method: method})
@@ -184,7 +184,7 @@ func runWearplan(p *optimize.Problem, method optimize.Method, reps int, timeout 
 			break // one slow flat run is enough
 		}
 	}
-	best.peakMiB = peakMiB()
+	best.peakMiB = optimizetest.PeakRSS()
 	return best, rounds
 }
 
@@ -220,22 +220,11 @@ func runPeer(pr peer, mps string, timeout time.Duration) result {
 	return r
 }
 
-func glpsolObjective(kind string) func([]byte, string) (float64, error) {
-	return func(_ []byte, sol string) (float64, error) {
-		f, err := os.Open(sol)
-		if err != nil {
-			return 0, err
-		}
-		defer f.Close()
-		sc := bufio.NewScanner(f)
-		for sc.Scan() {
-			fl := strings.Fields(sc.Text())
-			if len(fl) >= 6 && fl[0] == "s" && fl[1] == kind {
-				return strconv.ParseFloat(fl[len(fl)-1], 64)
-			}
-		}
-		return 0, errors.New("no solution line")
-	}
+// glpsolObjective reads the objective from glpsol's raw solution file
+// (the simplex's or the interior point's, whichever glpsol wrote).
+func glpsolObjective(_ []byte, sol string) (float64, error) {
+	obj, _, _, err := optimizetest.ReadGlpsolSolution(sol)
+	return obj, err
 }
 
 func clpObjective(out []byte, _ string) (float64, error) {
@@ -310,23 +299,6 @@ func loadAvg() string {
 	}
 	f := strings.Fields(string(b))
 	return strings.Join(f[:3], " ")
-}
-
-// resetPeak restarts the resident-set high-water mark (Linux).
-func resetPeak() { _ = os.WriteFile("/proc/self/clear_refs", []byte("5"), 0) }
-
-func peakMiB() float64 {
-	b, err := os.ReadFile("/proc/self/status")
-	if err != nil {
-		return 0
-	}
-	for _, line := range strings.Split(string(b), "\n") {
-		if strings.HasPrefix(line, "VmHWM:") {
-			kb, _ := strconv.ParseFloat(strings.Fields(line)[1], 64)
-			return kb / 1024
-		}
-	}
-	return 0
 }
 
 func fatal(err error) {
