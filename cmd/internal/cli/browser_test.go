@@ -4,79 +4,15 @@ import (
 	"context"
 	"fmt"
 	"net/url"
-	"os"
-	"os/exec"
 	"path/filepath"
 	"strings"
-	"sync"
 	"testing"
 	"time"
 
-	cdplog "github.com/chromedp/cdproto/log"
-	"github.com/chromedp/cdproto/network"
-	"github.com/chromedp/cdproto/runtime"
 	"github.com/chromedp/chromedp"
 
-	"wearplan/optimize/optimizetest"
+	"wearplan/cmd/internal/browsertest"
 )
-
-// requireBrowser finds Debian's chromium, following optimizetest.RequireTool's rule:
-// skip locally when it is missing, fail under WEARPLAN_REQUIRE_REFERENCE=1.
-func requireBrowser(t *testing.T) string {
-	t.Helper()
-	for _, name := range []string{"chromium", "chromium-browser"} {
-		if path, err := exec.LookPath(name); err == nil {
-			return path
-		}
-	}
-	return optimizetest.RequireTool(t, "chromium")
-}
-
-// screenshotDir is where the browser test leaves its screenshots for
-// people to look at: WEARPLAN_SCREENSHOT_DIR, or a folder in the system's
-// temporary directory, never inside the repository.
-func screenshotDir(t *testing.T) string {
-	dir := os.Getenv("WEARPLAN_SCREENSHOT_DIR")
-	if dir == "" {
-		dir = filepath.Join(os.TempDir(), "wearplan-screenshots")
-	}
-	if err := os.MkdirAll(dir, 0o755); err != nil {
-		t.Fatal(err)
-	}
-	return dir
-}
-
-// pageEvents collects what a page did that a self-contained report must
-// not do: requests other than the page itself, console errors and
-// warnings, uncaught exceptions, and error entries of the browser log
-// (which is where refused loads and policy violations show).
-type pageEvents struct {
-	mu       sync.Mutex
-	page     string
-	requests []string
-	problems []string
-}
-
-func (p *pageEvents) listen(ev any) {
-	p.mu.Lock()
-	defer p.mu.Unlock()
-	switch e := ev.(type) {
-	case *network.EventRequestWillBeSent:
-		if e.Request.URL != p.page {
-			p.requests = append(p.requests, e.Request.URL)
-		}
-	case *runtime.EventConsoleAPICalled:
-		if e.Type == runtime.ConsoleAPICalledTypeError || e.Type == runtime.ConsoleAPICalledTypeWarning || e.Type == runtime.ConsoleAPICalledTypeAssert {
-			p.problems = append(p.problems, fmt.Sprintf("console %s", e.Type))
-		}
-	case *runtime.EventExceptionThrown:
-		p.problems = append(p.problems, "exception: "+e.ExceptionDetails.Text)
-	case *cdplog.EventEntryAdded:
-		if e.Entry.Level == cdplog.EntryLevelError || e.Entry.Level == cdplog.EntryLevelWarning {
-			p.problems = append(p.problems, fmt.Sprintf("log %s (%s): %s", e.Entry.Level, e.Entry.Source, e.Entry.Text))
-		}
-	}
-}
 
 // TestReportOpensInChromium opens the HTML reports of the demo, of a
 // comparison and of the demo with uncertainty bands in headless Chromium
@@ -87,7 +23,7 @@ func (p *pageEvents) listen(ev any) {
 // included, drawn at a visible size with its text. Screenshots are saved
 // outside the repository.
 func TestReportOpensInChromium(t *testing.T) {
-	browser := requireBrowser(t)
+	browsertest.Require(t)
 	dir := t.TempDir()
 	single := filepath.Join(dir, "marrowby.html")
 	if code, _, errs := run(t, "report", demo, "--date", "2027-01-15", "--out", single); code != 0 {
@@ -129,28 +65,11 @@ func TestReportOpensInChromium(t *testing.T) {
 		{bands, "marrowby-bands.png", true, []string{"run-1-los"}, bandCharts},
 	}
 
-	events := &pageEvents{}
-	opts := append(chromedp.DefaultExecAllocatorOptions[:],
-		chromedp.ExecPath(browser),
-		chromedp.UserDataDir(t.TempDir()),
-		chromedp.WindowSize(1100, 900),
-		chromedp.Flag("no-sandbox", true),
-		chromedp.Flag("disable-gpu", true),
-		chromedp.Flag("disable-quic", true),
-		chromedp.Flag("disable-component-update", true),
-		chromedp.Flag("disable-sync", true),
-		chromedp.Flag("disable-background-networking", true),
-	)
-	ctx, cancel := chromedp.NewContext(context.Background(), chromedp.WithAllocatorOptions(opts...), chromedp.WithListener(events.listen))
-	defer cancel()
-	if err := chromedp.Do(ctx); err != nil { // starts the browser
-		t.Fatalf("starting chromium: %v", err)
-	}
+	events := &browsertest.Events{}
+	ctx := browsertest.Start(t, 1100, 900, events)
 	for _, pg := range pages {
 		u := (&url.URL{Scheme: "file", Path: pg.file}).String()
-		events.mu.Lock()
-		events.page, events.requests, events.problems = u, nil, nil
-		events.mu.Unlock()
+		events.Reset(func(url string) bool { return url == u })
 
 		tctx, tcancel := context.WithTimeout(ctx, 30*time.Second)
 		if err := chromedp.Do(tctx, chromedp.Navigate(u)); err != nil {
@@ -224,19 +143,15 @@ func TestReportOpensInChromium(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		out := filepath.Join(screenshotDir(t), pg.shot)
-		if err := os.WriteFile(out, shot, 0o644); err != nil {
-			t.Fatal(err)
-		}
+		out := browsertest.SaveScreenshot(t, pg.shot, shot)
 		t.Logf("screenshot of %s: %s", filepath.Base(pg.file), out)
 
-		events.mu.Lock()
-		if len(events.requests) > 0 {
-			t.Errorf("%s: the page made network requests: %v", filepath.Base(pg.file), events.requests)
+		requests, problems := events.Collected()
+		if len(requests) > 0 {
+			t.Errorf("%s: the page made network requests: %v", filepath.Base(pg.file), requests)
 		}
-		if len(events.problems) > 0 {
-			t.Errorf("%s: console problems: %v", filepath.Base(pg.file), events.problems)
+		if len(problems) > 0 {
+			t.Errorf("%s: console problems: %v", filepath.Base(pg.file), problems)
 		}
-		events.mu.Unlock()
 	}
 }

@@ -3,69 +3,15 @@ package whatif
 import (
 	"context"
 	"fmt"
-	"os"
-	"os/exec"
-	"path/filepath"
 	"strconv"
 	"strings"
-	"sync"
 	"testing"
 	"time"
 
-	cdplog "github.com/chromedp/cdproto/log"
-	"github.com/chromedp/cdproto/network"
-	"github.com/chromedp/cdproto/runtime"
 	"github.com/chromedp/chromedp"
+
+	"wearplan/cmd/internal/browsertest"
 )
-
-// requireBrowser finds Debian's chromium: skipped locally when it is
-// missing, a failure under WEARPLAN_REQUIRE_REFERENCE=1 (set by .ci/run),
-// like the reports' browser test.
-func requireBrowser(t *testing.T) string {
-	t.Helper()
-	for _, name := range []string{"chromium", "chromium-browser"} {
-		if path, err := exec.LookPath(name); err == nil {
-			return path
-		}
-	}
-	if os.Getenv("WEARPLAN_REQUIRE_REFERENCE") != "" {
-		t.Fatal("chromium not found; install it (make deps-test) to run the browser test")
-	}
-	t.Skip("chromium not found; run `make deps-test` to install it")
-	return ""
-}
-
-// browserEvents collects what the page did that it must not: requests to
-// anywhere but this server, console errors and warnings, uncaught
-// exceptions, and error entries of the browser log (refused loads and
-// content security policy violations show there).
-type browserEvents struct {
-	mu       sync.Mutex
-	origin   string
-	outside  []string
-	problems []string
-}
-
-func (b *browserEvents) listen(ev any) {
-	b.mu.Lock()
-	defer b.mu.Unlock()
-	switch e := ev.(type) {
-	case *network.EventRequestWillBeSent:
-		if !strings.HasPrefix(e.Request.URL, b.origin+"/") && !strings.HasPrefix(e.Request.URL, "data:") {
-			b.outside = append(b.outside, e.Request.URL)
-		}
-	case *runtime.EventConsoleAPICalled:
-		if e.Type == runtime.ConsoleAPICalledTypeError || e.Type == runtime.ConsoleAPICalledTypeWarning || e.Type == runtime.ConsoleAPICalledTypeAssert {
-			b.problems = append(b.problems, fmt.Sprintf("console %s", e.Type))
-		}
-	case *runtime.EventExceptionThrown:
-		b.problems = append(b.problems, "exception: "+e.ExceptionDetails.Text)
-	case *cdplog.EventEntryAdded:
-		if e.Entry.Level == cdplog.EntryLevelError || e.Entry.Level == cdplog.EntryLevelWarning {
-			b.problems = append(b.problems, fmt.Sprintf("log %s (%s): %s", e.Entry.Level, e.Entry.Source, e.Entry.Text))
-		}
-	}
-}
 
 // seen is what the test reads off the page after a plan.
 type seen struct {
@@ -122,24 +68,13 @@ func shareOf(t *testing.T, s string) float64 {
 // alternative and checks the side-by-side list. No console errors, no
 // policy violations, no requests to anywhere but the server.
 func TestPageInChromium(t *testing.T) {
-	browser := requireBrowser(t)
+	browsertest.Require(t)
 	_, ts := newTestServer(t, Options{}, "marrowby.yaml")
-	events := &browserEvents{origin: ts.URL}
-	opts := append(chromedp.DefaultExecAllocatorOptions[:],
-		chromedp.ExecPath(browser),
-		chromedp.UserDataDir(t.TempDir()),
-		chromedp.WindowSize(1400, 1000),
-		chromedp.Flag("no-sandbox", true),
-		chromedp.Flag("disable-gpu", true),
-		chromedp.Flag("disable-quic", true),
-		chromedp.Flag("disable-component-update", true),
-		chromedp.Flag("disable-sync", true),
-		chromedp.Flag("disable-background-networking", true),
-	)
-	actx, acancel := chromedp.NewExecAllocator(context.Background(), opts...)
-	defer acancel()
-	ctx, cancel := chromedp.NewContext(actx, chromedp.WithListener(events.listen))
-	defer cancel()
+	events := &browsertest.Events{}
+	events.Reset(func(url string) bool {
+		return strings.HasPrefix(url, ts.URL+"/") || strings.HasPrefix(url, "data:")
+	})
+	ctx := browsertest.Start(t, 1400, 1000, events)
 	ctx, tcancel := context.WithTimeout(ctx, 90*time.Second)
 	defer tcancel()
 
@@ -223,32 +158,13 @@ func TestPageInChromium(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	out := filepath.Join(screenshotDir(t), "what-if-page.png")
-	if err := os.WriteFile(out, shot, 0o644); err != nil {
-		t.Fatal(err)
-	}
-	t.Logf("screenshot: %s", out)
+	t.Logf("screenshot: %s", browsertest.SaveScreenshot(t, "what-if-page.png", shot))
 
-	events.mu.Lock()
-	defer events.mu.Unlock()
-	if len(events.outside) > 0 {
-		t.Errorf("requests outside the server: %v", events.outside)
+	outside, problems := events.Collected()
+	if len(outside) > 0 {
+		t.Errorf("requests outside the server: %v", outside)
 	}
-	if len(events.problems) > 0 {
-		t.Errorf("console problems: %v", events.problems)
+	if len(problems) > 0 {
+		t.Errorf("console problems: %v", problems)
 	}
-}
-
-// screenshotDir is where browser tests leave screenshots for people to
-// look at: WEARPLAN_SCREENSHOT_DIR, or a folder in the system's temporary
-// directory, never inside the repository.
-func screenshotDir(t *testing.T) string {
-	dir := os.Getenv("WEARPLAN_SCREENSHOT_DIR")
-	if dir == "" {
-		dir = filepath.Join(os.TempDir(), "wearplan-screenshots")
-	}
-	if err := os.MkdirAll(dir, 0o755); err != nil {
-		t.Fatal(err)
-	}
-	return dir
 }
