@@ -48,12 +48,43 @@ func (e corpusExpectation) matches(is *scenarios.Issue) bool {
 
 func readCorpusExpectations(t *testing.T) map[string][]corpusExpectation {
 	t.Helper()
-	f, err := os.Open(filepath.Join(corpusDir, "expectations.txt"))
+	out := map[string][]corpusExpectation{}
+	for _, row := range expectationRows(t, filepath.Join(corpusDir, "expectations.txt"), "FILE | LINE | FIELD | MESSAGE") {
+		line, err := strconv.Atoi(row.fields[1])
+		if err != nil {
+			t.Fatalf("expectations.txt:%d: line %q is not a number", row.src, row.fields[1])
+		}
+		field := row.fields[2]
+		if field == "-" {
+			field = ""
+		}
+		if row.fields[3] == "" {
+			t.Fatalf("expectations.txt:%d: empty message substring would match anything", row.src)
+		}
+		name := row.fields[0]
+		out[name] = append(out[name], corpusExpectation{line: line, field: field, msg: row.fields[3], src: row.src})
+	}
+	return out
+}
+
+// expectationRow is one line of a corpus's expectations.txt: its fields
+// (separated by " | ", spaces trimmed) and its line number.
+type expectationRow struct {
+	fields []string
+	src    int
+}
+
+// expectationRows reads a corpus's expectations.txt, skipping blank lines
+// and # comments; every other line must have the fields layout names.
+func expectationRows(t *testing.T, path, layout string) []expectationRow {
+	t.Helper()
+	f, err := os.Open(path)
 	if err != nil {
 		t.Fatal(err)
 	}
 	defer f.Close()
-	out := map[string][]corpusExpectation{}
+	want := len(strings.Split(layout, " | "))
+	var out []expectationRow
 	sc := bufio.NewScanner(f)
 	for n := 1; sc.Scan(); n++ {
 		text := strings.TrimSpace(sc.Text())
@@ -61,23 +92,13 @@ func readCorpusExpectations(t *testing.T) map[string][]corpusExpectation {
 			continue
 		}
 		parts := strings.Split(text, " | ")
-		if len(parts) != 4 {
-			t.Fatalf("expectations.txt:%d: want FILE | LINE | FIELD | MESSAGE, got %q", n, text)
+		if len(parts) != want {
+			t.Fatalf("%s:%d: want %s, got %q", filepath.Base(path), n, layout, text)
 		}
-		line, err := strconv.Atoi(strings.TrimSpace(parts[1]))
-		if err != nil {
-			t.Fatalf("expectations.txt:%d: line %q is not a number", n, parts[1])
+		for i := range parts {
+			parts[i] = strings.TrimSpace(parts[i])
 		}
-		field := strings.TrimSpace(parts[2])
-		if field == "-" {
-			field = ""
-		}
-		msg := strings.TrimSpace(parts[3])
-		if msg == "" {
-			t.Fatalf("expectations.txt:%d: empty message substring would match anything", n)
-		}
-		name := strings.TrimSpace(parts[0])
-		out[name] = append(out[name], corpusExpectation{line: line, field: field, msg: msg, src: n})
+		out = append(out, expectationRow{fields: parts, src: n})
 	}
 	if err := sc.Err(); err != nil {
 		t.Fatal(err)

@@ -1,7 +1,6 @@
 package scenarios_test
 
 import (
-	"bufio"
 	"errors"
 	"os"
 	"path/filepath"
@@ -46,27 +45,14 @@ type inspectionExpectation struct {
 // file and line and the fix, no panic.
 func TestBadInspectionCorpus(t *testing.T) {
 	dir := "../testdata/bad-inspections"
-	f, err := os.Open(filepath.Join(dir, "expectations.txt"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
 	want := map[string][]inspectionExpectation{}
-	sc := bufio.NewScanner(f)
-	for n := 1; sc.Scan(); n++ {
-		text := strings.TrimSpace(sc.Text())
-		if text == "" || strings.HasPrefix(text, "#") {
-			continue
+	for _, row := range expectationRows(t, filepath.Join(dir, "expectations.txt"), "FILE | KIND | LINE | MESSAGE") {
+		p := row.fields
+		line, err := strconv.Atoi(p[2])
+		if err != nil || (p[1] != "error" && p[1] != "warning") || p[3] == "" {
+			t.Fatalf("expectations.txt:%d: bad expectation %q", row.src, strings.Join(p, " | "))
 		}
-		parts := strings.Split(text, " | ")
-		if len(parts) != 4 {
-			t.Fatalf("expectations.txt:%d: want FILE | KIND | LINE | MESSAGE", n)
-		}
-		line, err := strconv.Atoi(parts[2])
-		if err != nil || (parts[1] != "error" && parts[1] != "warning") || strings.TrimSpace(parts[3]) == "" {
-			t.Fatalf("expectations.txt:%d: bad expectation %q", n, text)
-		}
-		want[parts[0]] = append(want[parts[0]], inspectionExpectation{kind: parts[1], line: line, msg: parts[3], src: n})
+		want[p[0]] = append(want[p[0]], inspectionExpectation{kind: p[1], line: line, msg: p[3], src: row.src})
 	}
 	files, _ := filepath.Glob(filepath.Join(dir, "*.csv"))
 	if len(files) < 10 {
