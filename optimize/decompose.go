@@ -62,10 +62,12 @@ type Options struct {
 const DefaultMaxIterations = 2000
 
 // autoFlatColumns is the largest flat model (in columns) that Auto solves
-// flat. Measured on generated models (best of 3, 2 shared cores): 220
-// columns flat 2.8 ms, decomposed 3.8 ms; 1,140 columns 52 ms and 26 ms;
-// 2,240 columns 183 ms and 12 ms; 5,220 columns 5.2 s and 12 ms.
-const autoFlatColumns = 500
+// flat. Measured on generated models (best of 10, 2 shared cores), flat
+// against decomposed: 40 columns 0.22 ms and 0.47 ms; 200 columns (with
+// targets) 2.7 ms and 2.9 ms; 280 columns (one class, 20 years) 3.5 ms and
+// 5.1 ms; 150 columns 0.97 ms and 0.72 ms; 540 columns 9.1 ms and 4.4 ms;
+// 996 columns 27 ms and 2.4 ms.
+const autoFlatColumns = 250
 
 // RelativeGap is the proven optimality gap at which the decomposition stops:
 // (bound - value) <= RelativeGap × max(|value|, 1e-6) in model units.
@@ -147,8 +149,8 @@ type decomposer struct {
 	pvFactor  []float64 // (1+e)^t (1+r)^-t / money unit
 	links     []link
 	pool      []*column
-	seen      []map[uint64]bool // per class: keys of pooled policies
-	used      []bool            // per pool column: in some stage's final plan
+	seen      []map[uint64]int // per class: pool index of each pooled policy, by key
+	used      []bool           // per pool column: in some stage's final plan
 	maxIter   int
 	// leastShortfall is the least total target shortfall, when positive.
 	leastShortfall float64
@@ -157,6 +159,12 @@ type decomposer struct {
 	hardTargets bool
 	deadline    time.Time
 	stats       Stats
+	// pricingWork is the number of (year, pair) rewards one pricing round
+	// evaluates over all classes.
+	pricingWork int
+	// warmup: the next stage starts with a Lagrangian warm-up (a cold
+	// solve of a model whose pricing is cheap beside a master solve).
+	warmup bool
 }
 
 func newDecomposer(p *Problem, o Options) *decomposer {
@@ -175,12 +183,15 @@ func newDecomposer(p *Problem, o Options) *decomposer {
 		dw.pvFactor[t] = p.escalation(t) * p.discount(t) / b.moneyUnit
 	}
 	dw.classes = make([]*dwClass, len(p.Classes))
-	dw.seen = make([]map[uint64]bool, len(p.Classes))
+	dw.seen = make([]map[uint64]int, len(p.Classes))
 	for k := range p.Classes {
 		dw.classes[k] = newDWClass(p, k, b.lay.pairs[k], b.terms[k], b.weights[k])
-		dw.seen[k] = map[uint64]bool{}
+		dw.seen[k] = map[uint64]int{}
 	}
 	dw.links = dw.linkRows()
+	for _, d := range dw.classes {
+		dw.pricingWork += len(d.pairs) * d.years
+	}
 	return dw
 }
 
@@ -230,10 +241,10 @@ func (dw *decomposer) add(k int, pol policy) bool {
 
 func (dw *decomposer) addColumn(col *column) bool {
 	k := col.class
-	if dw.seen[k][col.key] {
+	if _, ok := dw.seen[k][col.key]; ok {
 		return false
 	}
-	dw.seen[k][col.key] = true
+	dw.seen[k][col.key] = len(dw.pool)
 	dw.pool = append(dw.pool, col)
 	return true
 }
@@ -246,6 +257,7 @@ func solveDecomposed(p *Problem, o Options) (*Plan, error) {
 	if o.Warm != nil {
 		o.Warm.seed(dw)
 	}
+	dw.warmup = dw.pricingWork <= warmupMaxWork
 	sign := func(k objKind) float64 {
 		if k == objCondition {
 			return 1
@@ -360,7 +372,9 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 	for k := range pc.pr {
 		pc.pr[k] = newPrices(dw.p.Horizon)
 	}
-	dm := newDualMaster(dw, st)
+	// A later stage starts from the policies the earlier stages' plans
+	// use; pricing brings back any other it needs.
+	dm := newDualMaster(dw, st, dw.usedMask())
 	// The stability centre of the dual smoothing (Wentges, 1997): the
 	// prices with the best Lagrangian bound so far.
 	var center []float64
@@ -384,6 +398,16 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 			dw.markUsed(res)
 			return res, nil
 		}
+		if dw.warmup {
+			dw.warmup = false
+			bestBound, center = dw.lagrangeWarmup(pc, res)
+			if center != nil {
+				continue // the master now holds the warm-up's policies
+			}
+		}
+		if rows := len(dm.rowOf); rows > dw.masterRowLimit() {
+			dm = newDualMaster(dw, st, dw.recentMask(res))
+		}
 		scale := math.Max(math.Abs(res.z), 1e-6)
 		added := 0
 		// Price at the smoothed prices first; if that finds no policy
@@ -405,7 +429,12 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 			}
 			for k := 0; k < K; k++ {
 				col := dw.classes[k].roll(k, pc.pols[k])
-				if dw.reducedCost(st, col, res) > 1e-12*math.Max(1, math.Abs(res.z)) && dw.addColumn(col) {
+				if dw.reducedCost(st, col, res) <= 1e-12*math.Max(1, math.Abs(res.z)) {
+					continue
+				}
+				// A policy the pool holds already may have been left out
+				// of this master.
+				if dw.addColumn(col) || dm.include(dw.seen[k][col.key]) {
 					added++
 				}
 			}
@@ -418,7 +447,7 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 			if st.weighted && st.weight < maxWeight && !dw.holdKept(st, res) {
 				// The weight was too light to keep the earlier optimum.
 				st.weight *= 100
-				dm = newDualMaster(dw, st)
+				dm = newDualMaster(dw, st, dw.usedMask())
 				center, bestBound = nil, math.Inf(1)
 				continue
 			}
@@ -434,8 +463,56 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 }
 
 // smoothing is the weight of the stability centre in the prices handed to
-// the pricing problems (Wentges' dual smoothing).
-const smoothing = 0.5
+// the pricing problems (Wentges' dual smoothing). Measured on the
+// benchmark models: 0.7 took the fewest master solves of 0.3-0.9.
+const smoothing = 0.7
+
+// Master size: lp_solve refactorises the dual master's basis, one row per
+// policy, at every solve, so its time per solve grows with the policies in
+// it (about 100 µs at 50 rows against 50 µs at 10 on the benchmark's
+// smallest model). When the master holds more than masterRowsPerLink
+// times its linking and convexity rows, it is rebuilt with the policies
+// the last plan uses and those of the last recentRounds rounds; the pool
+// keeps every policy, and one priced again returns to the master.
+const (
+	masterRowsPerLink = 3
+	recentRounds      = 3
+)
+
+// masterRowLimit is the row count above which the master is rebuilt.
+func (dw *decomposer) masterRowLimit() int {
+	n := len(dw.classes)
+	for r := range dw.links {
+		if dw.links[r].active {
+			n++
+		}
+	}
+	return masterRowsPerLink * n
+}
+
+// recentMask marks the pool columns a rebuilt master keeps: those the plan
+// res uses and the newest recentRounds × classes.
+func (dw *decomposer) recentMask(res *masterResult) []bool {
+	keep := make([]bool, len(dw.pool))
+	for j, w := range res.lambda {
+		keep[j] = w > 0
+	}
+	for j := max(0, len(dw.pool)-recentRounds*len(dw.classes)); j < len(dw.pool); j++ {
+		keep[j] = true
+	}
+	return keep
+}
+
+// usedMask marks the pool columns some earlier stage's plan used; nil
+// (every column) before any stage has ended.
+func (dw *decomposer) usedMask() []bool {
+	for _, u := range dw.used {
+		if u {
+			return append([]bool(nil), dw.used...)
+		}
+	}
+	return nil
+}
 
 // pricer solves the pricing problems of a stage at given link prices.
 type pricer struct {
@@ -588,25 +665,120 @@ func (dw *decomposer) activateViolated(res *masterResult) bool {
 func (dw *decomposer) priceAll(pr []prices, pols []policy, vals []float64) {
 	K := len(dw.classes)
 	workers := min(runtime.GOMAXPROCS(0), K)
+	if dw.pricingWork < parallelPricingWork {
+		workers = 1
+	}
+	run := func(w int) {
+		var vNext, vCur []float64
+		for k := w; k < K; k += workers {
+			d := dw.classes[k]
+			ns := d.states()
+			if cap(vNext) < ns {
+				vNext, vCur = make([]float64, ns), make([]float64, ns)
+			}
+			pol := make(policy, dw.p.Horizon*ns)
+			vals[k] = d.price(&pr[k], pol, vNext[:ns], vCur[:ns])
+			pols[k] = pol
+		}
+	}
+	if workers == 1 {
+		run(0)
+		return
+	}
 	var wg sync.WaitGroup
 	for w := 0; w < workers; w++ {
 		wg.Add(1)
 		go func(w int) {
 			defer wg.Done()
-			var vNext, vCur []float64
-			for k := w; k < K; k += workers {
-				d := dw.classes[k]
-				ns := d.states()
-				if cap(vNext) < ns {
-					vNext, vCur = make([]float64, ns), make([]float64, ns)
-				}
-				pol := make(policy, dw.p.Horizon*ns)
-				vals[k] = d.price(&pr[k], pol, vNext[:ns], vCur[:ns])
-				pols[k] = pol
-			}
+			run(w)
 		}(w)
 	}
 	wg.Wait()
+}
+
+// parallelPricingWork is the pricing round (in rewards evaluated) below
+// which the classes are priced on one core: waking a second goroutine
+// costs more than the dynamic programs of a few small classes (the 1,600
+// rewards of a round at 4x5x4x20 take a few microseconds).
+const parallelPricingWork = 20000
+
+// The Lagrangian warm-up. On a cold solve of a model whose pricing round
+// costs little beside a master solve (at most warmupMaxWork rewards), the
+// first stage starts with warmupSteps subgradient steps on the Lagrangian
+// dual from the first master's prices (Held, Wolfe and Crowder, 1974: a
+// step of θ × (bound − master value) / |subgradient|², θ halved after five
+// steps without a better bound). The policies priced in the last
+// warmupKeep steps join the pool, and the best prices found become the
+// stability centre. Measured at 4x5x4x20: master solves fell from 83 to
+// about 40 for 100 pricing rounds, each a tenth of a master solve.
+const (
+	warmupMaxWork = 5000
+	warmupSteps   = 100
+	warmupKeep    = 30
+)
+
+// lagrangeWarmup runs the warm-up from the master result res and returns
+// the best Lagrangian bound it proved with the prices that prove it (nil
+// when no step was possible).
+func (dw *decomposer) lagrangeWarmup(pc *pricer, res *masterResult) (float64, []float64) {
+	K := len(dw.classes)
+	pi := append([]float64(nil), res.pi...)
+	g := make([]float64, len(pi))
+	cols := make([]*column, K)
+	best, theta, stale := math.Inf(1), 1.0, 0
+	var bestPi []float64
+	for step := 0; step < warmupSteps; step++ {
+		bound := pc.price(pi, res)
+		dw.stats.Iterations++
+		for k := 0; k < K; k++ {
+			cols[k] = dw.classes[k].roll(k, pc.pols[k])
+			if step >= warmupSteps-warmupKeep {
+				dw.addColumn(cols[k])
+			}
+		}
+		if bound < best {
+			best, bestPi, stale = bound, append(bestPi[:0], pi...), 0
+		} else if stale++; stale == 5 {
+			theta, stale = theta/2, 0
+		}
+		// The subgradient of the Lagrangian at pi: each active row's
+		// right-hand side less what the priced policies (and a shortfall
+		// worth taking at these prices) put in it.
+		norm := 0.0
+		for r := range dw.links {
+			l := &dw.links[r]
+			g[r] = 0
+			if !l.active {
+				continue
+			}
+			g[r] = l.rhs
+			for _, col := range cols {
+				g[r] -= dw.coef(l, col)
+			}
+			if !dw.hardTargets && l.kind == linkTarget && pc.st.slackValue()-pi[r]*slackSign(l) > 0 {
+				g[r] -= slackSign(l)
+			}
+			norm += g[r] * g[r]
+		}
+		if norm == 0 {
+			break // the priced policies meet every row exactly: pi is optimal
+		}
+		h := theta * math.Max(bound-res.z, 0) / norm
+		for r := range dw.links {
+			l := &dw.links[r]
+			if !l.active {
+				continue
+			}
+			pi[r] -= h * g[r]
+			switch l.sense {
+			case LessEq:
+				pi[r] = math.Max(pi[r], 0)
+			case GreaterEq:
+				pi[r] = math.Min(pi[r], 0)
+			}
+		}
+	}
+	return best, bestPi
 }
 
 // plan turns the last master's weights into the flat model's column values

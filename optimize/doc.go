@@ -87,7 +87,7 @@
 //
 // Each class is an independent finite-horizon Markov decision process; only
 // the linking rows (yearly and group budgets, targets) tie the classes
-// together. SolveWith with Decomposed (Auto from 500 flat columns) uses
+// together. SolveWith with Decomposed (Auto above 250 flat columns) uses
 // that (Dantzig and Wolfe, 1960). With today's shares fixed, the flow rows
 // of class k define a polytope X_k whose vertices are the occupation
 // vectors of deterministic year-by-year policies (one action per year and
@@ -116,7 +116,8 @@
 // positive and the pool does not already hold a policy acting the same on
 // every state it reaches. Pricing runs on all cores, one class per task,
 // each result in its class's slot, so that the outcome does not depend on
-// the core count.
+// the core count (small models are priced on one core: starting goroutines
+// costs more than their dynamic programs).
 //
 // Bound and stopping rule. For any prices of the right signs (π_r ≥ 0 on at
 // most rows, ≤ 0 on at least rows of a maximisation), the Lagrangian
@@ -129,9 +130,20 @@
 // most RelativeGap = 1e-7 × max(|z|, 1e-6), or when no new policy prices
 // positive; after DefaultMaxIterations rounds it fails with
 // ErrIterationCap and the gap it reached. Prices are smoothed (Wentges,
-// 1997): the pricing problems see ½ × the prices of the best bound so far
-// plus ½ × the master's, and when that finds nothing that improves the
+// 1997): the pricing problems see 0.7 × the prices of the best bound so far
+// plus 0.3 × the master's, and when that finds nothing that improves the
 // master, the master's own prices.
+//
+// Lagrangian warm-up. On small models a pricing round costs a tenth of a
+// master solve, and most of the work is master solves spent learning the
+// prices. There the first stage first takes 100 subgradient steps on L
+// (Held, Wolfe and Crowder, 1974): from the first master's prices π, the
+// step π ← proj(π - θ (L(π) - z) g / |g|²) with g = b - Σ_k a(p_k) the
+// subgradient at π (p_k the policies priced there), z the master's value
+// and θ halved after five steps without a better bound; proj restores the
+// prices' signs. The policies priced in the last 30 steps join the pool,
+// and the prices with the best bound become the stability centre. The
+// bound stays valid whatever the steps do: only the work changes.
 //
 // Target rows that no plan of the master misses (most of them, in most
 // years) stay out of the master: after each master solve the plan is
@@ -162,6 +174,15 @@
 // policies they use, which meets the rows to lp_solve's primal tolerance.
 // When lp_solve gives no answer from the last basis, the master is rebuilt
 // and solved from scratch, and failing that in the primal form.
+//
+// lp_solve refactorises the dual master's basis, one row per policy, at
+// every solve, so a solve costs more the more policies the master holds.
+// The pool keeps every policy; the master holds a working set: when it has
+// more than three times as many rows as the primal master (active linking
+// rows plus classes), it is rebuilt with the policies its last plan uses and
+// those of the last three rounds, and a policy that prices positive again
+// comes back. Each later stage starts from the policies the earlier stages'
+// plans use.
 //
 // A Warm carries the policies that the final plans used from one solve to
 // the next (sweeps, what-if runs); they are re-rolled under the new data, so

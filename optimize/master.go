@@ -300,14 +300,19 @@ type dualMaster struct {
 	nvar     int
 	rowOf    []int     // per cut row: pool column j, or -1-r for the shortfall of link r
 	rowScale []float64 // per cut row: the factor it was multiplied by
-	pooled   int       // pool columns already rows
+	pooled   int       // pool columns already considered
+	in       []bool    // per considered pool column: it is a row of this master
 	bound    []bool    // per link: its price is free to move (the row is in the master)
 	synced   bool
 }
 
 const lpInfinity = 1e30
 
-func newDualMaster(dw *decomposer, st *stage) *dualMaster {
+// newDualMaster returns the master of stage st over the pool columns marked
+// in keep (every pool column beyond keep's length, and all of them when
+// keep is nil). Leaving out policies no recent plan used keeps the master
+// small: lp_solve's time per solve grows with its rows (see generate).
+func newDualMaster(dw *decomposer, st *stage, keep []bool) *dualMaster {
 	L, K := len(dw.links), len(dw.classes)
 	dm := &dualMaster{dw: dw, st: st, nvar: L + K, bound: make([]bool, L)}
 	dm.lp = golp.NewLP(0, dm.nvar)
@@ -321,6 +326,12 @@ func newDualMaster(dw *decomposer, st *stage) *dualMaster {
 			dm.lp.AddConstraintSparse([]golp.Entry{{Col: r, Val: slackSign(l)}}, golp.GE, st.slackValue())
 			dm.rowOf = append(dm.rowOf, -1-r)
 			dm.rowScale = append(dm.rowScale, 1)
+		}
+	}
+	for ; dm.pooled < min(len(keep), len(dw.pool)); dm.pooled++ {
+		dm.in = append(dm.in, false)
+		if keep[dm.pooled] {
+			dm.addRow(dm.pooled)
 		}
 	}
 	dm.addPool()
@@ -337,32 +348,50 @@ func newDualMaster(dw *decomposer, st *stage) *dualMaster {
 	return dm
 }
 
-// addPool adds a row for every pool column not yet in the master.
+// addPool adds a row for every pool column generated since the master
+// last looked.
 func (dm *dualMaster) addPool() {
-	dw, L := dm.dw, len(dm.dw.links)
-	for ; dm.pooled < len(dw.pool); dm.pooled++ {
-		col := dw.pool[dm.pooled]
-		e := make([]golp.Entry, 0, 16)
-		for r := range dw.links {
-			if v := dw.coef(&dw.links[r], col); v != 0 {
-				e = append(e, golp.Entry{Col: r, Val: v})
-			}
-		}
-		e = append(e, golp.Entry{Col: L + col.class, Val: 1})
-		// Each row is scaled so its largest coefficient is 1 (an exact
-		// change: the row's dual, the policy's weight, is scaled back).
-		big := 0.0
-		for _, x := range e {
-			big = math.Max(big, math.Abs(x.Val))
-		}
-		f := 1 / big
-		for i := range e {
-			e[i].Val *= f
-		}
-		dm.lp.AddConstraintSparse(e, golp.GE, f*dw.colValue(dm.st, col))
-		dm.rowOf = append(dm.rowOf, dm.pooled)
-		dm.rowScale = append(dm.rowScale, f)
+	for ; dm.pooled < len(dm.dw.pool); dm.pooled++ {
+		dm.in = append(dm.in, false)
+		dm.addRow(dm.pooled)
 	}
+}
+
+// include puts pool column j back into the master when a rebuild left it
+// out, and reports whether it did.
+func (dm *dualMaster) include(j int) bool {
+	if j >= dm.pooled || dm.in[j] {
+		return false
+	}
+	dm.addRow(j)
+	return true
+}
+
+// addRow adds pool column j as a row of the dual master.
+func (dm *dualMaster) addRow(j int) {
+	dw, L := dm.dw, len(dm.dw.links)
+	dm.in[j] = true
+	col := dw.pool[j]
+	e := make([]golp.Entry, 0, 16)
+	for r := range dw.links {
+		if v := dw.coef(&dw.links[r], col); v != 0 {
+			e = append(e, golp.Entry{Col: r, Val: v})
+		}
+	}
+	e = append(e, golp.Entry{Col: L + col.class, Val: 1})
+	// Each row is scaled so its largest coefficient is 1 (an exact
+	// change: the row's dual, the policy's weight, is scaled back).
+	big := 0.0
+	for _, x := range e {
+		big = math.Max(big, math.Abs(x.Val))
+	}
+	f := 1 / big
+	for i := range e {
+		e[i].Val *= f
+	}
+	dm.lp.AddConstraintSparse(e, golp.GE, f*dw.colValue(dm.st, col))
+	dm.rowOf = append(dm.rowOf, j)
+	dm.rowScale = append(dm.rowScale, f)
 }
 
 // syncBounds frees the price of every link that has entered the master
@@ -402,7 +431,7 @@ func (dm *dualMaster) solve() (*masterResult, error) {
 	st := dm.lp.Solve()
 	if st != golp.OPTIMAL && st != golp.TIMEOUT {
 		dw.stats.Restarts++
-		fresh := newDualMaster(dw, dm.st)
+		fresh := newDualMaster(dw, dm.st, dm.in)
 		if t := dw.callTimeout(); t > 0 {
 			fresh.lp.SetTimeout(max(int(math.Ceil(t.Seconds())), 1))
 		}
