@@ -138,10 +138,12 @@
 // master solve, and most of the work is master solves spent learning the
 // prices. There the first stage first takes 100 subgradient steps on L
 // (Held, Wolfe and Crowder, 1974): from the first master's prices π, the
-// step π ← proj(π - θ (L(π) - z) g / |g|²) with g = b - Σ_k a(p_k) the
-// subgradient at π (p_k the policies priced there), z the master's value
-// and θ halved after five steps without a better bound; proj restores the
-// prices' signs. The policies priced in the last 30 steps join the pool,
+// step π ← proj(π - θ (L(π) - L°) g / |g|²) with g = b - Σ_k a(p_k) the
+// subgradient at π (p_k the policies priced there), the target L° = L* -
+// 0.3 (L* - z) between the best bound so far L* and the master's value z,
+// and θ halved after five steps without a better bound (from a Warm, whose
+// policies put z near the optimum, L° = z); proj restores the prices'
+// signs. The policies priced in the last 30 steps join the pool,
 // and the prices with the best bound become the stability centre. The
 // bound stays valid whatever the steps do: only the work changes.
 //

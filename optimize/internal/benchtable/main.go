@@ -99,7 +99,7 @@ func main() {
 
 	fmt.Printf("wearplan benchmark, %s, %d cores (GOMAXPROCS %d), load average at start %s\n", time.Now().UTC().Format("2006-01-02 15:04 UTC"), runtime.NumCPU(), runtime.GOMAXPROCS(0), loadAvg())
 	fmt.Printf("Generated models (optimize.Generate, seed 1): binding yearly budget, max-condition, no targets. wearplan: fastest of %d runs of the whole plan (optimum and tie-break); flat = lp_solve through golp, in process; peers: one run each on the exported flat MPS file, wall time including reading it, limit %s. Peak = resident-set high-water mark.\n\n", *reps, *timeout)
-	header := []string{"model (C x S x T x Y)", "flat cols", "flat rows", "wearplan decomposed", "rounds", "peak", "wearplan flat"}
+	header := []string{"model (C x S x T x Y)", "flat cols", "flat rows", "wearplan decomposed", "pricing rounds / master solves", "peak", "wearplan flat"}
 	for _, pr := range peers {
 		header = append(header, pr.name)
 	}
@@ -127,9 +127,9 @@ func main() {
 		}
 		f.Close()
 
-		dec, rounds := runWearplan(p, optimize.Decomposed, *reps, 0)
+		dec, stats := runWearplan(p, optimize.Decomposed, *reps, 0)
 		flat, _ := runWearplan(p, optimize.Flat, *reps, *timeout)
-		row := []string{spec.String(), strconv.Itoa(len(m.Cols)), strconv.Itoa(len(m.Rows)), dec.cell(), strconv.Itoa(rounds), fmt.Sprintf("%.0f MiB", dec.peakMiB), flat.cell()}
+		row := []string{spec.String(), strconv.Itoa(len(m.Cols)), strconv.Itoa(len(m.Rows)), dec.cell(), fmt.Sprintf("%d / %d", stats.Iterations, stats.Solves), fmt.Sprintf("%.0f MiB", dec.peakMiB), flat.cell()}
 		fastest := math.Inf(1)
 		worst := 0.0
 		agree := func(r result) {
@@ -158,12 +158,12 @@ func main() {
 }
 
 // runWearplan solves p reps times with the method and returns the fastest
-// run, its pricing rounds and the peak resident set of the runs.
-func runWearplan(p *optimize.Problem, method optimize.Method, reps int, timeout time.Duration) (result, int) {
+// run, its solver statistics and the peak resident set of the runs.
+func runWearplan(p *optimize.Problem, method optimize.Method, reps int, timeout time.Duration) (result, optimize.Stats) {
 	q := *p
 	q.Timeout = timeout
 	best := result{secs: math.Inf(1)}
-	rounds := 0
+	var stats optimize.Stats
 	optimizetest.ResetPeakRSS()
 	for i := 0; i < reps; i++ {
 		start := time.Now()
@@ -172,20 +172,20 @@ func runWearplan(p *optimize.Problem, method optimize.Method, reps int, timeout 
 		if err != nil {
 			var se *optimize.SolverError
 			if errors.As(err, &se) && se.Status == "timeout" {
-				return result{secs: timeout.Seconds(), timeout: true}, 0
+				return result{secs: timeout.Seconds(), timeout: true}, stats
 			}
-			return result{failed: err.Error()}, 0
+			return result{failed: err.Error()}, stats
 		}
 		if secs < best.secs {
 			best = result{secs: secs, obj: plan.ConditionScore / 100, haveObj: true}
-			rounds = plan.Stats.Iterations
+			stats = plan.Stats
 		}
 		if method == optimize.Flat && secs > 10 {
 			break // one slow flat run is enough
 		}
 	}
 	best.peakMiB = optimizetest.PeakRSS()
-	return best, rounds
+	return best, stats
 }
 
 func runPeer(pr peer, mps string, timeout time.Duration) result {
