@@ -167,6 +167,9 @@ type decomposer struct {
 	warmup bool
 	// warmStarted: the pool was seeded from a Warm.
 	warmStarted bool
+	// seeded counts the pool's first columns, there before any stage: do
+	// nothing and the Warm's policies.
+	seeded int
 }
 
 func newDecomposer(p *Problem, o Options) *decomposer {
@@ -260,6 +263,7 @@ func solveDecomposed(p *Problem, o Options) (*Plan, error) {
 		o.Warm.seed(dw)
 		dw.warmStarted = true
 	}
+	dw.seeded = len(dw.pool)
 	dw.warmup = dw.pricingWork <= warmupMaxWork
 	sign := func(k objKind) float64 {
 		if k == objCondition {
@@ -401,7 +405,11 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 			dw.markUsed(res)
 			return res, nil
 		}
-		if dw.warmup {
+		// From a Warm, two rounds of plain pricing first: the Warm's
+		// policies often prove the optimum at once (the what-if page's
+		// requests from the base plan's policies), and then the warm-up's
+		// steps and policies would only add work.
+		if dw.warmup && (!dw.warmStarted || iter > 2) {
 			dw.warmup = false
 			bestBound, center = dw.lagrangeWarmup(pc, res)
 			if center != nil {
@@ -506,12 +514,17 @@ func (dw *decomposer) recentMask(res *masterResult) []bool {
 	return keep
 }
 
-// usedMask marks the pool columns some earlier stage's plan used; nil
-// (every column) before any stage has ended.
+// usedMask marks the pool columns some earlier stage's plan used and those
+// seeded before the first stage; nil (every column) before any stage has
+// ended.
 func (dw *decomposer) usedMask() []bool {
 	for _, u := range dw.used {
 		if u {
-			return append([]bool(nil), dw.used...)
+			keep := append([]bool(nil), dw.used...)
+			for j := 0; j < dw.seeded && j < len(keep); j++ {
+				keep[j] = true
+			}
+			return keep
 		}
 	}
 	return nil
@@ -720,7 +733,9 @@ const parallelPricingWork = 20000
 // 0.3 (929-1,106 for 0.1-0.5 and 60-150 steps). The benchmark's 4x5x4x20
 // model is more sensitive: 83 master solves without, 18-50 with. A 20-point
 // budget sweep of a 6-class model warm-started took 591 master solves with
-// no warm-up, 188 with the cold target and 155 with the master's value.
+// no warm-up, 188 with the cold target and 155 with the master's value
+// (193 when the warm-up waits for two plain rounds, which leaves the
+// what-if page's re-solve of the base plan at 2 rounds instead of 102).
 const (
 	warmupMaxWork = 5000
 	warmupSteps   = 100

@@ -46,3 +46,34 @@ func TestDemoDecomposedMatchesGLPK(t *testing.T) {
 	}
 	t.Logf("decomposed %.12g, glpsol %.12g: %d rounds, %d policies", got, want, plan.Stats.Iterations, plan.Stats.Columns)
 }
+
+// TestDemoWarmResolveStartsFromItsPolicies: solving the demo again from the
+// Warm its own solve left gives the same optimum within two pricing rounds
+// (the what-if page answers its first request that way). The demo's
+// targets are met, so its first stage ends at once; the Warm's policies
+// must still reach the stages after it.
+func TestDemoWarmResolveStartsFromItsPolicies(t *testing.T) {
+	sc, err := scenarios.LoadFile(filepath.Join("..", "scenarios", "examples", "marrowby.yaml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	p, err := sc.Problem()
+	if err != nil {
+		t.Fatal(err)
+	}
+	var warm optimize.Warm
+	cold, err := optimize.SolveWith(p, optimize.Options{Method: optimize.Decomposed, Warm: &warm})
+	if err != nil {
+		t.Fatal(err)
+	}
+	hot, err := optimize.SolveWith(p, optimize.Options{Method: optimize.Decomposed, Warm: warm.Clone()})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !optimize.RelClose(hot.ConditionScore, cold.ConditionScore, 1e-6) {
+		t.Errorf("warm score %.12g, cold %.12g", hot.ConditionScore, cold.ConditionScore)
+	}
+	if hot.Stats.Iterations > 2 {
+		t.Errorf("the warm re-solve took %d pricing rounds (%d master solves); its own policies should prove the optimum within 2", hot.Stats.Iterations, hot.Stats.Solves)
+	}
+}
