@@ -14,14 +14,7 @@ import (
 // glpk-utils, simplex) on the exported flat model within 1e-6 relative.
 func TestDemoDecomposedMatchesGLPK(t *testing.T) {
 	optimizetest.RequireTool(t, "glpsol")
-	sc, err := scenarios.LoadFile(filepath.Join("..", "scenarios", "examples", "marrowby.yaml"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	p, err := sc.Problem()
-	if err != nil {
-		t.Fatal(err)
-	}
+	p := demoProblem(t)
 	m, err := optimize.BuildModel(p)
 	if err != nil {
 		t.Fatal(err)
@@ -53,14 +46,7 @@ func TestDemoDecomposedMatchesGLPK(t *testing.T) {
 // targets are met, so its first stage ends at once; the Warm's policies
 // must still reach the stages after it.
 func TestDemoWarmResolveStartsFromItsPolicies(t *testing.T) {
-	sc, err := scenarios.LoadFile(filepath.Join("..", "scenarios", "examples", "marrowby.yaml"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	p, err := sc.Problem()
-	if err != nil {
-		t.Fatal(err)
-	}
+	p := demoProblem(t)
 	var warm optimize.Warm
 	cold, err := optimize.SolveWith(p, optimize.Options{Method: optimize.Decomposed, Warm: &warm})
 	if err != nil {
@@ -76,4 +62,18 @@ func TestDemoWarmResolveStartsFromItsPolicies(t *testing.T) {
 	if hot.Stats.Iterations > 2 {
 		t.Errorf("the warm re-solve took %d pricing rounds (%d master solves); its own policies should prove the optimum within 2", hot.Stats.Iterations, hot.Stats.Solves)
 	}
+}
+
+// demoProblem is the demo town's scenario as an optimize.Problem.
+func demoProblem(t *testing.T) *optimize.Problem {
+	t.Helper()
+	sc, err := scenarios.LoadFile(filepath.Join("..", "scenarios", "examples", "marrowby.yaml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	p, err := sc.Problem()
+	if err != nil {
+		t.Fatal(err)
+	}
+	return p
 }
