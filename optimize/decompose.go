@@ -274,6 +274,23 @@ func solveDecomposed(p *Problem, o Options) (*Plan, error) {
 	primary := objKindOf(p.Objective)
 	secondary := objKindOf(other(p.Objective))
 
+	// Stage 0, when doing nothing overspends a budget (routine costs
+	// counted against it): the least total spend over the budgets. Above
+	// infeasibleExcess no plan keeps the budgets, as the flat model would
+	// report; otherwise the pool now holds policies that keep them, which
+	// every later stage's first master needs.
+	if dw.doNothingOverspends() {
+		res, err := dw.generate(&stage{obj: objExcess, sign: 1})
+		if err != nil {
+			return nil, err
+		}
+		if -res.z > infeasibleExcess {
+			dw.stats.Method = Decomposed.String()
+			dw.stats.Columns = len(dw.pool)
+			return &Plan{Status: Infeasible, Stats: dw.stats}, nil
+		}
+	}
+
 	// Stage 1, with targets: the least total shortfall.
 	elastic := false
 	if len(p.Targets) > 0 {
@@ -345,6 +362,34 @@ func solveDecomposed(p *Problem, o Options) (*Plan, error) {
 	return dw.plan(res), nil
 }
 
+// infeasibleExcess is the least total spend over the budget rows (in model
+// money units, where the largest cap is 1) above which a decomposed solve
+// reports the budgets infeasible.
+const infeasibleExcess = 1e-9
+
+// doNothingOverspends reports whether doing nothing in every class spends
+// more than some budget row allows (possible only with routine costs
+// counted against the budget).
+func (dw *decomposer) doNothingOverspends() bool {
+	if !dw.p.RoutineInBudget {
+		return false
+	}
+	for r := range dw.links {
+		l := &dw.links[r]
+		if l.kind != linkBudget {
+			continue
+		}
+		v := 0.0
+		for k := range dw.classes {
+			v += dw.coef(l, dw.pool[k]) // the pool starts with each class's do nothing
+		}
+		if v > l.rhs+1e-12 {
+			return true
+		}
+	}
+	return false
+}
+
 // firstWeight and maxWeight bound the weight on a held objective in a
 // lexicographic stage (see doc.go): a stage starts at firstWeight and
 // multiplies it by 100 while its plan gives up more of the held objective
@@ -396,12 +441,12 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 			return nil, fmt.Errorf("decomposition master: %w", err)
 		}
 		dw.stats.Rows, dw.stats.Cols = res.rows, res.cols
-		if dw.activateViolated(res) {
+		if st.obj != objExcess && dw.activateViolated(res) {
 			center, bestBound = nil, math.Inf(1) // the bound was for fewer rows
 			continue
 		}
-		if st.obj == objSlack && res.z >= -1e-12 {
-			// No shortfall at all: nothing can do better.
+		if (st.obj == objSlack || st.obj == objExcess) && res.z >= -1e-12 {
+			// No shortfall (no excess) at all: nothing can do better.
 			dw.markUsed(res)
 			return res, nil
 		}
@@ -409,7 +454,7 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 		// policies often prove the optimum at once (the what-if page's
 		// requests from the base plan's policies), and then the warm-up's
 		// steps and policies would only add work.
-		if dw.warmup && (!dw.warmStarted || iter > 2) {
+		if dw.warmup && st.obj != objExcess && (!dw.warmStarted || iter > 2) {
 			dw.warmup = false
 			bestBound, center = dw.lagrangeWarmup(pc, res)
 			if center != nil {
@@ -463,7 +508,9 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 				continue
 			}
 			dw.stats.Gap = math.Max(dw.stats.Gap, math.Max(gap, 0)/scale)
-			res = dw.polish(st, res)
+			if st.obj != objExcess {
+				res = dw.polish(st, res)
+			}
 			dw.markUsed(res)
 			return res, nil
 		}
@@ -592,18 +639,22 @@ func (dw *decomposer) markUsed(res *masterResult) {
 	}
 }
 
-// slackBound is the shortfalls' part of the Lagrangian bound: a shortfall
-// column priced above zero could add its reduced cost times its largest
-// useful value (1: shares and scores are on 0-1 in the model).
+// slackBound is the slacks' part of the Lagrangian bound: a slack column
+// priced above zero could add its reduced cost times its largest useful
+// value: 1 for a shortfall (shares and scores are on 0-1 in the model), no
+// limit for a budget's excess (no finite bound at such prices).
 func (dw *decomposer) slackBound(st *stage, pi []float64) float64 {
-	if dw.hardTargets {
-		return 0
-	}
 	s := 0.0
 	for r := range dw.links {
 		l := &dw.links[r]
-		if l.active && l.kind == linkTarget {
-			s += math.Max(st.slackValue()-pi[r]*slackSign(l), 0)
+		if !l.active || !dw.elastic(st, l) {
+			continue
+		}
+		if rc := st.slackValue() - pi[r]*slackSign(l); rc > 0 {
+			if l.kind == linkBudget {
+				return math.Inf(1)
+			}
+			s += rc
 		}
 	}
 	return s
@@ -781,7 +832,7 @@ func (dw *decomposer) lagrangeWarmup(pc *pricer, res *masterResult) (float64, []
 			for _, col := range cols {
 				g[r] -= dw.coef(l, col)
 			}
-			if !dw.hardTargets && l.kind == linkTarget && pc.st.slackValue()-pi[r]*slackSign(l) > 0 {
+			if dw.elastic(pc.st, l) && pc.st.slackValue()-pi[r]*slackSign(l) > 0 {
 				g[r] -= slackSign(l)
 			}
 			norm += g[r] * g[r]
@@ -805,6 +856,15 @@ func (dw *decomposer) lagrangeWarmup(pc *pricer, res *masterResult) (float64, []
 				pi[r] = math.Max(pi[r], 0)
 			case GreaterEq:
 				pi[r] = math.Min(pi[r], 0)
+			}
+			// A slack column bounds its row's price (its reduced cost
+			// stays at most zero).
+			if dw.elastic(pc.st, l) {
+				if slackSign(l) < 0 {
+					pi[r] = math.Min(pi[r], -pc.st.slackValue())
+				} else {
+					pi[r] = math.Max(pi[r], pc.st.slackValue())
+				}
 			}
 		}
 	}

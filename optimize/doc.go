@@ -152,10 +152,16 @@
 // measured against every missing target row, and the rows it misses by
 // more than 1e-10 join. Budget rows are always in.
 //
-// Stages. The flat model's lexicographic order is kept: (1) with targets,
-// the least total shortfall; if it is zero the target rows are hard from
-// then on; (2) the primary objective (MaxCondition or MinCost); (3) the
-// other one as tie-break. Stages 2 and 3 keep the earlier optimum not with
+// Stages. When doing nothing overspends a budget (routine costs counted
+// against it), a stage 0 first minimises the total spend over the budget
+// rows, each with an excess column of price -1 (its Lagrangian bound is
+// finite only where every budget price is at most 1): above 1e-9 of the
+// largest cap the plan is infeasible, as the flat model would say;
+// otherwise the pool holds policies that keep the budgets, which the later
+// stages' first masters need. The flat model's lexicographic order is kept:
+// (1) with targets, the least total shortfall; if it is zero the target
+// rows are hard from then on; (2) the primary objective (MaxCondition or
+// MinCost); (3) the other one as tie-break. Stages 2 and 3 keep the earlier optimum not with
 // a hold row, whose price at the optimum left the master's dual nearly
 // unbounded (lp_solve then took seconds per round and reported it
 // unbounded), but with a weight: stage 3 maximises tie-break + w × primary,

@@ -23,6 +23,7 @@ const (
 	objCondition objKind = iota // mean network score over the horizon, 0-1
 	objCost                     // present value of spend, money units
 	objSlack                    // total target shortfall
+	objExcess                   // total spend over the budget rows (budget feasibility)
 )
 
 func objKindOf(o Objective) objKind {
@@ -171,7 +172,18 @@ func (dw *decomposer) coef(l *link, col *column) float64 {
 	return 0
 }
 
-// slackSign is the coefficient of a target row's shortfall in that row.
+// elastic reports whether link l has a slack column in stage st: the
+// budget rows in the excess stage, the target rows while the targets may
+// fall short.
+func (dw *decomposer) elastic(st *stage, l *link) bool {
+	if st.obj == objExcess {
+		return l.kind == linkBudget
+	}
+	return l.kind == linkTarget && !dw.hardTargets
+}
+
+// slackSign is the coefficient of a slack (a target's shortfall, a
+// budget's excess) in its row.
 func slackSign(l *link) float64 {
 	if l.sense == LessEq {
 		return -1
@@ -257,7 +269,7 @@ func (dw *decomposer) colValue(st *stage, col *column) float64 {
 // slackValue is each shortfall's coefficient in the stage objective.
 func (st *stage) slackValue() float64 {
 	v := 0.0
-	if st.obj == objSlack {
+	if st.obj == objSlack || st.obj == objExcess {
 		v = -1
 	}
 	if st.weighted && st.hold == objSlack {
@@ -317,10 +329,10 @@ func newDualMaster(dw *decomposer, st *stage, keep []bool) *dualMaster {
 	dm := &dualMaster{dw: dw, st: st, nvar: L + K, bound: make([]bool, L)}
 	dm.lp = golp.NewLP(0, dm.nvar)
 	dm.lp.SetVerboseLevel(golp.NEUTRAL)
-	if !dw.hardTargets {
+	{
 		for r := range dw.links {
 			l := &dw.links[r]
-			if l.kind != linkTarget {
+			if !dw.elastic(st, l) {
 				continue
 			}
 			dm.lp.AddConstraintSparse([]golp.Entry{{Col: r, Val: slackSign(l)}}, golp.GE, st.slackValue())
@@ -521,7 +533,7 @@ func (dw *decomposer) solvePrimal(st *stage, keep []bool) (*masterResult, error)
 	slackCol := make([]int, L)
 	for r := range dw.links {
 		slackCol[r] = -1
-		if l := &dw.links[r]; l.active && l.kind == linkTarget && !dw.hardTargets {
+		if l := &dw.links[r]; l.active && dw.elastic(st, l) {
 			slackCol[r] = m.addCol(fmt.Sprintf("short_%s", l.name), st.slackValue())
 		}
 	}
