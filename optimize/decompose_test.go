@@ -216,22 +216,33 @@ func TestWarmStartSameOptimumFewerRounds(t *testing.T) {
 }
 
 // TestDecomposedIsDeterministic: the same problem gives the same plan bit
-// for bit, whatever the number of cores pricing runs on.
+// for bit, whatever the number of cores pricing runs on: a small model
+// (priced on one core, with the Lagrangian warm-up) and one large enough
+// to be priced on all cores.
 func TestDecomposedIsDeterministic(t *testing.T) {
-	p := Generate(rand.New(rand.NewPCG(3, 1)), GenSpec{Classes: 7, States: 5, Treatments: 3, Years: 10, Targets: true, BudgetShare: 0.1})
-	first, err := SolveWith(p, Options{Method: Decomposed})
-	if err != nil {
-		t.Fatal(err)
-	}
-	for _, procs := range []int{1, 2, 5} {
-		prev := setProcs(procs)
-		again, err := SolveWith(p, Options{Method: Decomposed})
-		setProcs(prev)
+	for _, spec := range []GenSpec{
+		{Classes: 7, States: 5, Treatments: 3, Years: 10, Targets: true, BudgetShare: 0.1},
+		{Classes: 40, States: 7, Treatments: 5, Years: 30, Targets: true, BudgetShare: 0.1},
+	} {
+		p := Generate(rand.New(rand.NewPCG(3, 1)), spec)
+		parallel := newDecomposer(p, Options{}).pricingWork >= parallelPricingWork
+		if big := spec.Classes > 10; big != parallel {
+			t.Fatalf("%v: priced in parallel %v; the test wants one model each way", spec, parallel)
+		}
+		first, err := SolveWith(p, Options{Method: Decomposed})
 		if err != nil {
 			t.Fatal(err)
 		}
-		if fmt.Sprint(again.Work, again.Condition, again.Spend, again.Shortfalls) != fmt.Sprint(first.Work, first.Condition, first.Spend, first.Shortfalls) {
-			t.Fatalf("GOMAXPROCS=%d: a different plan", procs)
+		for _, procs := range []int{1, 2, 5} {
+			prev := setProcs(procs)
+			again, err := SolveWith(p, Options{Method: Decomposed})
+			setProcs(prev)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if fmt.Sprint(again.Work, again.Condition, again.Spend, again.Shortfalls) != fmt.Sprint(first.Work, first.Condition, first.Spend, first.Shortfalls) {
+				t.Fatalf("%v, GOMAXPROCS=%d: a different plan", spec, procs)
+			}
 		}
 	}
 }
