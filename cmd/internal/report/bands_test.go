@@ -102,7 +102,7 @@ func TestBandsTables(t *testing.T) {
 	rep := smallBandsReport(t)
 	sim := rep.Runs[0].Simulation
 	md, page := markdownOf(t, rep), htmlOf(t, rep)
-	years := losYears(sim.Horizon)
+	years := render.LOSYears(sim.Horizon)
 	label := fmt.Sprintf("Poor, 5th-95th percentile of %d runs", bandsRuns)
 	if n := strings.Count(md, "| "+label+" |"); n != len(sim.Classes)+1 {
 		t.Errorf("%d range rows in the Markdown LOS table, want %d", n, len(sim.Classes)+1)

@@ -98,18 +98,6 @@ type detailsView struct {
 	Inputs table
 }
 
-// losYears are the plan years the level-of-service tables show: year 1,
-// 5, 10 and the last, within the horizon.
-func losYears(horizon int) []int {
-	var out []int
-	for _, t := range []int{1, 5, 10, horizon} {
-		if t >= 1 && t <= horizon && (len(out) == 0 || out[len(out)-1] < t) {
-			out = append(out, t)
-		}
-	}
-	return out
-}
-
 func currencyOf(r *scenarios.Result) string {
 	if r.Currency == "" {
 		return "currency units"
@@ -289,7 +277,7 @@ func scaleNote(sc *scenarios.Scenario, class string) string {
 // shares, average index, and replacement value and backlog where known.
 func losTable(id string, run Run) table {
 	r := run.Result
-	years := losYears(r.Horizon)
+	years := render.LOSYears(r.Horizon)
 	t := table{ID: id, Caption: "Level of service: condition today and at the end of selected years"}
 	t.Head = []string{"Measure", fmt.Sprintf("Today (start of %d)", r.StartYear)}
 	t.Num = []bool{false, true}
@@ -638,7 +626,7 @@ func buildComparison(rep *Report, withCharts bool) (*comparison, error) {
 		year  int // calendar year; 0 = today
 	}
 	whens := []when{{fmt.Sprintf("Today (start of %d)", first.StartYear), 0}}
-	for _, y := range losYears(first.Horizon) {
+	for _, y := range render.LOSYears(first.Horizon) {
 		whens = append(whens, when{fmt.Sprintf("End of %d (year %d)", first.StartYear+y-1, y), first.StartYear + y - 1})
 	}
 	for _, w := range whens {

@@ -50,29 +50,6 @@ func markdownOf(t *testing.T, rep *Report) string {
 	return b.String()
 }
 
-func TestLOSYears(t *testing.T) {
-	cases := []struct {
-		horizon int
-		want    []int
-	}{
-		{1, []int{1}}, {3, []int{1, 3}}, {5, []int{1, 5}}, {7, []int{1, 5, 7}},
-		{10, []int{1, 5, 10}}, {12, []int{1, 5, 10, 12}}, {20, []int{1, 5, 10, 20}},
-	}
-	for _, c := range cases {
-		got := losYears(c.horizon)
-		if len(got) != len(c.want) {
-			t.Errorf("horizon %d: %v, want %v", c.horizon, got, c.want)
-			continue
-		}
-		for i := range got {
-			if got[i] != c.want[i] {
-				t.Errorf("horizon %d: %v, want %v", c.horizon, got, c.want)
-				break
-			}
-		}
-	}
-}
-
 // TestSameReportSameBytes: HTML and Markdown depend only on the report
 // data: two renderings are identical, and the date shows up.
 func TestSameReportSameBytes(t *testing.T) {

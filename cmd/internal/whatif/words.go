@@ -227,18 +227,6 @@ func moneyByYear(cur string, ys []scenarios.YearMoney) []string {
 	return out
 }
 
-// losYears are the years the level-of-service figures show, as in the
-// reports: year 1, 5, 10 and the last.
-func losYears(horizon int) []int {
-	var out []int
-	for _, t := range []int{1, 5, 10, horizon} {
-		if t >= 1 && t <= horizon && (len(out) == 0 || out[len(out)-1] < t) {
-			out = append(out, t)
-		}
-	}
-	return out
-}
-
 // figures are the rows of a comparison column.
 func figures(sc *scenarios.Scenario, r *scenarios.Result) []figure {
 	cur := currency(r)
@@ -266,7 +254,7 @@ func figures(sc *scenarios.Scenario, r *scenarios.Result) []figure {
 		{"Targets met", fmt.Sprintf("%d of %d", targetsMet(r), len(r.Targets))},
 	}
 	fs = append(fs, figure{fmt.Sprintf("Network poor share today (start of %d)", r.StartYear), render.Percent(r.Initial.Network.Shares.Poor)})
-	for _, t := range losYears(r.Horizon) {
+	for _, t := range render.LOSYears(r.Horizon) {
 		y := r.Years[t-1]
 		fs = append(fs, figure{fmt.Sprintf("Network poor share, end of %d", y.Year), render.Percent(y.Network.Shares.Poor)})
 	}
