@@ -135,13 +135,13 @@ type column struct {
 	key     uint64 // hash of the policy on the states it reaches
 }
 
-// roll follows the policy forward from today's shares and returns its column.
-func (d *dwClass) roll(k int, pol policy) *column {
+// walk follows the policy forward from today's shares and calls visit for
+// every (year, state) it reaches with the pair taken there and the share
+// of the class in that state at the start of the year.
+func (d *dwClass) walk(pol policy, visit func(t, i, n int, q float64)) {
 	ns := d.states()
-	col := &column{class: k, pol: pol, cost: make([]float64, d.years), routine: make([]float64, d.years), score: make([]float64, d.years), group: make([][3]float64, d.years)}
 	cur := append([]float64(nil), d.init...)
 	nxt := make([]float64, ns)
-	h := uint64(14695981039346656037)
 	for t := 0; t < d.years; t++ {
 		clear(nxt)
 		for i, q := range cur {
@@ -149,21 +149,32 @@ func (d *dwClass) roll(k int, pol policy) *column {
 				continue
 			}
 			n := int(pol[t*ns+i])
-			col.cost[t] += q * d.terms.cost[n]
-			col.routine[t] += q * d.terms.routine[n]
-			col.score[t] += q * d.terms.endScore[n]
-			eg := &d.terms.endGroup[n]
-			col.group[t][0] += q * eg[0]
-			col.group[t][1] += q * eg[1]
-			col.group[t][2] += q * eg[2]
+			visit(t, i, n, q)
 			for _, e := range d.next[n] {
 				nxt[e.state] += q * e.p
 			}
-			h = (h ^ uint64(t*ns+i)) * 1099511628211
-			h = (h ^ uint64(n)) * 1099511628211
 		}
 		cur, nxt = nxt, cur
 	}
+}
+
+// roll returns the policy's column: its measures from today's shares on,
+// and a key that hashes what it does on the states it reaches.
+func (d *dwClass) roll(k int, pol policy) *column {
+	ns := d.states()
+	col := &column{class: k, pol: pol, cost: make([]float64, d.years), routine: make([]float64, d.years), score: make([]float64, d.years), group: make([][3]float64, d.years)}
+	h := uint64(14695981039346656037)
+	d.walk(pol, func(t, i, n int, q float64) {
+		col.cost[t] += q * d.terms.cost[n]
+		col.routine[t] += q * d.terms.routine[n]
+		col.score[t] += q * d.terms.endScore[n]
+		eg := &d.terms.endGroup[n]
+		col.group[t][0] += q * eg[0]
+		col.group[t][1] += q * eg[1]
+		col.group[t][2] += q * eg[2]
+		h = (h ^ uint64(t*ns+i)) * 1099511628211
+		h = (h ^ uint64(n)) * 1099511628211
+	})
 	col.key = h
 	return col
 }
@@ -172,23 +183,9 @@ func (d *dwClass) roll(k int, pol policy) *column {
 // into x at the flat model's columns, scaled by weight: x[col(t, n)] +=
 // weight × share of the class in the pair's state at the start of year t.
 func (d *dwClass) occupation(pol policy, weight float64, x []float64, col func(t, n int) int) {
-	ns := d.states()
-	cur := append([]float64(nil), d.init...)
-	nxt := make([]float64, ns)
-	for t := 0; t < d.years; t++ {
-		clear(nxt)
-		for i, q := range cur {
-			if q == 0 {
-				continue
-			}
-			n := int(pol[t*ns+i])
-			x[col(t, n)] += weight * q
-			for _, e := range d.next[n] {
-				nxt[e.state] += q * e.p
-			}
-		}
-		cur, nxt = nxt, cur
-	}
+	d.walk(pol, func(t, _, n int, q float64) {
+		x[col(t, n)] += weight * q
+	})
 }
 
 // doNothing is the policy that never treats: pair of action 0 in every state.
