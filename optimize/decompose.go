@@ -461,7 +461,7 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 				continue // the master now holds the warm-up's policies
 			}
 		}
-		if rows := len(dm.rowOf); rows > dw.masterRowLimit() {
+		if len(dm.rowOf) > dw.masterRowLimit() {
 			dm = newDualMaster(dw, st, dw.recentMask(res))
 		}
 		scale := math.Max(math.Abs(res.z), 1e-6)
