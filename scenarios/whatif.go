@@ -400,7 +400,9 @@ func (e *Editable) describe(sc *Scenario) string {
 
 func sameTargets(a, b []Target) bool {
 	return slices.EqualFunc(a, b, func(x, y Target) bool {
-		return x.Label == y.Label && x.Spec == y.Spec && x.FromYear == y.FromYear && x.ToYear == y.ToYear
+		a, b := x.Spec, y.Spec
+		same := a.Label == b.Label && a.Class == b.Class && a.Kind == b.Kind && a.Group == b.Group && slices.Equal(a.States, b.States) && a.Value == b.Value && a.From == b.From && a.To == b.To
+		return same && x.Label == y.Label && x.FromYear == y.FromYear && x.ToYear == y.ToYear
 	})
 }
 
