@@ -44,6 +44,9 @@ type Result struct {
 	// BacklogRules say what each poor state's backlog is valued at.
 	BacklogRules []BacklogRule `json:"backlog_rules,omitempty"`
 	Warnings     []string      `json:"warnings"`
+	// ClassWarnings say what a plan does to classes a council should hear
+	// about (classwarn.go); their texts are among Warnings too.
+	ClassWarnings []ClassWarning `json:"class_warnings,omitempty"`
 	// Funding answers the funding questions of a plan (funding.go).
 	Funding *Funding `json:"funding,omitempty"`
 	// Baseline is the worst-first rule under the same budget, for
