@@ -67,7 +67,7 @@ type BudgetStep struct {
 }
 
 // TargetSpec is a target written with the keys of the scenario file
-// (DESIGN.md section 3): {class, group, max_share | min_share}, {class,
+// (docs/scenario-format.md): {class, group, max_share | min_share}, {class,
 // state, max_share | min_share}, {class, min_average_index}, or {class,
 // hold: true}, with optional from_year and to_year.
 type TargetSpec struct {

@@ -23,7 +23,7 @@ import (
 //     plan adds the shortfall and funding solves);
 //   - memo: the same request again.
 //
-// Besides the mean it reports the median (ms-median, the figure the README
+// Besides the mean it reports the median (ms-median, the figure docs/benchmarks.md
 // records) and the 90th percentile (ms-p90) in milliseconds, and for the
 // slider how many answers were errors (lp_solve has been seen to call a
 // feasible model infeasible at some budgets).
