@@ -870,6 +870,7 @@ func buildMinSpends(sc *Scenario, na *namedAmounts, is *issues) {
 			continue
 		}
 		ms := MinSpend{Name: e.Name, Yearly: yearlyAmounts(&e.Amount, sc.Horizon, field, is)}
+		ms.file, ms.line = is.where(e.Line)
 		if isGroup {
 			ms.Group, ms.Classes = true, sc.BudgetGroups[g].Classes
 		} else {

@@ -80,6 +80,9 @@ func LongRun(sc *Scenario, opt Options) (*LongRunResult, error) {
 		return nil, err
 	}
 	if lr.Status == optimize.Infeasible {
+		if err := minSpendInfeasible(sc, p, longRunFeasible); err != nil {
+			return nil, err
+		}
 		return nil, budgetInfeasible(sc, p)
 	}
 	r := &LongRunResult{

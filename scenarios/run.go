@@ -56,6 +56,9 @@ func Plan(sc *Scenario, opt Options) (*Result, error) {
 		return nil, err
 	}
 	if plan.Status == optimize.Infeasible {
+		if err := minSpendInfeasible(sc, p, planFeasible(opt)); err != nil {
+			return nil, err
+		}
 		return nil, budgetInfeasible(sc, p)
 	}
 	r := assemble(sc, p, plan.Condition, plan.Work, plan.Spend)

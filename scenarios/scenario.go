@@ -147,6 +147,9 @@ type MinSpend struct {
 	Group   bool
 	Classes []string
 	Yearly  []float64
+	// file and line say where it is written, for messages.
+	file string
+	line int
 }
 
 // ClassWarningLimits are the thresholds of the warnings on what a plan
