@@ -114,19 +114,42 @@ func classWarnings(sc *Scenario, r *Result) []ClassWarning {
 		if !w.NoWork && poor == nil && state == nil && backlog == nil {
 			continue
 		}
+		var held []string // the scenario's own targets that already ask as much
+		suggest := func(t TargetSpec) {
+			if label := heldBy(sc, k, t); label != "" {
+				held = append(held, label)
+				return
+			}
+			w.Suggested = append(w.Suggested, t)
+		}
 		if poor != nil {
-			w.Suggested = append(w.Suggested, TargetSpec{Class: c.Name, Group: "poor", MaxShare: shareDown(now.Shares.Poor + lim.PoorShareRise)})
+			suggest(TargetSpec{Class: c.Name, Group: "poor", MaxShare: shareDown(now.Shares.Poor + lim.PoorShareRise)})
 		}
 		if state != nil {
-			w.Suggested = append(w.Suggested, TargetSpec{Class: c.Name, State: state.State, MaxShare: shareDown(math.Max(lim.WorstStateGrowth*worstToday, worstStateFloor))})
+			suggest(TargetSpec{Class: c.Name, State: state.State, MaxShare: shareDown(math.Max(lim.WorstStateGrowth*worstToday, worstStateFloor))})
 		}
 		if backlog != nil && poor == nil && state == nil {
-			w.Suggested = append(w.Suggested, TargetSpec{Class: c.Name, Group: "poor", MaxShare: shareDown(now.Shares.Poor)})
+			suggest(TargetSpec{Class: c.Name, Group: "poor", MaxShare: shareDown(now.Shares.Poor)})
 		}
-		w.Text = classWarningText(sc, r, &w)
+		w.Text = classWarningText(sc, r, &w, held)
 		out = append(out, w)
 	}
 	return out
+}
+
+// heldBy returns the label of a target of the scenario on class k that
+// asks at least as much as the suggested cap t in every year, or "".
+func heldBy(sc *Scenario, k int, t TargetSpec) string {
+	for _, tg := range sc.Targets {
+		s := tg.Spec
+		if s.Class != k || s.Kind != optimize.MaxShare || s.Value > *t.MaxShare || s.From != 1 || s.To != sc.Horizon {
+			continue
+		}
+		if (t.State != "" && tg.State == t.State) || (t.Group != "" && s.States == nil && s.Group.String() == t.Group) {
+			return tg.Label
+		}
+	}
+	return ""
 }
 
 // only marks state i of n.
@@ -143,8 +166,9 @@ func shareDown(v float64) *float64 {
 	return &s
 }
 
-// classWarningText puts a class warning in words.
-func classWarningText(sc *Scenario, r *Result, w *ClassWarning) string {
+// classWarningText puts a class warning in words; held are the labels of
+// the scenario's targets that would stop it if they were met.
+func classWarningText(sc *Scenario, r *Result, w *ClassWarning, held []string) string {
 	var b strings.Builder
 	b.WriteString(w.Class + ": ")
 	met := r.Status == string(optimize.Optimal) && len(r.Targets) > 0
@@ -205,6 +229,9 @@ func classWarningText(sc *Scenario, r *Result, w *ClassWarning) string {
 		default:
 			b.WriteString(". Class targets that would stop them: " + strings.Join(specs, "; "))
 		}
+	}
+	if len(held) > 0 {
+		b.WriteString(". The scenario's target " + strings.Join(held, "; ") + " would stop it but is not met within the budget")
 	}
 	b.WriteString(".")
 	return b.String()
