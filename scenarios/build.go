@@ -855,8 +855,6 @@ func buildMinSpends(sc *Scenario, na *namedAmounts, is *issues) {
 	for g, bg := range sc.BudgetGroups {
 		groupOf[bg.Name] = g
 	}
-	classSum := make([]float64, sc.Horizon) // least spends of single classes
-	classes := 0
 	for _, e := range na.Entries {
 		field := "budget.min_yearly." + e.Name
 		k := sc.classIndex(e.Name)
@@ -875,34 +873,61 @@ func buildMinSpends(sc *Scenario, na *namedAmounts, is *issues) {
 			ms.Group, ms.Classes = true, sc.BudgetGroups[g].Classes
 		} else {
 			ms.Classes = []string{e.Name}
-			classes++
-			for t, v := range ms.Yearly {
-				classSum[t] += v
-			}
 		}
 		if y, least, most, ok := aboveSpendable(sc, ms); ok {
 			is.add(e.Line, field, "min_yearly %s in %d is more than giving all of %s its dearest treatment would cost (%s at that year's prices); no plan can spend it", money(least), y, strings.Join(ms.Classes, ", "), money(most))
 		}
-		if sc.Budget != nil {
-			if y, least, cap, ok := aboveCap(sc, ms.Yearly, sc.Budget); ok {
-				is.add(e.Line, field, "min_yearly %s in %d is above the network budget %s%s; lower it or raise budget.yearly", money(least), y, money(cap), cumulative(sc))
-			}
-		}
-		for _, bg := range sc.BudgetGroups {
-			if !containsAll(bg.Classes, ms.Classes) {
-				continue
-			}
-			if y, least, cap, ok := aboveCap(sc, ms.Yearly, bg.Yearly); ok {
-				is.add(e.Line, field, "min_yearly %s in %d is above the cap %s of budget group %q%s; lower it or raise the group's yearly", money(least), y, money(cap), bg.Name, cumulative(sc))
-			}
+		for _, msg := range ms.aboveCaps(sc) {
+			is.add(e.Line, field, "%s", msg)
 		}
 		sc.MinSpends = append(sc.MinSpends, ms)
 	}
-	if sc.Budget != nil && classes > 1 {
-		if y, least, cap, ok := aboveCap(sc, classSum, sc.Budget); ok {
-			is.add(na.Line, "budget.min_yearly", "the classes' min_yearly add up to %s in %d, above the network budget %s%s; lower them or raise budget.yearly", money(least), y, money(cap), cumulative(sc))
+	if msg := classMinsAboveBudget(sc); msg != "" {
+		is.add(na.Line, "budget.min_yearly", "%s", msg)
+	}
+}
+
+// aboveCaps says which caps of sc a least spend exceeds: the network
+// budget, and the cap of every budget group that holds all its classes.
+func (ms *MinSpend) aboveCaps(sc *Scenario) []string {
+	var out []string
+	if sc.Budget != nil {
+		if y, least, cap, ok := aboveCap(sc, ms.Yearly, sc.Budget); ok {
+			out = append(out, fmt.Sprintf("min_yearly %s in %d is above the network budget %s%s; lower it or raise budget.yearly", money(least), y, money(cap), cumulative(sc)))
 		}
 	}
+	for _, bg := range sc.BudgetGroups {
+		if !containsAll(bg.Classes, ms.Classes) {
+			continue
+		}
+		if y, least, cap, ok := aboveCap(sc, ms.Yearly, bg.Yearly); ok {
+			out = append(out, fmt.Sprintf("min_yearly %s in %d is above the cap %s of budget group %q%s; lower it or raise the group's yearly", money(least), y, money(cap), bg.Name, cumulative(sc)))
+		}
+	}
+	return out
+}
+
+// classMinsAboveBudget says when the least spends of two or more single
+// classes add up to more than the network budget ("" when they do not).
+func classMinsAboveBudget(sc *Scenario) string {
+	sum := make([]float64, sc.Horizon)
+	classes := 0
+	for _, ms := range sc.MinSpends {
+		if ms.Group {
+			continue
+		}
+		classes++
+		for t, v := range ms.Yearly {
+			sum[t] += v
+		}
+	}
+	if sc.Budget == nil || classes < 2 {
+		return ""
+	}
+	if y, least, cap, ok := aboveCap(sc, sum, sc.Budget); ok {
+		return fmt.Sprintf("the classes' min_yearly add up to %s in %d, above the network budget %s%s; lower them or raise budget.yearly", money(least), y, money(cap), cumulative(sc))
+	}
+	return ""
 }
 
 // aboveSpendable returns the first year in which a least spend is more

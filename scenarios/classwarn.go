@@ -88,7 +88,7 @@ func classWarnings(sc *Scenario, r *Result) []ClassWarning {
 		worst := len(c.Scale.States) - 1
 		worstToday := stateShare(now.States, only(len(c.Scale.States), worst))
 		// When the worst state is the whole poor group, the poor share says it.
-		worstAlone := worst == 0 || c.Scale.Group[worst-1] != optimize.Poor
+		poorIsWorst := c.Scale.Group[worst] == optimize.Poor && (worst == 0 || c.Scale.Group[worst-1] != optimize.Poor)
 		var poor, state, backlog *ClassChange
 		var poorBy, stateBy, backlogBy float64
 		for t, y := range r.Years {
@@ -100,7 +100,7 @@ func classWarnings(sc *Scenario, r *Result) []ClassWarning {
 				poorBy, poor = d, &ClassChange{Today: now.Shares.Poor, Year: y.Year, Value: cc.Shares.Poor}
 			}
 			v := stateShare(cc.States, only(len(c.Scale.States), worst))
-			if !worstAlone && v > lim.WorstStateGrowth*worstToday+warnTolerance && v > worstStateFloor+warnTolerance && v-worstToday > stateBy {
+			if !poorIsWorst && v > lim.WorstStateGrowth*worstToday+warnTolerance && v > worstStateFloor+warnTolerance && v-worstToday > stateBy {
 				stateBy, state = v-worstToday, &ClassChange{State: c.Scale.States[worst].Name, Today: worstToday, Year: y.Year, Value: v}
 			}
 			if cc.Backlog != nil && now.Backlog != nil && *now.Backlog > 0 {

@@ -19,12 +19,26 @@ func minSpendInfeasible(sc *Scenario, p *optimize.Problem, feasible func(*optimi
 	if len(p.MinSpends) == 0 {
 		return nil
 	}
+	// Caps set after the file was checked (a sweep's budget, say) may be
+	// below the ring-fenced money: say so without solving.
+	var list []*Issue
+	for m := range sc.MinSpends {
+		ms := &sc.MinSpends[m]
+		for _, msg := range ms.aboveCaps(sc) {
+			list = append(list, &Issue{File: ms.file, Line: ms.line, Field: "budget.min_yearly." + ms.Name, Msg: msg})
+		}
+	}
+	if msg := classMinsAboveBudget(sc); msg != "" {
+		list = append(list, &Issue{File: sc.Source, Field: "budget.min_yearly", Msg: msg})
+	}
+	if len(list) > 0 {
+		return &InputError{Issues: list}
+	}
 	q := *p
 	q.Targets, q.MinSpends = nil, nil
 	if ok, err := feasible(&q); err != nil || !ok {
 		return err
 	}
-	var list []*Issue
 	for m := range p.MinSpends {
 		q.MinSpends = p.MinSpends[m : m+1]
 		ok, err := feasible(&q)
