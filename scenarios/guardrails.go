@@ -77,3 +77,15 @@ func longRunFeasible(p *optimize.Problem) (bool, error) {
 	}
 	return lr.Status != optimize.Infeasible, nil
 }
+
+// minYearly is the money ring-fenced for a class or a budget group in
+// plan year t (1-based), or nil when there is none.
+func (s *Scenario) minYearly(name string, group bool, t int) *float64 {
+	for _, ms := range s.MinSpends {
+		if ms.Name == name && ms.Group == group && ms.Yearly[t-1] > 0 {
+			v := ms.Yearly[t-1]
+			return &v
+		}
+	}
+	return nil
+}

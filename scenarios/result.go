@@ -105,6 +105,9 @@ type ClassCondition struct {
 	Backlog          *float64 `json:"backlog,omitempty"`
 	Work             []Work   `json:"work,omitzero"` // [] in plans, absent in forecasts
 	Spend            *float64 `json:"spend,omitempty"`
+	// MinYearly is the money ring-fenced for the class that year
+	// (budget.min_yearly), in plans, when there is any.
+	MinYearly *float64 `json:"min_yearly,omitempty"`
 }
 
 // NetworkCondition is the weighted network condition. AverageIndex is
@@ -143,6 +146,9 @@ type GroupSpend struct {
 	Name   string  `json:"name"`
 	Spend  float64 `json:"spend"`
 	Budget float64 `json:"budget"`
+	// MinYearly is the money ring-fenced for the group that year
+	// (budget.min_yearly), when there is any.
+	MinYearly *float64 `json:"min_yearly,omitempty"`
 }
 
 // TargetOutcome says whether a target holds, its worst year, and any

@@ -184,10 +184,11 @@ func assemble(sc *Scenario, p *optimize.Problem, cond [][][]float64, work [][][]
 				cc.Work = workOf(&sc.Classes[k], &p.Classes[k], work[k][t-1], p.Escalation, t-1)
 				s := spend[k][t-1]
 				cc.Spend = &s
+				cc.MinYearly = sc.minYearly(sc.Classes[k].Name, false, t)
 				y.Spend += s
 			}
 			for _, g := range sc.BudgetGroups {
-				gs := GroupSpend{Name: g.Name, Budget: g.Yearly[t-1]}
+				gs := GroupSpend{Name: g.Name, Budget: g.Yearly[t-1], MinYearly: sc.minYearly(g.Name, true, t)}
 				for _, name := range g.Classes {
 					gs.Spend += spend[sc.classIndex(name)][t-1]
 				}
