@@ -89,3 +89,18 @@ func (s *Scenario) minYearly(name string, group bool, t int) *float64 {
 	}
 	return nil
 }
+
+// addMinYearly puts the ring-fenced amounts beside the spend of each class
+// and budget group in a plan's years (a plan keeps them; the worst-first
+// rule does not, so its forecasts do not carry them).
+func addMinYearly(sc *Scenario, r *Result) {
+	for t := range r.Years {
+		y := &r.Years[t]
+		for k := range y.Classes {
+			y.Classes[k].MinYearly = sc.minYearly(sc.Classes[k].Name, false, t+1)
+		}
+		for g := range y.Groups {
+			y.Groups[g].MinYearly = sc.minYearly(y.Groups[g].Name, true, t+1)
+		}
+	}
+}

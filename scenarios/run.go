@@ -77,6 +77,7 @@ func Plan(sc *Scenario, opt Options) (*Result, error) {
 	if sc.Objective == optimize.MinCost && len(sc.Targets) == 0 {
 		r.Warnings = append(r.Warnings, "min-cost with no targets: the cheapest plan does nothing; add targets or a budget with max-condition")
 	}
+	addMinYearly(sc, r)
 	r.ClassWarnings = classWarnings(sc, r)
 	for _, w := range r.ClassWarnings {
 		r.Warnings = append(r.Warnings, w.Text)
@@ -184,11 +185,10 @@ func assemble(sc *Scenario, p *optimize.Problem, cond [][][]float64, work [][][]
 				cc.Work = workOf(&sc.Classes[k], &p.Classes[k], work[k][t-1], p.Escalation, t-1)
 				s := spend[k][t-1]
 				cc.Spend = &s
-				cc.MinYearly = sc.minYearly(sc.Classes[k].Name, false, t)
 				y.Spend += s
 			}
 			for _, g := range sc.BudgetGroups {
-				gs := GroupSpend{Name: g.Name, Budget: g.Yearly[t-1], MinYearly: sc.minYearly(g.Name, true, t)}
+				gs := GroupSpend{Name: g.Name, Budget: g.Yearly[t-1]}
 				for _, name := range g.Classes {
 					gs.Spend += spend[sc.classIndex(name)][t-1]
 				}
