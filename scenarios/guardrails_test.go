@@ -85,6 +85,13 @@ targets:
 		if s := *yr.Classes[1].Spend; s < wantSpends[1].Yearly[y]*(1-1e-7) {
 			t.Errorf("%d: culverts spend %g below %g", yr.Year, s, wantSpends[1].Yearly[y])
 		}
+		// The result says what is ring-fenced, beside the spend.
+		if m := yr.Classes[0].MinYearly; m == nil || *m != 100 || yr.Classes[1].MinYearly != nil {
+			t.Errorf("%d: ring-fenced for roads %v, culverts %v", yr.Year, yr.Classes[0].MinYearly, yr.Classes[1].MinYearly)
+		}
+		if m := yr.Groups[0].MinYearly; m == nil || *m != wantSpends[1].Yearly[y] {
+			t.Errorf("%d: ring-fenced for drainage %v", yr.Year, m)
+		}
 	}
 	for _, o := range r.Targets {
 		if !o.Met {
