@@ -7,6 +7,8 @@ import (
 	"testing"
 	"testing/fstest"
 
+	"gopkg.in/yaml.v3"
+
 	"wearplan/optimize"
 	"wearplan/scenarios"
 )
@@ -207,5 +209,23 @@ func TestTreatmentSanityNotes(t *testing.T) {
 	sc = mustParse(t, scenarioYAML("", []string{classYAML("roads", roadsInventory, "matrix: [[1, 0, 0, 0, 0], [0, 0.8, 0.2, 0, 0], [0, 0, 0.8, 0.2, 0], [0, 0, 0, 0.8, 0.2], [0, 0, 0, 0, 1]]")}, noop, ""))
 	if len(sc.Notes) != 1 || !strings.Contains(sc.Notes[0], `treatment "seal" improves nothing`) || !strings.Contains(sc.Notes[0], `state "Very good"`) {
 		t.Errorf("notes %q, want one saying seal improves nothing", sc.Notes)
+	}
+}
+
+// TestSuggestedTargetReadsBack: a suggested target written for pasting
+// reads back, through YAML, as the same keys and values, whatever the
+// class and state names hold (flow indicators, colons, words YAML reads as
+// numbers or booleans).
+func TestSuggestedTargetReadsBack(t *testing.T) {
+	share := 0.052
+	for _, names := range [][2]string{{"local-asphalt", "Failed"}, {"roads: arterial", "Very poor"}, {"paths, lanes", "{5}"}, {"2024", "yes"}, {"#1", "Critical (0-2)"}} {
+		spec := scenarios.TargetSpec{Class: names[0], State: names[1], MaxShare: &share}
+		var back map[string]any
+		if err := yaml.Unmarshal([]byte(spec.YAML()), &back); err != nil {
+			t.Fatalf("%s: %v", spec.YAML(), err)
+		}
+		if back["class"] != names[0] || back["state"] != names[1] || back["max_share"] != share || len(back) != 3 {
+			t.Errorf("%s reads back as %v", spec.YAML(), back)
+		}
 	}
 }
