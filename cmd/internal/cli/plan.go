@@ -76,6 +76,10 @@ different ones.`,
 			if err := out.write(cmd, r); err != nil {
 				return err
 			}
+			if out.format != "table" || out.out != "" {
+				// The tables end with these; other output needs them said.
+				warnClasses(cmd, r)
+			}
 			if r.Status == "targets-not-met" {
 				warnShortfalls(cmd, r)
 				if strict {
@@ -102,6 +106,15 @@ func warnShortfalls(cmd *cobra.Command, r *scenarios.Result) {
 			continue
 		}
 		fmt.Fprintf(w, "  - %s: short by %s\n", t.Target, shortfallText(t))
+	}
+}
+
+// warnClasses names on standard error each class the plan lets run down
+// or gives no work (scenarios.ClassWarning), when the tables that end with
+// them go elsewhere.
+func warnClasses(cmd *cobra.Command, r *scenarios.Result) {
+	for _, w := range r.ClassWarnings {
+		fmt.Fprintf(cmd.ErrOrStderr(), "warning: %s\n", w.Text)
 	}
 }
 

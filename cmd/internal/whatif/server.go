@@ -284,6 +284,9 @@ type classInfo struct {
 	IndexLow      float64 `json:"index_low"`
 	IndexHigh     float64 `json:"index_high"`
 	LowerIsBetter bool    `json:"lower_is_better"`
+	// States are the scale's condition states, best first, for targets
+	// on one state.
+	States []string `json:"states"`
 }
 
 func (s *Server) serveScenarios(w http.ResponseWriter, r *http.Request) {
@@ -298,8 +301,12 @@ func (s *Server) serveScenarios(w http.ResponseWriter, r *http.Request) {
 		}
 		for k := range sc.Classes {
 			c := &sc.Classes[k]
-			info.Classes = append(info.Classes, classInfo{Name: c.Name, Unit: c.Unit, Scale: c.Scale.Name,
-				IndexLow: min(c.Scale.Best, c.Scale.Worst), IndexHigh: max(c.Scale.Best, c.Scale.Worst), LowerIsBetter: c.Scale.Best < c.Scale.Worst})
+			ci := classInfo{Name: c.Name, Unit: c.Unit, Scale: c.Scale.Name,
+				IndexLow: min(c.Scale.Best, c.Scale.Worst), IndexHigh: max(c.Scale.Best, c.Scale.Worst), LowerIsBetter: c.Scale.Best < c.Scale.Worst}
+			for _, st := range c.Scale.States {
+				ci.States = append(ci.States, st.Name)
+			}
+			info.Classes = append(info.Classes, ci)
 		}
 		out[i] = info
 	}
