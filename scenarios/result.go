@@ -145,7 +145,11 @@ type GroupSpend struct {
 // TargetOutcome says whether a target holds, its worst year, and any
 // shortfall per year (share points 0-1, or index points).
 type TargetOutcome struct {
-	Target     string          `json:"target"`
+	Target string `json:"target"`
+	// Measure says what the values are: a share 0-1, an average index on
+	// the target's scale, or the 0-100 condition score (a network target
+	// when the classes' scales differ).
+	Measure    TargetMeasure   `json:"measure"`
 	Met        bool            `json:"met"`
 	WorstYear  int             `json:"worst_year"`
 	WorstValue float64         `json:"worst_value"`
@@ -153,8 +157,21 @@ type TargetOutcome struct {
 	Shortfalls []YearShortfall `json:"shortfalls,omitempty"`
 }
 
+// TargetMeasure names the unit of a target's values and shortfalls.
+type TargetMeasure string
+
+const (
+	// MeasureShare: a share of quantity, 0-1; shortfalls in share points.
+	MeasureShare TargetMeasure = "share"
+	// MeasureIndex: an average index on the target's scale; shortfalls in
+	// index points.
+	MeasureIndex TargetMeasure = "index"
+	// MeasureScore: the 0-100 condition score; shortfalls in score points.
+	MeasureScore TargetMeasure = "score"
+)
+
 // YearShortfall is how far a target is missed in one year, in the target's
-// own unit (share 0-1, or index points).
+// own unit (share 0-1, index points or score points: see Measure).
 type YearShortfall struct {
 	Year   int     `json:"year"`
 	Amount float64 `json:"amount"`

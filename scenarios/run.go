@@ -62,6 +62,11 @@ func Plan(sc *Scenario, opt Options) (*Result, error) {
 	addRoutine(sc, r, plan.Routine)
 	r.Kind, r.Status, r.Objective = "plan", string(plan.Status), sc.Objective.String()
 	r.Model = &ModelSize{Solver: plan.Stats.Method, Rows: plan.Stats.Rows, Columns: plan.Stats.Cols, Nonzeros: plan.Stats.Nonzeros, Solves: plan.Stats.Solves, Iterations: plan.Stats.Iterations, Policies: plan.Stats.Columns}
+	// The solver's shortfalls replace the ones measured on the condition:
+	// the same figures, from the model's own rows.
+	for i := range r.Targets {
+		r.Targets[i].Shortfalls = nil
+	}
 	for _, s := range plan.Shortfalls {
 		t := &r.Targets[s.Target]
 		amount := s.Amount
@@ -216,12 +221,19 @@ func workOf(c *Class, oc *optimize.Class, byState [][]float64, escalation float6
 }
 
 // evaluateTargets measures each target on the result's condition, so that
-// forecasts report which targets doing nothing would break.
+// forecasts report which targets doing nothing would break, by how much
+// and in which years.
 func evaluateTargets(sc *Scenario, r *Result) []TargetOutcome {
 	out := make([]TargetOutcome, 0, len(sc.Targets))
 	for _, t := range sc.Targets {
-		o := TargetOutcome{Target: t.Label, Met: true}
+		o := TargetOutcome{Target: t.Label, Met: true, Measure: MeasureShare}
 		spec := t.Spec
+		if spec.Kind == optimize.MinScore || spec.Kind == optimize.Hold {
+			o.Measure = MeasureScore
+			if sc.targetScale(t) != nil {
+				o.Measure = MeasureIndex
+			}
+		}
 		measure := func(y Year, init bool) float64 {
 			var cc *ClassCondition
 			var net NetworkCondition
@@ -277,6 +289,10 @@ func evaluateTargets(sc *Scenario, r *Result) []TargetOutcome {
 			}
 			if miss > 1e-6 {
 				o.Met = false
+				if spec.Kind == optimize.MinScore || spec.Kind == optimize.Hold {
+					miss = indexPoints(sc, t, miss)
+				}
+				o.Shortfalls = append(o.Shortfalls, YearShortfall{Year: y.Year, Amount: miss})
 			}
 		}
 		o.WorstValue, o.Limit = worst, limit
