@@ -91,7 +91,10 @@ func Plan(sc *Scenario, opt Options) (*Result, error) {
 				return nil, err
 			}
 		}
-		if f.LevelBudget != nil || f.ExtraTotal != nil || f.Unreachable != "" {
+		if err := fundingDetail(sc, p, r, f); err != nil {
+			return nil, err
+		}
+		if f.LevelBudget != nil || f.ExtraTotal != nil || f.Unreachable != "" || f.HoldBudget != nil || len(f.Notes) > 0 {
 			r.Funding = f
 		}
 		if err := baseline(p, r); err != nil {
