@@ -48,9 +48,13 @@ type Result struct {
 	Funding *Funding `json:"funding,omitempty"`
 	// Baseline is the worst-first rule under the same budget, for
 	// comparison with an optimised plan.
-	Baseline *Baseline  `json:"baseline,omitempty"`
-	Model    *ModelSize `json:"model,omitempty"`
-	Caution  string     `json:"caution"`
+	Baseline *Baseline `json:"baseline,omitempty"`
+	// Indicators are the asset management plan indicators
+	// (indicators.go): remaining life, depreciated replacement cost,
+	// consumption and the renewal ratios.
+	Indicators *Indicators `json:"indicators,omitempty"`
+	Model      *ModelSize  `json:"model,omitempty"`
+	Caution    string      `json:"caution"`
 }
 
 // ClassWeight is one class's share of network figures.

@@ -100,6 +100,11 @@ func Plan(sc *Scenario, opt Options) (*Result, error) {
 		if err := baseline(p, r); err != nil {
 			return nil, err
 		}
+		required, notes, err := requiredRenewal(sc, opt)
+		if err != nil {
+			return nil, err
+		}
+		addIndicators(sc, r, required, notes)
 	}
 	return r, nil
 }
@@ -201,6 +206,7 @@ func assemble(sc *Scenario, p *optimize.Problem, cond [][][]float64, work [][][]
 		r.Years = append(r.Years, y)
 	}
 	r.Targets = evaluateTargets(sc, r)
+	addIndicators(sc, r, nil, nil)
 	return r
 }
 
