@@ -17,38 +17,46 @@ func JSONOf(w io.Writer, v any) error {
 	return enc.Encode(v)
 }
 
-// fundingText prints the funding answers and the worst-first baseline of a
-// plan.
+// fundingText prints the plan's funding answers in the words every output
+// shares (words.go): the targets missed and what closes them, the level
+// budgets, the extra money (with a table by year and budget), routine
+// costs and the worst-first comparison.
 func fundingText(w *errWriter, r *scenarios.Result) {
-	if r.RoutineCost != nil {
-		w.printf("\nRoutine cost of untreated assets (apart from treatment spend): %s %s, present value %s\n", currency(r), Money(*r.RoutineCost), Money(*r.RoutinePresentValue))
+	lines := append(ShortfallWords(r), FundingWords(r)...)
+	if len(lines) == 0 {
+		return
 	}
-	if f := r.Funding; f != nil {
-		w.printf("\nFunding\n")
-		if f.LevelBudget != nil {
-			w.printf("  Least level yearly budget that meets every target: %s %s\n", currency(r), Money(*f.LevelBudget))
+	w.printf("\nFunding\n")
+	for _, s := range lines {
+		w.printf("%s\n", hangingWrap(s, 100, "  - ", "    "))
+	}
+	if f := r.Funding; f != nil && (len(f.ExtraMoney) > 0 || len(f.ExtraGroups) > 0) {
+		w.printf("\n  Extra money by year (%s, on top of the budget):\n", currency(r))
+		t := table{header: []string{"YEAR", "BUDGET", "EXTRA"}, right: []bool{false, false, true}}
+		for _, ym := range f.ExtraMoney {
+			t.rows = append(t.rows, []string{fmt.Sprint(ym.Year), "network", Money(ym.Amount)})
 		}
-		if len(f.ExtraMoney) > 0 || len(f.ExtraGroups) > 0 {
-			w.printf("  Extra money that would close every shortfall (least present value, on top of the budget):\n")
-			t := table{header: []string{"YEAR", "BUDGET", "EXTRA"}, right: []bool{false, false, true}}
-			for _, ym := range f.ExtraMoney {
-				t.rows = append(t.rows, []string{fmt.Sprint(ym.Year), "network", Money(ym.Amount)})
+		for _, g := range f.ExtraGroups {
+			for _, ym := range g.Years {
+				t.rows = append(t.rows, []string{fmt.Sprint(ym.Year), g.Name, Money(ym.Amount)})
 			}
-			for _, g := range f.ExtraGroups {
-				for _, ym := range g.Years {
-					t.rows = append(t.rows, []string{fmt.Sprint(ym.Year), g.Name, Money(ym.Amount)})
-				}
-			}
-			tabulate(w, t)
-			w.printf("  In all %s %s, present value %s\n", currency(r), Money(*f.ExtraTotal), Money(*f.ExtraPresentValue))
 		}
-		if f.Unreachable != "" {
-			w.printf("  %s\n", f.Unreachable)
+		tabulate(w, t)
+	}
+}
+
+// hangingWrap wraps s at width with first in front of the first line and
+// rest in front of the others.
+func hangingWrap(s string, width int, first, rest string) string {
+	lines := strings.Split(wrap(s, width-len(first)), "\n")
+	for i := range lines {
+		if i == 0 {
+			lines[i] = first + lines[i]
+		} else {
+			lines[i] = rest + lines[i]
 		}
 	}
-	if b := r.Baseline; b != nil {
-		w.printf("\nAgainst the %s rule with the same budget: condition score %.2f (this plan %.2f, %+.2f points)\n", b.Rule, b.ConditionScore, r.ConditionScore, b.Gain)
-	}
+	return strings.Join(lines, "\n")
 }
 
 // LongRunText writes the long-run policy as terminal tables.

@@ -174,11 +174,7 @@ func targetTable(r *scenarios.Result) table {
 		if !o.Met {
 			met = "NO"
 		}
-		worst, limit := Index(o.WorstValue), Index(o.Limit)
-		if strings.Contains(o.Target, "share") {
-			worst, limit = Percent(o.WorstValue), Percent(o.Limit)
-		}
-		t.rows = append(t.rows, []string{o.Target, met, fmt.Sprint(o.WorstYear), worst, limit, shortfallSummary(o)})
+		t.rows = append(t.rows, []string{o.Target, met, fmt.Sprint(o.WorstYear), TargetValue(o, o.WorstValue), TargetValue(o, o.Limit), shortfallSummary(o)})
 	}
 	return t
 }
@@ -188,20 +184,12 @@ func shortfallSummary(o scenarios.TargetOutcome) string {
 	if len(o.Shortfalls) == 0 {
 		return ""
 	}
-	biggest := 0.0
-	for _, s := range o.Shortfalls {
-		biggest = max(biggest, s.Amount)
-	}
 	first, last := o.Shortfalls[0].Year, o.Shortfalls[len(o.Shortfalls)-1].Year
 	span := fmt.Sprint(first)
 	if last != first {
 		span = fmt.Sprintf("%d-%d", first, last)
 	}
-	amount := Index(biggest) + " points"
-	if strings.Contains(o.Target, "share") {
-		amount = fmt.Sprintf("%.1f percentage points", 100*biggest)
-	}
-	return fmt.Sprintf("up to %s (%s)", amount, span)
+	return fmt.Sprintf("up to %s (%s)", ShortfallAmount(o, WorstShortfall(o)), span)
 }
 
 // wrap breaks text into lines of at most width characters.
