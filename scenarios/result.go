@@ -41,6 +41,9 @@ type Result struct {
 	Initial   Snapshot        `json:"initial"`
 	Years     []Year          `json:"years"`
 	Targets   []TargetOutcome `json:"targets"`
+	// GroupClasses name each budget group's classes; the groups' spend
+	// and caps are in Years[].Groups.
+	GroupClasses []GroupClasses `json:"budget_group_classes,omitempty"`
 	// BacklogRules say what each poor state's backlog is valued at.
 	BacklogRules []BacklogRule `json:"backlog_rules,omitempty"`
 	Warnings     []string      `json:"warnings"`
@@ -137,6 +140,12 @@ type Year struct {
 	Groups  []GroupSpend     `json:"budget_groups,omitempty"`
 	Classes []ClassCondition `json:"classes"`
 	Network NetworkCondition `json:"network"`
+}
+
+// GroupClasses is a budget group and the classes it caps.
+type GroupClasses struct {
+	Name    string   `json:"name"`
+	Classes []string `json:"classes"`
 }
 
 // GroupSpend is a budget group's spend and cap in a year.

@@ -140,6 +140,9 @@ func assemble(sc *Scenario, p *optimize.Problem, cond [][][]float64, work [][][]
 	for k := range sc.Classes {
 		r.Weights = append(r.Weights, ClassWeight{Class: sc.Classes[k].Name, Weight: sc.Classes[k].Weight})
 	}
+	for _, g := range sc.BudgetGroups {
+		r.GroupClasses = append(r.GroupClasses, GroupClasses{Name: g.Name, Classes: append([]string(nil), g.Classes...)})
+	}
 	shared := sc.SharedScale()
 	bases := valueBases(sc)
 	for k := range bases {

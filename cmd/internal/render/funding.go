@@ -10,8 +10,19 @@ import (
 	"wearplan/scenarios"
 )
 
-// JSONOf writes any result (long-run, sweep, comparison) as indented JSON.
+// JSONOf writes any result (long-run, sweep, comparison) as indented JSON,
+// with money rounded to cents.
 func JSONOf(w io.Writer, v any) error {
+	switch x := v.(type) {
+	case *scenarios.Result:
+		v = RoundedMoney(x)
+	case *scenarios.SweepResult:
+		v = RoundedSweep(x)
+	case *scenarios.CompareResult:
+		v = RoundedCompare(x)
+	case *scenarios.LongRunResult:
+		v = RoundedLongRun(x)
+	}
 	enc := json.NewEncoder(w)
 	enc.SetIndent("", "  ")
 	return enc.Encode(v)
@@ -132,6 +143,7 @@ func LongRunText(w io.Writer, r *scenarios.LongRunResult) error {
 
 // LongRunCSV writes the policy: one row per class, state and action.
 func LongRunCSV(w io.Writer, r *scenarios.LongRunResult) error {
+	r = RoundedLongRun(r)
 	rows := [][]string{{"class", "state", "treatment", "share_of_state", "quantity", "unit", "annual_cost"}}
 	for _, c := range r.Classes {
 		for _, e := range c.Policy {
@@ -193,6 +205,7 @@ func SweepText(w io.Writer, r *scenarios.SweepResult) error {
 // SweepCSV writes one row per budget; the hold and targets budgets go in
 // every row so that the file stands alone.
 func SweepCSV(w io.Writer, r *scenarios.SweepResult) error {
+	r = RoundedSweep(r)
 	rows := [][]string{{"yearly_budget", "status", "condition_score", "end_poor_share", "end_average_index", "end_score", "total_cost", "present_value", "targets_met", "targets", "hold_budget", "targets_budget"}}
 	for _, p := range r.Points {
 		rows = append(rows, []string{Plain(p.Budget), p.Status, Plain(p.ConditionScore), Plain(p.EndPoorShare), optPlain(p.EndAverageIndex), Plain(p.EndScore), Plain(p.TotalCost), Plain(p.PresentValue), fmt.Sprint(p.TargetsMet), fmt.Sprint(p.Targets), optPlain(r.HoldBudget), optPlain(r.TargetsBudget)})
@@ -314,6 +327,7 @@ func serviceCell(c scenarios.CompareColumn, y, k int) string {
 
 // CompareCSV writes one row per scenario, year and class (and network).
 func CompareCSV(w io.Writer, r *scenarios.CompareResult) error {
+	r = RoundedCompare(r)
 	rows := [][]string{{"scenario", "source", "status", "year", "class", "good_share", "fair_share", "poor_share", "average_index", "condition_score", "total_cost", "present_value", "targets_met", "targets", "extra_money"}}
 	for _, c := range r.Scenarios {
 		extra := ""
