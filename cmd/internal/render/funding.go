@@ -184,9 +184,21 @@ func SweepText(w io.Writer, r *scenarios.SweepResult) error {
 	}
 	ew.printf("%s\n", r.Scenario)
 	ew.printf("Budget trade-off: each level yearly budget planned with max-condition and the scenario's targets (%s)\n", cur)
-	t := table{header: []string{"YEARLY BUDGET", "STATUS", "SCORE", "END POOR", "END AVG INDEX", "END SCORE", "SPEND", "PRESENT VALUE", "TARGETS MET"}, right: []bool{true, false, true, true, true, true, true, true, true}}
+	// The average index exists only when every class shares one scale;
+	// otherwise the column is left out rather than filled with dashes.
+	withIndex := len(r.Points) > 0 && r.Points[0].EndAverageIndex != nil
+	t := table{header: []string{"YEARLY BUDGET", "STATUS", "SCORE", "END POOR"}, right: []bool{true, false, true, true}}
+	if withIndex {
+		t.header, t.right = append(t.header, "END AVG INDEX"), append(t.right, true)
+	}
+	t.header = append(t.header, "END SCORE", "SPEND", "PRESENT VALUE", "TARGETS MET")
+	t.right = append(t.right, true, true, true, true)
 	for _, p := range r.Points {
-		t.rows = append(t.rows, []string{Money(p.Budget), p.Status, fmt.Sprintf("%.2f", p.ConditionScore), Percent(p.EndPoorShare), optIndex(p.EndAverageIndex), fmt.Sprintf("%.1f", p.EndScore), Money(p.TotalCost), Money(p.PresentValue), fmt.Sprintf("%d of %d", p.TargetsMet, p.Targets)})
+		row := []string{Money(p.Budget), p.Status, fmt.Sprintf("%.2f", p.ConditionScore), Percent(p.EndPoorShare)}
+		if withIndex {
+			row = append(row, optIndex(p.EndAverageIndex))
+		}
+		t.rows = append(t.rows, append(row, fmt.Sprintf("%.1f", p.EndScore), Money(p.TotalCost), Money(p.PresentValue), fmt.Sprintf("%d of %d", p.TargetsMet, p.Targets)))
 	}
 	tabulate(ew, t)
 	if r.HoldBudget != nil {
