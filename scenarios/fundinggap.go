@@ -40,6 +40,8 @@ func fundingDetail(sc *Scenario, p *optimize.Problem, r *Result, f *Funding) err
 	q.Targets = []optimize.Target{{Label: "hold", Class: optimize.Network, Kind: optimize.Hold}}
 	hold, err := optimize.LevelBudget(&q)
 	switch {
+	case errors.Is(err, optimize.ErrUnreachable) && len(p.GroupBudgets) > 0:
+		f.Notes = append(f.Notes, "no level network budget holds today's network condition to the last year while the budget groups keep their caps: the treatments, or a group's cap, cannot keep it up")
 	case errors.Is(err, optimize.ErrUnreachable):
 		f.Notes = append(f.Notes, "no level budget holds today's network condition to the last year: the treatments cannot keep it up")
 	case err != nil:

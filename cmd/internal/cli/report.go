@@ -3,6 +3,7 @@ package cli
 import (
 	"fmt"
 	"io"
+	"math"
 	"path/filepath"
 	"slices"
 	"strings"
@@ -141,9 +142,11 @@ Bands and Target probabilities. The same seed gives the same report.`,
 				if err != nil {
 					return err
 				}
-				rep.Sweep = &report.Sweep{Scenario: sr.Scenario, Currency: sr.Currency}
+				rep.Sweep = &report.Sweep{Scenario: sr.Scenario, Currency: sr.Currency, TargetsBudget: sr.TargetsBudget, HoldBudget: sr.HoldBudget}
+				rep.Sweep.Budget, rep.Sweep.BudgetVaries = scenarioBudget(rep.Runs[0].Scenario)
 				for _, pt := range sr.Points {
-					rep.Sweep.Points = append(rep.Sweep.Points, report.SweepPoint{Budget: pt.Budget, ConditionScore: pt.ConditionScore, Status: pt.Status})
+					rep.Sweep.Points = append(rep.Sweep.Points, report.SweepPoint{Budget: pt.Budget, ConditionScore: pt.ConditionScore, Status: pt.Status,
+						EndPoorShare: pt.EndPoorShare, TargetsMet: pt.TargetsMet, Targets: pt.Targets})
 				}
 			}
 			write := func(w io.Writer) error {
@@ -174,4 +177,26 @@ Bands and Target probabilities. The same seed gives the same report.`,
 	solve.register(cmd)
 	sim.register(cmd)
 	return cmd
+}
+
+// scenarioBudget is the scenario's yearly network budget for the sweep
+// chart's mark: the amount when level, else the mean of the capped years
+// (varies is then true); nil without a cap.
+func scenarioBudget(sc *scenarios.Scenario) (*float64, bool) {
+	sum, n, varies := 0.0, 0, false
+	for _, b := range sc.Budget {
+		if math.IsInf(b, 1) {
+			continue
+		}
+		if n > 0 && b != sum/float64(n) {
+			varies = true
+		}
+		sum += b
+		n++
+	}
+	if n == 0 {
+		return nil, false
+	}
+	mean := sum / float64(n)
+	return &mean, varies
 }

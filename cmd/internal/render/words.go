@@ -164,7 +164,7 @@ func FundingWords(r *scenarios.Result) []string {
 	last := r.StartYear + r.Horizon - 1
 	if f := r.Funding; f != nil {
 		if f.Unreachable != "" {
-			out = append(out, "No amount of money meets every target: "+f.Unreachable+".")
+			out = append(out, upperFirst(strings.TrimSuffix(f.Unreachable, "."))+".")
 		}
 		if f.LevelBudget != nil {
 			if TargetsMet(r) < len(r.Targets) {
@@ -210,13 +210,13 @@ func FundingGap(r *scenarios.Result) string {
 	f := r.Funding
 	var s string
 	switch {
-	case f != nil && f.Unreachable != "":
-		s = "No amount of money meets every target"
-	case f != nil && f.ExtraTotal != nil && f.LevelBudget != nil:
-		s = fmt.Sprintf("Meeting every target needs %s more than this budget (present value %s), or a level budget of %s a year",
-			Amount(r, *f.ExtraTotal), Money(*f.ExtraPresentValue), Amount(r, *f.LevelBudget))
 	case f != nil && f.ExtraTotal != nil:
 		s = fmt.Sprintf("Meeting every target needs %s more than this budget (present value %s)", Amount(r, *f.ExtraTotal), Money(*f.ExtraPresentValue))
+		if f.LevelBudget != nil {
+			s += fmt.Sprintf(", or a level budget of %s a year", Amount(r, *f.LevelBudget))
+		}
+	case f != nil && f.Unreachable != "":
+		s = "No amount of money meets every target"
 	case f != nil && f.LevelBudget != nil && len(r.Targets) > TargetsMet(r):
 		s = fmt.Sprintf("Meeting every target needs a level budget of %s a year", Amount(r, *f.LevelBudget))
 	case f != nil && f.LevelBudget != nil:
