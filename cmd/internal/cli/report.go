@@ -142,7 +142,7 @@ Bands and Target probabilities. The same seed gives the same report.`,
 				if err != nil {
 					return err
 				}
-				rep.Sweep = &report.Sweep{Scenario: sr.Scenario, Currency: sr.Currency, TargetsBudget: sr.TargetsBudget, HoldBudget: sr.HoldBudget}
+				rep.Sweep = &report.Sweep{Scenario: sr.Scenario, Currency: sr.Currency, TargetsBudget: sr.TargetsBudget, HoldBudget: sr.HoldBudget, Notes: sr.Warnings}
 				rep.Sweep.Budget, rep.Sweep.BudgetVaries = scenarioBudget(rep.Runs[0].Scenario)
 				for _, pt := range sr.Points {
 					rep.Sweep.Points = append(rep.Sweep.Points, report.SweepPoint{Budget: pt.Budget, ConditionScore: pt.ConditionScore, Status: pt.Status,

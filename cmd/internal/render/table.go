@@ -380,6 +380,18 @@ func indicatorText(w *errWriter, r *scenarios.Result) {
 	}
 	nw := in.Network
 	t.rows = append(t.rows, []string{"network", "-", "-", opt(nw.Today.ConsumptionRatio, Percent), opt(nw.Years[n-1].ConsumptionRatio, Percent), opt(nw.SustainabilityRatio, ratio), opt(nw.RenewalFundingRatio, ratio)})
+	// A forecast has no plan to compare renewal with: leave the column
+	// out rather than fill it with dashes.
+	funded := false
+	for _, row := range t.rows {
+		funded = funded || row[6] != "-"
+	}
+	if !funded {
+		t.header, t.right = t.header[:6], t.right[:6]
+		for i := range t.rows {
+			t.rows[i] = t.rows[i][:6]
+		}
+	}
 	tabulate(w, t)
 	for _, note := range in.Notes {
 		w.printf("%s\n", hangingWrap("Note: "+note, 100, "  ", "  "))

@@ -164,6 +164,15 @@ func buildIndicators(id string, r *scenarios.Result) *indicatorsView {
 	}
 	v.Ratios.add("Network", ratioText(in.Network.SustainabilityRatio), ratioText(in.Network.RenewalFundingRatio), "")
 	v.Ratios.Note = "A dash: the ratio is not defined (nothing to divide by) or not known; the notes below say which."
+	funded := false
+	for _, row := range v.Ratios.Rows {
+		funded = funded || row.Cells[2] != "-"
+	}
+	if !funded {
+		// A forecast has no plan to compare renewal with.
+		dropColumns(&v.Ratios, 2)
+		v.Ratios.Caption = fmt.Sprintf("Asset sustainability ratio, %d-%d", r.StartYear, r.StartYear+n-1)
+	}
 	if note := maintenanceNote(in, n); note != "" {
 		v.Notes = append(v.Notes, note)
 	}

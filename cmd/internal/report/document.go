@@ -104,6 +104,7 @@ type comparison struct {
 type sweepView struct {
 	Chart *chart
 	Facts []fact
+	Notes []string
 	Table table
 }
 
@@ -973,12 +974,17 @@ func buildSweep(s *Sweep, withCharts bool) (*sweepView, error) {
 		{"Least level budget meeting every target", "Least level yearly budget that meets every target", s.TargetsBudget},
 		{"Least level budget holding today's condition", "Least level yearly budget that holds today's network condition to the last year", s.HoldBudget},
 	}
-	for _, m := range marks {
-		if m.v != nil {
+	withTargets := len(s.Points) > 0 && s.Points[0].Targets > 0
+	for i, m := range marks {
+		switch {
+		case m.v != nil:
 			sv.Facts = append(sv.Facts, fact{m.fact, cur + " " + render.Money(*m.v)})
 			largest = math.Max(largest, *m.v)
+		case i == 1 && withTargets, i == 2:
+			sv.Facts = append(sv.Facts, fact{m.fact, "none: no level budget reaches it (see the notes)"})
 		}
 	}
+	sv.Notes = s.Notes
 	if withCharts {
 		div, word := moneyScale(largest)
 		se := series{name: "Condition score of the best plan for each level budget"}

@@ -77,6 +77,8 @@ type Sweep struct {
 	// the targets and that hold today's network condition, marked on the
 	// chart; nil when unknown or unreachable.
 	TargetsBudget, HoldBudget *float64
+	// Notes are the sweep's warnings (why a budget is missing, say).
+	Notes []string
 }
 
 // SweepPoint is one plan of a sweep.

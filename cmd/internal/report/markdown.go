@@ -158,6 +158,10 @@ func Markdown(w io.Writer, rep *Report) error {
 		m.line("The chart, with the scenario's budget and the least level budgets marked, is in the HTML report.")
 		m.blank()
 		m.facts(s.Facts)
+		for _, n := range s.Notes {
+			m.line("Note: ", mdText(n))
+			m.blank()
+		}
 		m.table(s.Table)
 	}
 	if len(d.Assumptions) > 0 {
