@@ -220,7 +220,7 @@ func FundingGap(r *scenarios.Result) string {
 	case f != nil && f.LevelBudget != nil && len(r.Targets) > TargetsMet(r):
 		s = fmt.Sprintf("Meeting every target needs a level budget of %s a year", Amount(r, *f.LevelBudget))
 	case f != nil && f.LevelBudget != nil:
-		s = fmt.Sprintf("Every target is met; the least level budget that meets them is %s a year", Amount(r, *f.LevelBudget))
+		s = fmt.Sprintf("The least level budget that meets every target is %s a year", Amount(r, *f.LevelBudget))
 	case len(r.Targets) == 0:
 		s = "The scenario sets no targets"
 	case TargetsMet(r) == len(r.Targets):

@@ -536,6 +536,11 @@ func lineChart(id, title, caption, xLabel, yLabel string, xTicks plot.Ticker, yM
 		p.X.Min, p.X.Max = math.Min(p.X.Min, m.x), math.Max(p.X.Max, m.x)
 		l.Add(fitLabel(m.name, l.TextStyle, width), v)
 	}
+	if len(marks) > 0 {
+		// Keep the rules off the axes.
+		pad := 0.04 * (p.X.Max - p.X.Min)
+		p.X.Min, p.X.Max = p.X.Min-pad, p.X.Max+pad
+	}
 	svg, err := drawSVGBelow(p, &l, len(ss)+len(marks), title)
 	return chart{ID: id, Title: title, Caption: caption, SVG: svg}, err
 }
@@ -732,7 +737,9 @@ func (v vline) Plot(c draw.Canvas, p *plot.Plot) {
 	c.StrokeLines(v.style, c.ClipLinesXY([]vg.Point{{X: x, Y: c.Min.Y}, {X: x, Y: c.Max.Y}})...)
 }
 
+// Thumbnail draws the rule's dash across the legend entry: a short
+// vertical rule would not show its pattern.
 func (v vline) Thumbnail(c *draw.Canvas) {
-	x := (c.Min.X + c.Max.X) / 2
-	c.StrokeLine2(v.style, x, c.Min.Y, x, c.Max.Y)
+	y := (c.Min.Y + c.Max.Y) / 2
+	c.StrokeLine2(v.style, c.Min.X, y, c.Max.X, y)
 }

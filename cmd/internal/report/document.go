@@ -462,15 +462,8 @@ func targetTable(id string, r *scenarios.Result) table {
 
 func spendTable(id string, r *scenarios.Result) table {
 	cur := currencyOf(r)
-	t := table{ID: id, Caption: "Spend against budget (" + cur + ", at each year's prices)", Head: []string{"Year", "Spend", "Budget cap", "Unspent"}, Num: []bool{false, true, true, true}}
-	var groups []string
-	if len(r.Years) > 0 {
-		for _, g := range r.Years[0].Groups {
-			groups = append(groups, g.Name)
-			t.Head = append(t.Head, g.Name+" spend", g.Name+" cap")
-			t.Num = append(t.Num, true, true)
-		}
-	}
+	// Budget groups have their own table (groupSpendTable).
+	t := table{ID: id, Caption: "Spend against the network budget (" + cur + ", at each year's prices)", Head: []string{"Year", "Spend", "Budget cap", "Unspent"}, Num: []bool{false, true, true, true}}
 	budget := 0.0
 	capped := true
 	for _, y := range r.Years {
@@ -481,18 +474,11 @@ func spendTable(id string, r *scenarios.Result) table {
 		} else {
 			capped = false
 		}
-		cells := []string{strconv.Itoa(y.Year), render.Money(y.Spend), b, left}
-		for _, g := range y.Groups {
-			cells = append(cells, render.Money(g.Spend), capText(g.Budget))
-		}
-		t.add(cells...)
+		t.add(strconv.Itoa(y.Year), render.Money(y.Spend), b, left)
 	}
 	total := []string{"Total", render.Money(r.TotalCost), "", ""}
 	if capped {
-		total[2], total[3] = render.Money(budget), render.Money(budget-r.TotalCost)
-	}
-	for range groups {
-		total = append(total, "", "")
+		total[2], total[3] = render.Money(budget), render.Money(render.Cents(budget-r.TotalCost))
 	}
 	t.add(total...)
 	return t

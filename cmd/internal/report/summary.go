@@ -27,7 +27,13 @@ type summaryView struct {
 
 func buildSummary(id string, run Run, withCharts bool) (*summaryView, error) {
 	r := run.Result
-	v := &summaryView{ID: id, Headline: render.Headline(r), Gap: render.FundingGap(r), Warnings: r.Warnings}
+	v := &summaryView{ID: id, Headline: render.Headline(r), Gap: render.FundingGap(r)}
+	// At most two notes, so that the summary keeps to its page; the plan's
+	// section lists them all.
+	v.Warnings = r.Warnings
+	if n := len(r.Warnings); n > maxSummaryNotes {
+		v.Warnings = append(append([]string(nil), r.Warnings[:maxSummaryNotes]...), fmt.Sprintf("and %s in the plan's section", render.Plural(n-maxSummaryNotes, "more note", "more notes")))
+	}
 	last := r.StartYear + r.Horizon - 1
 	v.Facts = append(v.Facts, fact{"Condition score", fmt.Sprintf("%s out of 100, the network's average over %d-%d", strconv.FormatFloat(r.ConditionScore, 'f', 1, 64), r.StartYear, last)})
 	if len(r.Targets) > 0 {
@@ -53,6 +59,9 @@ func buildSummary(id string, run Run, withCharts bool) (*summaryView, error) {
 	}
 	return v, nil
 }
+
+// maxSummaryNotes is the most notes the one-page summary lists.
+const maxSummaryNotes = 2
 
 // budgetSummary writes the network budget in brief: one amount a year, a
 // range, or no cap.
