@@ -192,10 +192,16 @@ func (wb *workbook) conditionChart(sheet, at string, first, last int) error {
 // group: a year's classes add up to its spend.
 func classSpendSheet(rep *Report) sheetData {
 	cur := commonCurrency(rep)
-	s := sheetData{name: SheetClassSpend, cols: []column{
-		{"Scenario", fmtText, 30}, {"Year", fmtInt, 8}, {"Class", fmtText, 18}, {"Budget group", fmtText, 16},
-		{"Spend (" + cur + ", that year's prices)", fmtMoney, 16},
-	}}
+	withGroups := false
+	for _, run := range rep.Runs {
+		withGroups = withGroups || len(run.Result.GroupClasses) > 0
+	}
+	s := sheetData{name: SheetClassSpend, cols: []column{{"Scenario", fmtText, 30}, {"Year", fmtInt, 8}, {"Class", fmtText, 18}}}
+	if withGroups {
+		// Without budget groups the column would stay empty.
+		s.cols = append(s.cols, column{"Budget group", fmtText, 16})
+	}
+	s.cols = append(s.cols, column{"Spend (" + cur + ", that year's prices)", fmtMoney, 16})
 	for _, run := range rep.Runs {
 		r := run.Result
 		if r.Kind != "plan" {
@@ -213,11 +219,15 @@ func classSpendSheet(rep *Report) sheetData {
 		}
 		for _, y := range r.Years {
 			for k, c := range y.Classes {
-				var g any
-				if group[k] != "" {
-					g = group[k]
+				row := []any{r.Scenario, y.Year, c.Class}
+				if withGroups {
+					var g any
+					if group[k] != "" {
+						g = group[k]
+					}
+					row = append(row, g)
 				}
-				s.rows = append(s.rows, []any{r.Scenario, y.Year, c.Class, g, optional(c.Spend)})
+				s.rows = append(s.rows, append(row, optional(c.Spend)))
 			}
 		}
 	}
