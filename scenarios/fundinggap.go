@@ -36,25 +36,20 @@ func fundingDetail(sc *Scenario, p *optimize.Problem, r *Result, f *Funding) err
 		f.Notes = append(f.Notes, fmt.Sprintf("the least level budgets that hold today's condition and that meet the targets, and the money per missed target, are left out: the network's flat model has %d columns, more than the %d these extra solves are made for", cols, FundingDetailColumns))
 		return nil
 	}
-	q := *p
-	q.Targets = []optimize.Target{{Label: "hold", Class: optimize.Network, Kind: optimize.Hold}}
-	hold, err := optimize.LevelBudget(&q)
-	switch {
-	case errors.Is(err, optimize.ErrUnreachable) && len(p.GroupBudgets) > 0:
-		f.Notes = append(f.Notes, "no level network budget holds today's network condition to the last year while the budget groups keep their caps: the treatments, or a group's cap, cannot keep it up")
-	case errors.Is(err, optimize.ErrUnreachable):
-		f.Notes = append(f.Notes, "no level budget holds today's network condition to the last year: the treatments cannot keep it up")
-	case err != nil:
-		return fmt.Errorf("least level budget that holds today's condition: %w", err)
-	default:
-		f.HoldBudget = &hold
-	}
-	if len(sc.Targets) > 0 && f.LevelBudget == nil && f.Unreachable == "" {
-		if err := levelBudget(p, f); err != nil {
-			return err
-		}
-	}
-	var met, missed []int
+	// The hold budget, the level budget (where the plan did not need it)
+	// and the money per missed target are independent LPs: solved side by
+	// side, each into its own slot, and put together in order.
+	var (
+		hold        float64
+		holdErr     error
+		levelF      Funding
+		levelErr    error
+		met, missed []int
+		targetGaps  []*optimize.Gap
+		targetErrs  []error
+		needLevel   = len(sc.Targets) > 0 && f.LevelBudget == nil && f.Unreachable == ""
+		jobs        []func() error
+	)
 	for i, t := range r.Targets {
 		if t.Met {
 			met = append(met, i)
@@ -62,27 +57,63 @@ func fundingDetail(sc *Scenario, p *optimize.Problem, r *Result, f *Funding) err
 			missed = append(missed, i)
 		}
 	}
-	for _, i := range missed {
-		tm := TargetMoney{Target: r.Targets[i].Target}
+	jobs = append(jobs, func() error {
+		q := *p
+		q.Targets = []optimize.Target{{Label: "hold", Class: optimize.Network, Kind: optimize.Hold}}
+		hold, holdErr = optimize.LevelBudget(&q)
+		return nil
+	})
+	if needLevel {
+		jobs = append(jobs, func() error {
+			levelErr = levelBudget(p, &levelF)
+			return nil
+		})
+	}
+	targetGaps, targetErrs = make([]*optimize.Gap, len(missed)), make([]error, len(missed))
+	for n, i := range missed {
 		if len(missed) == 1 && f.ExtraTotal != nil {
-			// The money that closes every shortfall closes this one.
+			continue // the money that closes every shortfall closes this one
+		}
+		jobs = append(jobs, func() error {
+			q := *p
+			q.Targets = nil
+			for _, j := range append(append([]int(nil), met...), i) {
+				q.Targets = append(q.Targets, p.Targets[j])
+			}
+			targetGaps[n], targetErrs[n] = optimize.ClosingMoney(&q)
+			return nil
+		})
+	}
+	if err := runParallel(jobs); err != nil {
+		return err
+	}
+	switch {
+	case errors.Is(holdErr, optimize.ErrUnreachable) && len(p.GroupBudgets) > 0:
+		f.Notes = append(f.Notes, "no level network budget holds today's network condition to the last year while the budget groups keep their caps: the treatments, or a group's cap, cannot keep it up")
+	case errors.Is(holdErr, optimize.ErrUnreachable):
+		f.Notes = append(f.Notes, "no level budget holds today's network condition to the last year: the treatments cannot keep it up")
+	case holdErr != nil:
+		return fmt.Errorf("least level budget that holds today's condition: %w", holdErr)
+	default:
+		f.HoldBudget = &hold
+	}
+	if needLevel {
+		if levelErr != nil {
+			return levelErr
+		}
+		f.LevelBudget, f.Unreachable = levelF.LevelBudget, levelF.Unreachable
+	}
+	for n, i := range missed {
+		tm := TargetMoney{Target: r.Targets[i].Target}
+		switch {
+		case len(missed) == 1 && f.ExtraTotal != nil:
 			tot, pv := *f.ExtraTotal, *f.ExtraPresentValue
 			tm.Total, tm.PresentValue = &tot, &pv
-			f.Targets = append(f.Targets, tm)
-			continue
-		}
-		q := *p
-		q.Targets = nil
-		for _, j := range append(append([]int(nil), met...), i) {
-			q.Targets = append(q.Targets, p.Targets[j])
-		}
-		gap, err := optimize.ClosingMoney(&q)
-		switch {
-		case errors.Is(err, optimize.ErrUnreachable):
-		case err != nil:
-			return fmt.Errorf("extra money for target %q: %w", r.Targets[i].Target, err)
+		case errors.Is(targetErrs[n], optimize.ErrUnreachable):
+		case targetErrs[n] != nil:
+			return fmt.Errorf("extra money for target %q: %w", r.Targets[i].Target, targetErrs[n])
 		default:
-			tot, pv := gap.Total(), gap.PresentValue
+			tot, pv := targetGaps[n].Total(), targetGaps[n].PresentValue
 			tm.Total, tm.PresentValue = &tot, &pv
 		}
 		f.Targets = append(f.Targets, tm)

@@ -317,41 +317,61 @@ func networkRatios(r *Result) {
 // (nil for a class whose condition no plan holds, with a note).
 func requiredRenewal(sc *Scenario, opt Options) ([][]float64, []string, error) {
 	out := make([][]float64, len(sc.Classes))
-	var notes []string
+	classNotes := make([]string, len(sc.Classes))
+	jobs := make([]func() error, len(sc.Classes))
 	for k := range sc.Classes {
-		c := sc.Classes[k]
-		c.Weight = 1
-		sub := *sc
-		sub.Classes = []Class{c}
-		sub.Budget, sub.BudgetGroups, sub.RoutineInBudget, sub.CarryOver = nil, nil, false, false
-		sub.Objective = optimize.MinCost
-		p, err := sub.Problem()
-		if err != nil {
-			return nil, nil, err
+		jobs[k] = func() error {
+			var err error
+			out[k], classNotes[k], err = classRenewal(sc, k, opt)
+			return err
 		}
-		today := p.Classes[0].ScoreOf(c.Initial)
-		label := c.Name + " condition score at least today's in every year"
-		sub.Targets = []Target{{Label: label, Class: c.Name, FromYear: sc.Year(1), ToYear: sc.Year(sc.Horizon),
-			Spec: optimize.Target{Label: label, Class: 0, Kind: optimize.MinScore, Value: today - holdSlack, From: 1, To: sc.Horizon}}}
-		res, err := Plan(&sub, Options{Timeout: opt.Timeout, Solver: opt.Solver, SkipFunding: true})
-		if err != nil {
-			return nil, nil, fmt.Errorf("class %q: the plan that holds today's condition: %w", c.Name, err)
-		}
-		if res.Status != string(optimize.Optimal) {
-			notes = append(notes, fmt.Sprintf("%s: no renewal funding ratio: no plan keeps the class at today's condition in every year (%s)", c.Name, res.Status))
-			continue
-		}
-		b, _ := indicatorBasis(&c)
-		out[k] = make([]float64, sc.Horizon)
-		for t, y := range res.Years {
-			for _, w := range y.Classes[0].Work {
-				if b.renewal[w.Treatment] {
-					out[k][t] += w.Cost
-				}
-			}
+	}
+	if err := runParallel(jobs); err != nil {
+		return nil, nil, err
+	}
+	var notes []string
+	for _, n := range classNotes {
+		if n != "" {
+			notes = append(notes, n)
 		}
 	}
 	return out, notes, nil
+}
+
+// classRenewal plans class k alone for requiredRenewal: its renewal spend
+// by year, or nil and a note when no plan holds its condition.
+func classRenewal(sc *Scenario, k int, opt Options) ([]float64, string, error) {
+	c := sc.Classes[k]
+	c.Weight = 1
+	sub := *sc
+	sub.Classes = []Class{c}
+	sub.Budget, sub.BudgetGroups, sub.RoutineInBudget, sub.CarryOver = nil, nil, false, false
+	sub.Objective = optimize.MinCost
+	p, err := sub.Problem()
+	if err != nil {
+		return nil, "", err
+	}
+	today := p.Classes[0].ScoreOf(c.Initial)
+	label := c.Name + " condition score at least today's in every year"
+	sub.Targets = []Target{{Label: label, Class: c.Name, FromYear: sc.Year(1), ToYear: sc.Year(sc.Horizon),
+		Spec: optimize.Target{Label: label, Class: 0, Kind: optimize.MinScore, Value: today - holdSlack, From: 1, To: sc.Horizon}}}
+	res, err := Plan(&sub, Options{Timeout: opt.Timeout, Solver: opt.Solver, SkipFunding: true})
+	if err != nil {
+		return nil, "", fmt.Errorf("class %q: the plan that holds today's condition: %w", c.Name, err)
+	}
+	if res.Status != string(optimize.Optimal) {
+		return nil, fmt.Sprintf("%s: no renewal funding ratio: no plan keeps the class at today's condition in every year (%s)", c.Name, res.Status), nil
+	}
+	b, _ := indicatorBasis(&c)
+	out := make([]float64, sc.Horizon)
+	for t, y := range res.Years {
+		for _, w := range y.Classes[0].Work {
+			if b.renewal[w.Treatment] {
+				out[t] += w.Cost
+			}
+		}
+	}
+	return out, "", nil
 }
 
 // holdSlack is the allowance, in score points, below today's score that

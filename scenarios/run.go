@@ -91,17 +91,20 @@ func Plan(sc *Scenario, opt Options) (*Result, error) {
 				return nil, err
 			}
 		}
-		if err := fundingDetail(sc, p, r, f); err != nil {
+		// The funding detail and the renewal the indicators compare with
+		// are independent solves: run them side by side.
+		var required [][]float64
+		var notes []string
+		if err := runParallel([]func() error{
+			func() error { return fundingDetail(sc, p, r, f) },
+			func() (err error) { required, notes, err = requiredRenewal(sc, opt); return err },
+		}); err != nil {
 			return nil, err
 		}
 		if f.LevelBudget != nil || f.ExtraTotal != nil || f.Unreachable != "" || f.HoldBudget != nil || len(f.Notes) > 0 {
 			r.Funding = f
 		}
 		if err := baseline(p, r); err != nil {
-			return nil, err
-		}
-		required, notes, err := requiredRenewal(sc, opt)
-		if err != nil {
 			return nil, err
 		}
 		addIndicators(sc, r, required, notes)
