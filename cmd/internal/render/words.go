@@ -163,7 +163,12 @@ func FundingWords(r *scenarios.Result) []string {
 	out := []string{}
 	last := r.StartYear + r.Horizon - 1
 	if f := r.Funding; f != nil {
-		if f.Unreachable != "" {
+		switch {
+		case f.Unreachable != "" && f.ExtraTotal != nil:
+			// Money on the groups' caps closes the gap where a level
+			// network budget alone cannot: the caps hold it back.
+			out = append(out, "No level network budget alone meets every target: the budget groups' caps hold it back. The extra money below raises the groups' caps too.")
+		case f.Unreachable != "":
 			out = append(out, upperFirst(strings.TrimSuffix(f.Unreachable, "."))+".")
 		}
 		if f.LevelBudget != nil {
@@ -178,7 +183,11 @@ func FundingWords(r *scenarios.Result) []string {
 			for _, g := range f.ExtraGroups {
 				parts = append(parts, "for budget group "+g.Name+" "+strings.Join(MoneyByYear(r, g.Years), ", "))
 			}
-			s := fmt.Sprintf("Or keep this budget and add %s: the extra money that meets every target at the least present value", strings.Join(parts, ", "))
+			lead := "Keep this budget and add"
+			if f.LevelBudget != nil {
+				lead = "Or keep this budget and add"
+			}
+			s := fmt.Sprintf("%s %s: the extra money that meets every target at the least present value", lead, strings.Join(parts, ", "))
 			switch {
 			case len(parts) > 1 || len(f.ExtraMoney) > 1:
 				s += fmt.Sprintf(" (%s in all, present value %s)", Amount(r, *f.ExtraTotal), Money(*f.ExtraPresentValue))
