@@ -682,7 +682,7 @@ func (wb *workbook) inputs(rep *Report) error {
 			if c.ReplacementCost > 0 {
 				rc = c.ReplacementCost
 			}
-			if err := put([]any{c.Name, c.Unit, c.Total(), rc, c.Weight, c.Scale.Name}, 0, []string{"", "", fmtQuantity, fmtMoney, fmtShare}); err != nil {
+			if err := put([]any{c.Name, c.Unit, c.Total(), rc, c.Weight, scaleLabel(c.Scale)}, 0, []string{"", "", fmtQuantity, fmtMoney, fmtShare}); err != nil {
 				return err
 			}
 		}
@@ -692,7 +692,7 @@ func (wb *workbook) inputs(rep *Report) error {
 			if err := put([]any{c.Name + ": condition states, best first"}, bold, nil); err != nil {
 				return err
 			}
-			if err := put([]any{"State", "Index from", "Index to", "Value used for averages", "Group", "Quantity today (" + c.Unit + ")"}, bold, nil); err != nil {
+			if err := put([]any{"State", "Index from", "Index to", "Value used for averages", "Group", "Quantity today (" + render.UnitWord(c.Unit) + ")"}, bold, nil); err != nil {
 				return err
 			}
 			for i, st := range c.Scale.States {
@@ -728,13 +728,13 @@ func (wb *workbook) inputs(rep *Report) error {
 			if err := put([]any{c.Name + ": treatments"}, bold, nil); err != nil {
 				return err
 			}
-			if err := put([]any{"Treatment", "State treated", "Unit cost (" + cur + " per " + c.Unit + ", start-year prices)", "Condition right after", "Ages in its year"}, bold, nil); err != nil {
+			if err := put([]any{"Treatment", "State treated", "Unit cost (" + cur + " " + render.PerUnit(c.Unit) + ", start-year prices)", "Condition right after", "Ages in its year", "Counts as renewal"}, bold, nil); err != nil {
 				return err
 			}
 			for ti := range c.Treatments {
 				tr := &c.Treatments[ti]
 				for _, i := range tr.Applies {
-					if err := put([]any{tr.Name, c.Scale.States[i].Name, tr.Cost[i], effectWords(tr, i, c.Scale), !tr.SkipsAging}, 0, []string{"", "", fmtMoney}); err != nil {
+					if err := put([]any{tr.Name, c.Scale.States[i].Name, tr.Cost[i], effectWords(tr, i, c.Scale), !tr.SkipsAging, tr.Renewal}, 0, []string{"", "", fmtMoney}); err != nil {
 						return err
 					}
 				}

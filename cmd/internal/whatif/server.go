@@ -298,7 +298,7 @@ func (s *Server) serveScenarios(w http.ResponseWriter, r *http.Request) {
 		}
 		for k := range sc.Classes {
 			c := &sc.Classes[k]
-			info.Classes = append(info.Classes, classInfo{Name: c.Name, Unit: c.Unit, Scale: c.Scale.Name,
+			info.Classes = append(info.Classes, classInfo{Name: c.Name, Unit: c.Unit, Scale: strings.TrimPrefix(c.Scale.Name, scenarios.PresetPrefix),
 				IndexLow: min(c.Scale.Best, c.Scale.Worst), IndexHigh: max(c.Scale.Best, c.Scale.Worst), LowerIsBetter: c.Scale.Best < c.Scale.Worst})
 		}
 		out[i] = info
