@@ -58,57 +58,136 @@ func (t *Transition) Roll(q []float64, years int) ([][]float64, error) {
 }
 
 // Absorption holds, for each state, the expected number of years until an
-// asset first reaches the worst state, and the variance of that number.
-// The worst state itself has zero for both.
+// asset first reaches an absorbing state (the worst state, for
+// YearsToWorst), and the variance of that number. Absorbing states have
+// zero for both.
 type Absorption struct {
 	Mean     []float64
 	Variance []float64
 }
 
+// ErrNotAbsorbed is returned when some state can stay out of the absorbing
+// states forever, so that its expected time to absorption is infinite.
+var ErrNotAbsorbed = errors.New("the chain can stay out of the absorbing states forever")
+
 // YearsToWorst computes expected years (and their variance) to first reach
-// the worst state from each state, from the fundamental matrix
-// N = (I - Q)^-1 of the chain with the worst state made absorbing (Kemeny and
-// Snell, 1960): mean t = N·1, variance (2N - I)t - t∘t.
-// It fails when some state cannot reach the worst state.
+// the worst state from each state: TimeToAbsorption with the worst state
+// absorbing. This is the expected remaining life of an asset left
+// untreated, if reaching the worst state ends its useful life. It fails
+// (errors.Is ErrNotAbsorbed) when some state cannot reach the worst state.
 func (t *Transition) YearsToWorst() (Absorption, error) {
+	abs, err := t.TimeToAbsorption(t.States() - 1)
+	var ne *notAbsorbedError
+	if errors.As(err, &ne) {
+		return Absorption{}, fmt.Errorf("years to worst state: state %d never reaches the worst state (%w); check for states that keep assets forever", ne.state+1, ErrNotAbsorbed)
+	}
+	if err != nil {
+		return Absorption{}, fmt.Errorf("years to worst state: %w", err)
+	}
+	return abs, nil
+}
+
+// notAbsorbedError names the first state that never reaches the absorbing
+// states; it unwraps to ErrNotAbsorbed.
+type notAbsorbedError struct{ state int }
+
+func (e *notAbsorbedError) Error() string {
+	return fmt.Sprintf("state %d: %v", e.state+1, ErrNotAbsorbed)
+}
+
+func (e *notAbsorbedError) Unwrap() error { return ErrNotAbsorbed }
+
+// TimeToAbsorption computes, for each state, the expected number of years
+// until the chain first enters one of the given states, and its variance,
+// from the fundamental matrix of the absorbing chain (Kemeny and Snell,
+// Finite Markov Chains, 1960; Grinstead and Snell, Introduction to
+// Probability, ch. 11): with Q the block of P among the other (transient)
+// states, N = (I - Q)^-1, the mean is t = N·1 and the variance
+// (2N - I)t - t∘t. The rows of the given states are ignored: they are made
+// absorbing, since the first passage does not depend on what follows it.
+//
+// Every transient state must reach the absorbing states through positive
+// entries of P; then I - Q is invertible. Otherwise TimeToAbsorption fails
+// with an error that errors.Is ErrNotAbsorbed.
+func (t *Transition) TimeToAbsorption(absorbing ...int) (Absorption, error) {
 	n := t.States()
-	m := n - 1
-	iq := mat.NewDense(m, m, nil)
-	for i := 0; i < m; i++ {
-		for j := 0; j < m; j++ {
-			v := -t.p.At(i, j)
-			if i == j {
-				v += 1
+	isAbs := make([]bool, n)
+	for _, a := range absorbing {
+		if a < 0 || a >= n {
+			return Absorption{}, fmt.Errorf("time to absorption: state %d is outside the %d-state chain", a+1, n)
+		}
+		isAbs[a] = true
+	}
+	if len(absorbing) == 0 {
+		return Absorption{}, fmt.Errorf("time to absorption: no absorbing state given")
+	}
+	// Which states reach the absorbing set: grow it backwards along
+	// positive entries until nothing changes.
+	reaches := append([]bool(nil), isAbs...)
+	for changed := true; changed; {
+		changed = false
+		for i := 0; i < n; i++ {
+			if reaches[i] {
+				continue
 			}
-			iq.Set(i, j, v)
+			for j := 0; j < n; j++ {
+				if reaches[j] && t.p.At(i, j) > 0 {
+					reaches[i], changed = true, true
+					break
+				}
+			}
+		}
+	}
+	var transient []int
+	for i := 0; i < n; i++ {
+		if !reaches[i] {
+			return Absorption{}, &notAbsorbedError{state: i}
+		}
+		if !isAbs[i] {
+			transient = append(transient, i)
+		}
+	}
+	abs := Absorption{Mean: make([]float64, n), Variance: make([]float64, n)}
+	m := len(transient)
+	if m == 0 {
+		return abs, nil
+	}
+	iq := mat.NewDense(m, m, nil)
+	for a, i := range transient {
+		for b, j := range transient {
+			v := -t.p.At(i, j)
+			if a == b {
+				v++
+			}
+			iq.Set(a, b, v)
 		}
 	}
 	var fund mat.Dense
 	if err := fund.Inverse(iq); err != nil {
-		return Absorption{}, errors.New("years to worst state: some state never reaches the worst state (I - Q is singular); check for states that keep assets forever")
+		return Absorption{}, fmt.Errorf("time to absorption: the chain is numerically ill-conditioned (%v)", err)
 	}
 	ones := mat.NewVecDense(m, nil)
-	for i := 0; i < m; i++ {
-		ones.SetVec(i, 1)
+	for a := 0; a < m; a++ {
+		ones.SetVec(a, 1)
 	}
 	var tv mat.VecDense
 	tv.MulVec(&fund, ones)
 	// (2N - I) t - t∘t
 	var twoNI mat.Dense
 	twoNI.Scale(2, &fund)
-	for i := 0; i < m; i++ {
-		twoNI.Set(i, i, twoNI.At(i, i)-1)
+	for a := 0; a < m; a++ {
+		twoNI.Set(a, a, twoNI.At(a, a)-1)
 	}
 	var v mat.VecDense
 	v.MulVec(&twoNI, &tv)
-	abs := Absorption{Mean: make([]float64, n), Variance: make([]float64, n)}
-	for i := 0; i < m; i++ {
-		mean := tv.AtVec(i)
-		if mean < 0 {
-			return Absorption{}, errors.New("years to worst state: the chain is numerically ill-conditioned (negative expected time)")
+	for a, i := range transient {
+		mean := tv.AtVec(a)
+		if mean < 1-1e-9 {
+			// Every transient state needs at least one step.
+			return Absorption{}, fmt.Errorf("time to absorption: the chain is numerically ill-conditioned (expected time %g from state %d)", mean, i+1)
 		}
 		abs.Mean[i] = mean
-		abs.Variance[i] = v.AtVec(i) - mean*mean
+		abs.Variance[i] = v.AtVec(a) - mean*mean
 	}
 	return abs, nil
 }

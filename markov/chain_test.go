@@ -1,6 +1,7 @@
 package markov_test
 
 import (
+	"errors"
 	"math"
 	"math/cmplx"
 	"math/rand/v2"
@@ -377,6 +378,50 @@ func TestYearsToWorstIgnoresWorstRow(t *testing.T) {
 	}
 }
 
+// The drunkard's walk of Grinstead and Snell, Introduction to Probability,
+// ch. 11 (section 11.2, absorbing chains; from memory): states 0-4, 0 and 4 absorbing, from 1, 2 and 3 a step left or
+// right with probability 1/2 each. The expected times to absorption from
+// 1, 2 and 3 are 3, 4 and 3. The variances follow from (2N - I)t - t∘t with
+// N = | 3/2 1 1/2 ; 1 2 1 ; 1/2 1 3/2 | (the book's N for this chain):
+// (2N - I)t = (2·3 + 2·4 + 1·3, 2·3 + 3·4 + 2·3, 1·3 + 2·4 + 2·3) =
+// (17, 24, 17), less t∘t = (9, 16, 9) gives (8, 8, 8). Check by first step
+// from state 2: E[T2^2] = 1 + 2·E[T1] + E[T1^2] with E[T1^2] = 8 + 9 = 17
+// gives 1 + 6 + 17 = 24 = 8 + 16.
+func TestTimeToAbsorptionDrunkardsWalk(t *testing.T) {
+	p, err := markov.NewTransition([][]float64{
+		{1, 0, 0, 0, 0},
+		{0.5, 0, 0.5, 0, 0},
+		{0, 0.5, 0, 0.5, 0},
+		{0, 0, 0.5, 0, 0.5},
+		{0, 0, 0, 0, 1},
+	}, markov.Options{AllowImprovement: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	abs, err := p.TimeToAbsorption(0, 4)
+	if err != nil {
+		t.Fatal(err)
+	}
+	wantMean := []float64{0, 3, 4, 3, 0}
+	wantVar := []float64{0, 8, 8, 8, 0}
+	// A 3x3 inverse of halves and ones: exact up to a few roundings.
+	for i := range wantMean {
+		if math.Abs(abs.Mean[i]-wantMean[i]) > 1e-12 || math.Abs(abs.Variance[i]-wantVar[i]) > 1e-11 {
+			t.Errorf("state %d: mean %.15g, variance %.15g; want %g, %g", i, abs.Mean[i], abs.Variance[i], wantMean[i], wantVar[i])
+		}
+	}
+	// With state 4 alone absorbing, state 0 never leaves: no finite time.
+	if _, err := p.TimeToAbsorption(4); !errors.Is(err, markov.ErrNotAbsorbed) {
+		t.Errorf("state 0 kept forever: error %v, want ErrNotAbsorbed", err)
+	}
+	if _, err := p.TimeToAbsorption(5); err == nil {
+		t.Error("state 6 of a 5-state chain accepted")
+	}
+	if _, err := p.TimeToAbsorption(); err == nil {
+		t.Error("no absorbing state accepted")
+	}
+}
+
 func TestYearsToWorstUnreachable(t *testing.T) {
 	tests := []struct {
 		name string
@@ -398,7 +443,7 @@ func TestYearsToWorstUnreachable(t *testing.T) {
 			if err == nil {
 				t.Fatalf("YearsToWorst = %+v, want an error", abs)
 			}
-			if !strings.Contains(err.Error(), "never reaches the worst state") {
+			if !strings.Contains(err.Error(), "never reaches the worst state") || !errors.Is(err, markov.ErrNotAbsorbed) {
 				t.Errorf("error %q does not say what is wrong", err)
 			}
 			if abs.Mean != nil || abs.Variance != nil {

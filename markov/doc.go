@@ -26,7 +26,11 @@
 // the chain with the worst state made absorbing (Kemeny and Snell, Finite
 // Markov Chains, 1960): with Q the block of P among the other states,
 // N = (I - Q)^-1 and the expected number of steps to absorption from each
-// state is t = N·1. Its variance is (2N - I)t - t∘t.
+// state is t = N·1. Its variance is (2N - I)t - t∘t. TimeToAbsorption does
+// the same for any set of absorbing states (the drunkard's walk of
+// Grinstead and Snell, with both ends absorbing, is its test); the expected
+// years to the worst state are the remaining life of the asset management
+// plan indicators.
 //
 // The steady state of a chain is the distribution π with π·P = π and Σπ = 1;
 // SteadyState solves that linear system directly.

@@ -460,6 +460,12 @@ func treatmentFor(ce *catalogueEntry, s *Scale, is *issues) (treatments.Treatmen
 			bad(ft.Lines.of(""), field, "%v", err)
 		}
 	}
+	if ok {
+		t.Renewal = t.RestoresBest(n)
+		if ft.Renewal != nil {
+			t.Renewal = *ft.Renewal
+		}
+	}
 	return t, ok
 }
 

@@ -88,6 +88,36 @@
 // unknown (no replacement cost; a poor state nothing lifts and no
 // replacement cost), and the network's is nil when any class's is.
 //
+// # Asset management plan indicators
+//
+// Results carry Indicators (indicators.go) per class and for the network,
+// today and for each year, the ratios over the first ten years (or the
+// horizon when shorter):
+//
+//   - remaining life of each state: the expected years to the worst state
+//     with no work, the mean time to absorption from the fundamental matrix
+//     of the chain with the worst state absorbing (Kemeny and Snell, Finite
+//     Markov Chains, 1960), and its quantity-weighted mean per class;
+//   - depreciated replacement cost: replacement value times each state's
+//     remaining share of life (remaining life over the best state's), and
+//     the asset consumption ratio, depreciated over current replacement
+//     cost;
+//   - consumption: the drop in depreciated replacement cost that a year
+//     with no work would cause, at that year's prices; for a chain whose
+//     worst state is absorbing it is straight-line depreciation over the
+//     expected life, (quantity not in the worst state) / L_best;
+//   - asset sustainability ratio: renewal spend over consumption; renewal
+//     funding ratio: the present value of the plan's renewal spend over
+//     that of the least-cost plan (no caps) that keeps each class's
+//     condition score at today's or better in every year.
+//
+// The three ratios are the asset ratios of Australian local government
+// asset management plans and financial sustainability indicators (IPWEA,
+// Australian Infrastructure Financial Management Manual; from memory); the
+// forms above, built on the chain, are this package's. Renewal spend is
+// the spend on treatments marked renewal (by default those that put every
+// unit they treat in the best state).
+//
 // # Worklists
 //
 // MakeWorklist assigns a plan's work to whole segments (see its comment

@@ -24,6 +24,13 @@ type Funding struct {
 	ExtraPresentValue *float64     `json:"extra_present_value,omitempty"`
 	// Unreachable explains why no amount of money meets the targets.
 	Unreachable string `json:"unreachable,omitempty"`
+	// HoldBudget is the least level network budget that holds today's
+	// network condition score to the last year; Targets the extra money
+	// per missed target; Notes say why a figure is left out
+	// (fundinggap.go).
+	HoldBudget *float64      `json:"hold_budget,omitempty"`
+	Targets    []TargetMoney `json:"target_money,omitempty"`
+	Notes      []string      `json:"notes,omitempty"`
 }
 
 // YearMoney is an amount of money in one year.

@@ -174,7 +174,7 @@ func TestReadInspectionsListsAtMostTwentyProblems(t *testing.T) {
 	}
 	_, err := readCSV(t, b.String(), scenarios.InspectionOptions{})
 	var ie *scenarios.InputError
-	if !errors.As(err, &ie) || len(ie.Issues) != 21 || !strings.Contains(ie.Issues[0].Msg, "and 30 more problems") {
+	if !errors.As(err, &ie) || len(ie.Issues) != 21 || !strings.Contains(ie.Issues[20].Msg, "and 30 more problems") {
 		t.Fatalf("got %v", err)
 	}
 }

@@ -363,4 +363,8 @@ func TestInventoryIssuesAreCapped(t *testing.T) {
 	if len(ie.Issues) > 60 || !strings.Contains(err.Error(), "and 30 more problems") {
 		t.Errorf("%d issues listed; want 50 and a count of the other 30:\n%.500s", len(ie.Issues), err)
 	}
+	// The count follows the problems it counts.
+	if last := ie.Issues[len(ie.Issues)-1]; !strings.Contains(last.Msg, "and 30 more problems") {
+		t.Errorf("last issue %q; want the count of the problems not listed", last)
+	}
 }

@@ -91,12 +91,20 @@ func (s *issues) err() error {
 	if len(s.list) == 0 {
 		return nil
 	}
+	// By file, then by line; within a file the problems without a line
+	// (the whole file's, and counts of problems not listed) follow the
+	// others in the order found, so that "and 30 more problems" comes
+	// after the problems it adds to.
 	sorted := append([]*Issue(nil), s.list...)
 	sort.SliceStable(sorted, func(i, j int) bool {
-		if sorted[i].File != sorted[j].File {
-			return sorted[i].File < sorted[j].File
+		a, b := sorted[i], sorted[j]
+		if a.File != b.File {
+			return a.File < b.File
 		}
-		return sorted[i].Line < sorted[j].Line
+		if (a.Line == 0) != (b.Line == 0) {
+			return b.Line == 0
+		}
+		return a.Line < b.Line
 	})
 	return &InputError{Issues: sorted}
 }

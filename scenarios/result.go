@@ -41,6 +41,9 @@ type Result struct {
 	Initial   Snapshot        `json:"initial"`
 	Years     []Year          `json:"years"`
 	Targets   []TargetOutcome `json:"targets"`
+	// GroupClasses name each budget group's classes; the groups' spend
+	// and caps are in Years[].Groups.
+	GroupClasses []GroupClasses `json:"budget_group_classes,omitempty"`
 	// BacklogRules say what each poor state's backlog is valued at.
 	BacklogRules []BacklogRule `json:"backlog_rules,omitempty"`
 	Warnings     []string      `json:"warnings"`
@@ -51,9 +54,13 @@ type Result struct {
 	Funding *Funding `json:"funding,omitempty"`
 	// Baseline is the worst-first rule under the same budget, for
 	// comparison with an optimised plan.
-	Baseline *Baseline  `json:"baseline,omitempty"`
-	Model    *ModelSize `json:"model,omitempty"`
-	Caution  string     `json:"caution"`
+	Baseline *Baseline `json:"baseline,omitempty"`
+	// Indicators are the asset management plan indicators
+	// (indicators.go): remaining life, depreciated replacement cost,
+	// consumption and the renewal ratios.
+	Indicators *Indicators `json:"indicators,omitempty"`
+	Model      *ModelSize  `json:"model,omitempty"`
+	Caution    string      `json:"caution"`
 }
 
 // ClassWeight is one class's share of network figures.
@@ -141,6 +148,12 @@ type Year struct {
 	Network NetworkCondition `json:"network"`
 }
 
+// GroupClasses is a budget group and the classes it caps.
+type GroupClasses struct {
+	Name    string   `json:"name"`
+	Classes []string `json:"classes"`
+}
+
 // GroupSpend is a budget group's spend and cap in a year.
 type GroupSpend struct {
 	Name   string  `json:"name"`
@@ -154,7 +167,11 @@ type GroupSpend struct {
 // TargetOutcome says whether a target holds, its worst year, and any
 // shortfall per year (share points 0-1, or index points).
 type TargetOutcome struct {
-	Target     string          `json:"target"`
+	Target string `json:"target"`
+	// Measure says what the values are: a share 0-1, an average index on
+	// the target's scale, or the 0-100 condition score (a network target
+	// when the classes' scales differ).
+	Measure    TargetMeasure   `json:"measure"`
 	Met        bool            `json:"met"`
 	WorstYear  int             `json:"worst_year"`
 	WorstValue float64         `json:"worst_value"`
@@ -162,8 +179,21 @@ type TargetOutcome struct {
 	Shortfalls []YearShortfall `json:"shortfalls,omitempty"`
 }
 
+// TargetMeasure names the unit of a target's values and shortfalls.
+type TargetMeasure string
+
+const (
+	// MeasureShare: a share of quantity, 0-1; shortfalls in share points.
+	MeasureShare TargetMeasure = "share"
+	// MeasureIndex: an average index on the target's scale; shortfalls in
+	// index points.
+	MeasureIndex TargetMeasure = "index"
+	// MeasureScore: the 0-100 condition score; shortfalls in score points.
+	MeasureScore TargetMeasure = "score"
+)
+
 // YearShortfall is how far a target is missed in one year, in the target's
-// own unit (share 0-1, or index points).
+// own unit (share 0-1, index points or score points: see Measure).
 type YearShortfall struct {
 	Year   int     `json:"year"`
 	Amount float64 `json:"amount"`

@@ -65,6 +65,11 @@ func Plan(sc *Scenario, opt Options) (*Result, error) {
 	addRoutine(sc, r, plan.Routine)
 	r.Kind, r.Status, r.Objective = "plan", string(plan.Status), sc.Objective.String()
 	r.Model = &ModelSize{Solver: plan.Stats.Method, Rows: plan.Stats.Rows, Columns: plan.Stats.Cols, Nonzeros: plan.Stats.Nonzeros, Solves: plan.Stats.Solves, Iterations: plan.Stats.Iterations, Policies: plan.Stats.Columns}
+	// The solver's shortfalls replace the ones measured on the condition:
+	// the same figures, from the model's own rows.
+	for i := range r.Targets {
+		r.Targets[i].Shortfalls = nil
+	}
 	for _, s := range plan.Shortfalls {
 		t := &r.Targets[s.Target]
 		amount := s.Amount
@@ -94,12 +99,23 @@ func Plan(sc *Scenario, opt Options) (*Result, error) {
 				return nil, err
 			}
 		}
-		if f.LevelBudget != nil || f.ExtraTotal != nil || f.Unreachable != "" {
+		// The funding detail and the renewal the indicators compare with
+		// are independent solves: run them side by side.
+		var required [][]float64
+		var notes []string
+		if err := runParallel([]func() error{
+			func() error { return fundingDetail(sc, p, r, f) },
+			func() (err error) { required, notes, err = requiredRenewal(sc, opt); return err },
+		}); err != nil {
+			return nil, err
+		}
+		if f.LevelBudget != nil || f.ExtraTotal != nil || f.Unreachable != "" || f.HoldBudget != nil || len(f.Notes) > 0 {
 			r.Funding = f
 		}
 		if err := baseline(p, r); err != nil {
 			return nil, err
 		}
+		addIndicators(sc, r, required, notes)
 	}
 	return r, nil
 }
@@ -134,6 +150,9 @@ func assemble(sc *Scenario, p *optimize.Problem, cond [][][]float64, work [][][]
 	}
 	for k := range sc.Classes {
 		r.Weights = append(r.Weights, ClassWeight{Class: sc.Classes[k].Name, Weight: sc.Classes[k].Weight})
+	}
+	for _, g := range sc.BudgetGroups {
+		r.GroupClasses = append(r.GroupClasses, GroupClasses{Name: g.Name, Classes: append([]string(nil), g.Classes...)})
 	}
 	shared := sc.SharedScale()
 	bases := valueBases(sc)
@@ -201,6 +220,7 @@ func assemble(sc *Scenario, p *optimize.Problem, cond [][][]float64, work [][][]
 		r.Years = append(r.Years, y)
 	}
 	r.Targets = evaluateTargets(sc, r)
+	addIndicators(sc, r, nil, nil)
 	return r
 }
 
@@ -224,12 +244,19 @@ func workOf(c *Class, oc *optimize.Class, byState [][]float64, escalation float6
 }
 
 // evaluateTargets measures each target on the result's condition, so that
-// forecasts report which targets doing nothing would break.
+// forecasts report which targets doing nothing would break, by how much
+// and in which years.
 func evaluateTargets(sc *Scenario, r *Result) []TargetOutcome {
 	out := make([]TargetOutcome, 0, len(sc.Targets))
 	for _, t := range sc.Targets {
-		o := TargetOutcome{Target: t.Label, Met: true}
+		o := TargetOutcome{Target: t.Label, Met: true, Measure: MeasureShare}
 		spec := t.Spec
+		if spec.Kind == optimize.MinScore || spec.Kind == optimize.Hold {
+			o.Measure = MeasureScore
+			if sc.targetScale(t) != nil {
+				o.Measure = MeasureIndex
+			}
+		}
 		measure := func(y Year, init bool) float64 {
 			var cc *ClassCondition
 			var net NetworkCondition
@@ -288,6 +315,10 @@ func evaluateTargets(sc *Scenario, r *Result) []TargetOutcome {
 			}
 			if miss > 1e-6 {
 				o.Met = false
+				if spec.Kind == optimize.MinScore || spec.Kind == optimize.Hold {
+					miss = indexPoints(sc, t, miss)
+				}
+				o.Shortfalls = append(o.Shortfalls, YearShortfall{Year: y.Year, Amount: miss})
 			}
 		}
 		o.WorstValue, o.Limit = worst, limit

@@ -364,6 +364,25 @@ func TestParseAndBuild(t *testing.T) {
 			},
 		},
 		{
+			// Renewal: by default the treatments that put every unit they
+			// treat in the best state; renewal: true or false overrides.
+			name: "renewal defaults to restoring the best state",
+			text: scenarioYAML("", []string{strings.Replace(classYAML("roads", roadsInventory, yearsDet), "[seal, overlay]", "[seal, overlay, patch, rebuild]", 1)}, `treatments:
+  - {name: seal, applies_to: [Good, Fair], cost: 10, effect: {improve: 1}}
+  - {name: overlay, applies_to: [Fair, Poor], cost: 100, effect: {to: Very good}}
+  - {name: patch, applies_to: [Poor], cost: 50, effect: {to: Fair}, renewal: true}
+  - {name: rebuild, applies_to: [Very poor], cost: 900, effect: {to: Very good}, renewal: false}
+`, ""),
+			check: func(t *testing.T, sc *scenarios.Scenario) {
+				c := &sc.Classes[0]
+				for name, want := range map[string]bool{"seal": false, "overlay": true, "patch": true, "rebuild": false} {
+					if got := c.Treatments[findTreatment(t, c, name)].Renewal; got != want {
+						t.Errorf("%s: renewal %v, want %v", name, got, want)
+					}
+				}
+			},
+		},
+		{
 			// Network weights: replacement value (quantity x unit replacement
 			// cost) when every class gives one (docs/model.md, Network figures).
 			name: "weighting by replacement value",

@@ -78,7 +78,11 @@ type fileTreatment struct {
 	Cost         *costSpec   `yaml:"cost"`
 	Effect       *fileEffect `yaml:"effect"`
 	AgesSameYear *bool       `yaml:"ages_same_year"`
-	Lines        lines
+	// Renewal says whether the treatment's spend counts as renewal in the
+	// asset management plan indicators (default: it restores the best
+	// state from every state it applies to).
+	Renewal *bool `yaml:"renewal"`
+	Lines   lines
 }
 
 type fileEffect struct {

@@ -45,6 +45,27 @@ type Treatment struct {
 	// SkipsAging is true when treated units do not also age during the year
 	// of treatment (the year's transition is E instead of E·P).
 	SkipsAging bool
+	// Renewal marks a treatment whose spend renews the asset (capital
+	// renewal in an asset management plan) rather than maintaining it; the
+	// plan's renewal indicators count its spend. RestoresBest is the usual
+	// default.
+	Renewal bool
+}
+
+// RestoresBest says whether the treatment, for an n-state scale, puts
+// every unit it treats in the best state from each state it applies to,
+// and applies to at least one state other than the best: it renews the
+// asset rather than holding or lifting its condition part way.
+func (t *Treatment) RestoresBest(n int) bool {
+	below := false
+	for _, i := range t.Applies {
+		row, err := t.EffectRow(i, n)
+		if err != nil || row[0] < 1 {
+			return false
+		}
+		below = below || i > 0
+	}
+	return below
 }
 
 // EffectRow returns row i of E for an n-state scale: the distribution right

@@ -437,3 +437,30 @@ func TestActionsDoNotShareStorage(t *testing.T) {
 		t.Errorf("a treatment that skips ageing shares its distribution with the action")
 	}
 }
+
+// RestoresBest: a treatment renews the asset when every unit it treats ends
+// in the best state and it treats some state below the best.
+func TestRestoresBest(t *testing.T) {
+	half := map[int][]float64{1: {0.5, 0.5, 0, 0}, 2: {1, 0, 0, 0}}
+	hold := map[int][]float64{0: {1, 0, 0, 0}}
+	tests := []struct {
+		name string
+		tr   treatments.Treatment
+		want bool
+	}{
+		{"to the best from poor states", treatments.Treatment{Applies: []int{2, 3}, Effect: treatments.Effect{Kind: treatments.ToState, State: 0}}, true},
+		{"to the second state", treatments.Treatment{Applies: []int{2, 3}, Effect: treatments.Effect{Kind: treatments.ToState, State: 1}}, false},
+		{"improve 1 from the second state", treatments.Treatment{Applies: []int{1}, Effect: treatments.Effect{Kind: treatments.Improve, Steps: 1}}, true},
+		{"improve 1 from the third state too", treatments.Treatment{Applies: []int{1, 2}, Effect: treatments.Effect{Kind: treatments.Improve, Steps: 1}}, false},
+		{"half to the best", treatments.Treatment{Applies: []int{1, 2}, Effect: treatments.Effect{Kind: treatments.Distribution, Rows: half}}, false},
+		{"holds the best state only", treatments.Treatment{Applies: []int{0}, Effect: treatments.Effect{Kind: treatments.Distribution, Rows: hold}}, false},
+		{"applies to nothing", treatments.Treatment{Effect: treatments.Effect{Kind: treatments.ToState, State: 0}}, false},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			if got := tc.tr.RestoresBest(4); got != tc.want {
+				t.Errorf("RestoresBest = %v, want %v", got, tc.want)
+			}
+		})
+	}
+}

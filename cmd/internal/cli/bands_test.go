@@ -47,11 +47,11 @@ func TestReportBandsSameBytes(t *testing.T) {
 		for _, m := range regexp.MustCompile(`<figure id="([^"]+)"`).FindAllStringSubmatch(outs[0], -1) {
 			ids = append(ids, m[1])
 		}
-		want := []string{"run-1-chart-network", "run-1-chart-bands-network"}
+		want := []string{"summary-chart-network", "run-1-chart-network", "run-1-chart-bands-network"}
 		for k := 1; k <= 4; k++ {
 			want = append(want, fmt.Sprintf("run-1-chart-class-%d", k), fmt.Sprintf("run-1-chart-bands-class-%d", k))
 		}
-		want = append(want, "run-1-chart-spend")
+		want = append(want, "run-1-chart-spend", "run-1-chart-class-spend")
 		if strings.Join(ids, " ") != strings.Join(want, " ") {
 			t.Errorf("charts %v, want %v", ids, want)
 		}
@@ -108,8 +108,8 @@ func TestWorkbookBandsHoldTheSimulationNumbers(t *testing.T) {
 		t.Fatal(err)
 	}
 	defer f.Close()
-	wantSheets := []string{report.SheetAbout, report.SheetWork, report.SheetCondition, report.SheetService, report.SheetSpend, report.SheetTargets,
-		report.SheetBands, report.SheetTargetChances, report.SheetInputs}
+	wantSheets := []string{report.SheetAbout, report.SheetSummary, report.SheetWork, report.SheetCondition, report.SheetService, report.SheetSpend, report.SheetClassSpend,
+		report.SheetFunding, report.SheetTargets, report.SheetBands, report.SheetTargetChances, report.SheetIndicators, report.SheetRatios, report.SheetLife, report.SheetInputs}
 	if got := f.GetSheetList(); strings.Join(got, "|") != strings.Join(wantSheets, "|") {
 		t.Fatalf("sheets %v, want %v", got, wantSheets)
 	}

@@ -33,7 +33,7 @@ func TestSweepCSVInBudgetOrder(t *testing.T) {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
 	lines := strings.Split(strings.TrimSpace(out), "\n")
-	if len(lines) != 4 || !strings.HasPrefix(lines[1], "5e+06,") || !strings.HasPrefix(lines[2], "3e+06,") {
+	if len(lines) != 4 || !strings.HasPrefix(lines[1], "5000000,") || !strings.HasPrefix(lines[2], "3000000,") {
 		t.Errorf("rows not in the order given:\n%s", out)
 	}
 }

@@ -2,7 +2,6 @@ package cli
 
 import (
 	"fmt"
-	"strings"
 
 	"github.com/spf13/cobra"
 
@@ -119,18 +118,12 @@ func warnClasses(cmd *cobra.Command, r *scenarios.Result) {
 }
 
 func shortfallText(t scenarios.TargetOutcome) string {
-	biggest, at := 0.0, 0
+	at := t.Shortfalls[0].Year
 	for _, s := range t.Shortfalls {
-		if s.Amount > biggest {
-			biggest, at = s.Amount, s.Year
+		if s.Amount > render.WorstShortfall(t)-1e-12 {
+			at = s.Year
+			break
 		}
 	}
-	n := len(t.Shortfalls)
-	span := fmt.Sprintf("in %d year(s) from %d to %d", n, t.Shortfalls[0].Year, t.Shortfalls[n-1].Year)
-	if t.Limit <= 1 && t.WorstValue <= 1 && isShare(t.Target) {
-		return fmt.Sprintf("up to %.1f percentage points (worst in %d), %s", 100*biggest, at, span)
-	}
-	return fmt.Sprintf("up to %s index points (worst in %d), %s", render.Index(biggest), at, span)
+	return fmt.Sprintf("up to %s (worst in %d), %s", render.ShortfallAmount(t, render.WorstShortfall(t)), at, render.ShortfallYears(t))
 }
-
-func isShare(label string) bool { return strings.Contains(label, " share ") }

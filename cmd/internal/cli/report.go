@@ -3,6 +3,7 @@ package cli
 import (
 	"fmt"
 	"io"
+	"math"
 	"path/filepath"
 	"slices"
 	"strings"
@@ -27,18 +28,27 @@ func newReportCmd() *cobra.Command {
 		Long: `Report plans each scenario file and writes the report planners hand on:
 
   html  one self-contained page (no scripts, nothing loaded from anywhere):
-        summary, level-of-service table (per class and network: today and the
-        end of year 1, 5, 10 and the last), charts (condition shares per year
-        for the network and each class, spend against budget), targets, spend,
-        the work program, the assumptions (scales, deterioration matrices,
-        treatments and costs, escalation, discount rate, weights, budget,
-        targets), the caution paragraph and run details (wearplan version,
-        SHA-256 of each input file, report date);
+        a one-page summary (targets met or not, score, the funding gap in one
+        sentence, the network's level of service and condition chart), then
+        per scenario the level-of-service table (per class and network: today
+        and the end of year 1, 5, 10 and the last), charts (condition shares
+        per year for the network and each class, spend against budget),
+        targets, funding (least level budgets that meet the targets and hold
+        today's condition, extra money by year, the money per missed target,
+        routine costs), spend by class and budget group (stacked bars against
+        the caps and tables), the work program, the asset management plan
+        indicators (remaining life, depreciated replacement cost, consumption
+        and renewal ratios, with definitions and sources), the assumptions
+        (scales, deterioration matrices, treatments and costs, escalation,
+        discount rate, weights, budget, targets), the caution paragraph and
+        run details (wearplan version, SHA-256 of each input file, date);
   md    the same content as Markdown tables, for pasting into documents
         (charts are in the HTML report only);
-  xlsx  a workbook with one sheet each for the work program, condition by
-        year, level of service, spend and budget, and inputs, plus the run
-        details; numbers are stored as numbers with units in the headers.
+  xlsx  a workbook: About, Summary (with a chart), then one sheet each for
+        the work program, condition by year, level of service, spend and
+        budget, spend by class, funding, targets, indicators, renewal ratios,
+        remaining life and inputs; numbers are stored as numbers (money
+        rounded to cents) with units in the headers.
 
 Several files make a comparison report: level of service and spend side by
 side, then a section for each scenario. The date defaults to today; give
@@ -141,9 +151,11 @@ Bands and Target probabilities. The same seed gives the same report.`,
 				if err != nil {
 					return err
 				}
-				rep.Sweep = &report.Sweep{Scenario: sr.Scenario, Currency: sr.Currency}
+				rep.Sweep = &report.Sweep{Scenario: sr.Scenario, Currency: sr.Currency, TargetsBudget: sr.TargetsBudget, HoldBudget: sr.HoldBudget, Notes: sr.Warnings}
+				rep.Sweep.Budget, rep.Sweep.BudgetVaries = scenarioBudget(rep.Runs[0].Scenario)
 				for _, pt := range sr.Points {
-					rep.Sweep.Points = append(rep.Sweep.Points, report.SweepPoint{Budget: pt.Budget, ConditionScore: pt.ConditionScore, Status: pt.Status})
+					rep.Sweep.Points = append(rep.Sweep.Points, report.SweepPoint{Budget: pt.Budget, ConditionScore: pt.ConditionScore, Status: pt.Status,
+						EndPoorShare: pt.EndPoorShare, TargetsMet: pt.TargetsMet, Targets: pt.Targets})
 				}
 			}
 			write := func(w io.Writer) error {
@@ -174,4 +186,26 @@ Bands and Target probabilities. The same seed gives the same report.`,
 	solve.register(cmd)
 	sim.register(cmd)
 	return cmd
+}
+
+// scenarioBudget is the scenario's yearly network budget for the sweep
+// chart's mark: the amount when level, else the mean of the capped years
+// (varies is then true); nil without a cap.
+func scenarioBudget(sc *scenarios.Scenario) (*float64, bool) {
+	sum, n, varies := 0.0, 0, false
+	for _, b := range sc.Budget {
+		if math.IsInf(b, 1) {
+			continue
+		}
+		if n > 0 && b != sum/float64(n) {
+			varies = true
+		}
+		sum += b
+		n++
+	}
+	if n == 0 {
+		return nil, false
+	}
+	mean := sum / float64(n)
+	return &mean, varies
 }

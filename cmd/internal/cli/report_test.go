@@ -94,8 +94,8 @@ func TestReportComparison(t *testing.T) {
 		t.Errorf("no warning about the unmet targets of the low-budget scenario:\n%s", errs)
 	}
 	md := readFile(t, out)
-	for _, want := range []string{"## Comparison", "**Level of service side by side**", "| Scenario 1 | Marrowby roads and structures, current funding",
-		"| Scenario 2 | Marrowby roads and structures, a tenth of current funding", "targets-not-met", "**Spend and budget side by side"} {
+	for _, want := range []string{"## Comparison", "**Level of service side by side**", "| Marrowby roads and structures, current funding (invented example) | every target met |",
+		"| Marrowby roads and structures, a tenth of current funding (invented example) | targets not met |", "**Spend and network budget cap side by side"} {
 		if !strings.Contains(md, want) {
 			t.Errorf("comparison lacks %q", want)
 		}
@@ -187,7 +187,8 @@ func TestWorkbookHoldsTheJSONNumbers(t *testing.T) {
 		t.Fatal(err)
 	}
 	defer f.Close()
-	wantSheets := []string{report.SheetAbout, report.SheetWork, report.SheetCondition, report.SheetService, report.SheetSpend, report.SheetTargets, report.SheetInputs}
+	wantSheets := []string{report.SheetAbout, report.SheetSummary, report.SheetWork, report.SheetCondition, report.SheetService, report.SheetSpend, report.SheetClassSpend,
+		report.SheetFunding, report.SheetTargets, report.SheetIndicators, report.SheetRatios, report.SheetLife, report.SheetInputs}
 	if got := f.GetSheetList(); strings.Join(got, "|") != strings.Join(wantSheets, "|") {
 		t.Fatalf("sheets %v, want %v", got, wantSheets)
 	}

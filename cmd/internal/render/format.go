@@ -62,8 +62,15 @@ func Index(v float64) string {
 	return strconv.FormatFloat(v, 'f', d, 64)
 }
 
-// Plain formats a number for machine-readable output: shortest exact form.
-func Plain(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
+// Plain formats a number for machine-readable output: the shortest form
+// that reads back as the same float64, without an exponent (4000000, not
+// 4e+06), and 0 for negative zero.
+func Plain(v float64) string {
+	if v == 0 {
+		return "0"
+	}
+	return strconv.FormatFloat(v, 'f', -1, 64)
+}
 
 // SegmentQuantity formats a segment's quantity as inventories give it: up
 // to three decimals, trailing zeros dropped (0.386 lane-km, 372 m2).
@@ -73,4 +80,32 @@ func SegmentQuantity(v float64) string {
 		s = strings.TrimRight(strings.TrimRight(s, "0"), ".")
 	}
 	return s
+}
+
+// Counted says whether a class's unit counts items (culverts "each")
+// rather than measuring a quantity (lane-km, m2).
+func Counted(unit string) bool {
+	switch strings.ToLower(strings.TrimSpace(unit)) {
+	case "each", "ea", "ea.", "item", "items", "no", "no.", "nr", "number", "count", "pcs":
+		return true
+	}
+	return false
+}
+
+// UnitWord names a class's quantity in running text: the unit, or "items"
+// for a counted unit ("share of lane-km", "share of items").
+func UnitWord(unit string) string {
+	if Counted(unit) {
+		return "items"
+	}
+	return unit
+}
+
+// PerUnit writes a unit price's unit: "per lane-km", or "each" for a
+// counted unit ("USD 38,000 each").
+func PerUnit(unit string) string {
+	if Counted(unit) {
+		return "each"
+	}
+	return "per " + unit
 }

@@ -10,45 +10,64 @@ import (
 	"wearplan/scenarios"
 )
 
-// JSONOf writes any result (long-run, sweep, comparison) as indented JSON.
+// JSONOf writes any result (long-run, sweep, comparison) as indented JSON,
+// with money rounded to cents.
 func JSONOf(w io.Writer, v any) error {
+	switch x := v.(type) {
+	case *scenarios.Result:
+		v = RoundedMoney(x)
+	case *scenarios.SweepResult:
+		v = RoundedSweep(x)
+	case *scenarios.CompareResult:
+		v = RoundedCompare(x)
+	case *scenarios.LongRunResult:
+		v = RoundedLongRun(x)
+	}
 	enc := json.NewEncoder(w)
 	enc.SetIndent("", "  ")
 	return enc.Encode(v)
 }
 
-// fundingText prints the funding answers and the worst-first baseline of a
-// plan.
+// fundingText prints the plan's funding answers in the words every output
+// shares (words.go): the targets missed and what closes them, the level
+// budgets, the extra money (with a table by year and budget), routine
+// costs and the worst-first comparison.
 func fundingText(w *errWriter, r *scenarios.Result) {
-	if r.RoutineCost != nil {
-		w.printf("\nRoutine cost of untreated assets (apart from treatment spend): %s %s, present value %s\n", currency(r), Money(*r.RoutineCost), Money(*r.RoutinePresentValue))
+	lines := append(ShortfallWords(r), FundingWords(r)...)
+	if len(lines) == 0 {
+		return
 	}
-	if f := r.Funding; f != nil {
-		w.printf("\nFunding\n")
-		if f.LevelBudget != nil {
-			w.printf("  Least level yearly budget that meets every target: %s %s\n", currency(r), Money(*f.LevelBudget))
+	w.printf("\nFunding\n")
+	for _, s := range lines {
+		w.printf("%s\n", hangingWrap(s, 100, "  - ", "    "))
+	}
+	if f := r.Funding; f != nil && (len(f.ExtraMoney) > 0 || len(f.ExtraGroups) > 0) {
+		w.printf("\n  Extra money by year (%s, on top of the budget):\n", currency(r))
+		t := table{header: []string{"YEAR", "BUDGET", "EXTRA"}, right: []bool{false, false, true}}
+		for _, ym := range f.ExtraMoney {
+			t.rows = append(t.rows, []string{fmt.Sprint(ym.Year), "network", Money(ym.Amount)})
 		}
-		if len(f.ExtraMoney) > 0 || len(f.ExtraGroups) > 0 {
-			w.printf("  Extra money that would close every shortfall (least present value, on top of the budget):\n")
-			t := table{header: []string{"YEAR", "BUDGET", "EXTRA"}, right: []bool{false, false, true}}
-			for _, ym := range f.ExtraMoney {
-				t.rows = append(t.rows, []string{fmt.Sprint(ym.Year), "network", Money(ym.Amount)})
+		for _, g := range f.ExtraGroups {
+			for _, ym := range g.Years {
+				t.rows = append(t.rows, []string{fmt.Sprint(ym.Year), g.Name, Money(ym.Amount)})
 			}
-			for _, g := range f.ExtraGroups {
-				for _, ym := range g.Years {
-					t.rows = append(t.rows, []string{fmt.Sprint(ym.Year), g.Name, Money(ym.Amount)})
-				}
-			}
-			tabulate(w, t)
-			w.printf("  In all %s %s, present value %s\n", currency(r), Money(*f.ExtraTotal), Money(*f.ExtraPresentValue))
 		}
-		if f.Unreachable != "" {
-			w.printf("  %s\n", f.Unreachable)
+		tabulate(w, t)
+	}
+}
+
+// hangingWrap wraps s at width with first in front of the first line and
+// rest in front of the others.
+func hangingWrap(s string, width int, first, rest string) string {
+	lines := strings.Split(wrap(s, width-len(first)), "\n")
+	for i := range lines {
+		if i == 0 {
+			lines[i] = first + lines[i]
+		} else {
+			lines[i] = rest + lines[i]
 		}
 	}
-	if b := r.Baseline; b != nil {
-		w.printf("\nAgainst the %s rule with the same budget: condition score %.2f (this plan %.2f, %+.2f points)\n", b.Rule, b.ConditionScore, r.ConditionScore, b.Gain)
-	}
+	return strings.Join(lines, "\n")
 }
 
 // LongRunText writes the long-run policy as terminal tables.
@@ -124,6 +143,7 @@ func LongRunText(w io.Writer, r *scenarios.LongRunResult) error {
 
 // LongRunCSV writes the policy: one row per class, state and action.
 func LongRunCSV(w io.Writer, r *scenarios.LongRunResult) error {
+	r = RoundedLongRun(r)
 	rows := [][]string{{"class", "state", "treatment", "share_of_state", "quantity", "unit", "annual_cost"}}
 	for _, c := range r.Classes {
 		for _, e := range c.Policy {
@@ -164,9 +184,21 @@ func SweepText(w io.Writer, r *scenarios.SweepResult) error {
 	}
 	ew.printf("%s\n", r.Scenario)
 	ew.printf("Budget trade-off: each level yearly budget planned with max-condition and the scenario's targets (%s)\n", cur)
-	t := table{header: []string{"YEARLY BUDGET", "STATUS", "SCORE", "END POOR", "END AVG INDEX", "END SCORE", "SPEND", "PRESENT VALUE", "TARGETS MET"}, right: []bool{true, false, true, true, true, true, true, true, true}}
+	// The average index exists only when every class shares one scale;
+	// otherwise the column is left out rather than filled with dashes.
+	withIndex := len(r.Points) > 0 && r.Points[0].EndAverageIndex != nil
+	t := table{header: []string{"YEARLY BUDGET", "STATUS", "SCORE", "END POOR"}, right: []bool{true, false, true, true}}
+	if withIndex {
+		t.header, t.right = append(t.header, "END AVG INDEX"), append(t.right, true)
+	}
+	t.header = append(t.header, "END SCORE", "SPEND", "PRESENT VALUE", "TARGETS MET")
+	t.right = append(t.right, true, true, true, true)
 	for _, p := range r.Points {
-		t.rows = append(t.rows, []string{Money(p.Budget), p.Status, fmt.Sprintf("%.2f", p.ConditionScore), Percent(p.EndPoorShare), optIndex(p.EndAverageIndex), fmt.Sprintf("%.1f", p.EndScore), Money(p.TotalCost), Money(p.PresentValue), fmt.Sprintf("%d of %d", p.TargetsMet, p.Targets)})
+		row := []string{Money(p.Budget), p.Status, fmt.Sprintf("%.2f", p.ConditionScore), Percent(p.EndPoorShare)}
+		if withIndex {
+			row = append(row, optIndex(p.EndAverageIndex))
+		}
+		t.rows = append(t.rows, append(row, fmt.Sprintf("%.1f", p.EndScore), Money(p.TotalCost), Money(p.PresentValue), fmt.Sprintf("%d of %d", p.TargetsMet, p.Targets)))
 	}
 	tabulate(ew, t)
 	if r.HoldBudget != nil {
@@ -185,6 +217,7 @@ func SweepText(w io.Writer, r *scenarios.SweepResult) error {
 // SweepCSV writes one row per budget; the hold and targets budgets go in
 // every row so that the file stands alone.
 func SweepCSV(w io.Writer, r *scenarios.SweepResult) error {
+	r = RoundedSweep(r)
 	rows := [][]string{{"yearly_budget", "status", "condition_score", "end_poor_share", "end_average_index", "end_score", "total_cost", "present_value", "targets_met", "targets", "hold_budget", "targets_budget"}}
 	for _, p := range r.Points {
 		rows = append(rows, []string{Plain(p.Budget), p.Status, Plain(p.ConditionScore), Plain(p.EndPoorShare), optPlain(p.EndAverageIndex), Plain(p.EndScore), Plain(p.TotalCost), Plain(p.PresentValue), fmt.Sprint(p.TargetsMet), fmt.Sprint(p.Targets), optPlain(r.HoldBudget), optPlain(r.TargetsBudget)})
@@ -306,6 +339,7 @@ func serviceCell(c scenarios.CompareColumn, y, k int) string {
 
 // CompareCSV writes one row per scenario, year and class (and network).
 func CompareCSV(w io.Writer, r *scenarios.CompareResult) error {
+	r = RoundedCompare(r)
 	rows := [][]string{{"scenario", "source", "status", "year", "class", "good_share", "fair_share", "poor_share", "average_index", "condition_score", "total_cost", "present_value", "targets_met", "targets", "extra_money"}}
 	for _, c := range r.Scenarios {
 		extra := ""

@@ -3,6 +3,8 @@ package render
 import (
 	"fmt"
 	"io"
+	"math"
+	"strconv"
 	"strings"
 	"text/tabwriter"
 
@@ -19,6 +21,10 @@ func Text(w io.Writer, r *scenarios.Result) error {
 		tabulate(ew, workTable(r))
 		ew.printf("\nSpend against budget (%s)\n", currency(r))
 		tabulate(ew, spendTable(r))
+		if len(r.Initial.Classes) > 1 || len(r.Years) > 0 && len(r.Years[0].Groups) > 0 {
+			ew.printf("\nSpend by class and budget group (%s at each year's prices)\n", currency(r))
+			tabulate(ew, classSpendTable(r))
+		}
 	}
 	ew.printf("\nCondition at the end of each year (share of each class's quantity; network weighted by %s)\n", r.Weighting)
 	tabulate(ew, serviceTable(r, true))
@@ -34,6 +40,7 @@ func Text(w io.Writer, r *scenarios.Result) error {
 		tabulate(ew, targetTable(r))
 	}
 	fundingText(ew, r)
+	indicatorText(ew, r)
 	for _, warn := range r.Warnings {
 		ew.printf("\nNote: %s\n", warn)
 	}
@@ -174,11 +181,7 @@ func targetTable(r *scenarios.Result) table {
 		if !o.Met {
 			met = "NO"
 		}
-		worst, limit := Index(o.WorstValue), Index(o.Limit)
-		if strings.Contains(o.Target, "share") {
-			worst, limit = Percent(o.WorstValue), Percent(o.Limit)
-		}
-		t.rows = append(t.rows, []string{o.Target, met, fmt.Sprint(o.WorstYear), worst, limit, shortfallSummary(o)})
+		t.rows = append(t.rows, []string{o.Target, met, fmt.Sprint(o.WorstYear), TargetValue(o, o.WorstValue), TargetValue(o, o.Limit), shortfallSummary(o)})
 	}
 	return t
 }
@@ -188,20 +191,12 @@ func shortfallSummary(o scenarios.TargetOutcome) string {
 	if len(o.Shortfalls) == 0 {
 		return ""
 	}
-	biggest := 0.0
-	for _, s := range o.Shortfalls {
-		biggest = max(biggest, s.Amount)
-	}
 	first, last := o.Shortfalls[0].Year, o.Shortfalls[len(o.Shortfalls)-1].Year
 	span := fmt.Sprint(first)
 	if last != first {
 		span = fmt.Sprintf("%d-%d", first, last)
 	}
-	amount := Index(biggest) + " points"
-	if strings.Contains(o.Target, "share") {
-		amount = fmt.Sprintf("%.1f percentage points", 100*biggest)
-	}
-	return fmt.Sprintf("up to %s (%s)", amount, span)
+	return fmt.Sprintf("up to %s (%s)", ShortfallAmount(o, WorstShortfall(o)), span)
 }
 
 // wrap breaks text into lines of at most width characters.
@@ -307,7 +302,98 @@ func backlogBasis(r *scenarios.Result) []string {
 			br := r.BacklogRules[i]
 			parts = append(parts, fmt.Sprintf("%s by %s at %s", br.State, br.Treatment, Money(br.UnitCost)))
 		}
-		out = append(out, fmt.Sprintf("%s (per %s): %s", class, unit[class], strings.Join(parts, "; ")))
+		out = append(out, fmt.Sprintf("%s (%s): %s", class, PerUnit(unit[class]), strings.Join(parts, "; ")))
 	}
 	return out
+}
+
+// classSpendTable lists each year's spend per class (when there are few
+// classes) and per budget group with its cap, beside the total.
+func classSpendTable(r *scenarios.Result) table {
+	t := table{header: []string{"YEAR"}, right: []bool{false}}
+	perClass := len(r.Initial.Classes) <= maxClassColumns
+	if perClass {
+		for _, c := range r.Initial.Classes {
+			t.header = append(t.header, c.Class)
+			t.right = append(t.right, true)
+		}
+	}
+	t.header = append(t.header, "TOTAL")
+	t.right = append(t.right, true)
+	if len(r.Years) > 0 {
+		for _, g := range r.Years[0].Groups {
+			t.header = append(t.header, g.Name, g.Name+" CAP")
+			t.right = append(t.right, true, true)
+		}
+	}
+	for _, y := range r.Years {
+		row := []string{fmt.Sprint(y.Year)}
+		if perClass {
+			for _, c := range y.Classes {
+				v := 0.0
+				if c.Spend != nil {
+					v = *c.Spend
+				}
+				row = append(row, Money(v))
+			}
+		}
+		row = append(row, Money(y.Spend))
+		for _, g := range y.Groups {
+			row = append(row, Money(g.Spend), capMoney(g.Budget))
+		}
+		t.rows = append(t.rows, row)
+	}
+	return t
+}
+
+func capMoney(v float64) string {
+	if math.IsInf(v, 1) {
+		return "no cap"
+	}
+	return Money(v)
+}
+
+// indicatorText prints the asset management plan indicators in brief: per
+// class and for the network, mean remaining life and the consumption ratio
+// today and at the end of the ratio years, and the two ratios.
+func indicatorText(w *errWriter, r *scenarios.Result) {
+	in := r.Indicators
+	if in == nil || len(in.Classes) == 0 {
+		return
+	}
+	n := in.RatioYears
+	end := r.StartYear + n - 1
+	w.printf("\nAsset management plan indicators (remaining life in years to the worst state with no work; ratios over %d-%d)\n", r.StartYear, end)
+	t := table{header: []string{"CLASS", "REMAINING LIFE TODAY", fmt.Sprintf("END %d", end), "CONSUMPTION RATIO TODAY", fmt.Sprintf("END %d", end), "SUSTAINABILITY RATIO", "RENEWAL FUNDING RATIO"},
+		right: []bool{false, true, true, true, true, true, true}}
+	opt := func(v *float64, f func(float64) string) string {
+		if v == nil {
+			return "-"
+		}
+		return f(*v)
+	}
+	years := func(v float64) string { return strconv.FormatFloat(v, 'f', 1, 64) }
+	ratio := func(v float64) string { return strconv.FormatFloat(v, 'f', 2, 64) }
+	for _, c := range in.Classes {
+		t.rows = append(t.rows, []string{c.Class, opt(c.Today.MeanRemainingLife, years), opt(c.Years[n-1].MeanRemainingLife, years),
+			opt(c.Today.ConsumptionRatio, Percent), opt(c.Years[n-1].ConsumptionRatio, Percent), opt(c.SustainabilityRatio, ratio), opt(c.RenewalFundingRatio, ratio)})
+	}
+	nw := in.Network
+	t.rows = append(t.rows, []string{"network", "-", "-", opt(nw.Today.ConsumptionRatio, Percent), opt(nw.Years[n-1].ConsumptionRatio, Percent), opt(nw.SustainabilityRatio, ratio), opt(nw.RenewalFundingRatio, ratio)})
+	// A forecast has no plan to compare renewal with: leave the column
+	// out rather than fill it with dashes.
+	funded := false
+	for _, row := range t.rows {
+		funded = funded || row[6] != "-"
+	}
+	if !funded {
+		t.header, t.right = t.header[:6], t.right[:6]
+		for i := range t.rows {
+			t.rows[i] = t.rows[i][:6]
+		}
+	}
+	tabulate(w, t)
+	for _, note := range in.Notes {
+		w.printf("%s\n", hangingWrap("Note: "+note, 100, "  ", "  "))
+	}
 }

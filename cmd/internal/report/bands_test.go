@@ -44,8 +44,9 @@ func chartIDs(page string) []string {
 // one, none.
 func TestBandChartsBesideTheStackedCharts(t *testing.T) {
 	page := htmlOf(t, smallBandsReport(t))
-	want := []string{"run-1-chart-network", "run-1-chart-bands-network", "run-1-chart-class-1", "run-1-chart-bands-class-1",
-		"run-1-chart-class-2", "run-1-chart-bands-class-2", "run-1-chart-spend"}
+	// The summary's network chart comes first; the spend by class closes.
+	want := []string{"summary-chart-network", "run-1-chart-network", "run-1-chart-bands-network", "run-1-chart-class-1", "run-1-chart-bands-class-1",
+		"run-1-chart-class-2", "run-1-chart-bands-class-2", "run-1-chart-spend", "run-1-chart-class-spend"}
 	if got := chartIDs(page); strings.Join(got, " ") != strings.Join(want, " ") {
 		t.Errorf("charts %v, want %v", got, want)
 	}
@@ -104,8 +105,10 @@ func TestBandsTables(t *testing.T) {
 	md, page := markdownOf(t, rep), htmlOf(t, rep)
 	years := render.LOSYears(sim.Horizon)
 	label := fmt.Sprintf("Poor, 5th-95th percentile of %d runs", bandsRuns)
-	if n := strings.Count(md, "| "+label+" |"); n != len(sim.Classes)+1 {
-		t.Errorf("%d range rows in the Markdown LOS table, want %d", n, len(sim.Classes)+1)
+	// One per class and the network, and the network's again in the
+	// summary's table.
+	if n := strings.Count(md, "| "+label+" |"); n != len(sim.Classes)+2 {
+		t.Errorf("%d range rows in the Markdown LOS tables, want %d", n, len(sim.Classes)+2)
 	}
 	for k := -1; k < len(sim.Classes); k++ {
 		row := "| " + label + " | - |"

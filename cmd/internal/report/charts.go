@@ -490,14 +490,28 @@ var (
 	seriesShapes = []draw.GlyphDrawer{draw.CircleGlyph{}, draw.SquareGlyph{}, draw.TriangleGlyph{}, draw.CrossGlyph{}, draw.RingGlyph{}}
 )
 
-// lineChart draws series as lines with point markers and a legend.
-func lineChart(id, title, caption, xLabel, yLabel string, xTicks plot.Ticker, yMin, yMax float64, ss []series) (chart, error) {
+// mark is a vertical rule at x with its name, for budgets marked on a
+// chart whose x axis is money.
+type mark struct {
+	name string
+	x    float64
+}
+
+// markDashes tell the marks apart from each other and from the series.
+var markDashes = [][]vg.Length{{4, 2}, {1, 2}, {8, 2, 2, 2}}
+
+// lineChart draws series as lines with point markers, and marks as
+// vertical rules, with the legend under the plot so that long names
+// (scenario names) are not cut off.
+func lineChart(id, title, caption, xLabel, yLabel string, xTicks plot.Ticker, yMin, yMax float64, ss []series, marks ...mark) (chart, error) {
 	p := newPlot(xLabel, yLabel)
 	if xTicks != nil {
 		p.X.Tick.Marker = xTicks
 	}
 	p.Y.Min, p.Y.Max = yMin, yMax
 	l := newLegend()
+	l.Left, l.Top = true, true
+	width := vg.Length(chartW - 40)
 	for i, s := range ss {
 		xys := make(plotter.XYs, len(s.xs))
 		for j := range s.xs {
@@ -514,9 +528,20 @@ func lineChart(id, title, caption, xLabel, yLabel string, xTicks plot.Ticker, yM
 		pts.Shape = seriesShapes[i%len(seriesShapes)]
 		pts.Radius = 2.2
 		p.Add(line, pts)
-		l.Add(s.name, line, pts)
+		l.Add(fitLabel(s.name, l.TextStyle, width), line, pts)
 	}
-	svg, err := drawSVG(p, &l, title)
+	for i, m := range marks {
+		v := vline{x: m.x, style: draw.LineStyle{Color: ink, Width: 1, Dashes: markDashes[i%len(markDashes)]}}
+		p.Add(v)
+		p.X.Min, p.X.Max = math.Min(p.X.Min, m.x), math.Max(p.X.Max, m.x)
+		l.Add(fitLabel(m.name, l.TextStyle, width), v)
+	}
+	if len(marks) > 0 {
+		// Keep the rules off the axes.
+		pad := 0.04 * (p.X.Max - p.X.Min)
+		p.X.Min, p.X.Max = p.X.Min-pad, p.X.Max+pad
+	}
+	svg, err := drawSVGBelow(p, &l, len(ss)+len(marks), title)
 	return chart{ID: id, Title: title, Caption: caption, SVG: svg}, err
 }
 
@@ -533,4 +558,188 @@ func paddedRange(floor, ceil float64, values ...[]float64) (float64, float64) {
 	}
 	pad := math.Max((hi-lo)*0.1, 1)
 	return math.Max(floor, math.Floor(lo-pad)), math.Min(ceil, math.Ceil(hi+pad))
+}
+
+// classRamp returns n fills for classes stacked in a bar: cool blue-greys
+// whose lightness falls evenly from the first to the last, apart from the
+// warm condition ramp; stackedBars hatches every other one as well, so
+// neighbours differ without colour.
+func classRamp(n int) []color.RGBA {
+	anchors := []rampAnchor{{12, 230}, {22, 245}, {20, 265}, {16, 285}}
+	out := make([]color.RGBA, n)
+	for i := range out {
+		f := 0.0
+		if n > 1 {
+			f = float64(i) / float64(n-1)
+		}
+		// Between 86 and 40 in lightness, where white rules and black
+		// text both still show.
+		pos := f * float64(len(anchors)-1)
+		j := min(int(pos), len(anchors)-2)
+		u := pos - float64(j)
+		a, b := anchors[j], anchors[j+1]
+		out[i] = lch(86-f*46, a.c+u*(b.c-a.c), a.h+u*(b.h-a.h))
+	}
+	return out
+}
+
+// stackedBars draws one bar per x, its layers stacked from the bottom,
+// each filled with its colour, every other layer hatched, with thin white
+// rules between layers.
+type stackedBars struct {
+	xs     []float64
+	layers [][]float64 // bottom first, one value per x
+	fills  []color.RGBA
+	hatch  []bool
+	width  float64 // in x units
+}
+
+func (s *stackedBars) DataRange() (xmin, xmax, ymin, ymax float64) {
+	xmin, xmax = math.Inf(1), math.Inf(-1)
+	for i, x := range s.xs {
+		xmin, xmax = math.Min(xmin, x-s.width/2), math.Max(xmax, x+s.width/2)
+		top := 0.0
+		for _, l := range s.layers {
+			top += l[i]
+		}
+		ymax = math.Max(ymax, top)
+	}
+	return xmin, xmax, 0, ymax
+}
+
+func (s *stackedBars) Plot(c draw.Canvas, p *plot.Plot) {
+	trX, trY := p.Transforms(&c)
+	rule := draw.LineStyle{Color: color.White, Width: 0.5}
+	for i, x := range s.xs {
+		lo := 0.0
+		x0, x1 := trX(x-s.width/2), trX(x+s.width/2)
+		for b, l := range s.layers {
+			hi := lo + l[i]
+			if l[i] > 0 {
+				y0, y1 := trY(lo), trY(hi)
+				rect := []vg.Point{{X: x0, Y: y0}, {X: x1, Y: y0}, {X: x1, Y: y1}, {X: x0, Y: y1}}
+				c.FillPolygon(s.fills[b], c.ClipPolygonXY(rect))
+				if s.hatch[b] {
+					strokeHatch(&c, []vg.Point{{X: x0, Y: y0}, {X: x1, Y: y0}}, []vg.Point{{X: x0, Y: y1}, {X: x1, Y: y1}}, inkOn(s.fills[b]))
+				}
+				if b > 0 {
+					c.StrokeLines(rule, c.ClipLinesXY([]vg.Point{{X: x0, Y: y0}, {X: x1, Y: y0}})...)
+				}
+			}
+			lo = hi
+		}
+	}
+}
+
+// fitLabel shortens a legend label to at most width points, ending it
+// with an ellipsis when it is cut.
+func fitLabel(s string, sty text.Style, width vg.Length) string {
+	if sty.Width(s) <= width {
+		return s
+	}
+	r := []rune(s)
+	for len(r) > 1 && sty.Width(string(r)+"…") > width {
+		r = r[:len(r)-1]
+	}
+	return strings.TrimSpace(string(r)) + "…"
+}
+
+// stackedSpendChart draws each year's spend as a bar stacked by the named
+// series (series k of all classes has fill ks[k] of classRamp(classes), so a
+// class looks the same in every chart), with the caps (NaN for a year
+// without one) as heavy rules.
+func stackedSpendChart(id, title, caption, currency string, firstYear int, names []string, ks []int, classes int, values [][]float64, caps []float64, capName string) (chart, error) {
+	n := len(caps)
+	largest := 0.0
+	for t := range n {
+		sum := 0.0
+		for _, v := range values {
+			sum += v[t]
+		}
+		largest = math.Max(largest, sum)
+		if !math.IsNaN(caps[t]) {
+			largest = math.Max(largest, caps[t])
+		}
+	}
+	div, word := moneyScale(largest)
+	p := newPlot("Year", fmt.Sprintf("%s%s a year", word, currency))
+	p.X.Tick.Marker = yearAxis{firstYear: firstYear}
+	p.Y.Min, p.Y.Max = 0, math.Max(1.12*largest/div, 1)
+	ramp := classRamp(classes)
+	bars := &stackedBars{xs: make([]float64, n), layers: make([][]float64, len(values)), width: 0.7}
+	for _, k := range ks {
+		bars.fills, bars.hatch = append(bars.fills, ramp[k]), append(bars.hatch, k%2 == 1)
+	}
+	marks := budgetMarks{xs: make([]float64, n), ys: make([]float64, n)}
+	for t := range n {
+		bars.xs[t] = float64(t + 1)
+		marks.xs[t] = float64(t + 1)
+		marks.ys[t] = caps[t] / div
+	}
+	for b, v := range values {
+		bars.layers[b] = make([]float64, n)
+		for t := range n {
+			bars.layers[b][t] = v[t] / div
+		}
+	}
+	p.Add(bars, marks)
+	p.X.Min, p.X.Max = 0.4, float64(n)+0.6
+	l := newLegend()
+	sty := l.TextStyle
+	for b := len(names) - 1; b >= 0; b-- {
+		l.Add(fitLabel(names[b], sty, legendW-30), swatch{fill: bars.fills[b], hatch: bars.hatch[b]})
+	}
+	hasCap := false
+	for _, c := range caps {
+		hasCap = hasCap || !math.IsNaN(c)
+	}
+	if hasCap {
+		l.Add(capName, marks)
+	}
+	svg, err := drawSVG(p, &l, title)
+	return chart{ID: id, Title: title, Caption: caption, SVG: svg}, err
+}
+
+// drawSVGBelow draws a plot with its legend under it, one entry a line
+// across the full width, so that long names (scenario names, budgets
+// explained in words) are not cut off; the SVG grows by the legend.
+func drawSVGBelow(p *plot.Plot, legend *plot.Legend, entries int, label string) (svg template.HTML, err error) {
+	defer func() {
+		if r := recover(); r != nil {
+			err = fmt.Errorf("drawing chart %q: %v", label, r)
+		}
+	}()
+	const line = 12
+	extra := vg.Length(entries*line + 8)
+	c := vgsvg.NewWith(vgsvg.UseWH(chartW, chartH+extra))
+	dc := draw.New(c)
+	plotArea := dc
+	plotArea.Min.Y += extra
+	la := dc
+	la.Max.Y = dc.Min.Y + extra - 4
+	la.Min.X += 8
+	legend.Draw(la)
+	p.Draw(plotArea)
+	return inlineSVG(c, label)
+}
+
+// vline is a vertical rule across the plot at x, for a budget marked on a
+// chart whose x axis is money. It has no data range: the chart sets its x
+// axis to take in every rule.
+type vline struct {
+	x     float64
+	style draw.LineStyle
+}
+
+func (v vline) Plot(c draw.Canvas, p *plot.Plot) {
+	trX, _ := p.Transforms(&c)
+	x := trX(v.x)
+	c.StrokeLines(v.style, c.ClipLinesXY([]vg.Point{{X: x, Y: c.Min.Y}, {X: x, Y: c.Max.Y}})...)
+}
+
+// Thumbnail draws the rule's dash across the legend entry: a short
+// vertical rule would not show its pattern.
+func (v vline) Thumbnail(c *draw.Canvas) {
+	y := (c.Min.Y + c.Max.Y) / 2
+	c.StrokeLine2(v.style, c.Min.X, y, c.Max.X, y)
 }

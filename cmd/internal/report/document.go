@@ -19,10 +19,15 @@ type document struct {
 	Subtitle string
 	Caution  string
 	Contents []link
-	Compare  *comparison
-	Runs     []runView
-	Sweep    *sweepView
-	Details  detailsView
+	// Summary is the one-page summary of a single-scenario report.
+	Summary *summaryView
+	Compare *comparison
+	Runs    []runView
+	Sweep   *sweepView
+	// Assumptions lists the runs whose assumptions the report restates,
+	// in their own section after the plans and the sweep.
+	Assumptions []runView
+	Details     detailsView
 }
 
 type link struct{ ID, Text string }
@@ -56,14 +61,22 @@ type runView struct {
 	ID          string
 	Name        string
 	Description string
+	Headline    string
 	Summary     []fact
 	Warnings    []string
 	LOS         table
 	Charts      []chart
 	Targets     *table
+	Funding     *fundingView
 	Bands       *bandsView
 	Spend       *table
+	ClassSpend  *table
+	GroupSpend  *table
+	// SpendCharts are the spend stacked by class against the network cap,
+	// then one per budget group against its cap.
+	SpendCharts []chart
 	Work        *table
+	Indicators  *indicatorsView
 	Assumptions *assumptions
 
 	// ClassWarnings say what the plan does to classes a council should
@@ -95,6 +108,8 @@ type comparison struct {
 
 type sweepView struct {
 	Chart *chart
+	Facts []fact
+	Notes []string
 	Table table
 }
 
@@ -120,6 +135,12 @@ func build(rep *Report, withCharts bool) (*document, error) {
 	if len(rep.Runs) == 1 {
 		d.Title = first.Scenario
 		d.Subtitle = "Maintenance work program report"
+		sv, err := buildSummary("summary", rep.Runs[0], withCharts)
+		if err != nil {
+			return nil, err
+		}
+		d.Summary = sv
+		d.Contents = append(d.Contents, link{"summary", "Summary"})
 	} else {
 		names := make([]string, len(rep.Runs))
 		for i, run := range rep.Runs {
@@ -141,6 +162,9 @@ func build(rep *Report, withCharts bool) (*document, error) {
 		}
 		d.Runs = append(d.Runs, rv)
 		d.Contents = append(d.Contents, link{rv.ID, rv.Name})
+		if rv.Assumptions != nil {
+			d.Assumptions = append(d.Assumptions, rv)
+		}
 	}
 	if rep.Sweep != nil && len(rep.Sweep.Points) > 0 {
 		sv, err := buildSweep(rep.Sweep, withCharts)
@@ -150,6 +174,9 @@ func build(rep *Report, withCharts bool) (*document, error) {
 		d.Sweep = sv
 		d.Contents = append(d.Contents, link{"sweep", "Condition score against budget"})
 	}
+	if len(d.Assumptions) > 0 {
+		d.Contents = append(d.Contents, link{"assumptions", "Assumptions"})
+	}
 	d.Details = buildDetails(rep)
 	d.Contents = append(d.Contents, link{"caution", "About these figures"}, link{"details", "Run details"})
 	return d, nil
@@ -157,7 +184,7 @@ func build(rep *Report, withCharts bool) (*document, error) {
 
 func buildRun(id string, run Run, withCharts bool) (runView, error) {
 	r := run.Result
-	rv := runView{ID: id, Name: r.Scenario}
+	rv := runView{ID: id, Name: r.Scenario, Headline: render.Headline(r)}
 	for _, w := range r.ClassWarnings {
 		rv.ClassWarnings = append(rv.ClassWarnings, w.Text)
 	}
@@ -170,7 +197,7 @@ func buildRun(id string, run Run, withCharts bool) (runView, error) {
 		rv.Description = strings.TrimSpace(run.Scenario.Description)
 	}
 	rv.Summary = summaryFacts(r)
-	rv.LOS = losTable(id+"-los", run)
+	rv.LOS = losTable(id+"-los", run, true)
 	if withCharts {
 		cs, err := runCharts(id, run)
 		if err != nil {
@@ -192,10 +219,23 @@ func buildRun(id string, run Run, withCharts bool) (runView, error) {
 	if run.Simulation != nil {
 		rv.Bands = buildBands(id, run.Simulation)
 	}
+	if r.Kind == "plan" || r.Funding != nil || r.RoutineCost != nil {
+		rv.Funding = buildFunding(id+"-funding", r)
+	}
 	if r.Kind == "plan" {
 		s, w := spendTable(id+"-spend", r), workTable(id+"-work", r)
 		rv.Spend, rv.Work = &s, &w
+		cs := classSpendTable(id+"-class-spend", r)
+		rv.ClassSpend, rv.GroupSpend = &cs, groupSpendTable(id+"-group-spend", r)
+		if withCharts {
+			charts, err := classSpendCharts(id, r)
+			if err != nil {
+				return rv, err
+			}
+			rv.SpendCharts = charts
+		}
 	}
+	rv.Indicators = buildIndicators(id+"-amp", r)
 	if run.Scenario != nil {
 		rv.Assumptions = buildAssumptions(id, run.Scenario, r)
 	}
@@ -279,16 +319,30 @@ func scaleNote(sc *scenarios.Scenario, class string) string {
 			if s.Best < s.Worst {
 				dir = "lower is better"
 			}
-			return fmt.Sprintf(" (%s-%s %s; %s)", plainNumber(math.Min(s.Best, s.Worst)), plainNumber(math.Max(s.Best, s.Worst)), s.Name, dir)
+			return fmt.Sprintf(" (%s; %s-%s, %s)", scaleLabel(s), plainNumber(math.Min(s.Best, s.Worst)), plainNumber(math.Max(s.Best, s.Worst)), dir)
 		}
 	}
 	return ""
 }
 
-// losTable is the level-of-service table: per class and for the network,
-// today and at the end of year 1, 5, 10 and the last: good, fair and poor
-// shares, average index, and replacement value and backlog where known.
-func losTable(id string, run Run) table {
+// scaleLabel names a scale for people: a preset by its title, never by
+// its key (preset:pci-astm-d6433), a scale of the file by its name.
+func scaleLabel(s *scenarios.Scale) string {
+	if s.Preset != "" {
+		for _, p := range scenarios.Presets() {
+			if p.Name == s.Preset {
+				return p.Title
+			}
+		}
+	}
+	return strings.TrimPrefix(s.Name, scenarios.PresetPrefix)
+}
+
+// losTable is the level-of-service table: per class (when classes is set)
+// and for the network, today and at the end of year 1, 5, 10 and the last:
+// good, fair and poor shares, average index, and replacement value and
+// backlog where known.
+func losTable(id string, run Run, classes bool) table {
 	r := run.Result
 	years := render.LOSYears(r.Horizon)
 	t := table{ID: id, Caption: "Level of service: condition today and at the end of selected years"}
@@ -315,12 +369,15 @@ func losTable(id string, run Run) table {
 		}
 	}
 	for k := range r.Initial.Classes {
+		if !classes {
+			break
+		}
 		cs := []scenarios.ClassCondition{r.Initial.Classes[k]}
 		for _, y := range years {
 			cs = append(cs, r.Years[y-1].Classes[k])
 		}
 		c := cs[0]
-		t.group(fmt.Sprintf("%s (share of %s)", c.Class, c.Unit))
+		t.group(fmt.Sprintf("%s (share of %s)", c.Class, render.UnitWord(c.Unit)))
 		shareRow := func(label string, get func(scenarios.Shares) float64) {
 			cells := []string{label}
 			for _, c := range cs {
@@ -383,6 +440,9 @@ func losTable(id string, run Run) table {
 	moneyRow("Replacement value ("+cur+")", rv)
 	moneyRow("Backlog ("+cur+")", bl)
 	t.Note = "Shares are of each class's quantity; good, fair and poor group the states of each class's scale. Years mean the condition at the end of the year."
+	if !classes {
+		t.Note = "Network shares weight each class's shares by " + r.Weighting + ". Years mean the condition at the end of the year; the full table, by class, is in the plan's section."
+	}
 	if run.Simulation != nil {
 		t.Note += " The 5th-95th percentile rows come from simulating the plan (see \"How sure the forecast is\"); today's condition is known, so it has no range."
 	}
@@ -391,70 +451,47 @@ func losTable(id string, run Run) table {
 
 func targetTable(id string, r *scenarios.Result) table {
 	t := table{ID: id, Caption: "Whether each target holds, its worst year, and any shortfall", Head: []string{"Target", "Met", "Worst year", "Worst value", "Limit", "Shortfall"}, Num: []bool{false, false, true, true, true, false}}
+	short := false
 	for _, o := range r.Targets {
-		share := strings.Contains(o.Target, " share ")
-		val := func(v float64) string {
-			if share {
-				return render.Percent(v)
-			}
-			return render.Index(v)
-		}
 		met := "yes"
 		if !o.Met {
 			met = "no"
 		}
-		short := ""
-		if len(o.Shortfalls) > 0 {
-			biggest := 0.0
-			for _, s := range o.Shortfalls {
-				biggest = math.Max(biggest, s.Amount)
+		s := ""
+		if n := len(o.Shortfalls); n > 0 {
+			short = true
+			s = fmt.Sprintf("up to %s in %d", render.ShortfallAmount(o, render.WorstShortfall(o)), o.Shortfalls[0].Year)
+			if last := o.Shortfalls[n-1].Year; last != o.Shortfalls[0].Year {
+				s = fmt.Sprintf("up to %s in %d-%d", render.ShortfallAmount(o, render.WorstShortfall(o)), o.Shortfalls[0].Year, last)
 			}
-			unit := "index points"
-			amount := render.Index(biggest)
-			if share {
-				unit, amount = "percentage points", strconv.FormatFloat(100*biggest, 'f', 1, 64)
-			}
-			first, last := o.Shortfalls[0].Year, o.Shortfalls[len(o.Shortfalls)-1].Year
-			short = fmt.Sprintf("up to %s %s in %d-%d", amount, unit, first, last)
 		}
-		t.add(o.Target, met, strconv.Itoa(o.WorstYear), val(o.WorstValue), val(o.Limit), short)
+		t.add(o.Target, met, strconv.Itoa(o.WorstYear), render.TargetValue(o, o.WorstValue), render.TargetValue(o, o.Limit), s)
+	}
+	if !short {
+		dropColumns(&t, 5)
 	}
 	return t
 }
 
 func spendTable(id string, r *scenarios.Result) table {
 	cur := currencyOf(r)
-	t := table{ID: id, Caption: "Spend against budget (" + cur + ", at each year's prices)", Head: []string{"Year", "Spend", "Budget cap", "Unspent"}, Num: []bool{false, true, true, true}}
-	var groups []string
-	if len(r.Years) > 0 {
-		for _, g := range r.Years[0].Groups {
-			groups = append(groups, g.Name)
-			t.Head = append(t.Head, g.Name+" spend", g.Name+" cap")
-			t.Num = append(t.Num, true, true)
-		}
-	}
+	// Budget groups have their own table (groupSpendTable).
+	t := table{ID: id, Caption: "Spend against the network budget (" + cur + ", at each year's prices)", Head: []string{"Year", "Spend", "Budget cap", "Unspent"}, Num: []bool{false, true, true, true}}
 	budget := 0.0
 	capped := true
 	for _, y := range r.Years {
 		b, left := "no cap", ""
 		if y.Budget != nil {
-			b, left = render.Money(*y.Budget), render.Money(*y.Budget-y.Spend)
+			b, left = render.Money(*y.Budget), render.Money(render.Cents(*y.Budget-y.Spend))
 			budget += *y.Budget
 		} else {
 			capped = false
 		}
-		cells := []string{strconv.Itoa(y.Year), render.Money(y.Spend), b, left}
-		for _, g := range y.Groups {
-			cells = append(cells, render.Money(g.Spend), capText(g.Budget))
-		}
-		t.add(cells...)
+		t.add(strconv.Itoa(y.Year), render.Money(y.Spend), b, left)
 	}
 	total := []string{"Total", render.Money(r.TotalCost), "", ""}
 	if capped {
-		total[2], total[3] = render.Money(budget), render.Money(budget-r.TotalCost)
-	}
-	for range groups {
-		total = append(total, "", "")
+		total[2], total[3] = render.Money(budget), render.Money(render.Cents(budget-r.TotalCost))
 	}
 	t.add(total...)
 	return t
@@ -541,9 +578,12 @@ func budgetWords(b []float64, cur string) string {
 }
 
 func classAssumption(id string, c *scenarios.Class, cur string) classAssumptions {
-	ca := classAssumptions{Name: c.Name, Heading: fmt.Sprintf("%s (%s, scale %s)", c.Name, c.Unit, c.Scale.Name)}
+	ca := classAssumptions{Name: c.Name, Heading: fmt.Sprintf("%s (%s, scale: %s)", c.Name, c.Unit, scaleLabel(c.Scale))}
 	ca.Scale = table{ID: id + "-scale", Caption: "Condition states, best first, and today's quantity",
-		Head: []string{"State", "Index range", "Value used for averages", "Group", "Quantity today (" + c.Unit + ")"}, Num: []bool{false, true, true, false, true}}
+		Head: []string{"State", "Index range", "Value used for averages", "Group", "Quantity today (" + render.UnitWord(c.Unit) + ")"}, Num: []bool{false, true, true, false, true}}
+	if c.Scale.Source != "" {
+		ca.Scale.Note = "Scale source: " + c.Scale.Source + "."
+	}
 	for i, st := range c.Scale.States {
 		ca.Scale.add(st.Name, plainNumber(st.Min)+" - "+plainNumber(st.Max), plainNumber(st.Value), c.Scale.Group[i].String(), render.Quantity(c.Initial[i]))
 	}
@@ -561,16 +601,19 @@ func classAssumption(id string, c *scenarios.Class, cur string) classAssumptions
 		}
 		ca.Matrix.add(cells...)
 	}
-	ca.Treatments = table{ID: id + "-treatments", Caption: "Treatments (unit costs in " + cur + " per " + c.Unit + " at start-year prices)",
-		Head: []string{"Treatment", "State treated", "Unit cost", "Condition right after", "Ages in its year"}, Num: []bool{false, false, true, false, false}}
+	ca.Treatments = table{ID: id + "-treatments", Caption: "Treatments (unit costs in " + cur + " " + render.PerUnit(c.Unit) + " at start-year prices)",
+		Head: []string{"Treatment", "State treated", "Unit cost", "Condition right after", "Ages in its year", "Renewal"}, Num: []bool{false, false, true, false, false, false}}
 	for ti := range c.Treatments {
 		tr := &c.Treatments[ti]
-		ages := "yes"
+		ages, renewal := "yes", "no"
 		if tr.SkipsAging {
 			ages = "no"
 		}
+		if tr.Renewal {
+			renewal = "yes"
+		}
 		for _, i := range tr.Applies {
-			ca.Treatments.add(tr.Name, c.Scale.States[i].Name, render.Money(tr.Cost[i]), effectWords(tr, i, c.Scale), ages)
+			ca.Treatments.add(tr.Name, c.Scale.States[i].Name, render.Money(tr.Cost[i]), effectWords(tr, i, c.Scale), ages, renewal)
 		}
 	}
 	return ca
@@ -608,11 +651,11 @@ func effectWords(tr *treatments.Treatment, i int, s *scenarios.Scale) string {
 // those of the first run.
 func buildComparison(rep *Report, withCharts bool) (*comparison, error) {
 	c := &comparison{}
-	// Tables and charts name the scenarios by number; the overview gives
-	// the names, which are often too long for a column head or a legend.
-	label := func(i int) string { return fmt.Sprintf("Scenario %d", i+1) }
+	// Tables and charts name the scenarios by their names; column heads
+	// wrap, and the charts put their legends below the plot.
+	label := func(i int) string { return rep.Runs[i].Result.Scenario }
 	c.Overview = table{ID: "compare-overview", Caption: "Scenarios at a glance",
-		Head: []string{"Scenario", "Name", "Status", "Condition score (0-100)", "Total spend", "Present value", "Targets met"}, Num: []bool{false, false, false, true, true, true, true}}
+		Head: []string{"Scenario", "Status", "Condition score (0-100)", "Total spend", "Present value", "Targets met", "Least level budget meeting every target", "Least level budget holding today's condition"}, Num: []bool{false, false, true, true, true, true, true, true}}
 	for i, run := range rep.Runs {
 		r := run.Result
 		met := 0
@@ -625,7 +668,27 @@ func buildComparison(rep *Report, withCharts bool) (*comparison, error) {
 		if r.Kind == "plan" {
 			spend, pv = currencyOf(r)+" "+render.Money(r.TotalCost), currencyOf(r)+" "+render.Money(r.PresentValue)
 		}
-		c.Overview.add(label(i), r.Scenario, r.Status, strconv.FormatFloat(r.ConditionScore, 'f', 1, 64), spend, pv, fmt.Sprintf("%d of %d", met, len(r.Targets)))
+		level, hold := "-", "-"
+		if f := r.Funding; f != nil {
+			if f.LevelBudget != nil {
+				level = render.Money(*f.LevelBudget)
+			} else if f.Unreachable != "" {
+				level = "no amount"
+			}
+			if f.HoldBudget != nil {
+				hold = render.Money(*f.HoldBudget)
+			}
+		}
+		c.Overview.add(label(i), statusWordsShort(r.Status), strconv.FormatFloat(r.ConditionScore, 'f', 1, 64), spend, pv, fmt.Sprintf("%d of %d", met, len(r.Targets)), level, hold)
+	}
+	if cur := commonCurrency(rep); cur != "each scenario's currency" {
+		c.Overview.Caption += " (money in " + cur + ")"
+		for i, row := range c.Overview.Rows {
+			for j := 3; j <= 4; j++ {
+				row.Cells[j] = strings.TrimPrefix(row.Cells[j], cur+" ")
+			}
+			c.Overview.Rows[i] = row
+		}
 	}
 
 	first := rep.Runs[0].Result
@@ -704,13 +767,15 @@ func buildComparison(rep *Report, withCharts bool) (*comparison, error) {
 		}
 	}
 
-	// Spend side by side, by calendar year over the union of the years.
-	c.Spend = table{ID: "compare-spend", Caption: "Spend and budget side by side (at each year's prices)", Head: []string{"Year"}, Num: []bool{false}}
+	// Spend side by side, by calendar year over the union of the years: one
+	// column per scenario, "spend / cap" in each cell, so that the table
+	// keeps to the page with several scenarios.
+	c.Spend = table{ID: "compare-spend", Caption: "Spend and network budget cap side by side (spend / cap, " + commonCurrency(rep) + " at each year's prices)", Head: []string{"Year"}, Num: []bool{false}}
 	lo, hi := math.MaxInt, math.MinInt
 	for i, run := range rep.Runs {
 		r := run.Result
-		c.Spend.Head = append(c.Spend.Head, label(i)+" spend ("+currencyOf(r)+")", label(i)+" budget cap")
-		c.Spend.Num = append(c.Spend.Num, true, true)
+		c.Spend.Head = append(c.Spend.Head, label(i))
+		c.Spend.Num = append(c.Spend.Num, true)
 		lo, hi = min(lo, r.StartYear), max(hi, r.StartYear+r.Horizon-1)
 	}
 	for y := lo; y <= hi; y++ {
@@ -719,22 +784,22 @@ func buildComparison(rep *Report, withCharts bool) (*comparison, error) {
 			r := run.Result
 			i := y - r.StartYear
 			if i < 0 || i >= len(r.Years) || r.Kind != "plan" {
-				cells = append(cells, "-", "-")
+				cells = append(cells, "-")
 				continue
 			}
 			b := "no cap"
 			if r.Years[i].Budget != nil {
 				b = render.Money(*r.Years[i].Budget)
 			}
-			cells = append(cells, render.Money(r.Years[i].Spend), b)
+			cells = append(cells, render.Money(r.Years[i].Spend)+" / "+b)
 		}
 		c.Spend.add(cells...)
 	}
-	total := []string{"Total"}
+	total := []string{"Total spend"}
 	pv := []string{"Present value"}
 	for _, run := range rep.Runs {
-		total = append(total, render.Money(run.Result.TotalCost), "")
-		pv = append(pv, render.Money(run.Result.PresentValue), "")
+		total = append(total, render.Money(run.Result.TotalCost))
+		pv = append(pv, render.Money(run.Result.PresentValue))
 	}
 	c.Spend.add(total...)
 	c.Spend.add(pv...)
@@ -802,9 +867,8 @@ func buildComparison(rep *Report, withCharts bool) (*comparison, error) {
 
 // runCharts draws a run's charts: network good/fair/poor shares, each
 // class's shares by state, and spend against budget.
-func runCharts(id string, run Run) ([]chart, error) {
-	r := run.Result
-	var out []chart
+// networkChart draws the network's good, fair and poor shares by year.
+func networkChart(id string, r *scenarios.Result) (chart, error) {
 	three := conditionRamp(3)
 	net := []band{{name: "Good", fill: three[0]}, {name: "Fair", fill: three[1]}, {name: "Poor", fill: three[2], hatch: true}}
 	snaps := append([]scenarios.NetworkCondition{r.Initial.Network}, make([]scenarios.NetworkCondition, 0, len(r.Years))...)
@@ -816,9 +880,15 @@ func runCharts(id string, run Run) ([]chart, error) {
 		net[1].values = append(net[1].values, 100*s.Shares.Fair)
 		net[2].values = append(net[2].values, 100*s.Shares.Poor)
 	}
-	ch, err := sharesChart(id+"-chart-network", "Network condition: good, fair and poor shares",
+	return sharesChart(id, "Network condition: good, fair and poor shares",
 		fmt.Sprintf("Share of the network in good, fair and poor condition today and at the end of each year (classes weighted by %s). Poor is hatched.", r.Weighting),
 		"Share of network (%)", r.StartYear, net)
+}
+
+func runCharts(id string, run Run) ([]chart, error) {
+	r := run.Result
+	var out []chart
+	ch, err := networkChart(id+"-chart-network", r)
 	if err != nil {
 		return nil, err
 	}
@@ -850,12 +920,12 @@ func runCharts(id string, run Run) ([]chart, error) {
 				bands[i].values = append(bands[i].values, v)
 			}
 		}
-		caption := fmt.Sprintf("Share of %s's %s in each condition state, best at the top, today and at the end of each year.", c.Class, c.Unit)
+		caption := fmt.Sprintf("Share of %s (%s) in each condition state, best at the top, today and at the end of each year.", c.Class, render.UnitWord(c.Unit))
 		if len(poor) > 0 {
 			caption += " States in the poor group are hatched."
 		}
 		ch, err := sharesChart(fmt.Sprintf("%s-chart-class-%d", id, k+1), "Condition of "+c.Class+" by state", caption,
-			"Share of "+c.Unit+" (%)", r.StartYear, bands)
+			"Share of "+render.UnitWord(c.Unit)+" (%)", r.StartYear, bands)
 		if err != nil {
 			return nil, err
 		}
@@ -884,22 +954,52 @@ func buildSweep(s *Sweep, withCharts bool) (*sweepView, error) {
 		cur = "currency units"
 	}
 	sv := &sweepView{Table: table{ID: "sweep-table", Caption: "Condition score against yearly budget: " + s.Scenario,
-		Head: []string{"Yearly budget (" + cur + ")", "Condition score (0-100)", "Status"}, Num: []bool{true, true, false}}}
+		Head: []string{"Yearly budget (" + cur + ")", "Condition score (0-100)", "Network poor share at the end", "Targets met", "Status"}, Num: []bool{true, true, true, true, false}}}
 	largest := 0.0
 	for _, p := range s.Points {
-		sv.Table.add(render.Money(p.Budget), strconv.FormatFloat(p.ConditionScore, 'f', 1, 64), p.Status)
+		sv.Table.add(render.Money(p.Budget), strconv.FormatFloat(p.ConditionScore, 'f', 1, 64), render.Percent(p.EndPoorShare), fmt.Sprintf("%d of %d", p.TargetsMet, p.Targets), statusWordsShort(p.Status))
 		largest = math.Max(largest, p.Budget)
 	}
+	type named struct {
+		label, fact string
+		v           *float64
+	}
+	budgetName := "Scenario's budget"
+	if s.BudgetVaries {
+		budgetName = "Scenario's budget (mean of its years)"
+	}
+	marks := []named{
+		{budgetName, "The scenario's own yearly budget", s.Budget},
+		{"Least level budget meeting every target", "Least level yearly budget that meets every target", s.TargetsBudget},
+		{"Least level budget holding today's condition", "Least level yearly budget that holds today's network condition to the last year", s.HoldBudget},
+	}
+	withTargets := len(s.Points) > 0 && s.Points[0].Targets > 0
+	for i, m := range marks {
+		switch {
+		case m.v != nil:
+			sv.Facts = append(sv.Facts, fact{m.fact, cur + " " + render.Money(*m.v)})
+			largest = math.Max(largest, *m.v)
+		case i == 1 && withTargets, i == 2:
+			sv.Facts = append(sv.Facts, fact{m.fact, "none: no level budget reaches it (see the notes)"})
+		}
+	}
+	sv.Notes = s.Notes
 	if withCharts {
 		div, word := moneyScale(largest)
-		se := series{name: s.Scenario}
+		se := series{name: "Condition score of the best plan for each level budget"}
 		for _, p := range s.Points {
 			se.xs, se.ys = append(se.xs, p.Budget/div), append(se.ys, p.ConditionScore)
 		}
+		var ms []mark
+		for _, m := range marks {
+			if m.v != nil {
+				ms = append(ms, mark{name: m.label, x: *m.v / div})
+			}
+		}
 		lo, hi := paddedRange(0, 100, se.ys)
 		ch, err := lineChart("sweep-chart", "Condition score against yearly budget",
-			"Condition score (0-100, mean network score over the horizon) of the best plan for each flat yearly budget.",
-			"Yearly budget ("+word+cur+")", "Condition score (0-100)", nil, lo, hi, []series{se})
+			"Condition score (0-100, mean network score over the horizon) of the best plan for each level yearly budget, with the scenario's own budget and the least level budgets that meet the targets and hold today's condition marked as vertical rules.",
+			"Yearly budget ("+word+cur+")", "Condition score (0-100)", nil, lo, hi, []series{se}, ms...)
 		if err != nil {
 			return nil, err
 		}
@@ -908,13 +1008,23 @@ func buildSweep(s *Sweep, withCharts bool) (*sweepView, error) {
 	return sv, nil
 }
 
+// statusWordsShort writes a plan status for a table cell.
+func statusWordsShort(s string) string {
+	switch s {
+	case "optimal":
+		return "every target met"
+	case "targets-not-met":
+		return "targets not met"
+	}
+	return strings.ReplaceAll(s, "-", " ")
+}
+
 func buildDetails(rep *Report) detailsView {
 	d := rep.Details
 	dv := detailsView{Facts: []fact{{"wearplan version", d.Version}, {"Report date", d.Date}}}
 	for _, run := range rep.Runs {
 		if m := run.Result.Model; m != nil {
-			dv.Facts = append(dv.Facts, fact{"Model of " + run.Result.Scenario,
-				fmt.Sprintf("%s rows, %s columns, %s coefficients; %d solves with lp_solve 5.5", render.Money(float64(m.Rows)), render.Money(float64(m.Columns)), render.Money(float64(m.Nonzeros)), m.Solves)})
+			dv.Facts = append(dv.Facts, fact{"Model of " + run.Result.Scenario, modelWords(m)})
 		}
 	}
 	dv.Inputs = table{ID: "inputs", Caption: "Input files", Head: []string{"File", "SHA-256"}, Num: []bool{false, false}}
@@ -922,4 +1032,23 @@ func buildDetails(rep *Report) detailsView {
 		dv.Inputs.add(f.Path, f.SHA256)
 	}
 	return dv
+}
+
+// modelWords describes the LP solved: the flat model, or the last master
+// LP of the decomposition with its rounds and policies. Counts that are
+// zero (a master LP's coefficients are not counted) are left out.
+func modelWords(m *scenarios.ModelSize) string {
+	what := "the linear program"
+	if m.Solver == "decomposed" {
+		what = "the last master linear program of the decomposition"
+	}
+	parts := []string{render.Money(float64(m.Rows)) + " rows", render.Money(float64(m.Columns)) + " columns"}
+	if m.Nonzeros > 0 {
+		parts = append(parts, render.Money(float64(m.Nonzeros))+" coefficients")
+	}
+	s := fmt.Sprintf("%s: %s; %s with lp_solve 5.5", what, strings.Join(parts, ", "), render.Plural(m.Solves, "solve", "solves"))
+	if m.Iterations > 0 {
+		s += fmt.Sprintf(", %s, %s generated", render.Plural(m.Iterations, "pricing round", "pricing rounds"), render.Plural(m.Policies, "policy", "policies"))
+	}
+	return s
 }

@@ -69,6 +69,16 @@ type Sweep struct {
 	Scenario string
 	Currency string
 	Points   []SweepPoint
+	// Budget is the scenario's own yearly network budget, marked on the
+	// chart (its mean when BudgetVaries); nil when it has none.
+	Budget       *float64
+	BudgetVaries bool
+	// TargetsBudget and HoldBudget are the least level budgets that meet
+	// the targets and that hold today's network condition, marked on the
+	// chart; nil when unknown or unreachable.
+	TargetsBudget, HoldBudget *float64
+	// Notes are the sweep's warnings (why a budget is missing, say).
+	Notes []string
 }
 
 // SweepPoint is one plan of a sweep.
@@ -79,6 +89,10 @@ type SweepPoint struct {
 	ConditionScore float64
 	// Status is the plan status (optimal, targets-not-met).
 	Status string
+	// EndPoorShare is the network's poor share at the end of the horizon
+	// (0-1); TargetsMet of Targets hold.
+	EndPoorShare        float64
+	TargetsMet, Targets int
 }
 
 var datePattern = regexp.MustCompile(`^\d{4}-\d{2}-\d{2}$`)

@@ -23,6 +23,20 @@ func Markdown(w io.Writer, rep *Report) error {
 	m.blank()
 	m.line("> **", mdText(d.Caution), "**")
 	m.blank()
+	if sv := d.Summary; sv != nil {
+		m.line("## Summary")
+		m.blank()
+		m.line("**", mdText(sv.Headline), "**")
+		m.blank()
+		m.line(mdText(sv.Gap))
+		m.blank()
+		m.facts(sv.Facts)
+		for _, warn := range sv.Warnings {
+			m.line("Note: ", mdText(warn))
+			m.blank()
+		}
+		m.table(sv.LOS)
+	}
 	if c := d.Compare; c != nil {
 		m.line("## Comparison")
 		m.blank()
@@ -37,6 +51,8 @@ func Markdown(w io.Writer, rep *Report) error {
 			m.line(mdText(r.Description))
 			m.blank()
 		}
+		m.line("**", mdText(r.Headline), "**")
+		m.blank()
 		m.facts(r.Summary)
 		for _, warn := range r.Warnings {
 			m.line("Note: ", mdText(warn))
@@ -63,6 +79,20 @@ func Markdown(w io.Writer, rep *Report) error {
 			m.line("### Targets")
 			m.blank()
 			m.table(*r.Targets)
+		}
+		if f := r.Funding; f != nil {
+			m.line("### Funding")
+			m.blank()
+			m.line(mdText(f.Gap))
+			m.blank()
+			m.list(f.Missed)
+			m.list(f.Words)
+			if f.Extra != nil {
+				m.table(*f.Extra)
+			}
+			if f.Targets != nil {
+				m.table(*f.Targets)
+			}
 		}
 		if b := r.Bands; b != nil {
 			m.line("### How sure the forecast is")
@@ -97,37 +127,75 @@ func Markdown(w io.Writer, rep *Report) error {
 			m.blank()
 			m.table(*r.Spend)
 		}
+		if r.ClassSpend != nil {
+			m.line("### Spend by class and budget group")
+			m.blank()
+			m.line("The chart of spend stacked by class against the cap is in the HTML report.")
+			m.blank()
+			m.table(*r.ClassSpend)
+			if r.GroupSpend != nil {
+				m.table(*r.GroupSpend)
+			}
+		}
 		if r.Work != nil {
 			m.line("### Work program")
 			m.blank()
 			m.table(*r.Work)
 		}
-		if a := r.Assumptions; a != nil {
-			m.line("### Assumptions")
+		if in := r.Indicators; in != nil {
+			m.line("### Asset management plan indicators")
 			m.blank()
-			m.facts(a.General)
-			if len(a.Targets) > 0 {
-				m.line("Targets:")
-				m.blank()
-				for _, t := range a.Targets {
-					m.line("- ", mdText(t))
-				}
+			m.line(mdText(in.Intro))
+			m.blank()
+			m.table(in.Ratios)
+			m.table(in.Value)
+			m.table(in.Renewal)
+			m.table(in.Life)
+			for _, n := range in.Notes {
+				m.line("Note: ", mdText(n))
 				m.blank()
 			}
-			m.table(a.Weights)
-			for _, c := range a.Classes {
-				m.line("#### ", mdText(c.Heading))
-				m.blank()
-				m.table(c.Scale)
-				m.table(c.Matrix)
-				m.table(c.Treatments)
-			}
+			m.line("#### What the indicators mean and where they come from")
+			m.blank()
+			m.facts(in.Definitions)
 		}
 	}
 	if s := d.Sweep; s != nil {
 		m.line("## Condition score against budget")
 		m.blank()
+		m.line("The chart, with the scenario's budget and the least level budgets marked, is in the HTML report.")
+		m.blank()
+		m.facts(s.Facts)
+		for _, n := range s.Notes {
+			m.line("Note: ", mdText(n))
+			m.blank()
+		}
 		m.table(s.Table)
+	}
+	if len(d.Assumptions) > 0 {
+		m.line("## Assumptions")
+		m.blank()
+	}
+	for _, r := range d.Assumptions {
+		a := r.Assumptions
+		if len(d.Assumptions) > 1 {
+			m.line("### ", mdText(r.Name))
+			m.blank()
+		}
+		m.facts(a.General)
+		if len(a.Targets) > 0 {
+			m.line("Targets:")
+			m.blank()
+			m.list(a.Targets)
+		}
+		m.table(a.Weights)
+		for _, c := range a.Classes {
+			m.line("#### ", mdText(c.Heading))
+			m.blank()
+			m.table(c.Scale)
+			m.table(c.Matrix)
+			m.table(c.Treatments)
+		}
 	}
 	m.line("## Run details")
 	m.blank()
@@ -160,6 +228,17 @@ func (m *mdWriter) flush() error {
 		return m.err
 	}
 	return m.w.Flush()
+}
+
+// list writes a bulleted list and a blank line (nothing for no items).
+func (m *mdWriter) list(items []string) {
+	if len(items) == 0 {
+		return
+	}
+	for _, s := range items {
+		m.line("- ", mdText(s))
+	}
+	m.blank()
 }
 
 func (m *mdWriter) facts(fs []fact) {

@@ -99,8 +99,10 @@ func TestHTMLIsSelfContained(t *testing.T) {
 	if !strings.Contains(out, `content="default-src 'none'`) {
 		t.Error("no content security policy")
 	}
-	if n := strings.Count(out, "<svg "); n != 4 { // network, 2 classes, spend
-		t.Errorf("%d charts, want 4", n)
+	// The summary's network chart; the plan's network, 2 classes, spend,
+	// spend by class.
+	if n := strings.Count(out, "<svg "); n != 6 {
+		t.Errorf("%d charts, want 6", n)
 	}
 }
 
@@ -196,12 +198,12 @@ func TestComparisonAndSweep(t *testing.T) {
 		}
 	}
 	md := markdownOf(t, rep)
-	if !strings.Contains(md, "| 2,000,000 | 61.3 | optimal |") {
+	if !strings.Contains(md, "| 2,000,000 | 61.3 | 0.0% | 0 of 0 | every target met |") {
 		t.Error("Markdown lacks the sweep table row")
 	}
 	// The pipe in a scenario name is escaped, so every row of the overview
 	// table has the same number of cells.
-	overview := md[strings.Index(md, "**Scenarios at a glance**"):]
+	overview := md[strings.Index(md, "**Scenarios at a glance"):]
 	overview = overview[:strings.Index(overview, "\n\n**")]
 	if !strings.Contains(overview, `Second option \| with a pipe`) {
 		t.Errorf("overview lacks the escaped name:\n%s", overview)
@@ -209,7 +211,7 @@ func TestComparisonAndSweep(t *testing.T) {
 	for _, line := range strings.Split(overview, "\n") {
 		if strings.HasPrefix(line, "|") {
 			cells := len(regexp.MustCompile(`(^|[^\\])\|`).FindAllString(line, -1)) - 1
-			if cells != 7 {
+			if cells != 8 {
 				t.Errorf("%d cells in %q", cells, line)
 			}
 		}

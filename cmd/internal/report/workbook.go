@@ -9,18 +9,28 @@ import (
 
 	"github.com/xuri/excelize/v2"
 
+	"wearplan/cmd/internal/render"
 	"wearplan/scenarios"
 )
 
 // Workbook sheet names, in the order they appear.
 const (
-	SheetAbout     = "About"
-	SheetWork      = "Work program"
-	SheetCondition = "Condition by year"
-	SheetService   = "Level of service"
-	SheetSpend     = "Spend and budget"
-	SheetTargets   = "Targets"
-	SheetInputs    = "Inputs"
+	SheetAbout   = "About"
+	SheetSummary = "Summary"
+	SheetWork    = "Work program"
+	// SheetCondition to SheetTargets follow in this order.
+	SheetCondition  = "Condition by year"
+	SheetService    = "Level of service"
+	SheetSpend      = "Spend and budget"
+	SheetClassSpend = "Spend by class"
+	SheetFunding    = "Funding"
+	SheetTargets    = "Targets"
+	// SheetIndicators, SheetRatios and SheetLife follow the targets (and
+	// the bands), before SheetInputs.
+	SheetIndicators = "Indicators"
+	SheetRatios     = "Renewal ratios"
+	SheetLife       = "Remaining life"
+	SheetInputs     = "Inputs"
 	// SheetBands and SheetTargetChances follow SheetTargets when the
 	// report has bands.
 	SheetBands         = "Bands"
@@ -67,16 +77,29 @@ func Workbook(w io.Writer, rep *Report) error {
 	if err := rep.validate(); err != nil {
 		return err
 	}
+	// Money is stored rounded to cents, as the JSON and CSV output give it,
+	// so that a workbook figure equals the JSON figure.
+	rounded := *rep
+	rounded.Runs = make([]Run, len(rep.Runs))
+	for i, run := range rep.Runs {
+		run.Result = render.RoundedMoney(run.Result)
+		rounded.Runs[i] = run
+	}
+	rep = &rounded
 	f := excelize.NewFile()
 	defer f.Close()
 	wb := &workbook{f: f, styles: map[string]int{}}
 	if err := wb.about(rep); err != nil {
 		return err
 	}
-	sheets := []sheetData{workSheet(rep), conditionSheet(rep), serviceSheet(rep), spendSheet(rep), targetSheet(rep)}
+	if err := wb.summary(rep); err != nil {
+		return fmt.Errorf("sheet %q: %w", SheetSummary, err)
+	}
+	sheets := []sheetData{workSheet(rep), conditionSheet(rep), serviceSheet(rep), spendSheet(rep), classSpendSheet(rep), fundingSheet(rep), targetSheet(rep)}
 	if hasBands(rep) {
 		sheets = append(sheets, bandSheet(rep), chanceSheet(rep))
 	}
+	sheets = append(sheets, indicatorSheet(rep), ratioSheet(rep), lifeSheet(rep))
 	for _, s := range sheets {
 		if err := wb.table(s); err != nil {
 			return fmt.Errorf("sheet %q: %w", s.name, err)
@@ -354,9 +377,9 @@ func spendSheet(rep *Report) sheetData {
 		for t, y := range r.Years {
 			var budget, left any
 			if y.Budget != nil {
-				budget, left = *y.Budget, *y.Budget-y.Spend
+				budget, left = *y.Budget, render.Cents(*y.Budget-y.Spend)
 			}
-			pv := y.Spend * math.Pow(1+r.DiscountRate, -float64(t))
+			pv := render.Cents(y.Spend * math.Pow(1+r.DiscountRate, -float64(t)))
 			row := []any{r.Scenario, y.Year, y.Spend, budget, left, pv}
 			for _, name := range groups {
 				var gs, gc any
@@ -499,7 +522,9 @@ func (wb *workbook) about(rep *Report) error {
 		[]any{SheetWork, "quantity of each class and state given each treatment in each year, and its cost at that year's prices"},
 		[]any{SheetCondition, "quantity in each condition state, best first, today (start of the first year) and at the end of each year"},
 		[]any{SheetService, "good, fair and poor shares (fractions shown as percentages), average index and condition score per class and for the network; replacement value and backlog where known"},
-		[]any{SheetSpend, "spend against the budget cap each year, and its present value"},
+		[]any{SheetSpend, "spend against the budget cap each year, and its present value; each budget group's spend and cap"},
+		[]any{SheetClassSpend, "spend of each class in each year, with its budget group; the classes of a year add up to its spend"},
+		[]any{SheetFunding, "the funding answers: least level budgets that meet every target and that hold today's condition, extra money by year and budget at the least present value, the money that closes each missed target, routine costs"},
 		[]any{SheetTargets, "each target, whether it holds, its worst year, and any shortfall by year"},
 	)
 	if hasBands(rep) {
@@ -509,9 +534,21 @@ func (wb *workbook) about(rep *Report) error {
 		)
 	}
 	lines = append(lines,
+		[]any{SheetIndicators, "asset management plan indicators per class and for the network, today and at the end of each year: mean remaining life, depreciated replacement cost, consumption ratio, consumption, renewal spend and the renewal the holding plan needs"},
+		[]any{SheetRatios, "asset sustainability and renewal funding ratios over the first years, per class and for the network"},
+		[]any{SheetLife, "remaining life of each condition state: expected years to the worst state with no work"},
 		[]any{SheetInputs, "the assumptions: rates, budget, classes, condition scales, deterioration matrices and treatments"},
 		[]any{},
+		[]any{"Indicators", "what they mean and where they come from:"},
 	)
+	years := 10
+	if in := rep.Runs[0].Result.Indicators; in != nil {
+		years = in.RatioYears
+	}
+	for _, d := range indicatorDefinitions(years) {
+		lines = append(lines, []any{d.Label, d.Value})
+	}
+	lines = append(lines, []any{})
 	for _, run := range rep.Runs {
 		sim := run.Simulation
 		if sim == nil {
@@ -652,7 +689,7 @@ func (wb *workbook) inputs(rep *Report) error {
 			if c.ReplacementCost > 0 {
 				rc = c.ReplacementCost
 			}
-			if err := put([]any{c.Name, c.Unit, c.Total(), rc, c.Weight, c.Scale.Name}, 0, []string{"", "", fmtQuantity, fmtMoney, fmtShare}); err != nil {
+			if err := put([]any{c.Name, c.Unit, c.Total(), rc, c.Weight, scaleLabel(c.Scale)}, 0, []string{"", "", fmtQuantity, fmtMoney, fmtShare}); err != nil {
 				return err
 			}
 		}
@@ -662,7 +699,7 @@ func (wb *workbook) inputs(rep *Report) error {
 			if err := put([]any{c.Name + ": condition states, best first"}, bold, nil); err != nil {
 				return err
 			}
-			if err := put([]any{"State", "Index from", "Index to", "Value used for averages", "Group", "Quantity today (" + c.Unit + ")"}, bold, nil); err != nil {
+			if err := put([]any{"State", "Index from", "Index to", "Value used for averages", "Group", "Quantity today (" + render.UnitWord(c.Unit) + ")"}, bold, nil); err != nil {
 				return err
 			}
 			for i, st := range c.Scale.States {
@@ -698,13 +735,13 @@ func (wb *workbook) inputs(rep *Report) error {
 			if err := put([]any{c.Name + ": treatments"}, bold, nil); err != nil {
 				return err
 			}
-			if err := put([]any{"Treatment", "State treated", "Unit cost (" + cur + " per " + c.Unit + ", start-year prices)", "Condition right after", "Ages in its year"}, bold, nil); err != nil {
+			if err := put([]any{"Treatment", "State treated", "Unit cost (" + cur + " " + render.PerUnit(c.Unit) + ", start-year prices)", "Condition right after", "Ages in its year", "Counts as renewal"}, bold, nil); err != nil {
 				return err
 			}
 			for ti := range c.Treatments {
 				tr := &c.Treatments[ti]
 				for _, i := range tr.Applies {
-					if err := put([]any{tr.Name, c.Scale.States[i].Name, tr.Cost[i], effectWords(tr, i, c.Scale), !tr.SkipsAging}, 0, []string{"", "", fmtMoney}); err != nil {
+					if err := put([]any{tr.Name, c.Scale.States[i].Name, tr.Cost[i], effectWords(tr, i, c.Scale), !tr.SkipsAging, tr.Renewal}, 0, []string{"", "", fmtMoney}); err != nil {
 						return err
 					}
 				}

@@ -19,6 +19,7 @@ import (
 	"testing/fstest"
 	"time"
 
+	"wearplan/cmd/internal/render"
 	"wearplan/scenarios"
 )
 
@@ -217,6 +218,10 @@ func TestPlanMatchesTheCommandLine(t *testing.T) {
 	}
 	if a.Caution != scenarios.Caution || len(a.Shortfalls) != 0 || !strings.Contains(a.Headline, "Every target is met") {
 		t.Errorf("words: %q %q %q", a.Caution, a.Shortfalls, a.Headline)
+	}
+	// The words are the terminal's and the reports', from one place.
+	if a.Headline != render.Headline(res) || strings.Join(a.Funding, "|") != strings.Join(render.FundingWords(res), "|") {
+		t.Errorf("the page's words differ from render's:\n%q %q\n%q %q", a.Headline, a.Funding, render.Headline(res), render.FundingWords(res))
 	}
 	if len(a.Panel.Charts) != 6 || !strings.Contains(string(a.Panel.LOS), `id="current-los"`) || !strings.Contains(string(a.Panel.Charts[0].HTML), "<svg") {
 		t.Errorf("panel: %d charts, LOS %d bytes", len(a.Panel.Charts), len(a.Panel.LOS))

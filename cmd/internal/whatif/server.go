@@ -301,7 +301,7 @@ func (s *Server) serveScenarios(w http.ResponseWriter, r *http.Request) {
 		}
 		for k := range sc.Classes {
 			c := &sc.Classes[k]
-			ci := classInfo{Name: c.Name, Unit: c.Unit, Scale: c.Scale.Name,
+			ci := classInfo{Name: c.Name, Unit: c.Unit, Scale: strings.TrimPrefix(c.Scale.Name, scenarios.PresetPrefix),
 				IndexLow: min(c.Scale.Best, c.Scale.Worst), IndexHigh: max(c.Scale.Best, c.Scale.Worst), LowerIsBetter: c.Scale.Best < c.Scale.Worst}
 			for _, st := range c.Scale.States {
 				ci.States = append(ci.States, st.Name)

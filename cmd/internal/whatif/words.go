@@ -13,7 +13,6 @@ import (
 
 	"wearplan/cmd/internal/render"
 	"wearplan/cmd/internal/report"
-	"wearplan/optimize"
 	"wearplan/scenarios"
 )
 
@@ -83,7 +82,7 @@ func encodeAnswer(a *planAnswer) ([]byte, error) {
 func answer(sc *scenarios.Scenario, r *scenarios.Result, p *report.Panel) *planAnswer {
 	a := &planAnswer{
 		Scenario: r.Scenario, Status: r.Status, Objective: r.Objective, Caution: r.Caution,
-		Headline: headline(sc, r), Shortfalls: shortfallWords(sc, r), Funding: fundingWords(r),
+		Headline: render.Headline(r), Shortfalls: render.ShortfallWords(r), Funding: render.FundingWords(r),
 		Warnings: []string{}, ClassWarnings: []classWarningAnswer{}, Figures: figures(sc, r),
 		Panel: panelAnswer{Summary: p.Summary, LOS: p.LOS, Targets: p.Targets, Spend: p.Spend, Work: p.Work},
 	}
@@ -114,138 +113,7 @@ func currency(r *scenarios.Result) string {
 	return r.Currency + " "
 }
 
-func targetsMet(r *scenarios.Result) int {
-	n := 0
-	for _, t := range r.Targets {
-		if t.Met {
-			n++
-		}
-	}
-	return n
-}
-
 func score(v float64) string { return strconv.FormatFloat(v, 'f', 1, 64) }
-
-func plural(n int, one, many string) string {
-	if n == 1 {
-		return "1 " + one
-	}
-	return strconv.Itoa(n) + " " + many
-}
-
-func headline(sc *scenarios.Scenario, r *scenarios.Result) string {
-	cur := currency(r)
-	years := plural(r.Horizon, "year", "years")
-	scoreText := fmt.Sprintf("condition score %s out of 100 (the network's average over the %s)", score(r.ConditionScore), years)
-	missed := len(r.Targets) - targetsMet(r)
-	switch {
-	case missed > 0:
-		return fmt.Sprintf("Not every target can be met with this budget: %d of %d missed. The plan keeps the shortfall as small as possible; %s.",
-			missed, len(r.Targets), scoreText)
-	case sc.Objective == optimize.MinCost && len(r.Targets) > 0:
-		return fmt.Sprintf("Every target is met at the least cost: %s%s over %s (present value %s%s); %s.",
-			cur, render.Money(r.TotalCost), years, cur, render.Money(r.PresentValue), scoreText)
-	case len(r.Targets) > 0:
-		return fmt.Sprintf("Every target is met; %s.", scoreText)
-	default:
-		return fmt.Sprintf("The best plan for the money: %s. The scenario has no targets.", upperFirst(scoreText))
-	}
-}
-
-func upperFirst(s string) string {
-	if s == "" {
-		return s
-	}
-	return strings.ToUpper(s[:1]) + s[1:]
-}
-
-// isShare says whether a target is on a group share (else on an index).
-func isShare(sc *scenarios.Scenario, i int) bool {
-	if i >= len(sc.Targets) {
-		return false
-	}
-	k := sc.Targets[i].Spec.Kind
-	return k == optimize.MaxShare || k == optimize.MinShare
-}
-
-// shortfallWords says, for each target missed, when and by how much.
-func shortfallWords(sc *scenarios.Scenario, r *scenarios.Result) []string {
-	out := []string{}
-	for i, t := range r.Targets {
-		if t.Met {
-			continue
-		}
-		share := isShare(sc, i)
-		value := render.Index
-		if share {
-			value = render.Percent
-		}
-		worst := fmt.Sprintf("worst in %d: %s against a limit of %s", t.WorstYear, value(t.WorstValue), value(t.Limit))
-		if len(t.Shortfalls) == 0 {
-			out = append(out, fmt.Sprintf("Missed: %s (%s).", t.Target, worst))
-			continue
-		}
-		biggest := 0.0
-		for _, s := range t.Shortfalls {
-			biggest = math.Max(biggest, s.Amount)
-		}
-		by := render.Index(biggest) + " index points"
-		if share {
-			by = strconv.FormatFloat(100*biggest, 'f', 1, 64) + " percentage points"
-		}
-		n := len(t.Shortfalls)
-		when := fmt.Sprintf("in %d", t.Shortfalls[0].Year)
-		if n > 1 {
-			when = fmt.Sprintf("in %d years from %d to %d", n, t.Shortfalls[0].Year, t.Shortfalls[n-1].Year)
-		}
-		out = append(out, fmt.Sprintf("Missed: %s, %s, by up to %s (%s).", t.Target, when, by, worst))
-	}
-	return out
-}
-
-// fundingWords says what money would meet the targets, and how the same
-// money spent worst first compares.
-func fundingWords(r *scenarios.Result) []string {
-	out := []string{}
-	cur := currency(r)
-	if f := r.Funding; f != nil {
-		if f.Unreachable != "" {
-			out = append(out, "No amount of money meets every target: "+f.Unreachable+".")
-		}
-		if f.LevelBudget != nil {
-			out = append(out, fmt.Sprintf("A level budget of %s%s a year (the same amount every year) would meet every target.", cur, render.Money(*f.LevelBudget)))
-		}
-		if f.ExtraTotal != nil {
-			parts := moneyByYear(cur, f.ExtraMoney)
-			for _, g := range f.ExtraGroups {
-				parts = append(parts, "for budget group "+g.Name+" "+strings.Join(moneyByYear(cur, g.Years), ", "))
-			}
-			s := fmt.Sprintf("Or keep this budget and add %s: the extra money that meets every target at the least present value", strings.Join(parts, ", "))
-			if len(parts) > 1 {
-				s += fmt.Sprintf(" (%s%s in all, present value %s%s)", cur, render.Money(*f.ExtraTotal), cur, render.Money(*f.ExtraPresentValue))
-			}
-			out = append(out, s+".")
-		}
-	}
-	if b := r.Baseline; b != nil {
-		out = append(out, fmt.Sprintf("The same money spent worst first (each year on the worst states, the cheapest treatment that helps; common practice, no source) gives a condition score of %s: %s points %s this plan's.",
-			score(b.ConditionScore), score(math.Abs(b.Gain)), map[bool]string{true: "below", false: "above"}[b.Gain >= 0]))
-	}
-	return out
-}
-
-// moneyByYear lists amounts by year, the first six and a count of the rest.
-func moneyByYear(cur string, ys []scenarios.YearMoney) []string {
-	var out []string
-	for i, y := range ys {
-		if i == 6 {
-			out = append(out, fmt.Sprintf("and %s more", plural(len(ys)-6, "year", "years")))
-			break
-		}
-		out = append(out, fmt.Sprintf("%s%s in %d", cur, render.Money(y.Amount), y.Year))
-	}
-	return out
-}
 
 // figures are the rows of a comparison column.
 func figures(sc *scenarios.Scenario, r *scenarios.Result) []figure {
@@ -271,7 +139,7 @@ func figures(sc *scenarios.Scenario, r *scenarios.Result) []figure {
 		{"Condition score (0-100, average over the years)", score(r.ConditionScore)},
 		{"Total spend", cur + render.Money(r.TotalCost)},
 		{"Present value of spend", cur + render.Money(r.PresentValue)},
-		{"Targets met", fmt.Sprintf("%d of %d", targetsMet(r), len(r.Targets))},
+		{"Targets met", fmt.Sprintf("%d of %d", render.TargetsMet(r), len(r.Targets))},
 	}
 	fs = append(fs, figure{fmt.Sprintf("Network poor share today (start of %d)", r.StartYear), render.Percent(r.Initial.Network.Shares.Poor)})
 	for _, t := range render.LOSYears(r.Horizon) {
@@ -283,7 +151,7 @@ func figures(sc *scenarios.Scenario, r *scenarios.Result) []figure {
 		figure{fmt.Sprintf("Network good share, end of %d", last.Year), render.Percent(last.Network.Shares.Good)},
 		figure{fmt.Sprintf("Network condition score, end of %d", last.Year), score(last.Network.Score)},
 	)
-	level, extra := "-", "-"
+	level, extra, hold := "-", "-", "-"
 	if f := r.Funding; f != nil {
 		if f.LevelBudget != nil {
 			level = cur + render.Money(*f.LevelBudget)
@@ -294,8 +162,12 @@ func figures(sc *scenarios.Scenario, r *scenarios.Result) []figure {
 		if f.Unreachable != "" {
 			level, extra = "no amount", "no amount"
 		}
+		if f.HoldBudget != nil {
+			hold = cur + render.Money(*f.HoldBudget)
+		}
 	}
-	fs = append(fs, figure{"Least level budget meeting every target", level}, figure{"Extra money closing the shortfalls (present value)", extra})
+	fs = append(fs, figure{"Least level budget meeting every target", level}, figure{"Extra money closing the shortfalls (present value)", extra},
+		figure{"Least level budget holding today's condition", hold})
 	if b := r.Baseline; b != nil {
 		fs = append(fs, figure{"Condition score of the same money spent worst first", score(b.ConditionScore)})
 	}
