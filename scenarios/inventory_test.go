@@ -99,7 +99,7 @@ func TestInventoryCorpusRefused(t *testing.T) {
 		{"09-missing-column.csv", "", []wantIssue{{1, "", `no column "condition"`}}},
 		{"10-extra-field.csv", "", []wantIssue{{5, "", "6 fields, the header has 5"}}},
 		{"11-unknown-state-name.csv", "", []wantIssue{{3, "condition", `"Fairish" is neither a number nor a state`}}},
-		{"12-not-utf8.csv", "", []wantIssue{{4, "", "not UTF-8 text; save the file as UTF-8"}}},
+		{"12-not-utf8.csv", "", []wantIssue{{4, "name", "not UTF-8 text (column 5); save the file as UTF-8"}}},
 		{"13-bare-quote.csv", "", []wantIssue{{3, "", "put the whole field in quotes"}}},
 		{"14-bad-wkt.csv", "", []wantIssue{{3, "wkt", "not WKT geometry"}}},
 		{"15-header-only.csv", "", []wantIssue{{1, "", "no segment rows"}}},
