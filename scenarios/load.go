@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"io/fs"
+	"os"
 	"path/filepath"
 	"reflect"
 	"regexp"
@@ -60,6 +61,10 @@ func openScenarioFolder(path string) (*folderFS, string, error) {
 			return nil, "", &InputError{Issues: []*Issue{{File: printable(path), Msg: "file not found; check the path"}}}
 		}
 		return nil, "", &InputError{Issues: []*Issue{{File: printable(path), Msg: fmt.Sprintf("cannot be read: %v", err)}}}
+	}
+	// The file itself is checked here, so that messages name it as given.
+	if st, err := os.Stat(real); err == nil && !st.Mode().IsRegular() {
+		return nil, "", &InputError{Issues: []*Issue{{File: printable(path), Msg: (&inputError{err: ErrNotRegular, detail: kindOf(st.Mode())}).describe()}}}
 	}
 	fsys, err := openFolder(filepath.Dir(real))
 	if err != nil {

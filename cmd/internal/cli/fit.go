@@ -3,7 +3,6 @@ package cli
 import (
 	"fmt"
 	"io"
-	"path/filepath"
 	"slices"
 	"strconv"
 	"strings"
@@ -31,6 +30,7 @@ type fitOptions struct {
 	skipBadRows                 bool
 	save                        string
 	format, out, table          string
+	force                       bool
 }
 
 func newFitCmd() *cobra.Command {
@@ -110,6 +110,7 @@ be reviewed by qualified people before it drives decisions.`,
 	f.StringVar(&o.format, "format", "table", "report format: "+strings.Join(fitFormats, ", "))
 	f.StringVar(&o.out, "out", "", "write the report to this file (for csv: a directory gets one file per table)")
 	f.StringVar(&o.table, "table", "matrix", "table written by --format csv: "+strings.Join(render.FitCSVTables, ", "))
+	registerForce(cmd, &o.force)
 	return cmd
 }
 
@@ -243,6 +244,12 @@ func (o *fitOptions) run(cmd *cobra.Command, args []string) error {
 	if err != nil {
 		return err
 	}
+	outs := outputsOf(cmd)
+	outs.force = o.force
+	outs.read(source, "the file the scales come from")
+	if len(args) > 0 {
+		outs.read(args[0], "the inspection export")
+	}
 	scaleFor := set.ForClass
 	if o.scale != "" {
 		s, ok := set.Scales[o.scale]
@@ -277,7 +284,7 @@ func (o *fitOptions) run(cmd *cobra.Command, args []string) error {
 		return err
 	}
 	if o.save != "" {
-		if err := writeFileAtomic(o.save, func(w io.Writer) error { return scenarios.WriteFitFile(w, res) }); err != nil {
+		if err := outs.file(o.save, "--save", func(w io.Writer) error { return scenarios.WriteFitFile(w, res) }); err != nil {
 			return err
 		}
 		fmt.Fprintf(cmd.ErrOrStderr(), "wrote the fit file %s\n", o.save)
@@ -318,25 +325,27 @@ func (o *fitOptions) write(cmd *cobra.Command, r *scenarios.FitResult) error {
 		case "csv":
 			return render.FitCSV(w, r, o.table)
 		case "md":
-			return render.FitMarkdown(w, r)
+			return render.FitMarkdown(printableText(w), r)
 		default:
-			return render.FitText(w, r)
+			return render.FitText(printableText(w), r)
 		}
 	}
 	if o.out == "" {
 		return render1(cmd.OutOrStdout())
 	}
-	if o.format == "csv" && isDir(o.out) {
-		for _, name := range render.FitCSVTables {
-			path := filepath.Join(o.out, "fit-"+name+".csv")
-			if err := writeFileAtomic(path, func(w io.Writer) error { return render.FitCSV(w, r, name) }); err != nil {
-				return err
-			}
+	outs := outputsOf(cmd)
+	if o.format == "csv" && isSetTarget(o.out) {
+		files := make([]setFile, len(render.FitCSVTables))
+		for i, name := range render.FitCSVTables {
+			files[i] = setFile{name: "fit-" + name + ".csv", fill: func(w io.Writer) error { return render.FitCSV(w, r, name) }}
+		}
+		if err := outs.set(o.out, "--out", files); err != nil {
+			return err
 		}
 		fmt.Fprintf(cmd.ErrOrStderr(), "wrote %d tables to %s\n", len(render.FitCSVTables), o.out)
 		return nil
 	}
-	if err := writeFileAtomic(o.out, render1); err != nil {
+	if err := outs.file(o.out, "--out", render1); err != nil {
 		return err
 	}
 	fmt.Fprintf(cmd.ErrOrStderr(), "wrote %s\n", o.out)

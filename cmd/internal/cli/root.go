@@ -4,6 +4,7 @@
 package cli
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"io"
@@ -41,9 +42,15 @@ func usageError(format string, args ...any) error {
 
 // Main runs the command line and returns the process exit code.
 func Main(args []string, stdout, stderr io.Writer) int {
+	// Messages name files, classes and values from the input: no control
+	// character in them reaches the terminal.
+	stderr = printableText(stderr)
+	outs := newOutputs()
+	outs.watchSignals(stderr)
+	defer outs.unwatch()
 	root := newRoot(stdout, stderr)
 	root.SetArgs(args)
-	err := root.Execute()
+	err := root.ExecuteContext(withOutputs(context.Background(), outs))
 	if err == nil {
 		return exitOK
 	}

@@ -18,6 +18,7 @@ func newWorklistCmd() *cobra.Command {
 	var solve solveOptions
 	var format, out string
 	var years int
+	var force bool
 	cmd := &cobra.Command{
 		Use:   "worklist FILE",
 		Short: "List the plan's work by named segment of the inventory",
@@ -54,7 +55,11 @@ segment by inspection.`,
 			if !slices.Contains(worklistFormats, format) {
 				return usageError("--format %q: choose one of %s", format, strings.Join(worklistFormats, ", "))
 			}
-			sc, err := loadScenario(args[0])
+			keep := segmentsOnly
+			if format == "json" || format == "geojson" {
+				keep = everything
+			}
+			sc, err := loadScenario(cmd, args[0], keep)
 			if err != nil {
 				return err
 			}
@@ -91,12 +96,14 @@ segment by inspection.`,
 				case "geojson":
 					return render.WorklistGeoJSON(w, wl)
 				default:
-					return render.WorklistText(w, wl)
+					return render.WorklistText(printableText(w), wl)
 				}
 			}
+			outs := outputsOf(cmd)
+			outs.force = force
 			if out == "" {
 				err = write(cmd.OutOrStdout())
-			} else if err = writeFileAtomic(out, write); err == nil {
+			} else if err = outs.file(out, "--out", write); err == nil {
 				fmt.Fprintf(cmd.ErrOrStderr(), "wrote %s (%d segments listed)\n", out, len(wl.Items))
 			}
 			if err != nil {
@@ -111,6 +118,7 @@ segment by inspection.`,
 	f := cmd.Flags()
 	f.StringVar(&format, "format", "table", "output format: "+strings.Join(worklistFormats, ", "))
 	f.StringVar(&out, "out", "", "write to this file instead of standard output")
+	registerForce(cmd, &force)
 	f.IntVar(&years, "years", 1, "years to list: the first from the plan, the others indicative")
 	solve.register(cmd)
 	return cmd
