@@ -31,6 +31,9 @@ type csvFormat struct {
 	delimiter rune
 	// decimal is the decimal mark of numbers, '.' or ',' ('.' when 0).
 	decimal rune
+	// holder names where the settings are written, for hints: a scenario
+	// key such as "inventory_csv", or "" for a reader's options.
+	holder string
 }
 
 func (f csvFormat) comma() rune {
@@ -367,13 +370,16 @@ func (f csvFormat) plain(s string) (string, error) {
 	return s, nil
 }
 
-// numberHint says how to write a number that could not be read.
+// numberHint says how to write a number that could not be read, or which
+// setting reads it.
 func (f csvFormat) numberHint(err error) string {
 	switch {
+	case errors.Is(err, errDecimalComma) && f.holder != "":
+		return fmt.Sprintf(`it has a decimal comma: add decimal: "," to %s to read decimal commas (or write a point)`, f.holder)
 	case errors.Is(err, errDecimalComma):
-		return `it has a decimal comma: set decimal: "," for this file (or write a point for decimals)`
+		return `it has a decimal comma: set the decimal mark to "," to read decimal commas (or write a point)`
 	case errors.Is(err, errDecimalPoint):
-		return `this file is read with decimal commas (decimal: ","): write 1234,5, without a point or thousands separator`
+		return "the file is read with decimal commas: write 1234,5, with no point and no thousands separator"
 	case f.point() == ',':
 		return "write a plain number such as 0,412 (no unit, no thousands separator, a comma for decimals)"
 	}

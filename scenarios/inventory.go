@@ -184,7 +184,7 @@ func readInventory(sc *Scenario, f *fileScenario, j inventoryJob, ids *segmentID
 		is.add(fileLine, j.field+".file", "%q: give a path inside the scenario's folder (no .. and no leading /); copy or link the file next to the scenario", spec.File)
 		return nil
 	}
-	var format csvFormat
+	format := csvFormat{holder: "inventory_csv"}
 	var err error
 	if format.delimiter, err = ParseDelimiter(spec.Delimiter); err != nil {
 		is.add(spec.Lines.of("delimiter"), j.field+".delimiter", "%v", err)
@@ -477,7 +477,7 @@ func (r *segmentReader) quantity(rec []string, c *Class) (float64, int64) {
 	case errors.Is(err, errQuantityRange):
 		r.fail(col, "%s is %g or more; no segment is that large: check the quantity column's unit", qs, maxExactSum)
 	case err != nil:
-		r.fail(col, "%q is not a number; write the quantity in %s: %s", qs, c.Unit, r.in.format.numberHint(err))
+		r.fail(col, "%q is not a number (the quantity in %s); %s", qs, c.Unit, r.in.format.numberHint(err))
 	case q < 0:
 		r.fail(col, "%s is negative; a quantity is zero or more", qs)
 	}
@@ -495,7 +495,7 @@ func (r *segmentReader) condition(c *Class, cs string) (int, float64) {
 	if state < 0 {
 		switch {
 		case errors.Is(err, errDecimalComma) || errors.Is(err, errDecimalPoint):
-			r.fail(col, "%q is not a number: %s", cs, r.in.format.numberHint(err))
+			r.fail(col, "%q is not a number; %s", cs, r.in.format.numberHint(err))
 		case math.IsNaN(index):
 			r.fail(col, "%q is neither a number nor a state of %s (states: %s)", cs, scaleLabel(c.Scale), stateList(c.Scale))
 		default:

@@ -106,11 +106,7 @@ func (s *issues) addIn(file string, line int, field, format string, args ...any)
 		s.unlisted++
 		return
 	}
-	for i, a := range args {
-		if str, ok := a.(string); ok {
-			args[i] = clip(str, maxQuotedRunes)
-		}
-	}
+	clipQuoted(format, args)
 	is := Issue{
 		File:  clip(printable(file), maxFieldRunes),
 		Line:  line,
@@ -179,6 +175,34 @@ func (s *issues) err() error {
 		return sorted[i].Line < sorted[j].Line
 	})
 	return &InputError{Issues: sorted, Unlisted: s.unlisted}
+}
+
+// clipQuoted cuts the text arguments that format quotes (%q): values
+// from the input. Other arguments are composed text, bounded with the
+// whole message.
+func clipQuoted(format string, args []any) {
+	n := 0
+	for i := 0; i < len(format); i++ {
+		if format[i] != '%' {
+			continue
+		}
+		i++
+		for i < len(format) && strings.IndexByte("+-# 0123456789.", format[i]) >= 0 {
+			i++
+		}
+		if i >= len(format) || format[i] == '%' {
+			continue
+		}
+		if format[i] == '[' {
+			return // explicit argument indexes: leave the arguments alone
+		}
+		if format[i] == 'q' && n < len(args) {
+			if str, ok := args[n].(string); ok {
+				args[n] = clip(str, maxQuotedRunes)
+			}
+		}
+		n++
+	}
 }
 
 // clip cuts s to its first n characters, saying how long it was, so that

@@ -110,7 +110,7 @@ func (s *Scale) parseCondition(text string, f csvFormat) (int, string) {
 		lo, hi := math.Min(s.Best, s.Worst), math.Max(s.Best, s.Worst)
 		return -1, fmt.Sprintf("condition %s is outside scale %q (%s to %s); check the value or the class's scale", t, s.Name, num(lo), num(hi))
 	case errors.Is(err, errDecimalComma) || errors.Is(err, errDecimalPoint):
-		return -1, fmt.Sprintf("condition %q is not a number: %s", t, f.numberHint(err))
+		return -1, fmt.Sprintf("condition %q is not a number; %s", t, f.numberHint(err))
 	}
 	return -1, fmt.Sprintf("condition %q is neither a number nor a state of scale %q (%s)", t, s.Name, stateList(s))
 }

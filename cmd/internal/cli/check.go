@@ -35,7 +35,7 @@ with its line and column, and a summary of what was read. Nothing is written.`,
 				}
 				budget := "no budget cap"
 				if sc.Budget != nil {
-					budget = fmt.Sprintf("network budget %s %s in %d", render.Money(sc.Budget[0]), sc.Currency, sc.StartYear)
+					budget = strings.Join(strings.Fields(fmt.Sprintf("network budget %s %s in %d", render.Money(sc.Budget[0]), sc.Currency, sc.StartYear)), " ")
 				}
 				fmt.Fprintf(out, "%s: ok: %q, %d-%d, %d classes: %s; %s; %d targets; objective %s\n",
 					path, sc.Name, sc.StartYear, sc.Year(sc.Horizon), len(sc.Classes), strings.Join(classes, ", "), budget, len(sc.Targets), sc.Objective)

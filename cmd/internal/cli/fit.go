@@ -303,7 +303,7 @@ func (o *fitOptions) run(cmd *cobra.Command, args []string) error {
 func (o *fitOptions) fitFile(path string, read scenarios.InspectionOptions, opt scenarios.FitOptions) (*scenarios.FitResult, error) {
 	ins, err := scenarios.ReadInspectionsFile(path, read)
 	if err != nil {
-		return nil, err
+		return nil, withHint(err, "In wearplan fit the export's settings are --delimiter, --decimal and --date-format; --column maps column names, and --skip-bad-rows leaves rows that cannot be read out (with a warning).")
 	}
 	for _, c := range o.classes {
 		found := false

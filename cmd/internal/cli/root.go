@@ -35,6 +35,19 @@ type exitError struct {
 func (e *exitError) Error() string { return e.err.Error() }
 func (e *exitError) Unwrap() error { return e.err }
 
+// hintError adds a line of command-line hints to an error from a domain
+// package, whose messages speak of settings, not of flags.
+type hintError struct {
+	err  error
+	hint string
+}
+
+func (e *hintError) Error() string { return e.err.Error() + "\n" + e.hint }
+func (e *hintError) Unwrap() error { return e.err }
+
+// withHint returns err with the hint printed after it.
+func withHint(err error, hint string) error { return &hintError{err: err, hint: hint} }
+
 // usageError marks a mistake on the command line.
 func usageError(format string, args ...any) error {
 	return &exitError{code: exitInput, err: fmt.Errorf(format, args...)}
