@@ -119,7 +119,7 @@ func openInput(fsys fs.FS, name string, limit int64, digests map[string]string) 
 		}
 		return nil, &inputError{name: name, err: err, detail: "not a regular file"}
 	}
-	r := &inputReader{f: f, name: name, limit: limit, sum: sha256.New(), digests: digests}
+	r := &inputReader{f: f, name: name, size: st.Size(), limit: limit, sum: sha256.New(), digests: digests}
 	return r, nil
 }
 
@@ -136,8 +136,10 @@ func readInput(fsys fs.FS, name string, limit int64, digests map[string]string) 
 // inputReader reads an input file, failing past its limit, and takes the
 // file's digest on the way.
 type inputReader struct {
-	f       fs.File
-	name    string
+	f    fs.File
+	name string
+	// size is the file's size when it was opened.
+	size    int64
 	limit   int64
 	n       int64
 	sum     hash.Hash

@@ -204,6 +204,9 @@ func readInventory(sc *Scenario, f *fileScenario, j inventoryJob, ids *segmentID
 		return nil
 	}
 	defer fh.Close()
+	// Room for the ids of a list of rows of about 100 bytes (a segment
+	// list with a line geometry), each id about 10 bytes.
+	ids.reserve(int(min(fh.size/100, 1<<27)), 10)
 
 	fileIssues := &issues{file: name}
 	r := &segmentReader{

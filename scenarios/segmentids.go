@@ -36,6 +36,15 @@ type idWhere struct {
 
 func newSegmentIDs() *segmentIDs { return &segmentIDs{seed: maphash.MakeSeed()} }
 
+// reserve makes room for about rows more ids of idBytes bytes each, so
+// that a large list is not copied again and again as it grows.
+func (s *segmentIDs) reserve(rows, idBytes int) {
+	s.refs = slices.Grow(s.refs, rows)
+	s.ends = slices.Grow(s.ends, rows)
+	s.where = slices.Grow(s.where, rows)
+	s.arena = slices.Grow(s.arena, rows*idBytes)
+}
+
 // add records the id of a row kept from file (an index into the
 // scenario's inventories) at line.
 func (s *segmentIDs) add(id string, file, line int) {
