@@ -4,8 +4,6 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"io/fs"
-	"path/filepath"
 	"slices"
 	"strconv"
 	"strings"
@@ -157,23 +155,14 @@ func ReadInspections(r io.Reader, name string, opt InspectionOptions) (*Inspecti
 // ReadInspections, after checking that it is a regular file (a folder, a
 // pipe or a device is refused before it is opened).
 func ReadInspectionsFile(path string, opt InspectionOptions) (*Inspections, error) {
-	fail := func(msg string) error { return &InputError{Issues: []*Issue{{File: printable(path), Msg: msg}}} }
-	// The export is the file the user named; a symbolic link there may
-	// lead anywhere.
-	real, err := filepath.EvalSymlinks(path)
-	if errors.Is(err, fs.ErrNotExist) {
-		return nil, fail("file not found; check the path")
-	} else if err != nil {
-		return nil, fail(fmt.Sprintf("cannot be read: %v", err))
-	}
-	fsys, err := openFolder(filepath.Dir(real))
+	fsys, name, err := openScenarioFolder(path)
 	if err != nil {
-		return nil, fail(fmt.Sprintf("cannot open its folder: %v", err))
+		return nil, err
 	}
 	defer fsys.Close()
-	f, err := openInput(fsys, filepath.Base(real), 0, nil)
+	f, err := openInput(fsys, name, 0, nil)
 	if err != nil {
-		return nil, fail(describeOpenError(err))
+		return nil, &InputError{Issues: []*Issue{{File: printable(path), Msg: describeOpenError(err)}}}
 	}
 	defer f.Close()
 	return ReadInspections(f, path, opt)

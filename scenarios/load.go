@@ -51,9 +51,10 @@ func LoadFileWith(path string, opt LoadOptions) (*Scenario, error) {
 	return sc, err
 }
 
-// openScenarioFolder opens the folder of the scenario file at path (after
-// following a symbolic link at path itself: the user named that file) and
-// returns the file's name inside it.
+// openScenarioFolder opens the folder of the file at path that the user
+// named (a scenario, an inspection export), after following a symbolic
+// link at path itself, and returns the file's name inside it. A path that
+// is not a regular file is refused here, with the path as given.
 func openScenarioFolder(path string) (*folderFS, string, error) {
 	real, err := filepath.EvalSymlinks(path)
 	if err != nil {

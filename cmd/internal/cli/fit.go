@@ -1,6 +1,7 @@
 package cli
 
 import (
+	"errors"
 	"fmt"
 	"io"
 	"slices"
@@ -302,6 +303,9 @@ func (o *fitOptions) run(cmd *cobra.Command, args []string) error {
 
 func (o *fitOptions) fitFile(path string, read scenarios.InspectionOptions, opt scenarios.FitOptions) (*scenarios.FitResult, error) {
 	ins, err := scenarios.ReadInspectionsFile(path, read)
+	if err != nil && !inContent(err) {
+		return nil, err
+	}
 	if err != nil {
 		return nil, withHint(err, "In wearplan fit the export's settings are --delimiter, --decimal and --date-format; --column maps column names, and --skip-bad-rows leaves rows that cannot be read out (with a warning).")
 	}
@@ -350,4 +354,18 @@ func (o *fitOptions) write(cmd *cobra.Command, r *scenarios.FitResult) error {
 	}
 	fmt.Fprintf(cmd.ErrOrStderr(), "wrote %s\n", o.out)
 	return nil
+}
+
+// inContent says whether an input error is about a file's content (some
+// problem has a line) rather than about opening it.
+func inContent(err error) bool {
+	var ie *scenarios.InputError
+	if errors.As(err, &ie) {
+		for _, is := range ie.Issues {
+			if is.Line > 0 {
+				return true
+			}
+		}
+	}
+	return false
 }
