@@ -102,12 +102,42 @@ type csvInput struct {
 	header []string
 	cols   map[string][]int
 	// headerLine and line are where the header and the current record
-	// start; records counts the records read, blank ones aside.
-	headerLine, line, records int
-	// nextLine is where the record after the current one starts, at the
-	// latest: for a message about a quote left open.
-	nextLine int
-	stopped  bool
+	// start.
+	headerLine, line int
+	// The reading state, owned by whichever goroutine reads (see each):
+	// at is where the record just read starts, records counts the records
+	// read (blank ones aside), nextLine is where the next record starts at
+	// the latest (for a message about a quote left open).
+	at, records, nextLine int
+	stopped               bool
+	// sink, when set, takes the problems found while reading ahead, to be
+	// reported in order with those of the records (see each).
+	sink func(csvProblem)
+}
+
+// csvProblem is a problem found while reading: of one record (row: told
+// through bad, which a reader may count instead) or of the file.
+type csvProblem struct {
+	row         bool
+	line        int
+	field, text string
+}
+
+// report tells of a problem now, or hands it to the sink.
+func (in *csvInput) report(p csvProblem) {
+	if in.sink != nil {
+		in.sink(p)
+		return
+	}
+	in.apply(p)
+}
+
+func (in *csvInput) apply(p csvProblem) {
+	if p.row {
+		in.bad(p.line, p.field, "%s", p.text)
+	} else {
+		in.is.add(p.line, p.field, "%s", p.text)
+	}
 }
 
 // newCSVInput reads r with the given format and line limit (bytes).
@@ -136,10 +166,10 @@ func (in *csvInput) readHeader(example string) bool {
 		}
 		return false
 	}
-	in.headerLine = in.line
+	in.headerLine = in.at
 	for _, h := range rec {
 		if !utf8.ValidString(h) {
-			in.is.add(in.line, "", "the header is not UTF-8 text; save the file as UTF-8 (\"CSV UTF-8\" in spreadsheet programs)")
+			in.is.add(in.headerLine, "", "the header is not UTF-8 text; save the file as UTF-8 (\"CSV UTF-8\" in spreadsheet programs)")
 			return false
 		}
 	}
@@ -198,8 +228,16 @@ func (in *csvInput) headerList() string {
 // next returns the next data record with as many fields as the header,
 // all UTF-8, skipping blank records and reporting the others by line
 // (through bad). It returns false at the end of the file or when reading
-// cannot go on. The record is valid until the next call.
+// cannot go on. The record is valid until the next call; in.line is
+// where it starts.
 func (in *csvInput) next() ([]string, bool) {
+	rec, ok := in.nextRecord()
+	in.line = in.at
+	return rec, ok
+}
+
+// nextRecord is next without setting in.line, for reading ahead.
+func (in *csvInput) nextRecord() ([]string, bool) {
 	for {
 		rec, ok := in.read(false)
 		if !ok {
@@ -211,15 +249,78 @@ func (in *csvInput) next() ([]string, bool) {
 		in.records++
 		if len(rec) != len(in.header) {
 			d := delimiterName(in.format.comma())
-			in.bad(in.line, "", "%d fields, the header has %d; check for a missing or extra %q, or a field with %q in it that needs quotes (or the delimiter setting)", len(rec), len(in.header), d, d)
+			in.report(csvProblem{row: true, line: in.at, text: fmt.Sprintf("%d fields, the header has %d; check for a missing or extra %q, or a field with %q in it that needs quotes (or the delimiter setting)", len(rec), len(in.header), d, d)})
 			continue
 		}
 		if i := invalidField(rec); i >= 0 {
-			in.bad(in.line, in.header[i], "not UTF-8 text (column %d); save the file as UTF-8 (\"CSV UTF-8\" in spreadsheet programs)", i+1)
+			in.report(csvProblem{row: true, line: in.at, field: in.header[i], text: fmt.Sprintf("not UTF-8 text (column %d); save the file as UTF-8 (\"CSV UTF-8\" in spreadsheet programs)", i+1)})
 			continue
 		}
 		return rec, true
 	}
+}
+
+// readAhead is how many records each hands over at a time.
+const readAhead = 1024
+
+// each reads the data records on another goroutine, which also calls
+// prepare on each (work that needs nothing but the record, such as
+// checking a geometry: it must not touch shared state), and calls use with
+// each record and what prepare made of it, in file order, on this
+// goroutine, with in.line set; problems found while reading are reported
+// in their place among use's. So reading and checking the records share
+// two processors, and the result is the same as one record after another.
+func (in *csvInput) each(prepare func(rec []string) any, use func(rec []string, prep any)) {
+	type item struct {
+		rec  []string
+		line int
+		prep any
+		prob *csvProblem
+	}
+	batches := make(chan []item, 4)
+	go func() {
+		defer close(batches)
+		batch := make([]item, 0, readAhead)
+		// The batch's records share one slice of fields (encoding/csv
+		// reuses its record's slice): one allocation per batch, not per
+		// record.
+		var fields []string
+		in.sink = func(p csvProblem) { batch = append(batch, item{prob: &p}) }
+		for {
+			rec, ok := in.nextRecord()
+			if !ok {
+				break
+			}
+			if cap(fields)-len(fields) < len(rec) {
+				fields = make([]string, 0, readAhead*len(rec))
+			}
+			start := len(fields)
+			fields = append(fields, rec...)
+			rec = fields[start:len(fields):len(fields)]
+			it := item{rec: rec, line: in.at}
+			if prepare != nil {
+				it.prep = prepare(rec)
+			}
+			if batch = append(batch, it); len(batch) >= readAhead {
+				batches <- batch
+				batch = make([]item, 0, readAhead)
+			}
+		}
+		if len(batch) > 0 {
+			batches <- batch
+		}
+	}()
+	for batch := range batches {
+		for _, it := range batch {
+			if it.prob != nil {
+				in.apply(*it.prob)
+				continue
+			}
+			in.line = it.line
+			use(it.rec, it.prep)
+		}
+	}
+	in.sink = nil
 }
 
 // read returns the next record, nil for one that could not be parsed (and
@@ -234,7 +335,7 @@ func (in *csvInput) read(header bool) ([]string, bool) {
 		return nil, false
 	}
 	if err == nil {
-		in.line, _ = in.cr.FieldPos(0)
+		in.at, _ = in.cr.FieldPos(0)
 		last, _ := in.cr.FieldPos(len(rec) - 1)
 		in.nextLine = last + 1
 		return rec, true
@@ -245,9 +346,9 @@ func (in *csvInput) read(header bool) ([]string, bool) {
 	case errors.As(err, &le):
 		in.stopped = true
 		if le.record {
-			in.is.add(max(in.nextLine, 1), "", "a quoted field opened on this line or after it runs on past %d bytes; a quote left open gathers the following lines into one field: close it, or double the quotes inside quoted fields", in.limit.limit)
+			in.report(csvProblem{line: max(in.nextLine, 1), text: fmt.Sprintf("a quoted field opened on this line or after it runs on past %d bytes; a quote left open gathers the following lines into one field: close it, or double the quotes inside quoted fields", in.limit.limit)})
 		} else {
-			in.is.add(le.line, "", "line is longer than %d bytes; is this a CSV text file? (a quote left open can also run on into the following lines)", in.limit.limit)
+			in.report(csvProblem{line: le.line, text: fmt.Sprintf("line is longer than %d bytes; is this a CSV text file? (a quote left open can also run on into the following lines)", in.limit.limit)})
 		}
 		return nil, false
 	case errors.As(err, &pe):
@@ -255,25 +356,25 @@ func (in *csvInput) read(header bool) ([]string, bool) {
 		if line == 0 {
 			line = pe.Line
 		}
-		in.line = line
+		in.at = line
 		if errors.Is(pe.Err, csv.ErrQuote) {
 			// A quoted field not closed: encoding/csv has read on to the
 			// end of the line or of the file; nothing after it is sure.
 			in.stopped = pe.Line > line
-			in.is.add(line, "", "a quoted field opened on this line is not closed properly (reading stopped on line %d); every quoted field ends with a quote followed by the delimiter or the line end: check quotes in the line (a quote left open runs on into the following lines)", pe.Line)
+			in.report(csvProblem{line: line, text: fmt.Sprintf("a quoted field opened on this line is not closed properly (reading stopped on line %d); every quoted field ends with a quote followed by the delimiter or the line end: check quotes in the line (a quote left open runs on into the following lines)", pe.Line)})
 			return nil, !in.stopped
 		}
 		if header {
-			in.is.add(line, "", "%s", csvErrText(pe))
+			in.report(csvProblem{line: line, text: csvErrText(pe)})
 			in.stopped = true
 			return nil, false
 		}
 		in.records++
-		in.bad(line, "", "%s", csvErrText(pe))
+		in.report(csvProblem{row: true, line: line, text: csvErrText(pe)})
 		return nil, true
 	}
 	in.stopped = true
-	in.is.add(0, "", "cannot read the file: %v", err)
+	in.report(csvProblem{text: fmt.Sprintf("cannot read the file: %v", err)})
 	return nil, false
 }
 

@@ -16,9 +16,12 @@ const (
 	maxWKTBytes = 1 << 20
 )
 
-// checkWKT says what is wrong with a WKT cell, or "" when it is a geometry
-// whose coordinates are all finite numbers.
+// checkWKT says what is wrong with a WKT cell, or "" when it is empty or a
+// geometry whose coordinates are all finite numbers.
 func checkWKT(s string) string {
+	if s == "" {
+		return ""
+	}
 	if len(s) > maxWKTBytes {
 		return fmt.Sprintf("WKT of %d bytes; a segment's geometry is at most %d bytes: simplify it", len(s), maxWKTBytes)
 	}

@@ -206,11 +206,11 @@ func readInventory(sc *Scenario, f *fileScenario, j inventoryJob, ids *segmentID
 	defer fh.Close()
 	// Room for the ids of a list of rows of about 100 bytes (a segment
 	// list with a line geometry), each id about 10 bytes.
-	ids.reserve(int(min(fh.size/100, 1<<27)), 10)
+	ids.startFile(fileIndex, int(min(fh.size/100, 1<<27)), 10)
 
 	fileIssues := &issues{file: name}
 	r := &segmentReader{
-		sc: sc, job: j, ids: ids, fileIndex: fileIndex, keep: f.source.opt,
+		sc: sc, job: j, ids: ids, keep: f.source.opt,
 		inv: &Inventory{File: name, Priority: strings.TrimSpace(spec.Priority)},
 		in:  newCSVInput(fh, format, maxSegmentLine, fileIssues),
 	}
@@ -257,16 +257,15 @@ type columns struct {
 
 // segmentReader reads the rows of one segment list.
 type segmentReader struct {
-	sc        *Scenario
-	job       inventoryJob
-	in        *csvInput
-	inv       *Inventory
-	cols      columns
-	prio      *priorityProgram
-	run       vm.VM
-	ids       *segmentIDs
-	fileIndex int
-	keep      LoadOptions
+	sc   *Scenario
+	job  inventoryJob
+	in   *csvInput
+	inv  *Inventory
+	cols columns
+	prio *priorityProgram
+	run  vm.VM
+	ids  *segmentIDs
+	keep LoadOptions
 	// Per class: the segments kept (unless only counted), their number
 	// and their quantities' exact sums by state.
 	segs   [][]Segment
@@ -304,14 +303,17 @@ func (r *segmentReader) read(is *issues) {
 			r.sums[k] = make([]exactSum, len(r.sc.Classes[k].Scale.States))
 		}
 	}
-	for {
-		rec, ok := r.in.next()
-		if !ok {
-			break
-		}
-		r.inv.Rows++
-		r.row(rec)
+	// The WKT check, the costliest per row, runs on the goroutine that
+	// reads ahead.
+	var prepare func([]string) any
+	if r.cols.wkt >= 0 {
+		prepare = func(rec []string) any { return checkWKT(strings.TrimSpace(rec[r.cols.wkt])) }
 	}
+	r.in.each(prepare, func(rec []string, wktProblem any) {
+		r.inv.Rows++
+		msg, _ := wktProblem.(string)
+		r.row(rec, msg)
+	})
 	if r.inv.Rows == 0 && r.in.is.count() == 0 {
 		r.in.is.add(r.in.headerLine, "", "no segment rows under the header; add one row per segment")
 	}
@@ -376,8 +378,8 @@ func (r *segmentReader) fail(field, format string, args ...any) {
 	r.bad = true
 }
 
-// row reads one segment.
-func (r *segmentReader) row(rec []string) {
+// row reads one segment; wktProblem is what checkWKT said of its WKT.
+func (r *segmentReader) row(rec []string, wktProblem string) {
 	r.line, r.bad = r.in.line, false
 	k, ok := r.classOf(rec)
 	if !ok {
@@ -399,7 +401,7 @@ func (r *segmentReader) row(rec []string) {
 	if r.cols.name >= 0 {
 		seg.Name = strings.TrimSpace(rec[r.cols.name])
 	}
-	r.geometry(rec, &seg)
+	r.geometry(rec, wktProblem, &seg)
 	if r.bad {
 		return
 	}
@@ -421,7 +423,7 @@ func (r *segmentReader) row(rec []string) {
 	}
 	r.sums[k][state].add(billionths)
 	r.counts[k]++
-	r.ids.add(id, r.fileIndex, r.line)
+	r.ids.add(id, r.line)
 	if !r.keep.CountSegments {
 		// Clone what is kept, so as not to hold the whole row in memory.
 		seg.ID, seg.Name, seg.WKT = strings.Clone(seg.ID), strings.Clone(seg.Name), strings.Clone(seg.WKT)
@@ -508,13 +510,14 @@ func (r *segmentReader) condition(c *Class, cs string) (int, float64) {
 	return state, index
 }
 
-// geometry checks the row's WKT or lon/lat and, when kept, copies it.
-func (r *segmentReader) geometry(rec []string, seg *Segment) {
+// geometry reports the row's WKT problem (checked ahead), checks its
+// lon/lat and, when kept, copies either.
+func (r *segmentReader) geometry(rec []string, wktProblem string, seg *Segment) {
 	keep := !r.keep.CountSegments && !r.keep.NoGeometry
 	if r.cols.wkt >= 0 {
 		if w := strings.TrimSpace(rec[r.cols.wkt]); w != "" {
-			if msg := checkWKT(w); msg != "" {
-				r.fail(r.in.header[r.cols.wkt], "%s", msg)
+			if wktProblem != "" {
+				r.fail(r.in.header[r.cols.wkt], "%s", wktProblem)
 			} else if keep {
 				seg.WKT = w
 			}
