@@ -31,7 +31,6 @@ type fitOptions struct {
 	skipBadRows                 bool
 	save                        string
 	format, out, table          string
-	force                       bool
 }
 
 func newFitCmd() *cobra.Command {
@@ -111,7 +110,7 @@ be reviewed by qualified people before it drives decisions.`,
 	f.StringVar(&o.format, "format", "table", "report format: "+strings.Join(fitFormats, ", "))
 	f.StringVar(&o.out, "out", "", "write the report to this file (for csv: a directory gets one file per table)")
 	f.StringVar(&o.table, "table", "matrix", "table written by --format csv: "+strings.Join(render.FitCSVTables, ", "))
-	registerForce(cmd, &o.force)
+	registerForce(cmd)
 	return cmd
 }
 
@@ -246,7 +245,6 @@ func (o *fitOptions) run(cmd *cobra.Command, args []string) error {
 		return err
 	}
 	outs := outputsOf(cmd)
-	outs.force = o.force
 	outs.read(source, "the file the scales come from")
 	if len(args) > 0 {
 		outs.read(args[0], "the inspection export")

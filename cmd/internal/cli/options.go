@@ -23,7 +23,6 @@ type outputOptions struct {
 	out    string
 	table  string
 	tables []string // the tables --format csv can write
-	force  bool
 }
 
 var resultFormats = []string{"table", "json", "csv"}
@@ -40,12 +39,13 @@ func (o *outputOptions) registerTables(cmd *cobra.Command, tables []string, defa
 	f.StringVar(&o.format, "format", "table", "output format: "+strings.Join(resultFormats, ", "))
 	f.StringVar(&o.out, "out", "", "write to this file instead of standard output (for csv: a folder, created if missing, gets one file per table; a FILE.csv gets --table)")
 	f.StringVar(&o.table, "table", defaultTable, "table written by --format csv: "+strings.Join(tables, ", "))
-	registerForce(cmd, &o.force)
+	registerForce(cmd)
 }
 
-// registerForce adds --force, which lets --out replace a file the run read.
-func registerForce(cmd *cobra.Command, force *bool) {
-	cmd.Flags().BoolVar(force, "force", false, "let --out replace a file this run reads (the scenario, a base, a segment list, a fit file)")
+// registerForce adds --force, which lets --out replace a file the run read
+// (outputsOf reads it).
+func registerForce(cmd *cobra.Command) {
+	cmd.Flags().Bool("force", false, "let --out replace a file this run reads (the scenario, a base, a segment list, a fit file)")
 }
 
 func (o *outputOptions) validate() error {
@@ -90,7 +90,6 @@ func (o *outputOptions) emit(cmd *cobra.Command, r renderers) error {
 		return render1(cmd.OutOrStdout())
 	}
 	outs := outputsOf(cmd)
-	outs.force = o.force
 	if o.format == "csv" && isSetTarget(o.out) {
 		files := make([]setFile, len(o.tables))
 		for i, name := range o.tables {
@@ -114,14 +113,13 @@ func (o *outputOptions) emit(cmd *cobra.Command, r renderers) error {
 type formatOptions struct {
 	format string
 	out    string
-	force  bool
 }
 
 func (o *formatOptions) register(cmd *cobra.Command) {
 	f := cmd.Flags()
 	f.StringVar(&o.format, "format", "table", "output format: "+strings.Join(resultFormats, ", "))
 	f.StringVar(&o.out, "out", "", "write to this file instead of standard output")
-	registerForce(cmd, &o.force)
+	registerForce(cmd)
 }
 
 func (o *formatOptions) validate() error {
@@ -145,7 +143,6 @@ func (o *formatOptions) write(cmd *cobra.Command, table, json, csv func(io.Write
 		return fill(cmd.OutOrStdout())
 	}
 	outs := outputsOf(cmd)
-	outs.force = o.force
 	if err := outs.file(o.out, "--out", fill); err != nil {
 		return err
 	}

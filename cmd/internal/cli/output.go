@@ -80,15 +80,19 @@ func withOutputs(ctx context.Context, o *outputs) context.Context {
 }
 
 // outputsOf returns the run's outputs (a fresh one when a command runs
-// on its own, as in tests).
+// on its own, as in tests), with the command's --force.
 func outputsOf(cmd *cobra.Command) *outputs {
+	var o *outputs
 	if ctx := cmd.Context(); ctx != nil {
-		if o, ok := ctx.Value(outputsKey{}).(*outputs); ok {
-			return o
-		}
+		o, _ = ctx.Value(outputsKey{}).(*outputs)
 	}
-	o := newOutputs()
-	cmd.SetContext(withOutputs(cmd.Context(), o))
+	if o == nil {
+		o = newOutputs()
+		cmd.SetContext(withOutputs(cmd.Context(), o))
+	}
+	if f := cmd.Flags().Lookup("force"); f != nil {
+		o.force = f.Value.String() == "true"
+	}
 	return o
 }
 

@@ -19,7 +19,7 @@ var reportFormats = []string{"html", "md", "xlsx"}
 func newReportCmd() *cobra.Command {
 	var solve solveOptions
 	var sim simulateOptions
-	var withBands, force bool
+	var withBands bool
 	var format, out, date, sweep string
 	cmd := &cobra.Command{
 		Use:   "report FILE [FILE...]",
@@ -164,7 +164,6 @@ Bands and Target probabilities. The same seed gives the same report.`,
 				return write(cmd.OutOrStdout())
 			}
 			outs := outputsOf(cmd)
-			outs.force = force
 			if err := outs.file(out, "--out", write); err != nil {
 				return err
 			}
@@ -174,7 +173,7 @@ Bands and Target probabilities. The same seed gives the same report.`,
 	}
 	cmd.Flags().StringVar(&format, "format", "html", "report format: "+strings.Join(reportFormats, ", "))
 	cmd.Flags().StringVar(&out, "out", "", "write to this file instead of standard output (required for xlsx)")
-	registerForce(cmd, &force)
+	registerForce(cmd)
 	cmd.Flags().StringVar(&sweep, "sweep", "", "also plan these yearly budgets and chart condition against budget: FROM:TO:STEP or a list (one scenario only)")
 	cmd.Flags().StringVar(&date, "date", "", "report date as YYYY-MM-DD (default today); fix it for reproducible output")
 	cmd.Flags().BoolVar(&withBands, "bands", false, "also simulate each plan and show uncertainty bands and target probabilities (set up with --runs, --seed, --lot-size, --matrix-uncertainty)")

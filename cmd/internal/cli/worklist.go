@@ -18,7 +18,6 @@ func newWorklistCmd() *cobra.Command {
 	var solve solveOptions
 	var format, out string
 	var years int
-	var force bool
 	cmd := &cobra.Command{
 		Use:   "worklist FILE",
 		Short: "List the plan's work by named segment of the inventory",
@@ -100,7 +99,6 @@ segment by inspection.`,
 				}
 			}
 			outs := outputsOf(cmd)
-			outs.force = force
 			if out == "" {
 				err = write(cmd.OutOrStdout())
 			} else if err = outs.file(out, "--out", write); err == nil {
@@ -118,7 +116,7 @@ segment by inspection.`,
 	f := cmd.Flags()
 	f.StringVar(&format, "format", "table", "output format: "+strings.Join(worklistFormats, ", "))
 	f.StringVar(&out, "out", "", "write to this file instead of standard output")
-	registerForce(cmd, &force)
+	registerForce(cmd)
 	f.IntVar(&years, "years", 1, "years to list: the first from the plan, the others indicative")
 	solve.register(cmd)
 	return cmd
