@@ -427,6 +427,11 @@ func (r *segmentReader) row(rec []string, wktProblem string) {
 	if !r.keep.CountSegments {
 		// Clone what is kept, so as not to hold the whole row in memory.
 		seg.ID, seg.Name, seg.WKT = strings.Clone(seg.ID), strings.Clone(seg.Name), strings.Clone(seg.WKT)
+		if s := r.segs[k]; len(s) == cap(s) {
+			// Double, where append grows large slices by a quarter:
+			// fewer copies of a million segments.
+			r.segs[k] = append(make([]Segment, 0, 2*cap(s)+1024), s...)
+		}
 		r.segs[k] = append(r.segs[k], seg)
 	}
 }
