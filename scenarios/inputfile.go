@@ -23,20 +23,20 @@ import (
 
 // Sentinel errors of openInput, for errors.Is.
 var (
-	// ErrNotRegular: the name is a folder, a pipe, a device or a socket.
-	ErrNotRegular = errors.New("not a regular file")
-	// ErrTooLarge: the file is larger than its kind of file may be.
-	ErrTooLarge = errors.New("file too large")
-	// ErrOutside: a symbolic link leads outside the scenario's folder.
-	ErrOutside = errors.New("outside the scenario's folder")
+	// errNotRegular: the name is a folder, a pipe, a device or a socket.
+	errNotRegular = errors.New("not a regular file")
+	// errTooLarge: the file is larger than its kind of file may be.
+	errTooLarge = errors.New("file too large")
+	// errOutside: a symbolic link leads outside the scenario's folder.
+	errOutside = errors.New("outside the scenario's folder")
 )
 
 // inputError is why a file could not be opened, with its name.
 type inputError struct {
 	name string
 	err  error
-	// detail says what the file is (for ErrNotRegular) or how big (for
-	// ErrTooLarge).
+	// detail says what the file is (for errNotRegular) or how big (for
+	// errTooLarge).
 	detail string
 	limit  int64
 }
@@ -49,11 +49,11 @@ func (e *inputError) describe() string {
 	switch {
 	case errors.Is(e.err, fs.ErrNotExist):
 		return "file not found"
-	case errors.Is(e.err, ErrNotRegular):
+	case errors.Is(e.err, errNotRegular):
 		return fmt.Sprintf("is %s, not a file; wearplan reads only regular files", e.detail)
-	case errors.Is(e.err, ErrTooLarge):
+	case errors.Is(e.err, errTooLarge):
 		return fmt.Sprintf("is %s; this kind of file is at most %d bytes", e.detail, e.limit)
-	case errors.Is(e.err, ErrOutside):
+	case errors.Is(e.err, errOutside):
 		return "is a symbolic link to a place outside the scenario's folder; copy the file into the folder"
 	case errors.Is(e.err, fs.ErrPermission):
 		return "cannot be read (permission denied)"
@@ -91,21 +91,21 @@ func kindOf(m fs.FileMode) string {
 
 // openInput opens name in fsys for reading after checking that it is a
 // regular file of at most limit bytes (no limit when limit <= 0). The
-// reader it returns fails with ErrTooLarge past limit and records the
+// reader it returns fails with errTooLarge past limit and records the
 // file's digest in digests (when not nil) once read to the end.
 func openInput(fsys fs.FS, name string, limit int64, digests map[string]string) (*inputReader, error) {
 	if f, ok := fsys.(*folderFS); ok && f.escapes(name) {
-		return nil, &inputError{name: name, err: ErrOutside}
+		return nil, &inputError{name: name, err: errOutside}
 	}
 	st, err := fs.Stat(fsys, name)
 	if err != nil {
 		return nil, &inputError{name: name, err: err}
 	}
 	if !st.Mode().IsRegular() {
-		return nil, &inputError{name: name, err: ErrNotRegular, detail: kindOf(st.Mode())}
+		return nil, &inputError{name: name, err: errNotRegular, detail: kindOf(st.Mode())}
 	}
 	if limit > 0 && st.Size() > limit {
-		return nil, &inputError{name: name, err: ErrTooLarge, detail: fmt.Sprintf("%d bytes", st.Size()), limit: limit}
+		return nil, &inputError{name: name, err: errTooLarge, detail: fmt.Sprintf("%d bytes", st.Size()), limit: limit}
 	}
 	f, err := fsys.Open(name)
 	if err != nil {
@@ -115,7 +115,7 @@ func openInput(fsys fs.FS, name string, limit int64, digests map[string]string) 
 	if st, err = f.Stat(); err != nil || !st.Mode().IsRegular() {
 		f.Close()
 		if err == nil {
-			err = ErrNotRegular
+			err = errNotRegular
 		}
 		return nil, &inputError{name: name, err: err, detail: "not a regular file"}
 	}
@@ -151,7 +151,7 @@ func (r *inputReader) Read(p []byte) (int, error) {
 	r.n += int64(n)
 	r.sum.Write(p[:n])
 	if r.limit > 0 && r.n > r.limit {
-		return n, &inputError{name: r.name, err: ErrTooLarge, detail: fmt.Sprintf("more than %d bytes", r.limit), limit: r.limit}
+		return n, &inputError{name: r.name, err: errTooLarge, detail: fmt.Sprintf("more than %d bytes", r.limit), limit: r.limit}
 	}
 	if err == io.EOF && r.digests != nil {
 		r.digests[r.name] = fmt.Sprintf("%x", r.sum.Sum(nil))

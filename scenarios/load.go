@@ -65,7 +65,7 @@ func openScenarioFolder(path string) (*folderFS, string, error) {
 	}
 	// The file itself is checked here, so that messages name it as given.
 	if st, err := os.Stat(real); err == nil && !st.Mode().IsRegular() {
-		return nil, "", &InputError{Issues: []*Issue{{File: printable(path), Msg: (&inputError{err: ErrNotRegular, detail: kindOf(st.Mode())}).describe()}}}
+		return nil, "", &InputError{Issues: []*Issue{{File: printable(path), Msg: (&inputError{err: errNotRegular, detail: kindOf(st.Mode())}).describe()}}}
 	}
 	fsys, err := openFolder(filepath.Dir(real))
 	if err != nil {
