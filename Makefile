@@ -20,7 +20,7 @@ $(SUDO) env DEBIAN_FRONTEND=noninteractive apt-get install -y -q --no-install-re
   { $(SUDO) apt-get update -q >/dev/null && $(SUDO) env DEBIAN_FRONTEND=noninteractive apt-get install -y -q --no-install-recommends $(1); }
 endef
 
-.PHONY: demo serve test build deps deps-test deps-bench bench bench-go clean
+.PHONY: demo serve test build deps deps-test deps-bench bench bench-go fuzz clean
 
 deps:
 	@dpkg -s liblpsolve55-dev >/dev/null 2>&1 || { echo "installing liblpsolve55-dev"; $(call apt_install,liblpsolve55-dev); }
@@ -48,6 +48,22 @@ test: deps-test
 	go vet ./...
 	go test ./...
 	go test -race -run 'Concurrent|Memo|Serve|TimeLimit' ./cmd/internal/whatif/
+	@$(MAKE) --no-print-directory fuzz FUZZ_SCALE=
+
+# Go fuzz tests of every reader of user files (scenarios/fuzz_test.go).
+# `make test` runs each briefly (a few seconds); `make fuzz` a hundred times
+# longer. Budgets are counts of inputs, not durations: a duration races the
+# fuzz coordinator's deadline on a loaded machine (golang/go#75804). An
+# input that fails is kept in scenarios/testdata/fuzz/ and then runs as a
+# plain test case.
+FUZZ_TARGETS := FuzzLoadScenario:2000 FuzzSegmentList:3000 FuzzInspections:10000 FuzzFitFile:3000 FuzzWhatIfChanges:1000
+FUZZ_SCALE ?= 00
+fuzz: deps-test
+	@for spec in $(FUZZ_TARGETS); do \
+	  name=$${spec%%:*}; n=$${spec##*:}$(FUZZ_SCALE); \
+	  echo "go test -run '^$$' -fuzz '^$$name$$' -fuzztime $${n}x ./scenarios"; \
+	  go test -run '^$$' -fuzz "^$$name\$$" -fuzztime $${n}x ./scenarios || exit 1; \
+	done
 
 deps-bench: deps-test
 	@command -v lp_solve >/dev/null 2>&1 || { echo "installing lp-solve"; $(call apt_install,lp-solve); }

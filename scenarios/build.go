@@ -49,6 +49,7 @@ func build(f *fileScenario, is *issues) *Scenario {
 	catalogue := indexTreatments(f, is)
 	buildClasses(sc, f, scales, catalogue, is)
 	buildBudget(sc, f, is)
+	checkAmounts(sc, f, catalogue, is)
 	buildTargets(sc, f, is)
 	buildObjective(sc, f, is)
 	buildClassWarnings(sc, f, is)

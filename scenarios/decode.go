@@ -183,7 +183,12 @@ func (d *decoder) decodeStruct(n *yaml.Node, v reflect.Value, path string) {
 		seen[key] = true
 		fi, ok := idx[key]
 		if !ok {
-			d.add(k.Line, field, "unknown key %q%s; expected one of: %s", key, suggest(key, names), strings.Join(names, ", "))
+			hint := ""
+			if !d.full() {
+				// Past the listed problems a suggestion is not shown.
+				hint = suggest(key, names)
+			}
+			d.add(k.Line, field, "unknown key %q%s; expected one of: %s", key, hint, strings.Join(names, ", "))
 			continue
 		}
 		if ln != nil {
@@ -229,6 +234,9 @@ func joinPath(path, key string) string {
 func suggest(key string, known []string) string {
 	best, bestD := "", 3
 	for _, k := range known {
+		if len(key) >= len(k)+bestD || len(k) >= len(key)+bestD {
+			continue // the lengths alone differ by too much
+		}
 		if dd := editDistance(key, k); dd < bestD {
 			best, bestD = k, dd
 		}

@@ -32,16 +32,16 @@ var namedLists = map[string]bool{"classes": true, "treatments": true}
 
 // loadChain parses name and, through extends, its bases, and returns the
 // merged root. files[n] names the n-th file of the chain (files[0] = name).
-func loadChain(fsys fs.FS, name string, data []byte) (*yaml.Node, []string, error) {
+func loadChain(src inputSource, name string, data []byte) (*yaml.Node, []string, error) {
 	files := []string{name}
 	root, err := parseNode(name, data)
 	if err != nil {
 		return nil, nil, err
 	}
-	return extend(fsys, root, files)
+	return extend(src, root, files)
 }
 
-func extend(fsys fs.FS, root *yaml.Node, files []string) (*yaml.Node, []string, error) {
+func extend(src inputSource, root *yaml.Node, files []string) (*yaml.Node, []string, error) {
 	idx := len(files) - 1
 	cur := files[idx]
 	is := &issues{file: cur}
@@ -69,13 +69,13 @@ func extend(fsys fs.FS, root *yaml.Node, files []string) (*yaml.Node, []string, 
 		is.add(line, "extends", "more than %d scenarios in a chain of extends; flatten some of them", maxExtends)
 		return nil, nil, is.err()
 	}
-	data, err := fs.ReadFile(fsys, base)
+	data, err := readInput(src.fsys, base, MaxFileSize, src.digests)
 	if err != nil {
-		msg := "cannot read the base scenario %q: %v"
 		if errors.Is(err, fs.ErrNotExist) {
-			msg = "base scenario %q not found%.0v; check the name and that it sits in this file's folder"
+			is.add(line, "extends", "base scenario %q not found; check the name and that it sits in this file's folder", ext)
+		} else {
+			is.add(line, "extends", "base scenario %q %s", ext, describeOpenError(err))
 		}
-		is.add(line, "extends", msg, ext, err)
 		return nil, nil, is.err()
 	}
 	baseRoot, err := parseNode(base, data)
@@ -84,7 +84,7 @@ func extend(fsys fs.FS, root *yaml.Node, files []string) (*yaml.Node, []string, 
 	}
 	files = append(files, base)
 	shiftLines(baseRoot, len(files)-1, map[*yaml.Node]bool{})
-	merged, files, err := extend(fsys, baseRoot, files)
+	merged, files, err := extend(src, baseRoot, files)
 	if err != nil {
 		return nil, nil, err
 	}

@@ -82,12 +82,12 @@ func (fd *FitDeterioration) decodeNode(d *decoder, n *yaml.Node, path string) {
 // ReadFitFile reads and checks a fit file from fsys. Problems are
 // reported with the file's name and lines in an *InputError.
 func ReadFitFile(fsys fs.FS, name string) (*FitResult, error) {
-	data, err := fs.ReadFile(fsys, name)
+	data, err := readInput(fsys, name, MaxFileSize, nil)
 	if err != nil {
 		if errors.Is(err, fs.ErrNotExist) {
 			return nil, &InputError{Issues: []*Issue{{File: name, Msg: "fit file not found; write it with wearplan fit ... --save " + name + " (next to the scenario)"}}}
 		}
-		return nil, &InputError{Issues: []*Issue{{File: name, Msg: fmt.Sprintf("cannot read the fit file: %v", err)}}}
+		return nil, &InputError{Issues: []*Issue{{File: name, Msg: "the fit file " + describeOpenError(err)}}}
 	}
 	root, err := parseNode(name, data)
 	if err != nil {
@@ -149,24 +149,6 @@ func checkFitMatrix(fc *FitClass, field string, is *issues) {
 			continue
 		}
 		is.add(line, fld, "%v", e)
-	}
-}
-
-// addAll copies the issues of an *InputError (from another file).
-func (s *issues) addAll(err error) {
-	var ie *InputError
-	if !errors.As(err, &ie) {
-		s.add(0, "", "%v", err)
-		return
-	}
-	for _, e := range ie.Issues {
-		if s.seen == nil {
-			s.seen = map[Issue]bool{}
-		}
-		if !s.seen[*e] {
-			s.seen[*e] = true
-			s.list = append(s.list, e)
-		}
 	}
 }
 

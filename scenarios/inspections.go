@@ -1,17 +1,12 @@
 package scenarios
 
 import (
-	"bufio"
-	"bytes"
-	"encoding/csv"
 	"errors"
 	"fmt"
 	"io"
 	"slices"
 	"strconv"
 	"strings"
-	"time"
-	"unicode/utf8"
 
 	"wearplan/markov"
 )
@@ -32,15 +27,20 @@ func DefaultInspectionColumns() InspectionColumns {
 // a broken quote that swallowed the rest of the file.
 const MaxLineBytes = 64 << 10
 
-// maxListed bounds the problems listed one by one; the rest are counted.
-const maxListed = 20
-
 // InspectionOptions say how to read an inspection export.
 type InspectionOptions struct {
 	// Columns names the columns; empty names take the defaults.
 	Columns InspectionColumns
-	// Separator between fields; 0 means a comma.
-	Separator rune
+	// Delimiter between fields; 0 means a comma (ParseDelimiter reads
+	// the setting).
+	Delimiter rune
+	// Decimal is the decimal mark of condition values: '.' (also 0) or
+	// ',' (ParseDecimal reads the setting).
+	Decimal rune
+	// DateFormat is how dates are written (ParseDateFormat); the zero
+	// value reads ISO dates (2021-06-14). Years alone (2021) and ISO
+	// dates are read whatever the format.
+	DateFormat DateFormat
 	// ScaleFor returns the condition scale of a class, or nil when the
 	// class is unknown (an error naming the lines).
 	ScaleFor func(class string) *Scale
@@ -86,12 +86,13 @@ type InspectionClass struct {
 }
 
 // ReadInspections reads an inspection export: a CSV file with a header
-// and columns asset, class, inspected (a year such as 2021 or an ISO date
-// such as 2021-06-14), condition (an index value mapped through the
-// class's scale, or a state name) and optional work (non-empty when work
-// was done since the asset's previous inspection; 0, no, n, false, none
-// and - also mean no work). Extra columns are ignored. Every problem is
-// reported with its line in an *InputError; name is used in messages.
+// and columns asset, class, inspected (a year such as 2021, or a date: ISO,
+// 2021-06-14, or as the date format says), condition (an index value mapped
+// through the class's scale, or a state name) and optional work (non-empty
+// when work was done since the asset's previous inspection; 0, no, n,
+// false, none and - also mean no work). Extra columns are ignored. Every
+// problem is reported with its line in an *InputError; name is used in
+// messages.
 func ReadInspections(r io.Reader, name string, opt InspectionOptions) (*Inspections, error) {
 	cols := opt.Columns
 	def := DefaultInspectionColumns()
@@ -108,32 +109,21 @@ func ReadInspections(r io.Reader, name string, opt InspectionOptions) (*Inspecti
 		return nil, errors.New("reading inspections: no scale lookup given")
 	}
 	is := &issues{file: name}
-	lr := &lineLimitReader{r: bufio.NewReaderSize(r, 1<<16), limit: MaxLineBytes}
-	cr := csv.NewReader(lr)
-	if opt.Separator != 0 {
-		cr.Comma = opt.Separator
-	}
-	cr.ReuseRecord = true
-	header, err := cr.Read()
-	if err != nil {
-		switch {
-		case errors.Is(err, io.EOF):
-			is.add(0, "", "file is empty; an inspection export needs a header line naming the columns %s, %s, %s, %s", cols.Asset, cols.Class, cols.Inspected, cols.Condition)
-		case lr.tooLong > 0:
-			is.add(lr.tooLong, "", "line is longer than %d bytes; is this an inspection export (CSV text)?", MaxLineBytes)
-		default:
-			is.add(csvLine(err), "", "cannot read the header: %s", csvMessage(err))
-		}
+	in := newCSVInput(r, csvFormat{delimiter: opt.Delimiter, decimal: opt.Decimal}, MaxLineBytes, is)
+	if !in.readHeader(strings.Join([]string{cols.Asset, cols.Class, cols.Inspected, cols.Condition}, string(in.format.comma()))) {
 		return nil, is.err()
 	}
-	idx, ok := mapColumns(header, cols, cr.Comma, is)
+	idx, ok := mapColumns(in, cols)
 	if !ok {
 		return nil, is.err()
 	}
+	out := &Inspections{Source: name}
 	rd := &inspectionReader{
 		opt:     opt,
+		format:  in.format,
 		idx:     idx,
 		is:      is,
+		out:     out,
 		byClass: map[string]int{},
 		only:    map[string]bool{},
 		unknown: map[string]*lineList{},
@@ -141,40 +131,41 @@ func ReadInspections(r io.Reader, name string, opt InspectionOptions) (*Inspecti
 	for _, c := range opt.Only {
 		rd.only[c] = true
 	}
-	out := &Inspections{Source: name}
-	rd.out = out
+	in.bad = rd.bad
 	for {
-		rec, err := cr.Read()
-		if errors.Is(err, io.EOF) {
+		rec, ok := in.next()
+		if !ok {
 			break
 		}
-		if err != nil {
-			if lr.tooLong > 0 {
-				is.add(lr.tooLong, "", "line is longer than %d bytes; is this an inspection export (CSV text)? A quote left open can also swallow the rest of the file", MaxLineBytes)
-				break
-			}
-			var pe *csv.ParseError
-			if errors.As(err, &pe) && errors.Is(pe.Err, csv.ErrFieldCount) {
-				out.Rows++
-				rd.bad(pe.Line, "", "%d fields where the header has %d; check the separator (--separator) and quotes", len(rec), len(header))
-				continue
-			}
-			is.add(csvLine(err), "", "%s; check quotes in the line (a quote left open runs on into the next lines)", csvMessage(err))
-			break
-		}
-		out.Rows++
-		line, _ := cr.FieldPos(0)
-		rd.row(rec, line)
+		rd.row(rec, in.line)
 	}
+	out.Rows = in.records
 	rd.finish()
 	if err := is.err(); err != nil {
 		return nil, err
 	}
 	if out.Rows == 0 {
-		is.add(1, "", "the file has a header but no inspections")
+		is.add(in.headerLine, "", "the file has a header but no inspections")
 		return nil, is.err()
 	}
 	return out, nil
+}
+
+// ReadInspectionsFile reads the inspection export at path with
+// ReadInspections, after checking that it is a regular file (a folder, a
+// pipe or a device is refused before it is opened).
+func ReadInspectionsFile(path string, opt InspectionOptions) (*Inspections, error) {
+	fsys, name, err := openScenarioFolder(path)
+	if err != nil {
+		return nil, err
+	}
+	defer fsys.Close()
+	f, err := openInput(fsys, name, 0, nil)
+	if err != nil {
+		return nil, &InputError{Issues: []*Issue{{File: printable(path), Msg: describeOpenError(err)}}}
+	}
+	defer f.Close()
+	return ReadInspections(f, path, opt)
 }
 
 // lineList records the lines of one recurring problem.
@@ -209,32 +200,7 @@ type columnIndex struct {
 	asset, class, inspected, condition, work int // work is -1 when absent
 }
 
-func mapColumns(header []string, cols InspectionColumns, comma rune, is *issues) (columnIndex, bool) {
-	for i, h := range header {
-		if !utf8.ValidString(h) {
-			is.add(1, "", "the header is not UTF-8 text (column %d); save the export as UTF-8", i+1)
-			return columnIndex{}, false
-		}
-	}
-	norm := make([]string, len(header))
-	for i, h := range header {
-		h = strings.TrimPrefix(h, "\ufeff") // byte-order mark from spreadsheet exports
-		norm[i] = strings.ToLower(strings.TrimSpace(h))
-	}
-	find := func(want string) (int, bool) {
-		w := strings.ToLower(strings.TrimSpace(want))
-		at := -1
-		for i, h := range norm {
-			if h == w {
-				if at >= 0 {
-					is.add(1, "", "column %q appears twice in the header (columns %d and %d); rename one", want, at+1, i+1)
-					return -1, false
-				}
-				at = i
-			}
-		}
-		return at, true
-	}
+func mapColumns(in *csvInput, cols InspectionColumns) (columnIndex, bool) {
 	var idx columnIndex
 	var missing []string
 	ok := true
@@ -243,29 +209,23 @@ func mapColumns(header []string, cols InspectionColumns, comma rune, is *issues)
 		name string
 		key  string
 	}{{&idx.asset, cols.Asset, "asset"}, {&idx.class, cols.Class, "class"}, {&idx.inspected, cols.Inspected, "inspected"}, {&idx.condition, cols.Condition, "condition"}} {
-		i, fine := find(c.name)
-		ok = ok && fine
-		if i < 0 && fine {
+		i, unique := in.column(c.name)
+		ok = ok && unique
+		if i < 0 && unique {
 			missing = append(missing, fmt.Sprintf("%q (map another name with --column %s=HEADER)", c.name, c.key))
 		}
 		*c.at = i
 	}
-	w, fine := find(cols.Work)
-	ok = ok && fine
+	w, unique := in.column(cols.Work)
+	ok = ok && unique
 	idx.work = w
 	if len(missing) > 0 {
-		found := strings.Join(header, string(comma))
-		if len(header) == 1 {
-			if i := strings.IndexAny(header[0], ";\t|"); i >= 0 {
-				sep := header[0][i : i+1]
-				if sep == "\t" {
-					sep = "tab"
-				}
-				is.add(1, "", "the header %q reads as one column: the file looks separated by %q, not %q; try --separator %q", found, sep, string(comma), sep)
-				return idx, false
-			}
+		found := strings.Join(in.header, string(in.format.comma()))
+		if d, one := in.oneColumn(); one {
+			in.is.add(in.headerLine, "", "the header %q reads as one column: the file looks delimited by %q, not %q; set the delimiter to %q", found, delimiterName(d), delimiterName(in.format.comma()), delimiterName(d))
+			return idx, false
 		}
-		is.add(1, "", "missing column %s; the header reads %q", strings.Join(missing, ", "), found)
+		in.is.add(in.headerLine, "", "missing column %s; the header reads %q", strings.Join(missing, ", "), found)
 		return idx, false
 	}
 	return idx, ok
@@ -273,6 +233,7 @@ func mapColumns(header []string, cols InspectionColumns, comma rune, is *issues)
 
 type inspectionReader struct {
 	opt     InspectionOptions
+	format  csvFormat
 	idx     columnIndex
 	is      *issues
 	out     *Inspections
@@ -280,8 +241,6 @@ type inspectionReader struct {
 	assets  []map[string]int
 	only    map[string]bool
 	unknown map[string]*lineList
-	listed  int
-	more    int
 	badKind map[string]*badRows
 }
 
@@ -305,11 +264,6 @@ func (rd *inspectionReader) bad(line int, field, format string, args ...any) {
 		b.lines.add(line)
 		return
 	}
-	if rd.listed >= maxListed {
-		rd.more++
-		return
-	}
-	rd.listed++
 	rd.is.add(line, field, format, args...)
 }
 
@@ -319,12 +273,6 @@ type badRows struct {
 }
 
 func (rd *inspectionReader) row(rec []string, line int) {
-	for i, f := range rec {
-		if !utf8.ValidString(f) {
-			rd.bad(line, "", "not UTF-8 text (column %d); save the export as UTF-8", i+1)
-			return
-		}
-	}
 	cols := rd.opt.Columns
 	class := strings.TrimSpace(rec[rd.idx.class])
 	if class == "" {
@@ -361,12 +309,12 @@ func (rd *inspectionReader) row(rec []string, line int) {
 		rd.bad(line, cols.Asset, "asset is empty; every inspection needs the asset's identifier")
 		return
 	}
-	t, msg := parseInspected(rec[rd.idx.inspected])
+	t, msg := rd.opt.DateFormat.parse(rec[rd.idx.inspected])
 	if msg != "" {
 		rd.bad(line, cols.Inspected, "%s", msg)
 		return
 	}
-	state, msg := c.Scale.ParseCondition(rec[rd.idx.condition])
+	state, msg := c.Scale.parseCondition(rec[rd.idx.condition], rd.format)
 	if msg != "" {
 		rd.bad(line, cols.Condition, "%s", msg)
 		return
@@ -399,9 +347,6 @@ func (rd *inspectionReader) finish() {
 			continue
 		}
 		rd.is.add(l.first[0], rd.opt.Columns.Class, "%s", msg)
-	}
-	if rd.more > 0 {
-		rd.is.add(0, "", "and %d more problems like those above; fix them, or leave such rows out with --skip-bad-rows", rd.more)
 	}
 	for _, kind := range sortedKeys(rd.badKind) {
 		b := rd.badKind[kind]
@@ -490,43 +435,6 @@ func dedupe(h []markov.Inspection, dup, conflict *lineList) []markov.Inspection 
 	return out
 }
 
-// parseInspected reads a year (2021, taken as mid-year) or an ISO date
-// (2021-06-14, optionally followed by a time, which is ignored) as a time
-// in years.
-func parseInspected(text string) (float64, string) {
-	t := strings.TrimSpace(text)
-	bad := fmt.Sprintf("inspected %q is not a year (2021) or an ISO date (2021-06-14)", t)
-	if t == "" {
-		return 0, "inspected is empty; give the year (2021) or the ISO date (2021-06-14)"
-	}
-	if len(t) == 4 {
-		y, err := strconv.Atoi(t)
-		if err != nil {
-			return 0, bad
-		}
-		if y < minYear || y > maxYear {
-			return 0, fmt.Sprintf("inspected year %d is not plausible; give the year (2021) or the ISO date (2021-06-14)", y)
-		}
-		return float64(y) + 0.5, ""
-	}
-	if len(t) > 10 && (t[10] == 'T' || t[10] == ' ') {
-		t = t[:10]
-	}
-	d, err := time.Parse("2006-01-02", t)
-	if err != nil {
-		return 0, bad
-	}
-	y := d.Year()
-	if y < minYear || y > maxYear {
-		return 0, fmt.Sprintf("inspected year %d is not plausible; give the year (2021) or the ISO date (2021-06-14)", y)
-	}
-	days := 365.0
-	if time.Date(y, 12, 31, 0, 0, 0, 0, time.UTC).YearDay() == 366 {
-		days = 366
-	}
-	return float64(y) + float64(d.YearDay()-1)/days, ""
-}
-
 // workDone reads the work column: empty and the usual words for "no"
 // mean no work; anything else means work was done.
 func workDone(text string) bool {
@@ -535,63 +443,4 @@ func workDone(text string) bool {
 		return false
 	}
 	return true
-}
-
-// csvLine is the line where the record with the problem starts: for a
-// quote left open, the line it was opened on.
-func csvLine(err error) int {
-	var pe *csv.ParseError
-	if errors.As(err, &pe) {
-		return pe.StartLine
-	}
-	return 0
-}
-
-func csvMessage(err error) string {
-	var pe *csv.ParseError
-	if errors.As(err, &pe) {
-		return pe.Err.Error()
-	}
-	return err.Error()
-}
-
-// lineLimitReader fails a read once a line grows past limit bytes, and
-// remembers that line's number.
-type lineLimitReader struct {
-	r       *bufio.Reader
-	limit   int
-	line    int // current line, 1-based once reading starts
-	run     int // bytes since the last newline
-	tooLong int
-}
-
-var errLineTooLong = errors.New("line too long")
-
-func (l *lineLimitReader) Read(p []byte) (int, error) {
-	if l.tooLong > 0 {
-		return 0, errLineTooLong
-	}
-	if l.line == 0 {
-		l.line = 1
-	}
-	n, err := l.r.Read(p)
-	for i := 0; i < n; {
-		k := bytes.IndexByte(p[i:n], '\n')
-		if k < 0 {
-			l.run += n - i
-			break
-		}
-		l.run += k
-		if l.run > l.limit {
-			break
-		}
-		l.line++
-		l.run = 0
-		i += k + 1
-	}
-	if l.run > l.limit {
-		l.tooLong = l.line
-		return 0, errLineTooLong
-	}
-	return n, err
 }

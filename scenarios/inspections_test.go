@@ -166,15 +166,17 @@ func TestReadInspectionsSkipBadRowsAndClasses(t *testing.T) {
 	}
 }
 
-func TestReadInspectionsListsAtMostTwentyProblems(t *testing.T) {
+func TestReadInspectionsListsAtMostFiftyProblems(t *testing.T) {
+	// Every reader lists the first 50 problems and counts the others, so
+	// that a file wrong throughout gives a readable message.
 	var b strings.Builder
 	b.WriteString("asset,class,inspected,condition\n")
-	for range 50 {
+	for range 80 {
 		b.WriteString("A1,local-asphalt,never,90\n")
 	}
 	_, err := readCSV(t, b.String(), scenarios.InspectionOptions{})
 	var ie *scenarios.InputError
-	if !errors.As(err, &ie) || len(ie.Issues) != 21 || !strings.Contains(ie.Issues[20].Msg, "and 30 more problems") {
+	if !errors.As(err, &ie) || len(ie.Issues) != scenarios.MaxListed || ie.Unlisted != 30 || !strings.Contains(err.Error(), "and 30 more problems") {
 		t.Fatalf("got %v", err)
 	}
 }

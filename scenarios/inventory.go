@@ -1,26 +1,16 @@
 package scenarios
 
 import (
-	"bufio"
-	"cmp"
-	"encoding/csv"
 	"errors"
 	"fmt"
-	"io"
 	"io/fs"
 	"math"
 	"path"
 	"reflect"
-	"slices"
 	"strconv"
 	"strings"
-	"unicode/utf8"
 
-	"github.com/expr-lang/expr"
-	"github.com/expr-lang/expr/ast"
-	"github.com/expr-lang/expr/parser"
 	"github.com/expr-lang/expr/vm"
-	"github.com/paulmach/orb/encoding/wkt"
 	"gopkg.in/yaml.v3"
 )
 
@@ -78,12 +68,16 @@ type InventoryClass struct {
 type inputSource struct {
 	fsys fs.FS
 	name string
+	// digests records the SHA-256 of each file read to the end.
+	digests map[string]string
+	opt     LoadOptions
 }
 
 // fileInventoryCSV is inventory_csv: a file name, or the file with options.
 type fileInventoryCSV struct {
 	File        string       `yaml:"file"`
 	Delimiter   string       `yaml:"delimiter"`
+	Decimal     string       `yaml:"decimal"`
 	Columns     *fileColumns `yaml:"columns"`
 	Priority    string       `yaml:"priority"`
 	SkipUnrated bool         `yaml:"skip_unrated"`
@@ -116,15 +110,12 @@ func (s *fileInventoryCSV) decodeNode(d *decoder, n *yaml.Node, path string) {
 	d.decodeStruct(n, reflect.ValueOf(s).Elem(), path)
 }
 
-// maxCSVIssues bounds the problems listed per CSV: past it, one line says
-// how many more there are.
-const maxCSVIssues = 50
-
-// Priority variables other than the CSV's columns.
+// Limits of a segment list: a record (a line, or a quoted field over
+// several lines) holds a segment's geometry at most; an id is a key, not
+// a text.
 const (
-	varCondition = "condition"
-	varQuantity  = "quantity"
-	varState     = "state"
+	maxSegmentLine = maxWKTBytes + 64<<10
+	maxIDBytes     = 256
 )
 
 // inventoryJob is one inventory CSV to read and the classes it supplies.
@@ -165,139 +156,88 @@ func readInventories(sc *Scenario, f *fileScenario, is *issues) {
 			jobs = append(jobs, j)
 		}
 	}
+	ids := newSegmentIDs()
+	var files []*Inventory
 	for _, j := range jobs {
-		readInventory(sc, f, j, is)
+		if inv := readInventory(sc, f, j, ids, len(files), is); inv != nil {
+			files = append(files, inv)
+		}
 	}
-	checkUniqueIDs(sc, is)
+	ids.report(files, is)
 }
 
-// checkUniqueIDs reports segment ids used twice among the segments read:
-// ids key the worklist, so they must be unique across the scenario's
-// inventory files. (Sorting the ids once is several times faster than a
-// map of a million strings filled row by row.)
-func checkUniqueIDs(sc *Scenario, is *issues) {
-	type ref struct {
-		id         string
-		file, line int32
-	}
-	fileIndex := map[*Inventory]int{}
-	for i, inv := range sc.Inventories {
-		fileIndex[inv] = i
-	}
-	n := 0
-	for k := range sc.Classes {
-		n += len(sc.Classes[k].Segments)
-	}
-	refs := make([]ref, 0, n)
-	for k := range sc.Classes {
-		c := &sc.Classes[k]
-		if c.Inventory == nil {
-			continue
-		}
-		fi := fileIndex[c.Inventory]
-		for j := range c.Segments {
-			refs = append(refs, ref{c.Segments[j].ID, int32(fi), int32(c.Segments[j].Line)})
-		}
-	}
-	slices.SortFunc(refs, func(a, b ref) int {
-		if v := strings.Compare(a.id, b.id); v != 0 {
-			return v
-		}
-		return cmp.Or(cmp.Compare(a.file, b.file), cmp.Compare(a.line, b.line))
-	})
-	dups := 0
-	for i := 1; i < len(refs); i++ {
-		a, b := refs[i-1], refs[i]
-		if a.id != b.id {
-			continue
-		}
-		if dups++; dups > maxCSVIssues {
-			continue
-		}
-		where := fmt.Sprintf("line %d", a.line)
-		if a.file != b.file {
-			where = fmt.Sprintf("%s:%d", sc.Inventories[a.file].File, a.line)
-		}
-		fis := &issues{file: sc.Inventories[b.file].File}
-		fis.add(int(b.line), sc.Inventories[b.file].idColumn, "%q is already used on %s; ids must be unique (they key the worklist)", b.id, where)
-		is.list = append(is.list, fis.list...)
-	}
-	if dups > maxCSVIssues {
-		is.add(0, "", "and %d more ids used twice, not listed; fix the ones above and check again", dups-maxCSVIssues)
-	}
-}
-
-// csvIssues collects the problems of one CSV, listing at most maxCSVIssues.
-type csvIssues struct {
-	*issues
-	count int
-}
-
-func (c *csvIssues) add(line int, field, format string, args ...any) {
-	c.count++
-	if c.count <= maxCSVIssues {
-		c.issues.add(line, field, format, args...)
-	}
-}
-
-func readInventory(sc *Scenario, f *fileScenario, j inventoryJob, is *issues) {
+// readInventory reads one inventory CSV into the classes it supplies and
+// returns what it read (nil when the file could not be opened).
+func readInventory(sc *Scenario, f *fileScenario, j inventoryJob, ids *segmentIDs, fileIndex int, is *issues) *Inventory {
 	spec := j.spec
 	fileLine := spec.Lines.of("file")
 	if strings.TrimSpace(spec.File) == "" {
 		is.add(spec.Lines.of(""), j.field+".file", "missing; name the CSV file, relative to the scenario's folder")
-		return
+		return nil
 	}
 	if f.source.fsys == nil {
 		is.add(fileLine, j.field, "cannot read %q: the scenario was not read from a file; load it with LoadFile or Load", spec.File)
-		return
+		return nil
 	}
 	name := path.Join(path.Dir(f.source.name), strings.TrimSpace(spec.File))
 	if !fs.ValidPath(name) || strings.HasPrefix(spec.File, "/") {
 		is.add(fileLine, j.field+".file", "%q: give a path inside the scenario's folder (no .. and no leading /); copy or link the file next to the scenario", spec.File)
-		return
+		return nil
 	}
-	comma, ok := delimiterRune(spec.Delimiter)
-	if !ok {
-		is.add(spec.Lines.of("delimiter"), j.field+".delimiter", "%q: give one character, e.g. \",\" (the default), \";\" or \"\\t\" for tabs", spec.Delimiter)
-		return
+	format := csvFormat{holder: "inventory_csv"}
+	var err error
+	if format.delimiter, err = ParseDelimiter(spec.Delimiter); err != nil {
+		is.add(spec.Lines.of("delimiter"), j.field+".delimiter", "%v", err)
+		return nil
 	}
-	fh, err := f.source.fsys.Open(name)
+	if format.decimal, err = ParseDecimal(spec.Decimal); err != nil {
+		is.add(spec.Lines.of("decimal"), j.field+".decimal", "%v", err)
+		return nil
+	}
+	fh, err := openInput(f.source.fsys, name, 0, f.source.digests)
 	if err != nil {
 		if errors.Is(err, fs.ErrNotExist) {
 			is.add(fileLine, j.field+".file", "%s: file not found; the path is relative to the scenario's folder", name)
 		} else {
-			is.add(fileLine, j.field+".file", "cannot read %s: %v", name, err)
+			is.add(fileLine, j.field+".file", "%s %s", name, describeOpenError(err))
 		}
-		return
+		return nil
 	}
 	defer fh.Close()
+	// Room for the ids of a list of rows of about 100 bytes (a segment
+	// list with a line geometry), each id about 10 bytes.
+	ids.startFile(fileIndex, int(min(fh.size/100, 1<<27)), 10)
 
-	ci := &csvIssues{issues: &issues{file: name}}
-	inv := &Inventory{File: name, Priority: strings.TrimSpace(spec.Priority)}
-	segs, sums := readRows(sc, j, fh, comma, inv, ci, is)
-	if ci.count > maxCSVIssues {
-		ci.issues.add(0, "", "and %d more problems in this file not listed; fix the ones above and check again", ci.count-maxCSVIssues)
+	fileIssues := &issues{file: name}
+	r := &segmentReader{
+		sc: sc, job: j, ids: ids, keep: f.source.opt,
+		inv: &Inventory{File: name, Priority: strings.TrimSpace(spec.Priority)},
+		in:  newCSVInput(fh, format, maxSegmentLine, fileIssues),
 	}
-	is.list = append(is.list, ci.list...)
-	if ci.count > 0 || segs == nil {
-		return
+	r.read(is)
+	bad := fileIssues.count() > 0
+	is.addAll(fileIssues.err())
+	if bad || r.sums == nil {
+		return r.inv
 	}
 	for k, takes := range j.takes {
 		c := &sc.Classes[k]
 		if !takes || c.Scale == nil {
 			continue
 		}
-		c.Inventory = inv
-		c.Segments = segs[k]
+		c.Inventory = r.inv
+		if !r.keep.CountSegments {
+			c.Segments = r.segs[k]
+		}
 		for i := range c.Initial {
-			v, ok := sums[k][i].float()
+			v, ok := r.sums[k][i].float()
 			if !ok {
 				is.add(fileLine, j.field, "the quantities of class %q in state %q add up past %g; check the quantity column's unit", c.Name, c.Scale.States[i].Name, maxExactSum)
 			}
 			c.Initial[i] = v
 		}
-		ic := InventoryClass{Class: c.Name, Unit: c.Unit, Segments: len(segs[k]), Quantity: c.Total()}
-		inv.Classes = append(inv.Classes, ic)
+		ic := InventoryClass{Class: c.Name, Unit: c.Unit, Segments: r.counts[k], Quantity: c.Total()}
+		r.inv.Classes = append(r.inv.Classes, ic)
 		if ic.Segments == 0 {
 			hint := "check the class column's spelling"
 			if j.only >= 0 {
@@ -306,21 +246,8 @@ func readInventory(sc *Scenario, f *fileScenario, j inventoryJob, is *issues) {
 			is.add(fileLine, j.field, "%s has no segments of class %q; %s", name, c.Name, hint)
 		}
 	}
-	sc.Inventories = append(sc.Inventories, inv)
-}
-
-func delimiterRune(s string) (rune, bool) {
-	switch s {
-	case "":
-		return ',', true
-	case "\\t", "tab":
-		return '\t', true
-	}
-	r, size := utf8.DecodeRuneInString(s)
-	if size != len(s) || r == '"' || r == '\r' || r == '\n' || r == utf8.RuneError {
-		return 0, false
-	}
-	return r, true
+	sc.Inventories = append(sc.Inventories, r.inv)
+	return r.inv
 }
 
 // columns are the positions of the roles in a CSV's header, -1 if absent.
@@ -328,458 +255,296 @@ type columns struct {
 	id, class, quantity, condition, name, wkt, lon, lat int
 }
 
-// normalColumn is how header names are compared: trimmed, any case.
-func normalColumn(s string) string { return strings.ToLower(strings.TrimSpace(s)) }
-
-// identifier is how a column is named in the priority expression: lower
-// case, every run of other characters than letters and digits turned into
-// one underscore, and an underscore before a leading digit.
-func identifier(col string) string {
-	var b strings.Builder
-	under := false
-	for _, r := range strings.ToLower(strings.TrimSpace(col)) {
-		if (r >= 'a' && r <= 'z') || (r >= '0' && r <= '9') {
-			b.WriteRune(r)
-			under = false
-		} else if !under && b.Len() > 0 {
-			b.WriteByte('_')
-			under = true
-		}
-	}
-	s := strings.TrimSuffix(b.String(), "_")
-	if s != "" && s[0] >= '0' && s[0] <= '9' {
-		s = "_" + s
-	}
-	return s
+// segmentReader reads the rows of one segment list.
+type segmentReader struct {
+	sc   *Scenario
+	job  inventoryJob
+	in   *csvInput
+	inv  *Inventory
+	cols columns
+	prio *priorityProgram
+	run  vm.VM
+	ids  *segmentIDs
+	keep LoadOptions
+	// Per class: the segments kept (unless only counted), their number
+	// and their quantities' exact sums by state.
+	segs   [][]Segment
+	counts []int
+	sums   [][]exactSum
+	// row is the current row's line and whether a problem was found in it.
+	line int
+	bad  bool
 }
 
-// headerColumns finds the roles in the header, reporting what is missing.
-func headerColumns(header []string, spec *fileInventoryCSV, needClass bool, comma rune, ci *csvIssues, line int) (columns, bool) {
-	pos := map[string]int{}
-	ok := true
-	for i, h := range header {
-		h = normalColumn(h)
-		if h == "" {
-			continue
-		}
-		if prev, dup := pos[h]; dup {
-			ci.add(line, "", "column %q appears twice (columns %d and %d); rename one", header[i], prev+1, i+1)
-			ok = false
-			continue
-		}
-		pos[h] = i
+// read reads the header and the rows; is takes problems of the scenario
+// (the priority expression); the file's own go to r.in.is.
+func (r *segmentReader) read(is *issues) {
+	if !r.in.readHeader("id,class,quantity,condition") || !r.findColumns() {
+		return
 	}
+	header := r.in.header
+	r.inv.idColumn = header[r.cols.id]
+	switch {
+	case r.cols.wkt >= 0:
+		r.inv.Geometry = "WKT"
+	case r.cols.lon >= 0:
+		r.inv.Geometry = "lon/lat"
+	}
+	if r.inv.Priority != "" {
+		var ok bool
+		if r.prio, ok = compilePriority(r.inv.Priority, header, r.job.field+".priority", r.job.spec.Lines.of("priority"), is); !ok {
+			return
+		}
+	}
+	n := len(r.sc.Classes)
+	r.segs, r.counts, r.sums = make([][]Segment, n), make([]int, n), make([][]exactSum, n)
+	for k := range r.sc.Classes {
+		if r.job.takes[k] && r.sc.Classes[k].Scale != nil {
+			r.sums[k] = make([]exactSum, len(r.sc.Classes[k].Scale.States))
+		}
+	}
+	// The WKT check, the costliest per row, runs on the goroutine that
+	// reads ahead.
+	var prepare func([]string) any
+	if r.cols.wkt >= 0 {
+		prepare = func(rec []string) any { return checkWKT(strings.TrimSpace(rec[r.cols.wkt])) }
+	}
+	r.in.each(prepare, func(rec []string, wktProblem any) {
+		r.inv.Rows++
+		msg, _ := wktProblem.(string)
+		r.row(rec, msg)
+	})
+	if r.inv.Rows == 0 && r.in.is.count() == 0 {
+		r.in.is.add(r.in.headerLine, "", "no segment rows under the header; add one row per segment")
+	}
+}
+
+// findColumns finds the roles in the header, reporting what is missing.
+func (r *segmentReader) findColumns() bool {
 	var given fileColumns
-	if spec.Columns != nil {
-		given = *spec.Columns
+	if r.job.spec.Columns != nil {
+		given = *r.job.spec.Columns
 	}
+	ok := true
 	find := func(role, mapped string, required bool) int {
 		want := role
 		if mapped != "" {
 			want = mapped
 		}
-		if i, found := pos[normalColumn(want)]; found {
+		i, unique := r.in.column(want)
+		if !unique {
+			ok = false
+			return -1
+		}
+		if i >= 0 || (mapped == "" && !required) {
 			return i
 		}
-		if mapped != "" || required {
-			ok = false
-			if len(header) == 1 {
-				for _, d := range []string{";", "\t", "|", ","} {
-					if strings.Contains(header[0], d) && rune(d[0]) != comma {
-						shown := d
-						if d == "\t" {
-							shown = "\\t"
-						}
-						ci.add(line, "", "the header reads as one column %q: the file seems to separate columns with %q; add delimiter: %q to inventory_csv", header[0], shown, shown)
-						return -1
-					}
-				}
-			}
-			how := fmt.Sprintf("or map yours with columns: {%s: YOUR_COLUMN}", role)
-			if mapped != "" {
-				how = fmt.Sprintf("columns: {%s: %s} names it", role, mapped)
-			}
-			what := fmt.Sprintf("%q", want)
-			if want != role {
-				what = fmt.Sprintf("%q (the %s column)", want, role)
-			}
-			ci.add(line, "", "no column %s; the header has %s; add the column, %s", what, quotedList(header), how)
+		ok = false
+		if d, one := r.in.oneColumn(); one {
+			r.in.is.add(r.in.headerLine, "", "the header reads as one column %q: the file seems to separate columns with %q; add delimiter: %q to inventory_csv", r.in.header[0], delimiterName(d), delimiterName(d))
+			return -1
 		}
+		how := fmt.Sprintf("or map yours with columns: {%s: YOUR_COLUMN}", role)
+		if mapped != "" {
+			how = fmt.Sprintf("columns: {%s: %s} names it", role, mapped)
+		}
+		what := fmt.Sprintf("%q", want)
+		if want != role {
+			what = fmt.Sprintf("%q (the %s column)", want, role)
+		}
+		r.in.is.add(r.in.headerLine, "", "no column %s; the header has %s; add the column, %s", what, r.in.headerList(), how)
 		return -1
 	}
-	c := columns{
+	r.cols = columns{
 		id:        find("id", given.ID, true),
 		quantity:  find("quantity", given.Quantity, true),
 		condition: find("condition", given.Condition, true),
-		class:     find("class", given.Class, needClass),
+		class:     find("class", given.Class, r.job.only < 0),
 		name:      find("name", given.Name, false),
 		wkt:       find("wkt", given.WKT, false),
 		lon:       find("lon", given.Lon, false),
 		lat:       find("lat", given.Lat, false),
 	}
-	if ok && (c.lon < 0) != (c.lat < 0) {
-		ci.add(line, "", "give both lon and lat columns for point geometry, or neither")
+	if ok && (r.cols.lon < 0) != (r.cols.lat < 0) {
+		r.in.is.add(r.in.headerLine, "", "give both lon and lat columns for point geometry, or neither")
 		ok = false
 	}
-	return c, ok
+	return ok
 }
 
-func quotedList(ss []string) string {
-	q := make([]string, len(ss))
-	for i, s := range ss {
-		q[i] = strconv.Quote(s)
-	}
-	return strings.Join(q, ", ")
+// fail reports a problem in the current row's column.
+func (r *segmentReader) fail(field, format string, args ...any) {
+	r.in.is.add(r.line, field, format, args...)
+	r.bad = true
 }
 
-// priorityProgram is a compiled priority expression and the CSV columns it
-// reads.
-type priorityProgram struct {
-	prog *vm.Program
-	env  map[string]any
-	// cols maps variable names to CSV column positions.
-	cols map[string]int
-}
-
-// identVisitor collects the names an expression refers to.
-type identVisitor struct{ names []string }
-
-func (v *identVisitor) Visit(n *ast.Node) {
-	if id, ok := (*n).(*ast.IdentifierNode); ok {
-		v.names = append(v.names, id.Value)
-	}
-}
-
-// compilePriority compiles the priority expression against the header.
-func compilePriority(code string, header []string, field string, line int, is *issues) (*priorityProgram, bool) {
-	tree, err := parser.Parse(code)
-	if err != nil {
-		is.add(line, field, "%q: %s; write an expression over the columns, e.g. aadt * (100 - condition)", code, firstTextLine(err.Error()))
-		return nil, false
-	}
-	byIdent := map[string]int{}
-	var known []string
-	for i, h := range header {
-		id := identifier(h)
-		if id == "" {
-			continue
-		}
-		if _, dup := byIdent[id]; !dup {
-			byIdent[id] = i
-			known = append(known, id)
-		}
-	}
-	v := &identVisitor{}
-	ast.Walk(&tree.Node, v)
-	p := &priorityProgram{env: map[string]any{varCondition: 0.0, varQuantity: 0.0, varState: 0.0}, cols: map[string]int{}}
-	ok := true
-	for _, name := range v.names {
-		switch name {
-		case varCondition, varQuantity, varState:
-			continue
-		}
-		i, found := byIdent[name]
-		if !found {
-			is.add(line, field, "%q refers to %q, which is not a column; use condition, quantity, state or a column: %s", code, name, strings.Join(known, ", "))
-			ok = false
-			continue
-		}
-		p.cols[name] = i
-		p.env[name] = 0.0
-	}
+// row reads one segment; wktProblem is what checkWKT said of its WKT.
+func (r *segmentReader) row(rec []string, wktProblem string) {
+	r.line, r.bad = r.in.line, false
+	k, ok := r.classOf(rec)
 	if !ok {
-		return nil, false
+		return
 	}
-	prog, err := expr.Compile(code, expr.Env(p.env), expr.AsFloat64())
-	if err != nil {
-		is.add(line, field, "%q: %s; the expression must give a number (higher is listed first)", code, firstTextLine(err.Error()))
-		return nil, false
+	c := &r.sc.Classes[k]
+	if c.Scale == nil {
+		return // the scale's problems are reported already
 	}
-	p.prog = prog
-	return p, true
-}
-
-func firstTextLine(s string) string {
-	if i := strings.IndexByte(s, '\n'); i >= 0 {
-		return s[:i]
+	id := r.id(rec)
+	q, billionths := r.quantity(rec, c)
+	cs := strings.TrimSpace(rec[r.cols.condition])
+	if cs == "" && r.job.spec.SkipUnrated && !r.bad {
+		r.inv.Unrated++
+		return
 	}
-	return s
-}
-
-// readRows reads the CSV's rows into segments and exact quantity sums per
-// class and state. It returns nil segments when the header is unusable.
-func readRows(sc *Scenario, j inventoryJob, r io.Reader, comma rune, inv *Inventory, ci *csvIssues, is *issues) ([][]Segment, [][]exactSum) {
-	br := bufio.NewReaderSize(r, 1<<16)
-	if bom, err := br.Peek(3); err == nil && string(bom) == "\uFEFF" {
-		br.Discard(3)
+	state, index := r.condition(c, cs)
+	seg := Segment{ID: id, Line: r.line, State: state, Index: index, Quantity: q}
+	if r.cols.name >= 0 {
+		seg.Name = strings.TrimSpace(rec[r.cols.name])
 	}
-	cr := csv.NewReader(br)
-	cr.Comma = comma
-	cr.FieldsPerRecord = -1
-	cr.ReuseRecord = true
-	header, err := cr.Read()
-	if err == io.EOF {
-		ci.add(1, "", "file is empty; the first line must be a header naming the columns, e.g. id,class,quantity,condition")
-		return nil, nil
+	r.geometry(rec, wktProblem, &seg)
+	if r.bad {
+		return
 	}
-	if err != nil {
-		ci.add(csvErrLine(err, 1), "", "%s", csvErrText(err))
-		return nil, nil
+	if q == 0 {
+		r.inv.ZeroQuantity++
+		return
 	}
-	header = append([]string(nil), header...)
-	for i, h := range header {
-		if !utf8.ValidString(h) {
-			ci.add(1, "", "the header is not UTF-8 text; save the file as UTF-8 (\"CSV UTF-8\" in spreadsheet programs)")
-			return nil, nil
+	if r.prio != nil {
+		cond := index
+		if math.IsNaN(cond) {
+			cond = c.Scale.States[state].Value
 		}
-		header[i] = strings.TrimSpace(h)
+		p, field, msg := r.prio.value(&r.run, rec, r.in.header, r.in.format, cond, q, state)
+		if msg != "" {
+			r.fail(field, "%s", msg)
+			return
+		}
+		seg.Priority = p
 	}
-	headerLine, _ := cr.FieldPos(0)
-	cols, ok := headerColumns(header, j.spec, j.only < 0, comma, ci, headerLine)
-	if !ok {
-		return nil, nil
+	r.sums[k][state].add(billionths)
+	r.counts[k]++
+	r.ids.add(id, r.line)
+	if !r.keep.CountSegments {
+		// Clone what is kept, so as not to hold the whole row in memory.
+		seg.ID, seg.Name, seg.WKT = strings.Clone(seg.ID), strings.Clone(seg.Name), strings.Clone(seg.WKT)
+		if s := r.segs[k]; len(s) == cap(s) {
+			// Double, where append grows large slices by a quarter:
+			// fewer copies of a million segments.
+			r.segs[k] = append(make([]Segment, 0, 2*cap(s)+1024), s...)
+		}
+		r.segs[k] = append(r.segs[k], seg)
 	}
-	inv.idColumn = header[cols.id]
+}
+
+// classOf returns the row's class; false when the row is of another
+// class (counted) or its class cell is wrong (reported).
+func (r *segmentReader) classOf(rec []string) (int, bool) {
+	k := r.job.only
+	if r.cols.class < 0 {
+		return k, true
+	}
+	col := r.in.header[r.cols.class]
+	cname := strings.TrimSpace(rec[r.cols.class])
+	if r.job.only >= 0 {
+		if !sameName(cname, r.sc.Classes[r.job.only].Name) {
+			r.inv.OtherClass++
+			return k, false
+		}
+		return k, true
+	}
+	k = classByName(r.sc, cname)
 	switch {
-	case cols.wkt >= 0:
-		inv.Geometry = "WKT"
-	case cols.lon >= 0:
-		inv.Geometry = "lon/lat"
+	case cname == "":
+		r.fail(col, "empty; name the segment's asset class (%s)", classNames(r.sc))
+	case k < 0:
+		r.fail(col, "unknown class %q; the scenario's classes are %s", cname, classNames(r.sc))
+	case !r.job.takes[k]:
+		r.fail(col, "class %q gives its own inventory in the scenario; drop its rows here or its inventory there", cname)
+	default:
+		return k, true
 	}
-	var prio *priorityProgram
-	if inv.Priority != "" {
-		prio, ok = compilePriority(inv.Priority, header, j.field+".priority", j.spec.Lines.of("priority"), is)
-		if !ok {
-			return nil, nil
-		}
+	return k, false
+}
+
+func (r *segmentReader) id(rec []string) string {
+	id := strings.TrimSpace(rec[r.cols.id])
+	switch {
+	case id == "":
+		r.fail(r.in.header[r.cols.id], "empty; every segment needs an id (it keys the worklist)")
+	case len(id) > maxIDBytes:
+		r.fail(r.in.header[r.cols.id], "an id of %d bytes; ids are keys of at most %d bytes", len(id), maxIDBytes)
 	}
-	var run vm.VM
-	n := len(sc.Classes)
-	segs := make([][]Segment, n)
-	sums := make([][]exactSum, n)
-	for k := range sc.Classes {
-		if j.takes[k] && sc.Classes[k].Scale != nil {
-			sums[k] = make([]exactSum, len(sc.Classes[k].Scale.States))
-		}
+	return id
+}
+
+func (r *segmentReader) quantity(rec []string, c *Class) (float64, int64) {
+	col := r.in.header[r.cols.quantity]
+	qs := strings.TrimSpace(rec[r.cols.quantity])
+	q, billionths, err := parseQuantity(qs, r.in.format)
+	switch {
+	case qs == "":
+		r.fail(col, "empty; give the segment's quantity in %s", c.Unit)
+	case errors.Is(err, errQuantityRange):
+		r.fail(col, "%s is %g or more; no segment is that large: check the quantity column's unit", qs, maxExactSum)
+	case err != nil:
+		r.fail(col, "%q is not a number (the quantity in %s); %s", qs, c.Unit, r.in.format.numberHint(err))
+	case q < 0:
+		r.fail(col, "%s is negative; a quantity is zero or more", qs)
 	}
-	for {
-		rec, err := cr.Read()
-		if err == io.EOF {
-			break
-		}
-		if err != nil {
-			var pe *csv.ParseError
-			if !errors.As(err, &pe) {
-				ci.add(0, "", "cannot read the file: %v", err)
-				break
-			}
-			ci.add(csvErrLine(err, 0), "", "%s", csvErrText(err))
-			if ci.count > maxCSVIssues {
-				break
-			}
-			continue
-		}
-		line, _ := cr.FieldPos(0)
-		if blankRecord(rec) {
-			continue
-		}
-		inv.Rows++
-		if len(rec) != len(header) {
-			ci.add(line, "", "%d fields, the header has %d; check for a missing or extra %q, or a field with %q in it that needs quotes", len(rec), len(header), string(comma), string(comma))
-			continue
-		}
-		if !validRecord(rec) {
-			ci.add(line, "", "not UTF-8 text; save the file as UTF-8 (\"CSV UTF-8\" in spreadsheet programs)")
-			continue
-		}
-		bad := false
-		fail := func(field, format string, args ...any) {
-			ci.add(line, field, format, args...)
-			bad = true
-		}
-		// Class.
-		k := j.only
-		if cols.class >= 0 {
-			cname := strings.TrimSpace(rec[cols.class])
-			if j.only >= 0 {
-				if !sameName(cname, sc.Classes[j.only].Name) {
-					inv.OtherClass++
-					continue
-				}
-			} else {
-				k = classByName(sc, cname)
-				switch {
-				case cname == "":
-					fail(header[cols.class], "empty; name the segment's asset class (%s)", classNames(sc))
-				case k < 0:
-					fail(header[cols.class], "unknown class %q; the scenario's classes are %s", cname, classNames(sc))
-				case !j.takes[k]:
-					fail(header[cols.class], "class %q gives its own inventory in the scenario; drop its rows here or its inventory there", cname)
-				}
-				if bad {
-					continue
-				}
-			}
-		}
-		c := &sc.Classes[k]
-		if c.Scale == nil {
-			continue // the scale's problems are reported already
-		}
-		// Id.
-		id := strings.TrimSpace(rec[cols.id])
-		if id == "" {
-			fail(header[cols.id], "empty; every segment needs an id (it keys the worklist)")
-		} else {
-			id = strings.Clone(id) // do not hold the whole row in memory
-		}
-		// Quantity.
-		qs := strings.TrimSpace(rec[cols.quantity])
-		q, billionths, err := parseQuantity(qs)
+	return q, billionths
+}
+
+// condition reads the condition cell: a state name or an index value.
+func (r *segmentReader) condition(c *Class, cs string) (int, float64) {
+	col := r.in.header[r.cols.condition]
+	if cs == "" {
+		r.fail(col, "empty; give an index value or a state name of %s, or set skip_unrated: true on inventory_csv to leave unrated segments out", scaleLabel(c.Scale))
+		return -1, math.NaN()
+	}
+	state, index, err := conditionOf(c.Scale, cs, r.in.format)
+	if state < 0 {
 		switch {
-		case qs == "":
-			fail(header[cols.quantity], "empty; give the segment's quantity in %s", c.Unit)
-		case err != nil:
-			fail(header[cols.quantity], "%q is not a number; write the quantity in %s as a plain number such as 0.412 (no unit, no thousands separator, a point for decimals)", qs, c.Unit)
-		case q < 0:
-			fail(header[cols.quantity], "%s is negative; a quantity is zero or more", qs)
+		case errors.Is(err, errDecimalComma) || errors.Is(err, errDecimalPoint):
+			r.fail(col, "%q is not a number; %s", cs, r.in.format.numberHint(err))
+		case math.IsNaN(index):
+			r.fail(col, "%q is neither a number nor a state of %s (states: %s)", cs, scaleLabel(c.Scale), stateList(c.Scale))
+		default:
+			r.fail(col, "%s is outside %s, which runs %s to %s", cs, scaleLabel(c.Scale), num(math.Min(c.Scale.Best, c.Scale.Worst)), num(math.Max(c.Scale.Best, c.Scale.Worst)))
 		}
-		// Condition.
-		cs := strings.TrimSpace(rec[cols.condition])
-		state, index := -1, math.NaN()
-		if cs == "" {
-			if j.spec.SkipUnrated && !bad {
-				inv.Unrated++
-				continue
-			}
-			fail(header[cols.condition], "empty; give an index value or a state name of %s, or set skip_unrated: true on inventory_csv to leave unrated segments out", scaleLabel(c.Scale))
-		} else {
-			state, index = conditionOf(c.Scale, cs)
-			if state < 0 {
-				if math.IsNaN(index) {
-					fail(header[cols.condition], "%q is neither a number nor a state of %s (states: %s)", cs, scaleLabel(c.Scale), stateList(c.Scale))
-				} else {
-					fail(header[cols.condition], "%s is outside %s, which runs %s to %s", cs, scaleLabel(c.Scale), num(math.Min(c.Scale.Best, c.Scale.Worst)), num(math.Max(c.Scale.Best, c.Scale.Worst)))
-				}
-			}
-		}
-		seg := Segment{ID: id, Line: line, State: state, Index: index, Quantity: q}
-		if cols.name >= 0 {
-			seg.Name = strings.Clone(strings.TrimSpace(rec[cols.name]))
-		}
-		if cols.wkt >= 0 {
-			if w := strings.TrimSpace(rec[cols.wkt]); w != "" {
-				if _, err := wkt.Unmarshal(w); err != nil {
-					fail(header[cols.wkt], "not WKT geometry (%v); write e.g. LINESTRING (lon lat, lon lat) or POINT (lon lat), or leave it empty", err)
-				}
+	}
+	return state, index
+}
+
+// geometry reports the row's WKT problem (checked ahead), checks its
+// lon/lat and, when kept, copies either.
+func (r *segmentReader) geometry(rec []string, wktProblem string, seg *Segment) {
+	keep := !r.keep.CountSegments && !r.keep.NoGeometry
+	if r.cols.wkt >= 0 {
+		if w := strings.TrimSpace(rec[r.cols.wkt]); w != "" {
+			if wktProblem != "" {
+				r.fail(r.in.header[r.cols.wkt], "%s", wktProblem)
+			} else if keep {
 				seg.WKT = w
 			}
 		}
-		if cols.lon >= 0 {
-			lon, lat := strings.TrimSpace(rec[cols.lon]), strings.TrimSpace(rec[cols.lat])
-			if lon != "" || lat != "" {
-				x, errx := parseNumber(lon)
-				y, erry := parseNumber(lat)
-				switch {
-				case errx != nil || x < -180 || x > 180:
-					fail(header[cols.lon], "%q is not a longitude (-180 to 180 degrees)", lon)
-				case erry != nil || y < -90 || y > 90:
-					fail(header[cols.lat], "%q is not a latitude (-90 to 90 degrees)", lat)
-				default:
-					seg.Lon, seg.Lat, seg.HasPoint = x, y, true
-				}
-			}
-		}
-		if bad {
-			continue
-		}
-		if q == 0 {
-			inv.ZeroQuantity++
-			continue
-		}
-		if prio != nil {
-			cond := index
-			if math.IsNaN(cond) {
-				cond = c.Scale.States[state].Value
-			}
-			prio.env[varCondition], prio.env[varQuantity], prio.env[varState] = cond, q, float64(state+1)
-			for name, i := range prio.cols {
-				v := strings.TrimSpace(rec[i])
-				x, err := parseNumber(v)
-				if err != nil {
-					what := fmt.Sprintf("%q is not a number", v)
-					if v == "" {
-						what = "empty"
-					}
-					fail(header[i], "%s, and the priority expression uses it (as %s); fill it with a number", what, name)
-					continue
-				}
-				prio.env[name] = x
-			}
-			if bad {
-				continue
-			}
-			out, err := run.Run(prio.prog, prio.env)
-			if err != nil {
-				fail("priority", "%s", firstTextLine(err.Error()))
-				continue
-			}
-			p, _ := out.(float64)
-			if math.IsNaN(p) || math.IsInf(p, 0) {
-				fail("priority", "the expression gives %v here (a division by zero?); it must give a finite number", p)
-				continue
-			}
-			seg.Priority = p
-		}
-		sums[k][state].add(billionths)
-		segs[k] = append(segs[k], seg)
 	}
-	if inv.Rows == 0 && ci.count == 0 {
-		ci.add(headerLine, "", "no segment rows under the header; add one row per segment")
+	if r.cols.lon < 0 {
+		return
 	}
-	return segs, sums
-}
-
-func csvErrLine(err error, dflt int) int {
-	var pe *csv.ParseError
-	if errors.As(err, &pe) {
-		if pe.StartLine > 0 {
-			return pe.StartLine
-		}
-		return pe.Line
+	lon, lat := strings.TrimSpace(rec[r.cols.lon]), strings.TrimSpace(rec[r.cols.lat])
+	if lon == "" && lat == "" {
+		return
 	}
-	return dflt
-}
-
-func csvErrText(err error) string {
-	var pe *csv.ParseError
-	if !errors.As(err, &pe) {
-		return fmt.Sprintf("cannot read the file: %v", err)
-	}
+	x, errx := r.in.format.number(lon)
+	y, erry := r.in.format.number(lat)
 	switch {
-	case errors.Is(pe.Err, csv.ErrBareQuote):
-		return `a quote (") inside a field without quotes around it; put the whole field in quotes and double the quotes inside, e.g. "Weir St ""north"""`
-	case errors.Is(pe.Err, csv.ErrQuote):
-		return fmt.Sprintf(`a quoted field opened here is not closed properly (line %d); every quoted field ends with a quote followed by the delimiter or the line end`, pe.Line)
+	case errx != nil || x < -180 || x > 180:
+		r.fail(r.in.header[r.cols.lon], "%q is not a longitude (-180 to 180 degrees)", lon)
+	case erry != nil || y < -90 || y > 90:
+		r.fail(r.in.header[r.cols.lat], "%q is not a latitude (-90 to 90 degrees)", lat)
+	case keep:
+		seg.Lon, seg.Lat, seg.HasPoint = x, y, true
 	}
-	return fmt.Sprintf("cannot read the CSV: %v", pe.Err)
-}
-
-func blankRecord(rec []string) bool {
-	for _, f := range rec {
-		if strings.TrimSpace(f) != "" {
-			return false
-		}
-	}
-	return true
-}
-
-func validRecord(rec []string) bool {
-	for _, f := range rec {
-		if !utf8.ValidString(f) {
-			return false
-		}
-	}
-	return true
 }
 
 func sameName(a, b string) bool { return a == b || strings.EqualFold(a, b) }
@@ -813,58 +578,40 @@ func scaleLabel(s *Scale) string {
 
 // conditionOf reads a condition cell: a state name (any case), or an index
 // value placed with Scale.StateOf. It returns state -1 when the cell is
-// neither; index is NaN unless the cell was a number.
-func conditionOf(s *Scale, cell string) (state int, index float64) {
+// neither; index is NaN unless the cell was a number, and err says why a
+// cell that looks like a number could not be read.
+func conditionOf(s *Scale, cell string, f csvFormat) (state int, index float64, err error) {
 	if i := s.StateIndex(cell); i >= 0 {
-		return i, math.NaN()
+		return i, math.NaN(), nil
 	}
 	for i, st := range s.States {
 		if strings.EqualFold(st.Name, cell) {
-			return i, math.NaN()
+			return i, math.NaN(), nil
 		}
 	}
-	v, err := parseNumber(cell)
+	v, err := f.number(cell)
 	if err != nil {
-		return -1, math.NaN()
+		return -1, math.NaN(), err
 	}
-	return s.StateOf(v), v
-}
-
-var errNotNumber = errors.New("not a number")
-
-// parseNumber reads a plain decimal number (digits, one point, an optional
-// sign and exponent); strconv alone would also take "inf", "nan", hex
-// floats and underscores, which no spreadsheet writes.
-func parseNumber(s string) (float64, error) {
-	if s == "" {
-		return 0, errNotNumber
-	}
-	for i := 0; i < len(s); i++ {
-		switch c := s[i]; {
-		case c >= '0' && c <= '9', c == '.', c == '-', c == '+', c == 'e', c == 'E':
-		default:
-			return 0, errNotNumber
-		}
-	}
-	v, err := strconv.ParseFloat(s, 64)
-	if err != nil || math.IsInf(v, 0) {
-		return 0, errNotNumber
-	}
-	return v, nil
+	return s.StateOf(v), v, nil
 }
 
 // parseQuantity reads a quantity as a float and as a whole number of
 // billionths of a unit, so that quantities add up exactly whatever the
 // order of the rows.
-func parseQuantity(s string) (float64, int64, error) {
-	v, err := parseNumber(s)
+func parseQuantity(s string, f csvFormat) (float64, int64, error) {
+	plain, err := f.plain(s)
+	if err != nil {
+		return 0, 0, err
+	}
+	v, err := f.number(s)
 	if err != nil {
 		return 0, 0, err
 	}
 	if math.Abs(v) >= maxExactSum {
-		return v, 0, errNotNumber
+		return v, 0, errQuantityRange
 	}
-	if b, ok := decimalBillionths(s); ok {
+	if b, ok := decimalBillionths(plain); ok {
 		return v, b, nil
 	}
 	// More than nine decimals, or an exponent: round to billionths.
@@ -900,6 +647,9 @@ func decimalBillionths(s string) (int64, bool) {
 	}
 	return n, true
 }
+
+// errQuantityRange: a quantity of maxExactSum or more.
+var errQuantityRange = errors.New("quantity out of range")
 
 // maxExactSum bounds quantities and their sums (9.2e18 billionths).
 const maxExactSum = 9e9

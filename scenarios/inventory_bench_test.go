@@ -113,3 +113,30 @@ func BenchmarkLoadSegments(b *testing.B) {
 	b.ReportMetric((optimizetest.CPUSeconds()-cpu0)/float64(b.N), "cpu-s/op")
 	b.ReportMetric(optimizetest.PeakRSS(), "MiB-peak")
 }
+
+// BenchmarkCheckSegments reads a generated segment list as `wearplan
+// check` does (scenarios.LoadOptions{CountSegments: true}: totals per class
+// and state, every row checked, ids checked for repeats, nothing of the
+// rows kept), at one million and ten million rows, so that the memory per
+// million rows can be read off. The ten-million-row file (about 1.2 GB) is
+// written to a temporary folder first and removed after.
+func BenchmarkCheckSegments(b *testing.B) {
+	for _, rows := range []int{1_000_000, 10_000_000} {
+		b.Run(fmt.Sprintf("rows=%d", rows), func(b *testing.B) {
+			path := writeMillionSegments(b, rows)
+			optimizetest.ResetPeakRSS()
+			cpu0 := optimizetest.CPUSeconds()
+			for b.Loop() {
+				sc, err := scenarios.LoadFileWith(path, scenarios.LoadOptions{CountSegments: true})
+				if err != nil {
+					b.Fatal(err)
+				}
+				if sc.Inventories[0].Rows != rows {
+					b.Fatalf("%d rows read, want %d", sc.Inventories[0].Rows, rows)
+				}
+			}
+			b.ReportMetric((optimizetest.CPUSeconds()-cpu0)/float64(b.N), "cpu-s/op")
+			b.ReportMetric(optimizetest.PeakRSS(), "MiB-peak")
+		})
+	}
+}

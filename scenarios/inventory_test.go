@@ -99,7 +99,7 @@ func TestInventoryCorpusRefused(t *testing.T) {
 		{"09-missing-column.csv", "", []wantIssue{{1, "", `no column "condition"`}}},
 		{"10-extra-field.csv", "", []wantIssue{{5, "", "6 fields, the header has 5"}}},
 		{"11-unknown-state-name.csv", "", []wantIssue{{3, "condition", `"Fairish" is neither a number nor a state`}}},
-		{"12-not-utf8.csv", "", []wantIssue{{4, "", "not UTF-8 text; save the file as UTF-8"}}},
+		{"12-not-utf8.csv", "", []wantIssue{{4, "name", "not UTF-8 text (column 5); save the file as UTF-8"}}},
 		{"13-bare-quote.csv", "", []wantIssue{{3, "", "put the whole field in quotes"}}},
 		{"14-bad-wkt.csv", "", []wantIssue{{3, "wkt", "not WKT geometry"}}},
 		{"15-header-only.csv", "", []wantIssue{{1, "", "no segment rows"}}},
@@ -360,11 +360,44 @@ func TestInventoryIssuesAreCapped(t *testing.T) {
 	if !errors.As(err, &ie) {
 		t.Fatalf("want an input error, got %v", err)
 	}
-	if len(ie.Issues) > 60 || !strings.Contains(err.Error(), "and 30 more problems") {
-		t.Errorf("%d issues listed; want 50 and a count of the other 30:\n%.500s", len(ie.Issues), err)
+	if len(ie.Issues) != scenarios.MaxListed || ie.Unlisted != 30 || !strings.Contains(err.Error(), "and 30 more problems") {
+		t.Errorf("%d issues listed, %d counted; want 50 and a count of the other 30:\n%.500s", len(ie.Issues), ie.Unlisted, err)
 	}
-	// The count follows the problems it counts.
-	if last := ie.Issues[len(ie.Issues)-1]; !strings.Contains(last.Msg, "and 30 more problems") {
-		t.Errorf("last issue %q; want the count of the problems not listed", last)
+}
+
+func TestInventoryDuplicateIDs(t *testing.T) {
+	// Ids key the worklist, so an id used twice is refused wherever the
+	// two rows are: in one file (named by line) or in two files (named by
+	// file and line). Thousands of repeats are listed up to the cap and
+	// counted, in row order.
+	text := strings.Replace(inventoryScenario(""), "inventory_csv: {file: segments.csv}\n", "", 1)
+	text = strings.Replace(text, "    unit: lane-km\n", "    unit: lane-km\n    inventory_csv: roads.csv\n", 1)
+	text = strings.Replace(text, "    unit: each\n", "    unit: each\n    inventory_csv: culverts.csv\n", 1)
+	roads := "id,quantity,condition\nS-1,0.5,85\nS-2,0.5,85\nS-1,0.25,50\n"
+	culverts := "id,quantity,condition\nC-1,1,85\nS-2,1,85\n"
+	_, err := loadWith(t, text, map[string][]byte{"roads.csv": []byte(roads), "culverts.csv": []byte(culverts)})
+	for _, w := range []struct {
+		file string
+		want wantIssue
+	}{
+		{"roads.csv", wantIssue{4, "id", `"S-1" is already used on line 2`}},
+		{"culverts.csv", wantIssue{3, "id", `"S-2" is already used on roads.csv:3`}},
+	} {
+		if !findIssue(err, w.want, w.file) {
+			t.Errorf("no issue at %s:%d containing %q in:\n%v", w.file, w.want.line, w.want.inMsg, err)
+		}
+	}
+	var b strings.Builder
+	b.WriteString("id,quantity,condition\n")
+	for i := range 3000 {
+		fmt.Fprintf(&b, "R-%d,0.1,90\n", i%1000)
+	}
+	_, err = loadWith(t, text, map[string][]byte{"roads.csv": []byte(b.String()), "culverts.csv": []byte("id,quantity,condition\nC-1,1,85\n")})
+	var ie *scenarios.InputError
+	if !errors.As(err, &ie) || len(ie.Issues) != scenarios.MaxListed || ie.Unlisted != 2000-scenarios.MaxListed {
+		t.Fatalf("want %d listed and %d counted, got %v", scenarios.MaxListed, 2000-scenarios.MaxListed, err)
+	}
+	if is := ie.Issues[0]; is.Line != 1002 || !strings.Contains(is.Msg, `"R-0" is already used on line 2`) {
+		t.Errorf("first repeat %v, want line 1002 repeating line 2", is)
 	}
 }

@@ -2,7 +2,6 @@ package scenarios
 
 import (
 	"bytes"
-	"crypto/sha256"
 	"errors"
 	"fmt"
 	"io/fs"
@@ -22,44 +21,96 @@ import (
 const MaxFileSize = 8 << 20
 
 // LoadFile reads and validates a scenario file from disk. Files it refers
-// to are looked up in the scenario's own folder.
+// to are looked up in the scenario's own folder (the folder of the file a
+// symbolic link given as path leads to) and must lie inside it.
 func LoadFile(path string) (*Scenario, error) {
-	return Load(os.DirFS(filepath.Dir(path)), filepath.Base(path))
+	return LoadFileWith(path, LoadOptions{})
+}
+
+// LoadOptions say what of a scenario's segment lists to keep in memory.
+// The zero value keeps everything.
+type LoadOptions struct {
+	// CountSegments reads segment lists for their totals only (checked
+	// row by row as always): Class.Segments stays nil, and memory does
+	// not grow with the number of rows. For commands that do not list
+	// or simulate segments.
+	CountSegments bool
+	// NoGeometry leaves out the segments' WKT and lon/lat (still checked),
+	// for commands that draw no map.
+	NoGeometry bool
+}
+
+// LoadFileWith is LoadFile with options.
+func LoadFileWith(path string, opt LoadOptions) (*Scenario, error) {
+	fsys, name, err := openScenarioFolder(path)
+	if err != nil {
+		return nil, err
+	}
+	defer fsys.Close()
+	sc, _, _, err := load(fsys, name, opt)
+	return sc, err
+}
+
+// openScenarioFolder opens the folder of the file at path that the user
+// named (a scenario, an inspection export), after following a symbolic
+// link at path itself, and returns the file's name inside it. A path that
+// is not a regular file is refused here, with the path as given.
+func openScenarioFolder(path string) (*folderFS, string, error) {
+	real, err := filepath.EvalSymlinks(path)
+	if err != nil {
+		if errors.Is(err, fs.ErrNotExist) {
+			return nil, "", &InputError{Issues: []*Issue{{File: printable(path), Msg: "file not found; check the path"}}}
+		}
+		return nil, "", &InputError{Issues: []*Issue{{File: printable(path), Msg: fmt.Sprintf("cannot be read: %v", err)}}}
+	}
+	// The file itself is checked here, so that messages name it as given.
+	if st, err := os.Stat(real); err == nil && !st.Mode().IsRegular() {
+		return nil, "", &InputError{Issues: []*Issue{{File: printable(path), Msg: (&inputError{err: errNotRegular, detail: kindOf(st.Mode())}).describe()}}}
+	}
+	fsys, err := openFolder(filepath.Dir(real))
+	if err != nil {
+		return nil, "", &InputError{Issues: []*Issue{{File: printable(path), Msg: fmt.Sprintf("cannot open its folder: %v", err)}}}
+	}
+	return fsys, filepath.Base(real), nil
 }
 
 // Load reads and validates the scenario name from fsys.
 func Load(fsys fs.FS, name string) (*Scenario, error) {
-	sc, _, _, err := load(fsys, name)
+	sc, _, _, err := load(fsys, name, LoadOptions{})
 	return sc, err
 }
 
 // load reads and validates a scenario, and also returns its merged node
 // tree and the files of its extends chain (kept by LoadEditable).
-func load(fsys fs.FS, name string) (*Scenario, *yaml.Node, []string, error) {
-	data, err := fs.ReadFile(fsys, name)
+func load(fsys fs.FS, name string, opt LoadOptions) (*Scenario, *yaml.Node, []string, error) {
+	src := inputSource{fsys: fsys, name: name, digests: map[string]string{}, opt: opt}
+	data, err := readInput(fsys, name, MaxFileSize, src.digests)
 	if err != nil {
+		msg := describeOpenError(err)
 		if errors.Is(err, fs.ErrNotExist) {
-			return nil, nil, nil, &InputError{Issues: []*Issue{{File: name, Msg: "file not found; check the path"}}}
+			msg = "file not found; check the path"
 		}
-		return nil, nil, nil, &InputError{Issues: []*Issue{{File: name, Msg: fmt.Sprintf("cannot read the file: %v", err)}}}
+		return nil, nil, nil, &InputError{Issues: []*Issue{{File: printable(name), Msg: msg}}}
 	}
-	root, files, err := loadChain(fsys, name, data)
+	root, files, err := loadChain(src, name, data)
 	if err != nil {
 		return nil, nil, nil, err
 	}
-	sc, read, err := decodeScenario(inputSource{fsys: fsys, name: name}, root, files)
+	sc, read, err := decodeScenario(src, root, files)
 	if err != nil {
 		return nil, nil, nil, err
 	}
 	// Digests of every file read (the scenario, its bases and the data
 	// files they name), so reports can show exactly which inputs produced
-	// them.
+	// them; taken while the files were read.
 	for _, f := range append(files, read...) {
-		b, err := fs.ReadFile(fsys, f)
-		if err != nil {
-			return nil, nil, nil, &InputError{Issues: []*Issue{{File: f, Msg: fmt.Sprintf("cannot read the file: %v", err)}}}
+		sum, ok := src.digests[f]
+		if !ok {
+			if sum, err = fileDigest(fsys, f); err != nil {
+				return nil, nil, nil, &InputError{Issues: []*Issue{{File: f, Msg: describeOpenError(err)}}}
+			}
 		}
-		sc.Inputs = append(sc.Inputs, InputFile{Name: f, SHA256: fmt.Sprintf("%x", sha256.Sum256(b))})
+		sc.Inputs = append(sc.Inputs, InputFile{Name: f, SHA256: sum})
 	}
 	return sc, root, files, nil
 }
@@ -109,10 +160,14 @@ func parseNode(name string, data []byte) (*yaml.Node, error) {
 		return nil, is.err()
 	}
 	// Anchors and aliases (&name, *name) let a few lines stand for millions
-	// of values, which the strict decoder would walk one by one.
+	// of values, which the strict decoder would walk one by one, and a long
+	// text anchored once could be quoted in a message for each of its uses.
+	// What the file expands to is bounded twice: in values (nodes) and in
+	// bytes of text (no more than a scenario file may hold).
 	written, aliasLine := writtenNodes(&doc)
-	if limit := 10*written + 100_000; expandedNodes(&doc, limit, map[*yaml.Node]int{}) > limit {
-		is.add(aliasLine, "", "anchors and aliases (&name, *name) expand this file to more than %d values, or an alias refers to itself; write the repeated parts out", limit)
+	b := expansion{nodes: 10*written + 100_000, bytes: MaxFileSize, memo: map[*yaml.Node]size{}}
+	if got := b.size(&doc); got.nodes > b.nodes || got.bytes > b.bytes {
+		is.add(aliasLine, "", "anchors and aliases (&name, *name) expand this file to more than %d values or %d bytes of text, or an alias refers to itself; write the repeated parts out", b.nodes, b.bytes)
 		return nil, is.err()
 	}
 	return root, nil
@@ -135,22 +190,38 @@ func writtenNodes(n *yaml.Node) (count, aliasLine int) {
 	return count, aliasLine
 }
 
-// expandedNodes counts the nodes with aliases followed, stopping past limit.
-// An alias inside its own anchor counts as past the limit.
-func expandedNodes(n *yaml.Node, limit int, memo map[*yaml.Node]int) int {
+// size is what a node expands to: values, and bytes of keys and values.
+type size struct{ nodes, bytes int }
+
+// expansion measures a node tree with aliases followed, stopping past its
+// bounds; an anchor's size is worked out once (memo).
+type expansion struct {
+	nodes, bytes int
+	memo         map[*yaml.Node]size
+}
+
+func (e *expansion) past(s size) bool { return s.nodes > e.nodes || s.bytes > e.bytes }
+
+// size returns the expanded size of n, or a size past the bounds. An
+// alias inside its own anchor counts as past them.
+func (e *expansion) size(n *yaml.Node) size {
+	over := size{e.nodes + 1, e.bytes + 1}
 	if n.Kind == yaml.AliasNode && n.Alias != nil {
-		if v, ok := memo[n.Alias]; ok {
+		if v, ok := e.memo[n.Alias]; ok {
 			return v
 		}
-		memo[n.Alias] = limit + 1
-		v := expandedNodes(n.Alias, limit, memo)
-		memo[n.Alias] = v
+		e.memo[n.Alias] = over
+		v := e.size(n.Alias)
+		e.memo[n.Alias] = v
 		return v
 	}
-	total := 1
+	total := size{1, len(n.Value)}
 	for _, c := range n.Content {
-		if total += expandedNodes(c, limit, memo); total > limit {
-			return limit + 1
+		s := e.size(c)
+		total.nodes += s.nodes
+		total.bytes += s.bytes
+		if e.past(total) {
+			return over
 		}
 	}
 	return total
@@ -182,7 +253,7 @@ func decodeScenario(src inputSource, root *yaml.Node, files []string) (*Scenario
 	var f fileScenario
 	d := &decoder{issues: is}
 	d.decode(root, reflect.ValueOf(&f).Elem(), "")
-	if len(is.list) > 0 {
+	if is.count() > 0 {
 		// Shapes are wrong: checking meaning now would repeat the same
 		// problems in vaguer words.
 		return nil, nil, is.err()
@@ -190,7 +261,7 @@ func decodeScenario(src inputSource, root *yaml.Node, files []string) (*Scenario
 	// Fit files stand in for inline matrices; a problem with one would
 	// otherwise also read as a missing matrix.
 	read := resolveFits(&f, fsys, is)
-	if len(is.list) > 0 {
+	if is.count() > 0 {
 		return nil, nil, is.err()
 	}
 	f.source = src

@@ -5,8 +5,6 @@ import (
 	"fmt"
 	"io/fs"
 	"math"
-	"os"
-	"path/filepath"
 	"reflect"
 	"strings"
 )
@@ -33,13 +31,18 @@ type ScaleSet struct {
 // it is checked: a scenario whose fit files do not exist yet still gives
 // its scales.
 func LoadScaleSet(path string) (*ScaleSet, error) {
-	name := filepath.Base(path)
-	data, err := fs.ReadFile(os.DirFS(filepath.Dir(path)), name)
+	fsys, name, err := openScenarioFolder(path)
 	if err != nil {
+		return nil, err
+	}
+	defer fsys.Close()
+	data, err := readInput(fsys, name, MaxFileSize, nil)
+	if err != nil {
+		msg := describeOpenError(err)
 		if errors.Is(err, fs.ErrNotExist) {
-			return nil, &InputError{Issues: []*Issue{{File: path, Msg: "file not found; check the path"}}}
+			msg = "file not found; check the path"
 		}
-		return nil, &InputError{Issues: []*Issue{{File: path, Msg: fmt.Sprintf("cannot read the file: %v", err)}}}
+		return nil, &InputError{Issues: []*Issue{{File: printable(path), Msg: msg}}}
 	}
 	root, err := parseNode(path, data)
 	if err != nil {
@@ -87,19 +90,27 @@ func (s *ScaleSet) ForClass(class string) *Scale {
 // ParseCondition reads a condition as written in a data file: an index
 // value placed with StateOf, or the name of a state (case and surrounding
 // spaces ignored), as inventory lists are read. It returns the state and a
-// message saying what is wrong when it cannot.
+// message saying what is wrong when it cannot. Numbers are read with
+// decimal points.
 func (s *Scale) ParseCondition(text string) (int, string) {
+	return s.parseCondition(text, csvFormat{})
+}
+
+// parseCondition is ParseCondition with the number format of a file.
+func (s *Scale) parseCondition(text string, f csvFormat) (int, string) {
 	t := strings.TrimSpace(text)
 	if t == "" {
 		return -1, "condition is empty; give an index value or a state name"
 	}
-	i, v := conditionOf(s, t)
+	i, v, err := conditionOf(s, t, f)
 	switch {
 	case i >= 0:
 		return i, ""
 	case !math.IsNaN(v):
 		lo, hi := math.Min(s.Best, s.Worst), math.Max(s.Best, s.Worst)
 		return -1, fmt.Sprintf("condition %s is outside scale %q (%s to %s); check the value or the class's scale", t, s.Name, num(lo), num(hi))
+	case errors.Is(err, errDecimalComma) || errors.Is(err, errDecimalPoint):
+		return -1, fmt.Sprintf("condition %q is not a number; %s", t, f.numberHint(err))
 	}
 	return -1, fmt.Sprintf("condition %q is neither a number nor a state of scale %q (%s)", t, s.Name, stateList(s))
 }

@@ -104,7 +104,7 @@ type Editable struct {
 // LoadEditable reads and validates the scenario name from fsys, like Load,
 // and keeps it for what-if changes.
 func LoadEditable(fsys fs.FS, name string) (*Editable, error) {
-	sc, root, files, err := load(fsys, name)
+	sc, root, files, err := load(fsys, name, LoadOptions{})
 	if err != nil {
 		return nil, err
 	}
@@ -112,17 +112,26 @@ func LoadEditable(fsys fs.FS, name string) (*Editable, error) {
 	// but nothing about it is test-only) holds the snapshot.
 	snap := fstest.MapFS{}
 	for _, in := range sc.Inputs {
-		b, err := fs.ReadFile(fsys, in.Name)
+		b, err := readInput(fsys, in.Name, 0, nil)
 		if err != nil {
-			return nil, &InputError{Issues: []*Issue{{File: in.Name, Msg: fmt.Sprintf("cannot read the file: %v", err)}}}
+			return nil, &InputError{Issues: []*Issue{{File: in.Name, Msg: describeOpenError(err)}}}
 		}
 		snap[in.Name] = &fstest.MapFile{Data: b}
 	}
 	e := &Editable{Scenario: sc, name: name, root: root, files: files, data: snap}
-	if data, err := fs.ReadFile(fsys, name); err == nil {
-		e.heading = headingComment(string(data))
-	}
+	e.heading = headingComment(string(snap[name].Data))
 	return e, nil
+}
+
+// LoadEditableFile is LoadEditable for a scenario file on disk, with the
+// files it names held to its folder as LoadFile holds them.
+func LoadEditableFile(path string) (*Editable, error) {
+	fsys, name, err := openScenarioFolder(path)
+	if err != nil {
+		return nil, err
+	}
+	defer fsys.Close()
+	return LoadEditable(fsys, name)
 }
 
 // headingComment returns the comment lines at the top of a YAML text,

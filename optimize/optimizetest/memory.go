@@ -38,3 +38,20 @@ func CPUSeconds() float64 {
 	}
 	return float64(ru.Utime.Nano()+ru.Stime.Nano()) / 1e9
 }
+
+// ChildPeakRSS is the resident-set high-water mark of a child process that
+// has exited, in MiB (getrusage's ru_maxrss, kilobytes on Linux); 0 where
+// it cannot be read. Linux records, when a child started with vfork (as
+// os/exec does) execs, the high-water mark of the memory it shared with
+// its parent: the figure is at least the parent's peak at that moment, an
+// upper bound on the child's own. Call ResetPeakRSS before starting the
+// child to keep that floor at the parent's current size.
+func ChildPeakRSS(ps *os.ProcessState) float64 {
+	if ps == nil {
+		return 0
+	}
+	if ru, ok := ps.SysUsage().(*syscall.Rusage); ok {
+		return float64(ru.Maxrss) / 1024
+	}
+	return 0
+}

@@ -27,8 +27,9 @@ doing nothing). Nothing is written.`,
   wearplan check scenarios/examples/marrowby.yaml`,
 		Args: cobra.MinimumNArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
+			out := printableText(cmd.OutOrStdout())
 			for _, path := range args {
-				sc, err := loadScenario(path)
+				sc, err := loadScenario(cmd, path, totalsOnly)
 				if err != nil {
 					return err
 				}
@@ -38,12 +39,12 @@ doing nothing). Nothing is written.`,
 				}
 				budget := "no budget cap"
 				if sc.Budget != nil {
-					budget = fmt.Sprintf("network budget %s %s in %d", render.Money(sc.Budget[0]), sc.Currency, sc.StartYear)
+					budget = strings.Join(strings.Fields(fmt.Sprintf("network budget %s %s in %d", render.Money(sc.Budget[0]), sc.Currency, sc.StartYear)), " ")
 				}
-				fmt.Fprintf(cmd.OutOrStdout(), "%s: ok: %q, %d-%d, %d classes: %s; %s; %d targets; objective %s\n",
+				fmt.Fprintf(out, "%s: ok: %q, %d-%d, %d classes: %s; %s; %d targets; objective %s\n",
 					path, sc.Name, sc.StartYear, sc.Year(sc.Horizon), len(sc.Classes), strings.Join(classes, ", "), budget, len(sc.Targets), sc.Objective)
 				for _, inv := range sc.Inventories {
-					fmt.Fprintf(cmd.OutOrStdout(), "  %s\n", inventorySummary(inv))
+					fmt.Fprintf(out, "  %s\n", inventorySummary(inv))
 				}
 				for _, line := range guardrails(sc) {
 					fmt.Fprintf(cmd.OutOrStdout(), "  %s\n", line)

@@ -41,7 +41,7 @@ calendar years, or last.`,
 			}
 			var scs []*scenarios.Scenario
 			for _, path := range args {
-				sc, err := loadScenario(path)
+				sc, err := loadScenario(cmd, path, totalsOnly)
 				if err != nil {
 					return err
 				}

@@ -4,13 +4,9 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"io/fs"
-	"os"
-	"path/filepath"
 	"slices"
 	"strconv"
 	"strings"
-	"unicode/utf8"
 
 	"github.com/spf13/cobra"
 
@@ -25,7 +21,8 @@ type fitOptions struct {
 	scenario, scalesFile, scale string
 	classes                     []string
 	columns                     []string
-	separator                   string
+	delimiter, decimal          string
+	dateFormat                  string
 	method                      string
 	oneStep, keepImprovements   bool
 	yearsInState                []string
@@ -97,7 +94,11 @@ be reviewed by qualified people before it drives decisions.`,
 	f.StringVar(&o.scale, "scale", "", "use this scale for every class")
 	f.StringArrayVar(&o.classes, "class", nil, "fit only this class (repeat for several)")
 	f.StringArrayVar(&o.columns, "column", nil, "map a column: asset|class|inspected|condition|work=HEADER (repeat)")
-	f.StringVar(&o.separator, "separator", ",", `field separator of the export (one character; "tab" for tabs)`)
+	f.StringVar(&o.delimiter, "delimiter", ",", `delimiter between the export's fields (one character; "tab" for tabs)`)
+	f.StringVar(&o.delimiter, "separator", ",", "the same as --delimiter")
+	_ = f.MarkDeprecated("separator", "use --delimiter")
+	f.StringVar(&o.decimal, "decimal", ".", `decimal mark of the export's condition values: "." or ","`)
+	f.StringVar(&o.dateFormat, "date-format", "ISO", "how the export writes dates: ISO (2021-06-14), DD/MM/YYYY (day first), MM/DD/YYYY, DD.MM.YYYY...; years alone and ISO dates are always read")
 	f.StringVar(&o.method, "method", scenarios.MethodCounting, "estimation method: "+strings.Join(scenarios.FitMethods(), ", "))
 	f.BoolVar(&o.oneStep, "one-step", false, "allow at most one state of change a year")
 	f.BoolVar(&o.keepImprovements, "keep-improvements", false, "keep pairs that improve without recorded work (and allow such moves)")
@@ -109,6 +110,7 @@ be reviewed by qualified people before it drives decisions.`,
 	f.StringVar(&o.format, "format", "table", "report format: "+strings.Join(fitFormats, ", "))
 	f.StringVar(&o.out, "out", "", "write the report to this file (for csv: a directory gets one file per table)")
 	f.StringVar(&o.table, "table", "matrix", "table written by --format csv: "+strings.Join(render.FitCSVTables, ", "))
+	registerForce(cmd)
 	return cmd
 }
 
@@ -149,16 +151,21 @@ func (o *fitOptions) validate(args []string) error {
 	return nil
 }
 
-func (o *fitOptions) separatorRune() (rune, error) {
-	s := o.separator
-	if strings.EqualFold(s, "tab") || s == `\t` {
-		return '\t', nil
+// readOptions maps --delimiter, --decimal and --date-format to the
+// reader's settings.
+func (o *fitOptions) readOptions() (scenarios.InspectionOptions, error) {
+	var opt scenarios.InspectionOptions
+	var err error
+	if opt.Delimiter, err = scenarios.ParseDelimiter(o.delimiter); err != nil {
+		return opt, usageError("--delimiter %v", err)
 	}
-	r, size := utf8.DecodeRuneInString(s)
-	if size == 0 || size != len(s) || r == '"' || r == '\r' || r == '\n' || r == utf8.RuneError {
-		return 0, usageError("--separator %q: give one character, such as ; or tab", s)
+	if opt.Decimal, err = scenarios.ParseDecimal(o.decimal); err != nil {
+		return opt, usageError("--decimal %v", err)
 	}
-	return r, nil
+	if opt.DateFormat, err = scenarios.ParseDateFormat(o.dateFormat); err != nil {
+		return opt, usageError("--date-format %v", err)
+	}
+	return opt, nil
 }
 
 func (o *fitOptions) columnMap() (scenarios.InspectionColumns, error) {
@@ -217,7 +224,7 @@ func (o *fitOptions) run(cmd *cobra.Command, args []string) error {
 	if err := o.validate(args); err != nil {
 		return err
 	}
-	sep, err := o.separatorRune()
+	read, err := o.readOptions()
 	if err != nil {
 		return err
 	}
@@ -236,6 +243,11 @@ func (o *fitOptions) run(cmd *cobra.Command, args []string) error {
 	set, err := scenarios.LoadScaleSet(source)
 	if err != nil {
 		return err
+	}
+	outs := outputsOf(cmd)
+	outs.read(source, "the file the scales come from")
+	if len(args) > 0 {
+		outs.read(args[0], "the inspection export")
 	}
 	scaleFor := set.ForClass
 	if o.scale != "" {
@@ -264,13 +276,14 @@ func (o *fitOptions) run(cmd *cobra.Command, args []string) error {
 		}
 		res, err = scenarios.FitFromJudgement(classes, opt)
 	} else {
-		res, err = o.fitFile(args[0], sep, cols, scaleFor, opt)
+		read.Columns, read.ScaleFor, read.Only, read.SkipBadRows = cols, scaleFor, o.classes, o.skipBadRows
+		res, err = o.fitFile(args[0], read, opt)
 	}
 	if err != nil {
 		return err
 	}
 	if o.save != "" {
-		if err := writeFileAtomic(o.save, func(w io.Writer) error { return scenarios.WriteFitFile(w, res) }); err != nil {
+		if err := outs.file(o.save, "--save", func(w io.Writer) error { return scenarios.WriteFitFile(w, res) }); err != nil {
 			return err
 		}
 		fmt.Fprintf(cmd.ErrOrStderr(), "wrote the fit file %s\n", o.save)
@@ -286,20 +299,13 @@ func (o *fitOptions) run(cmd *cobra.Command, args []string) error {
 	return nil
 }
 
-func (o *fitOptions) fitFile(path string, sep rune, cols scenarios.InspectionColumns, scaleFor func(string) *scenarios.Scale, opt scenarios.FitOptions) (*scenarios.FitResult, error) {
-	f, err := os.Open(path)
-	if err != nil {
-		if errors.Is(err, fs.ErrNotExist) {
-			return nil, &scenarios.InputError{Issues: []*scenarios.Issue{{File: path, Msg: "file not found; check the path"}}}
-		}
-		return nil, &exitError{code: exitFailure, err: fmt.Errorf("cannot read %s: %w", path, err)}
-	}
-	defer f.Close()
-	ins, err := scenarios.ReadInspections(f, path, scenarios.InspectionOptions{
-		Columns: cols, Separator: sep, ScaleFor: scaleFor, Only: o.classes, SkipBadRows: o.skipBadRows,
-	})
-	if err != nil {
+func (o *fitOptions) fitFile(path string, read scenarios.InspectionOptions, opt scenarios.FitOptions) (*scenarios.FitResult, error) {
+	ins, err := scenarios.ReadInspectionsFile(path, read)
+	if err != nil && !inContent(err) {
 		return nil, err
+	}
+	if err != nil {
+		return nil, withHint(err, "In wearplan fit the export's settings are --delimiter, --decimal and --date-format; --column maps column names, and --skip-bad-rows leaves rows that cannot be read out (with a warning).")
 	}
 	for _, c := range o.classes {
 		found := false
@@ -321,27 +327,43 @@ func (o *fitOptions) write(cmd *cobra.Command, r *scenarios.FitResult) error {
 		case "csv":
 			return render.FitCSV(w, r, o.table)
 		case "md":
-			return render.FitMarkdown(w, r)
+			return render.FitMarkdown(printableText(w), r)
 		default:
-			return render.FitText(w, r)
+			return render.FitText(printableText(w), r)
 		}
 	}
 	if o.out == "" {
 		return render1(cmd.OutOrStdout())
 	}
-	if o.format == "csv" && isDir(o.out) {
-		for _, name := range render.FitCSVTables {
-			path := filepath.Join(o.out, "fit-"+name+".csv")
-			if err := writeFileAtomic(path, func(w io.Writer) error { return render.FitCSV(w, r, name) }); err != nil {
-				return err
-			}
+	outs := outputsOf(cmd)
+	if o.format == "csv" && isSetTarget(o.out) {
+		files := make([]setFile, len(render.FitCSVTables))
+		for i, name := range render.FitCSVTables {
+			files[i] = setFile{name: "fit-" + name + ".csv", fill: func(w io.Writer) error { return render.FitCSV(w, r, name) }}
+		}
+		if err := outs.set(o.out, "--out", files); err != nil {
+			return err
 		}
 		fmt.Fprintf(cmd.ErrOrStderr(), "wrote %d tables to %s\n", len(render.FitCSVTables), o.out)
 		return nil
 	}
-	if err := writeFileAtomic(o.out, render1); err != nil {
+	if err := outs.file(o.out, "--out", render1); err != nil {
 		return err
 	}
 	fmt.Fprintf(cmd.ErrOrStderr(), "wrote %s\n", o.out)
 	return nil
+}
+
+// inContent says whether an input error is about a file's content (some
+// problem has a line) rather than about opening it.
+func inContent(err error) bool {
+	var ie *scenarios.InputError
+	if errors.As(err, &ie) {
+		for _, is := range ie.Issues {
+			if is.Line > 0 {
+				return true
+			}
+		}
+	}
+	return false
 }

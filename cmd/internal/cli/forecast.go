@@ -38,7 +38,7 @@ score next to the optimised one).`,
 			if !slices.Contains(scenarios.Rules, scenarios.Rule(rule)) {
 				return usageError("--rule %q: choose none or worst-first", rule)
 			}
-			sc, err := loadScenario(args[0])
+			sc, err := loadScenario(cmd, args[0], totalsOnly)
 			if err != nil {
 				return err
 			}

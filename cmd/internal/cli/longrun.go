@@ -36,7 +36,7 @@ year's budget buys every year.`,
 			if err := out.validate(); err != nil {
 				return err
 			}
-			sc, err := loadScenario(args[0])
+			sc, err := loadScenario(cmd, args[0], totalsOnly)
 			if err != nil {
 				return err
 			}

@@ -43,7 +43,7 @@ func writeModel(cmd *cobra.Command, sc *scenarios.Scenario, path string) error {
 	}
 	m.Notes = append([]string{fmt.Sprintf("scenario %q from %s; written by wearplan %s", sc.Name, sc.Source, Version)}, m.Notes...)
 	write := modelWriters[strings.ToLower(filepath.Ext(path))]
-	if err := writeFileAtomic(path, func(w io.Writer) error { return write(w, m) }); err != nil {
+	if err := outputsOf(cmd).file(path, "--write-model", func(w io.Writer) error { return write(w, m) }); err != nil {
 		return err
 	}
 	fmt.Fprintf(cmd.ErrOrStderr(), "wrote the model (%d rows, %d columns) to %s\n", len(m.Rows), len(m.Cols), path)

@@ -5,8 +5,6 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"os"
-	"path/filepath"
 	"slices"
 	"strconv"
 	"strings"
@@ -39,8 +37,15 @@ func (o *outputOptions) registerTables(cmd *cobra.Command, tables []string, defa
 	o.tables = tables
 	f := cmd.Flags()
 	f.StringVar(&o.format, "format", "table", "output format: "+strings.Join(resultFormats, ", "))
-	f.StringVar(&o.out, "out", "", "write to this file instead of standard output (for csv: a directory gets one file per table)")
+	f.StringVar(&o.out, "out", "", "write to this file instead of standard output (for csv: a folder, created if missing, gets one file per table; a FILE.csv gets --table)")
 	f.StringVar(&o.table, "table", defaultTable, "table written by --format csv: "+strings.Join(tables, ", "))
+	registerForce(cmd)
+}
+
+// registerForce adds --force, which lets --out replace a file the run read
+// (outputsOf reads it).
+func registerForce(cmd *cobra.Command) {
+	cmd.Flags().Bool("force", false, "let --out replace a file this run reads (the scenario, a base, a segment list, a fit file)")
 }
 
 func (o *outputOptions) validate() error {
@@ -78,24 +83,25 @@ func (o *outputOptions) emit(cmd *cobra.Command, r renderers) error {
 		case "csv":
 			return r.csv(w, o.table)
 		default:
-			return r.text(w)
+			return r.text(printableText(w))
 		}
 	}
 	if o.out == "" {
 		return render1(cmd.OutOrStdout())
 	}
-	if o.format == "csv" && isDir(o.out) {
-		// One file per table, each written whole or not at all.
-		for _, name := range o.tables {
-			path := filepath.Join(o.out, name+".csv")
-			if err := writeFileAtomic(path, func(w io.Writer) error { return r.csv(w, name) }); err != nil {
-				return err
-			}
+	outs := outputsOf(cmd)
+	if o.format == "csv" && isSetTarget(o.out) {
+		files := make([]setFile, len(o.tables))
+		for i, name := range o.tables {
+			files[i] = setFile{name: name + ".csv", fill: func(w io.Writer) error { return r.csv(w, name) }}
+		}
+		if err := outs.set(o.out, "--out", files); err != nil {
+			return err
 		}
 		fmt.Fprintf(cmd.ErrOrStderr(), "wrote %d tables to %s\n", len(o.tables), o.out)
 		return nil
 	}
-	if err := writeFileAtomic(o.out, render1); err != nil {
+	if err := outs.file(o.out, "--out", render1); err != nil {
 		return err
 	}
 	fmt.Fprintf(cmd.ErrOrStderr(), "wrote %s\n", o.out)
@@ -113,6 +119,7 @@ func (o *formatOptions) register(cmd *cobra.Command) {
 	f := cmd.Flags()
 	f.StringVar(&o.format, "format", "table", "output format: "+strings.Join(resultFormats, ", "))
 	f.StringVar(&o.out, "out", "", "write to this file instead of standard output")
+	registerForce(cmd)
 }
 
 func (o *formatOptions) validate() error {
@@ -125,7 +132,7 @@ func (o *formatOptions) validate() error {
 // write renders with the function of the chosen format, to standard output
 // or (whole or not at all) to --out.
 func (o *formatOptions) write(cmd *cobra.Command, table, json, csv func(io.Writer) error) error {
-	fill := table
+	fill := func(w io.Writer) error { return table(printableText(w)) }
 	switch o.format {
 	case "json":
 		fill = json
@@ -135,48 +142,11 @@ func (o *formatOptions) write(cmd *cobra.Command, table, json, csv func(io.Write
 	if o.out == "" {
 		return fill(cmd.OutOrStdout())
 	}
-	if err := writeFileAtomic(o.out, fill); err != nil {
+	outs := outputsOf(cmd)
+	if err := outs.file(o.out, "--out", fill); err != nil {
 		return err
 	}
 	fmt.Fprintf(cmd.ErrOrStderr(), "wrote %s\n", o.out)
-	return nil
-}
-
-func isDir(path string) bool {
-	st, err := os.Stat(path)
-	return err == nil && st.IsDir()
-}
-
-// writeFileAtomic writes through a temporary file in the same folder and
-// renames it into place, so a failed run never leaves half a file.
-func writeFileAtomic(path string, fill func(io.Writer) error) error {
-	dir := filepath.Dir(path)
-	tmp, err := os.CreateTemp(dir, "."+filepath.Base(path)+".tmp*")
-	if err != nil {
-		return &exitError{code: exitFailure, err: fmt.Errorf("cannot write %s: %w", path, err)}
-	}
-	keep := false
-	defer func() {
-		if !keep {
-			tmp.Close()
-			os.Remove(tmp.Name())
-		}
-	}()
-	if err := fill(tmp); err != nil {
-		return fmt.Errorf("writing %s: %w", path, err)
-	}
-	// CreateTemp makes the file private (0600); once complete, make it
-	// readable like any other written file, since output is handed on.
-	if err := tmp.Chmod(0o644); err != nil {
-		return fmt.Errorf("writing %s: %w", path, err)
-	}
-	if err := tmp.Close(); err != nil {
-		return fmt.Errorf("writing %s: %w", path, err)
-	}
-	if err := os.Rename(tmp.Name(), path); err != nil {
-		return fmt.Errorf("writing %s: %w", path, err)
-	}
-	keep = true
 	return nil
 }
 
@@ -309,7 +279,23 @@ func parseLotSizes(values []string, opt *scenarios.SimulateOptions) error {
 	return nil
 }
 
-// loadScenario reads and checks a scenario file.
-func loadScenario(path string) (*scenarios.Scenario, error) {
-	return scenarios.LoadFile(path)
+// loadScenario reads and checks a scenario file, keeping of its segment
+// lists what opt says, and notes the files it read as the run's inputs
+// (which --out may not replace).
+func loadScenario(cmd *cobra.Command, path string, opt scenarios.LoadOptions) (*scenarios.Scenario, error) {
+	sc, err := scenarios.LoadFileWith(path, opt)
+	if err != nil {
+		return nil, err
+	}
+	outputsOf(cmd).readScenario(path, sc)
+	return sc, nil
 }
+
+// Segment lists as commands need them: totals only for those that plan by
+// state, segments without geometry for simulations, everything for the
+// worklist.
+var (
+	totalsOnly   = scenarios.LoadOptions{CountSegments: true}
+	segmentsOnly = scenarios.LoadOptions{NoGeometry: true}
+	everything   = scenarios.LoadOptions{}
+)

@@ -59,7 +59,7 @@ different ones.`,
 			if err != nil {
 				return err
 			}
-			sc, err := loadScenario(args[0])
+			sc, err := loadScenario(cmd, args[0], totalsOnly)
 			if err != nil {
 				return err
 			}

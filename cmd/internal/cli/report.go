@@ -116,8 +116,12 @@ Bands and Target probabilities. The same seed gives the same report.`,
 				}
 			}
 			rep := &report.Report{Details: report.Details{Version: Version, Date: date}}
+			keep := totalsOnly
+			if withBands {
+				keep = segmentsOnly
+			}
 			for _, path := range args {
-				sc, err := loadScenario(path)
+				sc, err := loadScenario(cmd, path, keep)
 				if err != nil {
 					return err
 				}
@@ -161,7 +165,7 @@ Bands and Target probabilities. The same seed gives the same report.`,
 			write := func(w io.Writer) error {
 				switch format {
 				case "md":
-					return report.Markdown(w, rep)
+					return report.Markdown(printableText(w), rep)
 				case "xlsx":
 					return report.Workbook(w, rep)
 				default:
@@ -171,7 +175,8 @@ Bands and Target probabilities. The same seed gives the same report.`,
 			if out == "" {
 				return write(cmd.OutOrStdout())
 			}
-			if err := writeFileAtomic(out, write); err != nil {
+			outs := outputsOf(cmd)
+			if err := outs.file(out, "--out", write); err != nil {
 				return err
 			}
 			fmt.Fprintf(cmd.ErrOrStderr(), "wrote %s\n", out)
@@ -180,6 +185,7 @@ Bands and Target probabilities. The same seed gives the same report.`,
 	}
 	cmd.Flags().StringVar(&format, "format", "html", "report format: "+strings.Join(reportFormats, ", "))
 	cmd.Flags().StringVar(&out, "out", "", "write to this file instead of standard output (required for xlsx)")
+	registerForce(cmd)
 	cmd.Flags().StringVar(&sweep, "sweep", "", "also plan these yearly budgets and chart condition against budget: FROM:TO:STEP or a list (one scenario only)")
 	cmd.Flags().StringVar(&date, "date", "", "report date as YYYY-MM-DD (default today); fix it for reproducible output")
 	cmd.Flags().BoolVar(&withBands, "bands", false, "also simulate each plan and show uncertainty bands and target probabilities (set up with --runs, --seed, --lot-size, --matrix-uncertainty)")

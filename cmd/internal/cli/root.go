@@ -4,6 +4,7 @@
 package cli
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"io"
@@ -34,6 +35,19 @@ type exitError struct {
 func (e *exitError) Error() string { return e.err.Error() }
 func (e *exitError) Unwrap() error { return e.err }
 
+// hintError adds a line of command-line hints to an error from a domain
+// package, whose messages speak of settings, not of flags.
+type hintError struct {
+	err  error
+	hint string
+}
+
+func (e *hintError) Error() string { return e.err.Error() + "\n" + e.hint }
+func (e *hintError) Unwrap() error { return e.err }
+
+// withHint returns err with the hint printed after it.
+func withHint(err error, hint string) error { return &hintError{err: err, hint: hint} }
+
 // usageError marks a mistake on the command line.
 func usageError(format string, args ...any) error {
 	return &exitError{code: exitInput, err: fmt.Errorf(format, args...)}
@@ -41,9 +55,15 @@ func usageError(format string, args ...any) error {
 
 // Main runs the command line and returns the process exit code.
 func Main(args []string, stdout, stderr io.Writer) int {
+	// Messages name files, classes and values from the input: no control
+	// character in them reaches the terminal.
+	stderr = printableText(stderr)
+	outs := newOutputs()
+	outs.watchSignals(stderr)
+	defer outs.unwatch()
 	root := newRoot(stdout, stderr)
 	root.SetArgs(args)
-	err := root.Execute()
+	err := root.ExecuteContext(withOutputs(context.Background(), outs))
 	if err == nil {
 		return exitOK
 	}

@@ -5,7 +5,6 @@ import (
 	"net"
 	"os"
 	"os/signal"
-	"path/filepath"
 	"strconv"
 	"syscall"
 	"time"
@@ -53,7 +52,7 @@ make a choice of scenarios on the page.`,
 			var sources []whatif.Source
 			for _, path := range args {
 				// The scenario's own folder is all the server can read.
-				ed, err := scenarios.LoadEditable(os.DirFS(filepath.Dir(path)), filepath.Base(path))
+				ed, err := scenarios.LoadEditableFile(path)
 				if err != nil {
 					return err
 				}
@@ -82,6 +81,8 @@ make a choice of scenarios on the page.`,
 			}
 			url := "http://" + net.JoinHostPort(host, strconv.Itoa(ln.Addr().(*net.TCPAddr).Port)) + "/"
 			fmt.Fprintf(cmd.OutOrStdout(), "wearplan what-if page for %d scenario(s): %s\nPress Ctrl-C to stop.\n", len(sources), url)
+			// The server stops on Ctrl-C itself; it writes no files.
+			outputsOf(cmd).unwatch()
 			ctx, stop := signal.NotifyContext(cmd.Context(), os.Interrupt, syscall.SIGTERM)
 			defer stop()
 			if err := srv.Serve(ctx, ln); err != nil {

@@ -61,7 +61,7 @@ The same seed gives the same output, byte for byte, on any number of cores.`,
 				return err
 			}
 			opt.Policy = policy
-			sc, err := loadScenario(args[0])
+			sc, err := loadScenario(cmd, args[0], segmentsOnly)
 			if err != nil {
 				return err
 			}

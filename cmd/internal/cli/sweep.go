@@ -45,7 +45,7 @@ is in budget order and the same on any machine.`,
 			if err != nil {
 				return err
 			}
-			sc, err := loadScenario(args[0])
+			sc, err := loadScenario(cmd, args[0], totalsOnly)
 			if err != nil {
 				return err
 			}

@@ -54,7 +54,11 @@ segment by inspection.`,
 			if !slices.Contains(worklistFormats, format) {
 				return usageError("--format %q: choose one of %s", format, strings.Join(worklistFormats, ", "))
 			}
-			sc, err := loadScenario(args[0])
+			keep := segmentsOnly
+			if format == "json" || format == "geojson" {
+				keep = everything
+			}
+			sc, err := loadScenario(cmd, args[0], keep)
 			if err != nil {
 				return err
 			}
@@ -91,12 +95,13 @@ segment by inspection.`,
 				case "geojson":
 					return render.WorklistGeoJSON(w, wl)
 				default:
-					return render.WorklistText(w, wl)
+					return render.WorklistText(printableText(w), wl)
 				}
 			}
+			outs := outputsOf(cmd)
 			if out == "" {
 				err = write(cmd.OutOrStdout())
-			} else if err = writeFileAtomic(out, write); err == nil {
+			} else if err = outs.file(out, "--out", write); err == nil {
 				fmt.Fprintf(cmd.ErrOrStderr(), "wrote %s (%d segments listed)\n", out, len(wl.Items))
 			}
 			if err != nil {
@@ -111,6 +116,7 @@ segment by inspection.`,
 	f := cmd.Flags()
 	f.StringVar(&format, "format", "table", "output format: "+strings.Join(worklistFormats, ", "))
 	f.StringVar(&out, "out", "", "write to this file instead of standard output")
+	registerForce(cmd)
 	f.IntVar(&years, "years", 1, "years to list: the first from the plan, the others indicative")
 	solve.register(cmd)
 	return cmd

@@ -156,7 +156,7 @@ func CSV(w io.Writer, r *scenarios.Result, name string) error {
 	default:
 		return fmt.Errorf("unknown table %q; choose one of %s", name, strings.Join(CSVTables, ", "))
 	}
-	if err := cw.WriteAll(rows); err != nil {
+	if err := cw.WriteAll(sheetSafe(rows)); err != nil {
 		return err
 	}
 	return cw.Error()

@@ -347,7 +347,7 @@ func FitCSV(w io.Writer, r *scenarios.FitResult, name string) error {
 	default:
 		return fmt.Errorf("unknown table %q; choose one of %s", name, strings.Join(FitCSVTables, ", "))
 	}
-	if err := cw.WriteAll(rows); err != nil {
+	if err := cw.WriteAll(sheetSafe(rows)); err != nil {
 		return err
 	}
 	return cw.Error()

@@ -155,7 +155,7 @@ func LongRunCSV(w io.Writer, r *scenarios.LongRunResult) error {
 
 func writeCSV(w io.Writer, rows [][]string) error {
 	cw := csv.NewWriter(w)
-	if err := cw.WriteAll(rows); err != nil {
+	if err := cw.WriteAll(sheetSafe(rows)); err != nil {
 		return err
 	}
 	return cw.Error()

@@ -68,7 +68,7 @@ func SimulationCSV(w io.Writer, r *scenarios.SimulationResult, name string) erro
 	default:
 		return fmt.Errorf("unknown table %q; choose one of %s", name, strings.Join(SimulationCSVTables, ", "))
 	}
-	if err := cw.WriteAll(rows); err != nil {
+	if err := cw.WriteAll(sheetSafe(rows)); err != nil {
 		return err
 	}
 	return cw.Error()

@@ -83,7 +83,7 @@ func WorklistCSV(w io.Writer, wl *scenarios.Worklist) error {
 		rows = append(rows, []string{it.Segment, fmt.Sprint(it.Year), it.Basis, it.Class, it.Name, it.State, opt(it.Condition), it.Treatment,
 			Plain(it.Quantity), it.Unit, Plain(it.Cost), fmt.Sprint(it.Rank), opt(it.Priority), fmt.Sprint(it.Line)})
 	}
-	if err := cw.WriteAll(rows); err != nil {
+	if err := cw.WriteAll(sheetSafe(rows)); err != nil {
 		return err
 	}
 	return cw.Error()
