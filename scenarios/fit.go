@@ -185,11 +185,34 @@ type FitCondition struct {
 	FromPrevious float64 `yaml:"predicted_from_previous" json:"predicted_from_previous"`
 }
 
-// FitOptimizer reports the interval method's numerical maximisation.
+// FitOptimizer reports the interval method's numerical maximisation: its
+// stopping rules (the Karush-Kuhn-Tucker conditions of the maximum over
+// each row, and the log-likelihood's relative change over the last round)
+// and how many starts reached the best value.
 type FitOptimizer struct {
 	LogLikelihood float64 `yaml:"log_likelihood" json:"log_likelihood"`
 	Iterations    int     `yaml:"iterations" json:"iterations"`
 	Status        string  `yaml:"status" json:"status"`
+	Starts        int     `yaml:"starts" json:"starts"`
+	StartsAtBest  int     `yaml:"starts_at_best" json:"starts_at_best"`
+	Rounds        int     `yaml:"rounds" json:"rounds"`
+	// RelativeChange is the log-likelihood's relative change over the
+	// last round.
+	RelativeChange float64 `yaml:"relative_change" json:"relative_change"`
+	// KKT holds the conditions' residuals and the tolerance they meet.
+	KKT FitKKT `yaml:"kkt" json:"kkt"`
+}
+
+// FitKKT is the check of the Karush-Kuhn-Tucker conditions at the
+// estimate, in mean log-likelihood per pair per unit of probability:
+// DualInfeasibility is the most any allowed entry would gain from
+// probability moved into it (zero or less at a maximum), Complementarity
+// the largest entry times its gain or loss (zero at a maximum).
+type FitKKT struct {
+	DualInfeasibility float64 `yaml:"dual_infeasibility" json:"dual_infeasibility"`
+	Complementarity   float64 `yaml:"complementarity" json:"complementarity"`
+	Tolerance         float64 `yaml:"tolerance" json:"tolerance"`
+	Satisfied         bool    `yaml:"satisfied" json:"satisfied"`
 }
 
 // FitCounts holds the transition counts of the pairs used with one
@@ -379,7 +402,7 @@ func fitClass(c *InspectionClass, opt FitOptions, is *issues) (*FitClass, bool) 
 		var info markov.IntervalFit
 		p, info, err = markov.IntervalMLE(sample.Counts(), s, nil)
 		if err == nil {
-			fc.Optimizer = &FitOptimizer{LogLikelihood: round(info.LogLikelihood, 4), Iterations: info.Iterations, Status: info.Status}
+			fc.Optimizer = optimizerReport(info)
 		}
 	case MethodYearsInState:
 		years, ok := opt.YearsInState[c.Name]
@@ -493,6 +516,15 @@ func fitClass(c *InspectionClass, opt FitOptions, is *issues) (*FitClass, bool) 
 		fc.Counts = append(fc.Counts, FitCounts{Years: g, Rows: counts.Matrix(g)})
 	}
 	return fc, true
+}
+
+func optimizerReport(info markov.IntervalFit) *FitOptimizer {
+	return &FitOptimizer{
+		LogLikelihood: round(info.LogLikelihood, 4), Iterations: info.Iterations, Status: info.Status,
+		Starts: info.Starts, StartsAtBest: info.StartsAtBest, Rounds: info.Rounds, RelativeChange: sig(info.RelativeChange, 2),
+		KKT: FitKKT{DualInfeasibility: sig(info.DualInfeasibility, 2), Complementarity: sig(info.Complementarity, 2),
+			Tolerance: markov.KKTTolerance, Satisfied: info.KKT},
+	}
 }
 
 // describe fills the deterioration block and per-state figures from the

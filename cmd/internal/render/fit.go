@@ -133,6 +133,16 @@ func gofSentence(g *scenarios.FitTest) string {
 		g.Statistic, g.DF, g.Rows, g.Cells, count(g.Pairs), pvalue(*g.PValue), g.Note)
 }
 
+// optimizerSentence says how the interval method's maximisation ended.
+func optimizerSentence(o *scenarios.FitOptimizer) string {
+	starts := fmt.Sprintf("%d of %d starts reached it", o.StartsAtBest, o.Starts)
+	if o.StartsAtBest == o.Starts {
+		starts = fmt.Sprintf("all %d starts reached it", o.Starts)
+	}
+	return fmt.Sprintf("Optimizer: log-likelihood %.2f, a maximum (%s; no move of probability between entries of a row "+
+		"raises it: Karush-Kuhn-Tucker residual %.1e per pair, tolerance %.0e)", o.LogLikelihood, starts, o.KKT.DualInfeasibility, o.KKT.Tolerance)
+}
+
 func pvalue(p float64) string {
 	if p < 0.0001 {
 		return "< 0.0001"
@@ -181,7 +191,7 @@ func FitText(w io.Writer, r *scenarios.FitResult) error {
 			ew.printf("\nGoodness of fit: %s\n", wrap(gofSentence(c.GoodnessOfFit), 100))
 		}
 		if c.Optimizer != nil {
-			ew.printf("Optimizer: log-likelihood %.2f after %d iterations (%s)\n", c.Optimizer.LogLikelihood, c.Optimizer.Iterations, c.Optimizer.Status)
+			ew.printf("%s\n", wrap(optimizerSentence(c.Optimizer), 100))
 		}
 		if len(c.MeanCondition) > 0 {
 			ew.printf("\nMean condition index by years since each asset's first inspection (before any recorded work),\n")
