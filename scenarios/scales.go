@@ -27,39 +27,47 @@ type ScaleSet struct {
 	Classes []string
 }
 
-// LoadScaleSet reads the scales: section of a scenario or of a file that
-// holds only scales: (same syntax), and the class-to-scale mapping of a
-// scenario's classes:. The file is parsed strictly, but nothing else in
-// it is checked: a scenario whose fit files do not exist yet still gives
-// its scales.
+// LoadScaleSet reads the condition scales of a scenario, or of a file that
+// holds only scales: (same syntax), exactly as loading the scenario would:
+// through its extends chain, with the scales written under scales:
+// (presets among them) and the presets classes name directly (scale:
+// preset:NAME), each class mapped to its scale. The file is parsed
+// strictly, but nothing else in it is checked: a scenario whose fit files
+// do not exist yet still gives its scales. Files are named in messages as
+// LoadFile names them, relative to the file's folder.
 func LoadScaleSet(path string) (*ScaleSet, error) {
-	name := filepath.Base(path)
-	data, err := fs.ReadFile(os.DirFS(filepath.Dir(path)), name)
-	if err != nil {
-		if errors.Is(err, fs.ErrNotExist) {
-			return nil, &InputError{Issues: []*Issue{{File: path, Msg: "file not found; check the path"}}}
-		}
-		return nil, &InputError{Issues: []*Issue{{File: path, Msg: fmt.Sprintf("cannot read the file: %v", err)}}}
-	}
-	root, err := parseNode(path, data)
+	set, err := loadScaleSet(os.DirFS(filepath.Dir(path)), filepath.Base(path))
 	if err != nil {
 		return nil, err
 	}
-	is := &issues{file: path}
+	set.Source = path
+	return set, nil
+}
+
+func loadScaleSet(fsys fs.FS, name string) (*ScaleSet, error) {
+	data, err := fs.ReadFile(fsys, name)
+	if err != nil {
+		if errors.Is(err, fs.ErrNotExist) {
+			return nil, &InputError{Issues: []*Issue{{File: name, Msg: "file not found; check the path"}}}
+		}
+		return nil, &InputError{Issues: []*Issue{{File: name, Msg: fmt.Sprintf("cannot read the file: %v", err)}}}
+	}
+	root, files, err := loadChain(fsys, name, data)
+	if err != nil {
+		return nil, err
+	}
+	is := &issues{file: name, files: files}
 	var f fileScenario
 	d := &decoder{issues: is}
 	d.decode(root, reflect.ValueOf(&f).Elem(), "")
 	if err := is.err(); err != nil {
 		return nil, err
 	}
-	set := &ScaleSet{Source: path, Scales: buildScales(&f, is), ClassScale: map[string]string{}}
+	scales, classScale := classScales(&f, is)
+	set := &ScaleSet{Source: name, Scales: scales, ClassScale: map[string]string{}}
 	for k, c := range f.Classes {
 		name := strings.TrimSpace(c.Name)
-		if name == "" {
-			continue
-		}
-		if _, ok := f.Scales[c.Scale]; !ok {
-			is.add(c.Lines.of("scale"), fmt.Sprintf("classes[%d] (%s).scale", k, name), "unknown scale %q; define it under scales", c.Scale)
+		if name == "" || classScale[k] == nil {
 			continue
 		}
 		if _, dup := set.ClassScale[name]; !dup {
@@ -71,6 +79,31 @@ func LoadScaleSet(path string) (*ScaleSet, error) {
 		return nil, err
 	}
 	return set, nil
+}
+
+// classScales builds the file's scales (buildScales) and looks up each
+// class's: the one place where a class's scale key is resolved, for
+// scenarios (buildClasses) and for the scales of a fit alike. An unknown
+// scale is reported against the class.
+func classScales(f *fileScenario, is *issues) (map[string]*Scale, []*Scale) {
+	scales := buildScales(f, is)
+	out := make([]*Scale, len(f.Classes))
+	for k := range f.Classes {
+		fc := &f.Classes[k]
+		field := fmt.Sprintf("classes[%d]", k)
+		if name := strings.TrimSpace(fc.Name); name != "" {
+			field = fmt.Sprintf("classes[%d] (%s)", k, name)
+		}
+		out[k] = scales[fc.Scale]
+		if fc.Scale == "" {
+			is.add(fc.Lines.of(""), field+".scale", "missing; name one of the scales defined under scales")
+		} else if out[k] == nil {
+			if _, defined := f.Scales[fc.Scale]; !defined && !strings.HasPrefix(fc.Scale, PresetPrefix) {
+				is.add(fc.Lines.of("scale"), field+".scale", "unknown scale %q; define it under scales, or name a preset (%s%s)", fc.Scale, PresetPrefix, strings.ReplaceAll(presetNames(), ", ", ", "+PresetPrefix))
+			}
+		}
+	}
+	return scales, out
 }
 
 // Names lists the scale names, sorted.
@@ -102,4 +135,19 @@ func (s *Scale) ParseCondition(text string) (int, string) {
 		return -1, fmt.Sprintf("condition %s is outside scale %q (%s to %s); check the value or the class's scale", t, s.Name, num(lo), num(hi))
 	}
 	return -1, fmt.Sprintf("condition %q is neither a number nor a state of scale %q (%s)", t, s.Name, stateList(s))
+}
+
+// PresetScale returns a built-in scale by its name in a class's scale key
+// (preset:NAME), built as a scenario builds it.
+func PresetScale(name string) (*Scale, error) {
+	p, ok := strings.CutPrefix(name, PresetPrefix)
+	if !ok {
+		return nil, fmt.Errorf("%q is not a preset name; write %sNAME, one of %s", name, PresetPrefix, presetNames())
+	}
+	is := &issues{}
+	s := buildPreset(name, p, 0, nil, "scale", is)
+	if s == nil {
+		return nil, fmt.Errorf("unknown preset %q; presets are %s", p, presetNames())
+	}
+	return s, nil
 }

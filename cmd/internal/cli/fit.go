@@ -54,9 +54,10 @@ inspection; 0, no, n, false, none and - also mean no work). Other columns are
 ignored; --column maps other header names.
 
 Scales: --scenario FILE uses each class's scale from that scenario (every
-class in the export must be one of its classes); --scale NAME uses one scale
-for every class, read from --scales FILE (any YAML file with a scales:
-section, such as a scenario) or from --scenario FILE.
+class in the export must be one of its classes), read as check reads it
+(extends, presets named in classes); --scale NAME uses one scale for every
+class, read from --scales FILE (any scenario-syntax YAML file) or from
+--scenario FILE; --scale preset:NAME needs no file.
 
 Methods (--method):
   counting        pairs of inspections one year apart: p_ij = n_ij / n_i
@@ -131,8 +132,8 @@ func (o *fitOptions) validate(args []string) error {
 	if o.scenario != "" && o.scalesFile != "" {
 		return usageError("give --scenario or --scales, not both")
 	}
-	if o.scenario == "" && o.scalesFile == "" {
-		return usageError("say where the condition scales come from: --scenario FILE (each class's scale), or --scales FILE --scale NAME (one scale for every class)")
+	if o.scenario == "" && o.scalesFile == "" && !strings.HasPrefix(o.scale, scenarios.PresetPrefix) {
+		return usageError("say where the condition scales come from: --scenario FILE (each class's scale), --scales FILE --scale NAME (one scale for every class), or --scale preset:NAME (a built-in scale for every class)")
 	}
 	if o.scalesFile != "" && o.scale == "" {
 		return usageError("--scales FILE needs --scale NAME: the scale to use for every class")
@@ -233,15 +234,26 @@ func (o *fitOptions) run(cmd *cobra.Command, args []string) error {
 	if o.scalesFile != "" {
 		source = o.scalesFile
 	}
-	set, err := scenarios.LoadScaleSet(source)
-	if err != nil {
-		return err
+	set := &scenarios.ScaleSet{Scales: map[string]*scenarios.Scale{}}
+	if source != "" {
+		if set, err = scenarios.LoadScaleSet(source); err != nil {
+			return err
+		}
 	}
 	scaleFor := set.ForClass
 	if o.scale != "" {
 		s, ok := set.Scales[o.scale]
+		if !ok && strings.HasPrefix(o.scale, scenarios.PresetPrefix) {
+			if s, err = scenarios.PresetScale(o.scale); err != nil {
+				return usageError("--scale: %v", err)
+			}
+			ok = true
+			if source == "" {
+				source = o.scale
+			}
+		}
 		if !ok {
-			return usageError("--scale %q: %s defines %s", o.scale, source, strings.Join(set.Names(), ", "))
+			return usageError("--scale %q: %s defines %s; or name a built-in scale, --scale preset:NAME", o.scale, source, strings.Join(set.Names(), ", "))
 		}
 		scaleFor = func(string) *scenarios.Scale { return s }
 	}
