@@ -74,6 +74,9 @@ type Preparation struct {
 	ByYears []YearsCount
 	// Examples of excluded pairs, at most a few of each kind.
 	ImprovedExamples, ImpossibleExamples, TooCloseExamples []RefPair
+	// Selection compares the pairs left out for work (one to
+	// MaxIntervalYears apart) with the pairs kept, by starting state.
+	Selection *WorkSelection
 }
 
 // YearsCount is the number of pairs used with a given interval.
@@ -89,6 +92,7 @@ type YearsCount struct {
 func Prepare(histories [][]Inspection, states int, s Structure) (*Sample, []Reading, Preparation, error) {
 	var prep Preparation
 	prep.ImprovedKept = s.Improvement
+	prep.Selection = newWorkSelection(states)
 	sample := NewSample(states)
 	var readings []Reading
 	byYears := map[int]int{}
@@ -128,6 +132,9 @@ func Prepare(histories [][]Inspection, states int, s Structure) (*Sample, []Read
 			switch {
 			case cur.Work:
 				prep.WithWork++
+				if years >= 1 && years <= MaxIntervalYears {
+					prep.Selection.addWork(prev.State, cur.State, years)
+				}
 				continue
 			case years < 1:
 				prep.TooClose++
@@ -152,6 +159,7 @@ func Prepare(histories [][]Inspection, states int, s Structure) (*Sample, []Read
 			unit = append(unit, Pair{From: prev.State, To: cur.State, Years: years, Group: int(math.Floor(prev.Time))})
 			byYears[years]++
 			prep.Used++
+			prep.Selection.addKept(prev.State, years)
 		}
 		sample.AddUnit(unit...)
 	}

@@ -101,7 +101,56 @@ type FitClass struct {
 	Optimizer     *FitOptimizer  `yaml:"optimizer" json:"optimizer"`
 	Counts        []FitCounts    `yaml:"counts" json:"counts"`
 	Bootstrap     *FitReplicates `yaml:"bootstrap" json:"bootstrap"`
-	Lines         lines          `yaml:"-" json:"-"`
+	// Selection compares the pairs left out for work with those kept; nil
+	// when no pair had work.
+	Selection *FitSelection `yaml:"selection,omitempty" json:"selection,omitempty"`
+	Lines     lines         `yaml:"-" json:"-"`
+}
+
+// FitSelection compares, per starting state, the pairs left out because
+// work was recorded between them with the pairs kept, and says whether the
+// work looks condition-driven enough to bias the staying probabilities
+// (markov.WorkSelection).
+type FitSelection struct {
+	States []FitSelectionState `yaml:"states" json:"states"`
+	// ByState is the chi-square test that the share of pairs with work is
+	// the same from every starting state.
+	ByState FitStatTest `yaml:"work_share_by_state" json:"work_share_by_state"`
+	// ByYears is the trend test that, from the same state, the share rises
+	// with the interval; nil when every pair has the same interval.
+	ByYears         *FitStatTest `yaml:"work_share_by_interval" json:"work_share_by_interval"`
+	ConditionDriven bool         `yaml:"condition_driven" json:"condition_driven"`
+	// Warning is empty unless the possible bias exceeds sampling error.
+	Warning string `yaml:"warning" json:"warning"`
+}
+
+// FitSelectionState is one starting state's comparison.
+type FitSelectionState struct {
+	State     string  `yaml:"state" json:"state"`
+	Kept      int     `yaml:"pairs_kept" json:"pairs_kept"`
+	Work      int     `yaml:"pairs_with_work" json:"pairs_with_work"`
+	WorkShare float64 `yaml:"work_share" json:"work_share"`
+	KeptYears float64 `yaml:"mean_years_kept" json:"mean_years_kept"`
+	WorkYears float64 `yaml:"mean_years_with_work" json:"mean_years_with_work"`
+	// The work pairs by their later condition (after the work) against
+	// the first.
+	WorkEndedBetter int `yaml:"work_ended_better" json:"work_ended_better"`
+	WorkEndedSame   int `yaml:"work_ended_same" json:"work_ended_same"`
+	WorkEndedWorse  int `yaml:"work_ended_worse" json:"work_ended_worse"`
+	// Stay is the estimate; StayIfLeft what it would be had every work
+	// pair left the state before the work (the largest bias).
+	Stay       float64 `yaml:"stay" json:"stay"`
+	StayIfLeft float64 `yaml:"stay_if_work_pairs_had_left" json:"stay_if_work_pairs_had_left"`
+	StayError  float64 `yaml:"stay_standard_error" json:"stay_standard_error"`
+	Flagged    bool    `yaml:"flagged" json:"flagged"`
+}
+
+// FitStatTest is a test statistic with its p-value: a chi-square with
+// degrees of freedom, or a standard normal z (DF 0).
+type FitStatTest struct {
+	Statistic float64  `yaml:"statistic" json:"statistic"`
+	DF        int      `yaml:"degrees_of_freedom" json:"degrees_of_freedom"`
+	PValue    *float64 `yaml:"p_value" json:"p_value"`
 }
 
 // FitDeterioration is the matrix as a scenario's deterioration block.
@@ -258,6 +307,9 @@ func Fit(ins *Inspections, opt FitOptions) (*FitResult, error) {
 		c := &ins.Classes[k]
 		fc, ok := fitClass(c, opt, is)
 		if ok {
+			if fc.Selection != nil && fc.Selection.Warning != "" {
+				res.Warnings = append(res.Warnings, "class "+fc.Selection.Warning)
+			}
 			res.Classes = append(res.Classes, *fc)
 		}
 	}
@@ -493,6 +545,11 @@ func fitClass(c *InspectionClass, opt FitOptions, is *issues) (*FitClass, bool) 
 		}
 	}
 
+	// Pairs left out for work against the pairs kept.
+	if fitted && prep.WithWork > 0 {
+		fc.Selection = selectionReport(c.Name, c.Scale, prep.Selection, p)
+	}
+
 	// Observed against predicted mean condition.
 	values := make([]float64, n)
 	for i, st := range c.Scale.States {
@@ -516,6 +573,66 @@ func fitClass(c *InspectionClass, opt FitOptions, is *issues) (*FitClass, bool) 
 		fc.Counts = append(fc.Counts, FitCounts{Years: g, Rows: counts.Matrix(g)})
 	}
 	return fc, true
+}
+
+// selectionReport compares the work and kept pairs of a class (or
+// family) and words the warning, with its figures, when work looks
+// condition-driven enough to bias the staying probabilities.
+func selectionReport(name string, scale *Scale, w *markov.WorkSelection, p *markov.Transition) *FitSelection {
+	n := p.States()
+	stay := make([]float64, n)
+	for i := range stay {
+		stay[i] = p.At(i, i)
+	}
+	d := w.Diagnose(stay)
+	out := &FitSelection{States: []FitSelectionState{}, ConditionDriven: d.ConditionDriven}
+	for _, st := range d.States {
+		out.States = append(out.States, FitSelectionState{
+			State: scale.States[st.State].Name, Kept: st.Kept, Work: st.Work, WorkShare: round(st.WorkShare, 4),
+			KeptYears: round(st.KeptYears, 2), WorkYears: round(st.WorkYears, 2),
+			WorkEndedBetter: st.WorkBetter, WorkEndedSame: st.WorkSame, WorkEndedWorse: st.WorkWorse,
+			Stay: st.Stay, StayIfLeft: round(st.StayIfLeft, 4), StayError: round(st.StayError, 4), Flagged: st.Flagged,
+		})
+	}
+	if d.ByState.DF > 0 {
+		pv := sig(d.ByState.PValue, 4)
+		out.ByState = FitStatTest{Statistic: round(d.ByState.Statistic, 3), DF: d.ByState.DF, PValue: &pv}
+	}
+	if d.ByYears.Groups > 0 {
+		pv := sig(d.ByYears.PValue, 4)
+		out.ByYears = &FitStatTest{Statistic: round(d.ByYears.Z, 3), PValue: &pv}
+	}
+	if !d.Warn {
+		return out
+	}
+	var states []string
+	for _, st := range d.States {
+		if !st.Flagged {
+			continue
+		}
+		states = append(states, fmt.Sprintf("%s: %d of %d pairs (%.0f%%) had work, %.1f years apart on average (pairs kept %.1f); stay %.3f, %.3f if every one of them had left the state",
+			scale.States[st.State].Name, st.Work, st.Kept+st.Work, 100*st.WorkShare, st.WorkYears, st.KeptYears, st.Stay, st.StayIfLeft))
+	}
+	drivenBy := fmt.Sprintf("the share of pairs with work differs between starting states (chi-square %.1f on %d degrees of freedom, p %s)", d.ByState.Statistic, d.ByState.DF, pText(d.ByState.PValue))
+	if d.ByYears.Groups > 0 && d.ByYears.Z > 0 && d.ByYears.PValue < markov.SelectionLevel {
+		out.Warning = fmt.Sprintf("%s: work between inspections looks decided on deterioration during the interval: %s, and from the same state pairs further apart had work more often (trend z = %.2f, p %s). "+
+			"The pairs left out for work are then mostly assets that dropped, so the staying probabilities are too HIGH (deterioration too slow, years in state too long), by up to: %s.",
+			name, drivenBy, d.ByYears.Z, pText(d.ByYears.PValue), strings.Join(states, "; "))
+		return out
+	}
+	out.Warning = fmt.Sprintf("%s: work between inspections is condition-driven: %s. "+
+		"If work was chosen on the condition found at the first inspection of each pair, the estimate is not biased; if it followed deterioration between inspections, "+
+		"the pairs left out are mostly assets that dropped, and the staying probabilities are too HIGH (deterioration too slow, years in state too long), by up to: %s. Check how work was chosen.",
+		name, drivenBy, strings.Join(states, "; "))
+	return out
+}
+
+// pText writes a p-value for a sentence: "= 0.023" or "< 0.0001".
+func pText(p float64) string {
+	if p < 0.0001 {
+		return "< 0.0001"
+	}
+	return "= " + strconv.FormatFloat(sig(p, 2), 'g', -1, 64)
 }
 
 func optimizerReport(info markov.IntervalFit) *FitOptimizer {
