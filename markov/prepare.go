@@ -16,6 +16,14 @@ type Inspection struct {
 	Work bool
 	// Ref is the caller's reference for messages, such as a line number.
 	Ref int
+	// Stratum is the caller's label for the inspection, such as the index
+	// of a family of assets; Prepare passes it on to the pair that starts
+	// here.
+	Stratum int
+	// X holds the covariates of the asset at this inspection (traffic,
+	// age...), passed on to the pair that starts here; nil when there are
+	// none. OrderedMLE models the pair's change from them.
+	X []float64
 }
 
 // Pair is two consecutive inspections of one asset kept for estimation.
@@ -26,6 +34,9 @@ type Pair struct {
 	// Group is the calendar year of the first inspection; goodness of fit
 	// compares observed and expected counts group by group.
 	Group int
+	// Stratum and X are the first inspection's.
+	Stratum int
+	X       []float64
 }
 
 // Reading is one inspection of an asset before any recorded work, seen
@@ -156,7 +167,7 @@ func Prepare(histories [][]Inspection, states int, s Structure) (*Sample, []Read
 				prep.ImpossibleExamples = example(prep.ImpossibleExamples, refs)
 				continue
 			}
-			unit = append(unit, Pair{From: prev.State, To: cur.State, Years: years, Group: int(math.Floor(prev.Time))})
+			unit = append(unit, Pair{From: prev.State, To: cur.State, Years: years, Group: int(math.Floor(prev.Time)), Stratum: prev.Stratum, X: prev.X})
 			byYears[years]++
 			prep.Used++
 			prep.Selection.addKept(prev.State, years)

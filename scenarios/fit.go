@@ -56,7 +56,19 @@ type FitOptions struct {
 	YearsInState map[string][]float64
 	// ScalesFrom names the file the scales came from, for the record.
 	ScalesFrom string
+	// By names the columns the inspections were grouped into families by
+	// (InspectionOptions.By): each class then gets a matrix per family and
+	// a test of whether the families differ. MergeAlike merges, step by
+	// step, the two families that differ least while a test cannot tell
+	// them apart at FamilyLevel.
+	By         []string
+	MergeAlike bool
 }
+
+// FamilyLevel is the significance level at which families are told apart:
+// merged (MergeAlike) only while a test of the two cannot reject their
+// sameness at it, and reported as differing below it.
+const FamilyLevel = 0.05
 
 // FitResult is what `wearplan fit` found, class by class. It is also the
 // schema of the fit file (WriteFitFile, and `deterioration: {fit: FILE}` in
@@ -84,10 +96,20 @@ type FitResult struct {
 
 // FitClass is one class's fitted matrix and its evidence.
 type FitClass struct {
-	Class  string   `yaml:"class" json:"class"`
-	Scale  string   `yaml:"scale" json:"scale"`
-	States []string `yaml:"states" json:"states"`
+	Class string `yaml:"class" json:"class"`
+	// Family names a family of the class (an entry of Families); Members
+	// lists the values of the By columns it covers (more than one when
+	// families were merged). Empty for the class itself.
+	Family  string   `yaml:"family,omitempty" json:"family,omitempty"`
+	Members []string `yaml:"members,omitempty" json:"members,omitempty"`
+	// Scale and States are given for the class; its families share them.
+	Scale  string   `yaml:"scale,omitempty" json:"scale,omitempty"`
+	States []string `yaml:"states,omitempty" json:"states,omitempty"`
 	Method string   `yaml:"method" json:"method"`
+	// By names the columns that define the class's families (fit by
+	// family), and Homogeneity tests whether they differ.
+	By          []string        `yaml:"by,omitempty" json:"by,omitempty"`
+	Homogeneity *FitHomogeneity `yaml:"homogeneity,omitempty" json:"homogeneity,omitempty"`
 	// Deterioration is the block to paste into the scenario's class.
 	Deterioration FitDeterioration `yaml:"deterioration" json:"deterioration"`
 	// PerState holds figures per state, best first.
@@ -104,7 +126,33 @@ type FitClass struct {
 	// Selection compares the pairs left out for work with those kept; nil
 	// when no pair had work.
 	Selection *FitSelection `yaml:"selection,omitempty" json:"selection,omitempty"`
-	Lines     lines         `yaml:"-" json:"-"`
+	// Merges lists the merging of families (MergeAlike), in order.
+	Merges []FitMerge `yaml:"merges,omitempty" json:"merges,omitempty"`
+	// Families holds each family's fit, in the class's layout.
+	Families []FitClass `yaml:"families,omitempty" json:"families,omitempty"`
+	Lines    lines      `yaml:"-" json:"-"`
+}
+
+// FitHomogeneity tests whether a class's families deteriorate by one
+// matrix (markov.Homogeneity).
+type FitHomogeneity struct {
+	Families int `yaml:"families" json:"families"`
+	// LikelihoodRatio is 2(Σ L_family - L_class) with its chi-square
+	// p-value; AndersonGoodman is Pearson's chi-square of the same
+	// hypothesis (counting method only).
+	LikelihoodRatio *FitStatTest `yaml:"likelihood_ratio" json:"likelihood_ratio"`
+	AndersonGoodman *FitStatTest `yaml:"anderson_goodman_chi_square" json:"anderson_goodman_chi_square"`
+	// Differ says the likelihood-ratio p-value is below FamilyLevel.
+	Differ bool   `yaml:"differ" json:"differ"`
+	Note   string `yaml:"note" json:"note"`
+}
+
+// FitMerge is one step of merging families that do not differ: the two
+// merged, the test that could not tell them apart, and the new family.
+type FitMerge struct {
+	Merged []string    `yaml:"merged" json:"merged"`
+	Into   string      `yaml:"into" json:"into"`
+	Test   FitStatTest `yaml:"likelihood_ratio" json:"likelihood_ratio"`
 }
 
 // FitSelection compares, per starting state, the pairs left out because
@@ -305,7 +353,7 @@ func Fit(ins *Inspections, opt FitOptions) (*FitResult, error) {
 	is := &issues{file: ins.Source}
 	for k := range ins.Classes {
 		c := &ins.Classes[k]
-		fc, ok := fitClass(c, opt, is)
+		fc, ok := fitWhole(c, opt, is)
 		if ok {
 			if fc.Selection != nil && fc.Selection.Warning != "" {
 				res.Warnings = append(res.Warnings, "class "+fc.Selection.Warning)
@@ -404,13 +452,23 @@ func firstInspectionLine(c *InspectionClass) int {
 	return 0
 }
 
-func fitClass(c *InspectionClass, opt FitOptions, is *issues) (*FitClass, bool) {
+// groupFit is what the family tests need from a fit: the counts the
+// method used, the estimate before rounding and its log-likelihood.
+type groupFit struct {
+	counts *markov.Counts
+	p      *markov.Transition
+	ll     float64
+}
+
+// fitClass fits one class, or one family of a class (who names it in
+// messages: "roads" or "roads, family heavy (traffic)").
+func fitClass(c *InspectionClass, who string, opt FitOptions, is *issues) (*FitClass, *groupFit, bool) {
 	n := len(c.Scale.States)
 	s := markov.Structure{OneStep: opt.OneStep || opt.Method == MethodYearsInState, Improvement: opt.KeepImprovements}
 	sample, readings, prep, err := markov.Prepare(c.Histories, n, s)
 	if err != nil {
-		fitIssue(is, 0, c.Name, "%v", err)
-		return nil, false
+		fitIssue(is, 0, who, "%v", err)
+		return nil, nil, false
 	}
 	fc := &FitClass{Class: c.Name, Scale: c.Scale.Name, States: stateNames(c.Scale), Method: opt.Method}
 	fc.Data = &FitData{
@@ -424,34 +482,34 @@ func fitClass(c *InspectionClass, opt FitOptions, is *issues) (*FitClass, bool) 
 	}
 	switch {
 	case prep.Pairs == 0:
-		fitIssue(is, firstInspectionLine(c), c.Name, "no asset has two inspections (%d assets, one inspection each), so there is no change to fit; an export with several years of inspections is needed", prep.Assets)
-		return nil, false
+		fitIssue(is, firstInspectionLine(c), who, "no asset has two inspections (%d assets, one inspection each), so there is no change to fit; an export with several years of inspections is needed", prep.Assets)
+		return nil, nil, false
 	case prep.Used == 0 && prep.WithWork == prep.Pairs:
-		fitIssue(is, firstInspectionLine(c), c.Name, "all %d pairs of consecutive inspections have work recorded between them, so none shows deterioration alone; check the work column (empty, 0 or no mean no work)", prep.Pairs)
-		return nil, false
+		fitIssue(is, firstInspectionLine(c), who, "all %d pairs of consecutive inspections have work recorded between them, so none shows deterioration alone; check the work column (empty, 0 or no mean no work)", prep.Pairs)
+		return nil, nil, false
 	case prep.Used == 0:
-		fitIssue(is, firstInspectionLine(c), c.Name, "none of the %d pairs of consecutive inspections can be used (%s)", prep.Pairs, exclusionSummary(prep))
-		return nil, false
+		fitIssue(is, firstInspectionLine(c), who, "none of the %d pairs of consecutive inspections can be used (%s)", prep.Pairs, exclusionSummary(prep))
+		return nil, nil, false
 	}
 	noteExclusions(fc, prep, c.Name)
 
 	// Estimate.
 	var p *markov.Transition
+	var info markov.IntervalFit
 	used := sample
 	fitted := true
 	switch opt.Method {
 	case MethodCounting:
 		used = sample.Filter(func(pr markov.Pair) bool { return pr.Years == 1 })
 		if len(used.Pairs()) == 0 {
-			fitIssue(is, firstInspectionLine(c), c.Name, "no pairs of inspections one year apart (intervals used: %s); the counting method needs yearly pairs: use --method interval", intervalList(prep))
-			return nil, false
+			fitIssue(is, firstInspectionLine(c), who, "no pairs of inspections one year apart (intervals used: %s); the counting method needs yearly pairs: use --method interval", intervalList(prep))
+			return nil, nil, false
 		}
 		if len(used.Pairs()) < prep.Used/2 {
 			fc.Notes = append(fc.Notes, fmt.Sprintf("only %d of %d usable pairs are one year apart; --method interval would use them all", len(used.Pairs()), prep.Used))
 		}
 		p, err = markov.CountingMLE(used.Counts(), s)
 	case MethodInterval:
-		var info markov.IntervalFit
 		p, info, err = markov.IntervalMLE(sample.Counts(), s, nil)
 		if err == nil {
 			fc.Optimizer = optimizerReport(info)
@@ -459,12 +517,12 @@ func fitClass(c *InspectionClass, opt FitOptions, is *issues) (*FitClass, bool) 
 	case MethodYearsInState:
 		years, ok := opt.YearsInState[c.Name]
 		if !ok {
-			fitIssue(is, firstInspectionLine(c), c.Name, "method years-in-state needs the class's expected years in each state: --years-in-state %s=D1,D2,...", c.Name)
-			return nil, false
+			fitIssue(is, firstInspectionLine(c), who, "method years-in-state needs the class's expected years in each state: --years-in-state %s=D1,D2,...", c.Name)
+			return nil, nil, false
 		}
 		p, ok = judgedMatrix(c.Name, c.Scale, years, is)
 		if !ok {
-			return nil, false
+			return nil, nil, false
 		}
 		fitted = false
 		fc.Notes = append(fc.Notes, "matrix from expected years in each state (judgement); the data only test it")
@@ -477,11 +535,18 @@ func fitClass(c *InspectionClass, opt FitOptions, is *issues) (*FitClass, bool) 
 				names[k] = strconv.Quote(c.Scale.States[r].Name)
 			}
 			hint := "use --method interval (pairs of any interval), gather more inspections, or set the matrix by judgement"
-			fitIssue(is, firstInspectionLine(c), c.Name, "no usable pair starts in state %s, so its row cannot be estimated; %s", strings.Join(names, ", "), hint)
-			return nil, false
+			fitIssue(is, firstInspectionLine(c), who, "no usable pair starts in state %s, so its row cannot be estimated; %s", strings.Join(names, ", "), hint)
+			return nil, nil, false
 		}
-		fitIssue(is, firstInspectionLine(c), c.Name, "%v", err)
-		return nil, false
+		fitIssue(is, firstInspectionLine(c), who, "%v", err)
+		return nil, nil, false
+	}
+	gf := &groupFit{counts: used.Counts(), p: p}
+	switch {
+	case info.Iterations > 0:
+		gf.ll = info.LogLikelihood
+	case fitted:
+		gf.ll = markov.LogLikelihood(gf.counts, p)
 	}
 	p = p.Rounded(fitDecimals)
 	fc.Data.UsedByMethod = len(used.Pairs())
@@ -547,7 +612,7 @@ func fitClass(c *InspectionClass, opt FitOptions, is *issues) (*FitClass, bool) 
 
 	// Pairs left out for work against the pairs kept.
 	if fitted && prep.WithWork > 0 {
-		fc.Selection = selectionReport(c.Name, c.Scale, prep.Selection, p)
+		fc.Selection = selectionReport(who, c.Scale, prep.Selection, p)
 	}
 
 	// Observed against predicted mean condition.
@@ -557,8 +622,8 @@ func fitClass(c *InspectionClass, opt FitOptions, is *issues) (*FitClass, bool) 
 	}
 	points, err := markov.MeanCondition(readings, p, values)
 	if err != nil {
-		fitIssue(is, 0, c.Name, "%v", err)
-		return nil, false
+		fitIssue(is, 0, who, "%v", err)
+		return nil, nil, false
 	}
 	fc.MeanCondition = []FitCondition{}
 	for _, pt := range points {
@@ -572,7 +637,7 @@ func fitClass(c *InspectionClass, opt FitOptions, is *issues) (*FitClass, bool) 
 	for _, g := range counts.Gaps() {
 		fc.Counts = append(fc.Counts, FitCounts{Years: g, Rows: counts.Matrix(g)})
 	}
-	return fc, true
+	return fc, gf, true
 }
 
 // selectionReport compares the work and kept pairs of a class (or

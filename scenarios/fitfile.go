@@ -111,6 +111,11 @@ func ReadFitFile(fsys fs.FS, name string) (*FitResult, error) {
 		fc := &r.Classes[k]
 		field := fmt.Sprintf("classes[%d] (%s)", k, fc.Class)
 		checkFitMatrix(fc, field, is)
+		for f := range fc.Families {
+			fam := fc.Families[f] // a copy: families share the class's states
+			fam.States = fc.States
+			checkFitMatrix(&fam, fmt.Sprintf("%s.families[%d] (%s)", field, f, fam.Family), is)
+		}
 	}
 	if err := is.err(); err != nil {
 		return nil, err
