@@ -110,6 +110,8 @@ type FitClass struct {
 	// family), and Homogeneity tests whether they differ.
 	By          []string        `yaml:"by,omitempty" json:"by,omitempty"`
 	Homogeneity *FitHomogeneity `yaml:"homogeneity,omitempty" json:"homogeneity,omitempty"`
+	// MergedHomogeneity tests the families left after merging (MergeAlike).
+	MergedHomogeneity *FitHomogeneity `yaml:"homogeneity_after_merging,omitempty" json:"homogeneity_after_merging,omitempty"`
 	// Deterioration is the block to paste into the scenario's class.
 	Deterioration FitDeterioration `yaml:"deterioration" json:"deterioration"`
 	// PerState holds figures per state, best first.

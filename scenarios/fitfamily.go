@@ -37,11 +37,12 @@ func fitWhole(c *InspectionClass, opt FitOptions, is *issues) (*FitClass, bool) 
 		if !merged {
 			return nil, false
 		}
-		if len(groups) > 1 {
-			fc.Homogeneity = homogeneityReport(groups, pooled, s, yearly)
-			fc.Homogeneity.Note += fmt.Sprintf(" (after %d merge(s) of families a test could not tell apart)", len(fc.Merges))
-		} else {
-			fc.Homogeneity = &FitHomogeneity{Families: 1, Note: "every family was merged into one: the families do not differ at the 5% level, so the class's own matrix serves them all"}
+		switch {
+		case len(fc.Merges) == 0:
+		case len(groups) > 1:
+			fc.MergedHomogeneity = homogeneityReport(groups, pooled, s, yearly)
+		default:
+			fc.MergedHomogeneity = &FitHomogeneity{Families: 1, Note: "every family was merged into one: no two of them differ at the 5% level, so the class's own matrix serves them all"}
 		}
 	}
 	for _, g := range groups {
@@ -115,9 +116,9 @@ func homogeneityReport(groups []*familyGroup, pooled *groupFit, s markov.Structu
 	}
 	out.Differ = h.LRPValue < FamilyLevel
 	if out.Differ {
-		out.Note = fmt.Sprintf("the families differ (p %s): each family's own matrix describes it better than the class's", pText(h.LRPValue))
+		out.Note = "the families differ at the 5% level: each family's own matrix describes it better than the class's"
 	} else {
-		out.Note = fmt.Sprintf("no evidence that the families differ (p %s at the 5%% level): the class's matrix may serve them all, and a family's own matrix adds only noise", pText(h.LRPValue))
+		out.Note = "no evidence at the 5% level that the families differ: the class's matrix may serve them all, and a family's own matrix mostly adds noise"
 	}
 	return out
 }

@@ -32,6 +32,8 @@ type fitOptions struct {
 	bootstrap                   int
 	seed                        int
 	skipBadRows                 bool
+	by                          []string
+	mergeAlike                  bool
 	save                        string
 	format, out, table          string
 }
@@ -106,6 +108,8 @@ be reviewed by qualified people before it drives decisions.`,
 	f.IntVar(&o.bootstrap, "bootstrap", 1000, "bootstrap resamples of assets for the intervals (0 for none)")
 	f.IntVar(&o.seed, "seed", 1, "seed of the bootstrap: the same seed gives the same result")
 	f.BoolVar(&o.skipBadRows, "skip-bad-rows", false, "leave out rows that cannot be read, with a warning, instead of stopping")
+	f.StringArrayVar(&o.by, "by", nil, "fit a matrix per family of assets, by the values of this column (repeat for several columns)")
+	f.BoolVar(&o.mergeAlike, "merge-alike", false, "with --by: merge families that a test cannot tell apart at the 5% level")
 	f.StringVar(&o.save, "save", "", "write the fit file (YAML) for scenarios to use with deterioration: {fit: FILE}")
 	f.StringVar(&o.format, "format", "table", "report format: "+strings.Join(fitFormats, ", "))
 	f.StringVar(&o.out, "out", "", "write the report to this file (for csv: a directory gets one file per table)")
@@ -143,6 +147,17 @@ func (o *fitOptions) validate(args []string) error {
 	}
 	if o.method == scenarios.MethodYearsInState && o.keepImprovements {
 		return usageError("--keep-improvements does not apply to --method years-in-state: a matrix from years in state never improves")
+	}
+	if len(o.by) > 0 && o.method == scenarios.MethodYearsInState {
+		return usageError("--by fits a matrix per family from the data; --method years-in-state sets matrices by judgement")
+	}
+	if o.mergeAlike && len(o.by) == 0 {
+		return usageError("--merge-alike merges families: give --by COLUMN")
+	}
+	for i, c := range o.by {
+		if strings.TrimSpace(c) == "" || slices.Contains(o.by[:i], c) {
+			return usageError("--by %q: name each column once", c)
+		}
 	}
 	if len(args) == 0 && o.method != scenarios.MethodYearsInState {
 		return usageError("give the inspection export (CSV); only --method years-in-state works without one")
@@ -260,6 +275,7 @@ func (o *fitOptions) run(cmd *cobra.Command, args []string) error {
 	opt := scenarios.FitOptions{
 		Method: o.method, OneStep: o.oneStep, KeepImprovements: o.keepImprovements,
 		Bootstrap: o.bootstrap, Seed: o.seed, YearsInState: judged, ScalesFrom: source,
+		By: o.by, MergeAlike: o.mergeAlike,
 	}
 	var res *scenarios.FitResult
 	if len(args) == 0 {
@@ -308,7 +324,7 @@ func (o *fitOptions) fitFile(path string, sep rune, cols scenarios.InspectionCol
 	}
 	defer f.Close()
 	ins, err := scenarios.ReadInspections(f, path, scenarios.InspectionOptions{
-		Columns: cols, Separator: sep, ScaleFor: scaleFor, Only: o.classes, SkipBadRows: o.skipBadRows,
+		Columns: cols, Separator: sep, ScaleFor: scaleFor, Only: o.classes, SkipBadRows: o.skipBadRows, By: o.by,
 	})
 	if err != nil {
 		return nil, err

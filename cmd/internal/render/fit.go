@@ -12,7 +12,7 @@ import (
 )
 
 // FitCSVTables names the tables of a fit that CSV can write.
-var FitCSVTables = []string{"matrix", "states", "fit", "condition", "data", "counts"}
+var FitCSVTables = []string{"matrix", "states", "fit", "condition", "data", "counts", "families", "homogeneity"}
 
 // FitJSON writes a fit result as JSON: the fit file's content.
 func FitJSON(w io.Writer, r *scenarios.FitResult) error {
@@ -133,6 +133,80 @@ func gofSentence(g *scenarios.FitTest) string {
 		g.Statistic, g.DF, g.Rows, g.Cells, count(g.Pairs), pvalue(*g.PValue), g.Note)
 }
 
+// familyStayTable compares the families' staying probabilities and years
+// in state with the class's, state by state.
+func familyStayTable(c *scenarios.FitClass) table {
+	t := table{header: []string{"STATE"}, right: []bool{false}}
+	for _, f := range c.Families {
+		t.header = append(t.header, f.Family)
+		t.right = append(t.right, true)
+	}
+	t.header = append(t.header, "WHOLE CLASS")
+	t.right = append(t.right, true)
+	pairs := []string{"pairs used"}
+	for _, f := range c.Families {
+		pairs = append(pairs, count(f.Data.UsedByMethod))
+	}
+	t.rows = append(t.rows, append(pairs, count(c.Data.UsedByMethod)))
+	cell := func(st scenarios.FitState) string {
+		if st.YearsInState == nil {
+			return prob(st.Stay)
+		}
+		return fmt.Sprintf("%s (%s y)", prob(st.Stay), years(*st.YearsInState))
+	}
+	for i, st := range c.PerState[:len(c.PerState)-1] {
+		row := []string{st.State}
+		for _, f := range c.Families {
+			row = append(row, cell(f.PerState[i]))
+		}
+		t.rows = append(t.rows, append(row, cell(st)))
+	}
+	return t
+}
+
+func homogeneitySentence(c *scenarios.FitClass) string {
+	s := homogeneityText(c, c.Homogeneity)
+	if c.MergedHomogeneity != nil {
+		s += ". After merging, " + homogeneityText(c, c.MergedHomogeneity)
+	}
+	return s
+}
+
+func homogeneityText(c *scenarios.FitClass, h *scenarios.FitHomogeneity) string {
+	if h == nil {
+		return fmt.Sprintf("one family only (%s): nothing to compare", c.Families[0].Family)
+	}
+	if h.LikelihoodRatio == nil {
+		return h.Note
+	}
+	s := fmt.Sprintf("likelihood-ratio chi-square %.2f on %d degrees of freedom, p %s", h.LikelihoodRatio.Statistic, h.LikelihoodRatio.DF, pSentence(*h.LikelihoodRatio.PValue))
+	if ag := h.AndersonGoodman; ag != nil {
+		s += fmt.Sprintf(" (Anderson and Goodman's chi-square %.2f, p %s)", ag.Statistic, pSentence(*ag.PValue))
+	}
+	return s + ": " + h.Note
+}
+
+// membersNote names the values a merged family covers.
+func membersNote(f *scenarios.FitClass, c *scenarios.FitClass) string {
+	if len(f.Members) < 2 {
+		return ""
+	}
+	return fmt.Sprintf(" (%s values %s, merged)", strings.Join(c.By, "/"), strings.Join(f.Members, ", "))
+}
+
+func mergeSentence(m scenarios.FitMerge) string {
+	return fmt.Sprintf("%s and %s into %s (likelihood-ratio chi-square %.2f on %d degrees of freedom, p %s)",
+		m.Merged[0], m.Merged[1], m.Into, m.Test.Statistic, m.Test.DF, pSentence(*m.Test.PValue))
+}
+
+// pSentence writes "= 0.0123" or "< 0.0001".
+func pSentence(p float64) string {
+	if p < 0.0001 {
+		return "< 0.0001"
+	}
+	return "= " + strconv.FormatFloat(p, 'f', 4, 64)
+}
+
 // optimizerSentence says how the interval method's maximisation ended.
 func optimizerSentence(o *scenarios.FitOptimizer) string {
 	starts := fmt.Sprintf("%d of %d starts reached it", o.StartsAtBest, o.Starts)
@@ -207,6 +281,26 @@ func FitText(w io.Writer, r *scenarios.FitResult) error {
 			return err
 		}
 		ew.printf("\nPaste into the scenario's class %s (or use deterioration: {fit: FILE} with --save FILE):\n%s", c.Class, block)
+		if len(c.Families) > 0 {
+			ew.printf("\n-- %s by family (%s) --\n", c.Class, strings.Join(c.By, ", "))
+			ew.printf("\nDo the families differ? %s\n", wrap(homogeneitySentence(c), 100))
+			for _, m := range c.Merges {
+				ew.printf("%s\n", wrap("Merged "+mergeSentence(m), 100))
+			}
+			ew.printf("\nStaying probability (years in state) by family\n")
+			tabulate(ew, familyStayTable(c))
+			for k := range c.Families {
+				f := &c.Families[k]
+				f.States = c.States
+				ew.printf("\nFamily %s%s: one-year transition matrix; use with deterioration: {fit: FILE, fit_class: %s, family: %s}\n",
+					f.Family, membersNote(f, c), c.Class, f.Family)
+				tabulate(ew, fitMatrixTable(f))
+				f.States = nil
+				for _, n := range f.Notes {
+					ew.printf("Note: %s\n", wrap(n, 100))
+				}
+			}
+		}
 	}
 	for _, warn := range r.Warnings {
 		ew.printf("\nWarning: %s\n", wrap(warn, 100))
@@ -278,6 +372,25 @@ func FitMarkdown(w io.Writer, r *scenarios.FitResult) error {
 			return err
 		}
 		ew.printf("\n### For the scenario\n\n```yaml\n%s```\n", block)
+		if len(c.Families) > 0 {
+			ew.printf("\n### By family (%s)\n\n%s.\n", strings.Join(c.By, ", "), homogeneitySentence(c))
+			for _, m := range c.Merges {
+				ew.printf("\n- Merged %s\n", mergeSentence(m))
+			}
+			ew.printf("\nStaying probability (years in state) by family:\n\n")
+			mdTable(ew, familyStayTable(c))
+			for k := range c.Families {
+				f := &c.Families[k]
+				f.States = c.States
+				ew.printf("\n#### Family %s\n\nUse with `deterioration: {fit: FILE, fit_class: %s, family: %s}`%s.\n\n",
+					f.Family, c.Class, f.Family, membersNote(f, c))
+				mdTable(ew, fitMatrixTable(f))
+				f.States = nil
+				for _, n := range f.Notes {
+					ew.printf("\n- %s\n", n)
+				}
+			}
+		}
 	}
 	if len(r.Warnings) > 0 {
 		ew.printf("\n## Warnings\n\n")
@@ -353,6 +466,33 @@ func FitCSV(w io.Writer, r *scenarios.FitResult, name string) error {
 					}
 				}
 			}
+		}
+	case "families":
+		rows = append(rows, []string{"class", "family", "members", "from_state", "to_state", "probability"})
+		for _, c := range r.Classes {
+			for _, f := range c.Families {
+				for i, row := range f.Deterioration.Matrix {
+					for j, v := range row {
+						rows = append(rows, []string{c.Class, f.Family, strings.Join(f.Members, "|"), c.States[i], c.States[j], Plain(v)})
+					}
+				}
+			}
+		}
+	case "homogeneity":
+		rows = append(rows, []string{"class", "by", "families", "likelihood_ratio", "degrees_of_freedom", "p_value", "anderson_goodman", "anderson_goodman_p_value", "differ"})
+		for _, c := range r.Classes {
+			h := c.Homogeneity
+			if h == nil {
+				continue
+			}
+			row := []string{c.Class, strings.Join(c.By, "|"), fmt.Sprint(h.Families), "", "", "", "", "", fmt.Sprint(h.Differ)}
+			if t := h.LikelihoodRatio; t != nil {
+				row[3], row[4], row[5] = Plain(t.Statistic), fmt.Sprint(t.DF), opt(t.PValue)
+			}
+			if t := h.AndersonGoodman; t != nil {
+				row[6], row[7] = Plain(t.Statistic), opt(t.PValue)
+			}
+			rows = append(rows, row)
 		}
 	default:
 		return fmt.Errorf("unknown table %q; choose one of %s", name, strings.Join(FitCSVTables, ", "))
