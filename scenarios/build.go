@@ -47,6 +47,7 @@ func build(f *fileScenario, is *issues) *Scenario {
 	scales, classScale := classScales(f, is)
 	catalogue := indexTreatments(f, is)
 	buildClasses(sc, f, scales, classScale, catalogue, is)
+	splitFamilies(sc, f, is)
 	buildBudget(sc, f, is)
 	buildTargets(sc, f, is)
 	buildObjective(sc, f, is)
@@ -629,6 +630,7 @@ func buildDeterioration(c *Class, fc *fileClass, field string, is *issues) {
 		}
 		c.Transition = t
 		c.Evidence = d.evidence
+		c.split = d.split
 	case d.YearsInState != nil:
 		if len(d.YearsInState) != n-1 {
 			is.add(d.Lines.of("years_in_state"), fld+".years_in_state", "%d values for %d states; give one per state except the worst (%d)", len(d.YearsInState), n, n-1)

@@ -189,14 +189,21 @@ func resolveFits(f *fileScenario, fsys fs.FS, is *issues) (read []string) {
 	for k := range f.Classes {
 		fc := &f.Classes[k]
 		d := fc.Deterioration
-		if d == nil || (d.Fit == "" && d.FitClass == "") {
+		if d == nil || (d.Fit == "" && d.FitClass == "" && d.Family == "" && d.At == "") {
 			continue
 		}
 		field := fmt.Sprintf("classes[%d] (%s).deterioration", k, strings.TrimSpace(fc.Name))
 		line := d.Lines.of("fit")
 		switch {
 		case d.Fit == "":
-			is.add(d.Lines.of("fit_class"), field+".fit_class", "fit_class needs fit: FILE (the fit file to take the class from)")
+			key := "fit_class"
+			switch {
+			case d.Family != "":
+				key = "family"
+			case d.At != "":
+				key = "at"
+			}
+			is.add(d.Lines.of(key), field+"."+key, "%s needs fit: FILE (the fit file to take the class from)", key)
 			continue
 		case d.Matrix != nil || d.YearsInState != nil:
 			is.add(d.Lines.of(""), field, "give one of fit, matrix or years_in_state")
@@ -251,15 +258,56 @@ func resolveFits(f *fileScenario, fsys fs.FS, is *issues) (read []string) {
 				continue
 			}
 		}
-		rows := make([]int, len(fitted.Deterioration.Matrix))
+		chosen, ok := chooseFamily(fitted, d, got.r, want, field, is)
+		if !ok {
+			continue
+		}
+		rows := make([]int, len(chosen.Deterioration.Matrix))
 		for i := range rows {
 			rows[i] = line
 		}
-		d.Matrix = &matrix{Rows: fitted.Deterioration.Matrix, Lines: rows, Line: line}
-		d.AllowImprovement = fitted.Deterioration.AllowImprovement
-		d.evidence = evidenceOf(got.r, fitted, d.Fit)
+		d.Matrix = &matrix{Rows: chosen.Deterioration.Matrix, Lines: rows, Line: line}
+		d.AllowImprovement = chosen.Deterioration.AllowImprovement
+		d.evidence = evidenceOf(got.r, chosen, d.Fit)
 	}
 	return read
+}
+
+// chooseFamily picks the part of a fitted class a deterioration block
+// names: the family it names (family: NAME, a family or a value merged
+// into one; all for the class's own matrix), or, when the class was fitted
+// by family and none is named, the class's own matrix for now with the
+// families kept to split the class by its segment list (splitFamilies).
+func chooseFamily(fitted *FitClass, d *fileDeterioration, r *FitResult, class, field string, is *issues) (*FitClass, bool) {
+	line := d.Lines.of("fit")
+	name := strings.TrimSpace(d.Family)
+	switch {
+	case name == "all":
+		return fitted, true
+	case name != "" && len(fitted.Families) == 0:
+		is.add(d.Lines.of("family"), field+".family", "class %q in %q was not fitted by family (fit it with --by COLUMN); drop family:", class, d.Fit)
+		return nil, false
+	case name != "":
+		for k := range fitted.Families {
+			if f := &fitted.Families[k]; f.Family == name || slices.Contains(f.Members, name) {
+				return f, true
+			}
+		}
+		split := &familySplit{families: familyPointers(fitted)}
+		is.add(d.Lines.of("family"), field+".family", "class %q in %q has no family %q; its families (by %s) are %s, or all for the class's own matrix", class, d.Fit, name, strings.Join(fitted.By, "/"), split.names())
+		return nil, false
+	case len(fitted.Families) > 0:
+		d.split = &familySplit{file: d.Fit, fitClass: class, by: fitted.By, families: familyPointers(fitted), result: r, line: line}
+	}
+	return fitted, true
+}
+
+func familyPointers(c *FitClass) []*FitClass {
+	out := make([]*FitClass, len(c.Families))
+	for k := range c.Families {
+		out[k] = &c.Families[k]
+	}
+	return out
 }
 
 // DeteriorationBlock returns the class's deterioration block as YAML

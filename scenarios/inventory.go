@@ -45,6 +45,10 @@ type Segment struct {
 	WKT      string
 	Lon, Lat float64
 	HasPoint bool
+	// Family is the segment's family key (the values of the columns its
+	// class's fit groups by, joined with "/"); "" unless the class is split
+	// by family.
+	Family string
 }
 
 // Inventory says what was read from one inventory CSV.
@@ -63,6 +67,15 @@ type Inventory struct {
 	Geometry string
 	// idColumn is the id column's name in the header, for messages.
 	idColumn string
+	// familySums are the exact quantity sums by state of each (class,
+	// family) whose class is split by family (splitFamilies).
+	familySums map[classFamily][]exactSum
+}
+
+// classFamily keys the quantities of one family of one class.
+type classFamily struct {
+	class  int
+	family string
 }
 
 // InventoryClass is what one class took from an inventory CSV.
@@ -553,6 +566,10 @@ func readRows(sc *Scenario, j inventoryJob, r io.Reader, comma rune, inv *Invent
 			return nil, nil
 		}
 	}
+	familyCols, ok := familyColumns(sc, j, header, ci, headerLine)
+	if !ok {
+		return nil, nil
+	}
 	var run vm.VM
 	n := len(sc.Classes)
 	segs := make([][]Segment, n)
@@ -731,6 +748,10 @@ func readRows(sc *Scenario, j inventoryJob, r io.Reader, comma rune, inv *Invent
 			seg.Priority = p
 		}
 		sums[k][state].add(billionths)
+		if at := familyCols[k]; at != nil {
+			seg.Family = familyKey(rec, at)
+			inv.addFamily(k, seg.Family, len(c.Scale.States), state, billionths)
+		}
 		segs[k] = append(segs[k], seg)
 	}
 	if inv.Rows == 0 && ci.count == 0 {

@@ -41,6 +41,9 @@ with its line and column, and a summary of what was read. Nothing is written.`,
 				for _, inv := range sc.Inventories {
 					fmt.Fprintf(cmd.OutOrStdout(), "  %s\n", inventorySummary(inv))
 				}
+				for _, n := range sc.Notes {
+					fmt.Fprintf(cmd.OutOrStdout(), "  note: %s\n", n)
+				}
 			}
 			return nil
 		},

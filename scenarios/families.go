@@ -1,0 +1,233 @@
+package scenarios
+
+import (
+	"fmt"
+	"slices"
+	"strings"
+
+	"wearplan/markov"
+)
+
+// A class whose matrix comes from a fit by family (fit --by COLUMN) and
+// that names no family of it is split into one class per family present
+// in its segment list: the segment list carries the family columns, each
+// segment goes to the family its values name, and each family becomes a
+// class of its own named "CLASS (FAMILY)", with the class's treatments,
+// costs and unit, its own fitted matrix, and the quantities of its
+// segments (summed exactly, like the class's). Network weights stay the
+// class's, shared by quantity. Targets on the class apply to each family;
+// budget groups that name the class pay for all of its families.
+
+// familySplit is what a class needs to be split by family: the fit file's
+// families of its fitted class.
+type familySplit struct {
+	file, fitClass string
+	by             []string
+	families       []*FitClass
+	result         *FitResult
+	line           int
+}
+
+// familyOf returns the family a key belongs to: the family of that name,
+// or the merged family that lists it among its members.
+func (fs *familySplit) familyOf(key string) *FitClass {
+	for _, f := range fs.families {
+		if f.Family == key || slices.Contains(f.Members, key) {
+			return f
+		}
+	}
+	return nil
+}
+
+func (fs *familySplit) names() string {
+	var out []string
+	for _, f := range fs.families {
+		out = append(out, f.Family)
+	}
+	return strings.Join(out, ", ")
+}
+
+// familyColumns finds, for each class the file supplies that is to be
+// split by family, the header positions of its family columns.
+func familyColumns(sc *Scenario, j inventoryJob, header []string, ci *csvIssues, line int) ([][]int, bool) {
+	out := make([][]int, len(sc.Classes))
+	pos := map[string]int{}
+	for i, h := range header {
+		if _, dup := pos[normalColumn(h)]; !dup {
+			pos[normalColumn(h)] = i
+		}
+	}
+	ok := true
+	for k := range sc.Classes {
+		fs := sc.Classes[k].split
+		if !j.takes[k] || fs == nil {
+			continue
+		}
+		for _, col := range fs.by {
+			i, found := pos[normalColumn(col)]
+			if !found {
+				ci.add(line, "", "class %q takes its matrix from %s, fitted by family of %s; the segment list has no %q column to say each segment's family (the header has %s); add it, or choose one family with deterioration: {family: NAME} (or family: all for the class's own matrix)",
+					sc.Classes[k].Name, fs.file, strings.Join(fs.by, "/"), col, quotedList(header))
+				ok = false
+				continue
+			}
+			out[k] = append(out[k], i)
+		}
+	}
+	return out, ok
+}
+
+func familyKey(rec []string, at []int) string {
+	parts := make([]string, len(at))
+	for i, c := range at {
+		parts[i] = strings.TrimSpace(rec[c])
+	}
+	return strings.Clone(strings.Join(parts, "/"))
+}
+
+func (inv *Inventory) addFamily(class int, family string, states, state int, billionths int64) {
+	if inv.familySums == nil {
+		inv.familySums = map[classFamily][]exactSum{}
+	}
+	key := classFamily{class, family}
+	s := inv.familySums[key]
+	if s == nil {
+		s = make([]exactSum, states)
+		inv.familySums[key] = s
+	}
+	s[state].add(billionths)
+}
+
+// splitFamilies replaces each class waiting to be split by one class per
+// family present in its segment list, and points the targets and budget
+// groups that name it at its families.
+func splitFamilies(sc *Scenario, f *fileScenario, is *issues) {
+	var out []Class
+	renamed := map[string][]string{}
+	for k := range sc.Classes {
+		c := sc.Classes[k]
+		fs := c.split
+		if fs == nil {
+			out = append(out, c)
+			continue
+		}
+		field := fmt.Sprintf("classes[%d] (%s).deterioration", k, c.Name)
+		if c.Inventory == nil {
+			is.add(fs.line, field+".fit", "%s has a matrix per family of %s for class %q (%s), but the class's inventory is typed in, so its segments' families are unknown; choose one with family: NAME (or family: all for the class's own matrix), or give a segment list with a %s column",
+				fs.file, strings.Join(fs.by, "/"), fs.fitClass, fs.names(), strings.Join(fs.by, ", "))
+			continue
+		}
+		if c.Segments == nil {
+			continue // the segment list's problems are reported already
+		}
+		bySeg := map[*FitClass][]Segment{}
+		var unknown lineList
+		unknownKeys := map[string]bool{}
+		for _, seg := range c.Segments {
+			fam := fs.familyOf(seg.Family)
+			if fam == nil {
+				unknown.add(seg.Line)
+				unknownKeys[seg.Family] = true
+				continue
+			}
+			bySeg[fam] = append(bySeg[fam], seg)
+		}
+		if unknown.count > 0 {
+			fis := &issues{file: c.Inventory.File}
+			fis.add(unknown.first[0], strings.Join(fs.by, "/"), "%s: %s of class %q name no family of %s (%s; its families: %s); correct the values, or fit again with these families",
+				quotedList(sortedKeys(unknownKeys)), &unknown, c.Name, fs.file, strings.Join(fs.by, "/"), fs.names())
+			is.list = append(is.list, fis.list...)
+			continue
+		}
+		total := c.Total()
+		var parts []string
+		var missing []string
+		var names []string
+		for _, fam := range fs.families {
+			segs := bySeg[fam]
+			if len(segs) == 0 {
+				missing = append(missing, fam.Family)
+				continue
+			}
+			sub := c
+			sub.split = nil
+			sub.Parent, sub.Family = c.Name, fam.Family
+			sub.Name = fmt.Sprintf("%s (%s)", c.Name, fam.Family)
+			sub.Segments = segs
+			sub.Initial = make([]float64, len(c.Initial))
+			keys := fam.Members
+			if len(keys) == 0 {
+				keys = []string{fam.Family}
+			}
+			for _, member := range keys {
+				for i, sum := range c.Inventory.familySums[classFamily{k, member}] {
+					v, _ := sum.float()
+					sub.Initial[i] += v
+				}
+			}
+			t, err := markov.NewTransition(fam.Deterioration.Matrix, markov.Options{AllowImprovement: fam.Deterioration.AllowImprovement})
+			if err != nil {
+				is.add(fs.line, field+".fit", "family %s in %s: %v", fam.Family, fs.file, err)
+				continue
+			}
+			sub.Transition = t
+			sub.Evidence = evidenceOf(fs.result, fam, fs.file)
+			if total > 0 {
+				sub.Weight = c.Weight * sub.Total() / total
+			}
+			out = append(out, sub)
+			names = append(names, sub.Name)
+			parts = append(parts, fmt.Sprintf("%s %s %s in %d segments", sub.Name, num(round(sub.Total(), 3)), c.Unit, len(segs)))
+		}
+		renamed[c.Name] = names
+		for i := range c.Inventory.Classes {
+			if ic := c.Inventory.Classes[i]; ic.Class == c.Name {
+				var subs []InventoryClass
+				for _, sub := range out[len(out)-len(names):] {
+					subs = append(subs, InventoryClass{Class: sub.Name, Unit: sub.Unit, Segments: len(sub.Segments), Quantity: sub.Total()})
+				}
+				c.Inventory.Classes = slices.Replace(c.Inventory.Classes, i, i+1, subs...)
+				break
+			}
+		}
+		note := fmt.Sprintf("class %s is split by family of %s (fit file %s, its segment list's %s column): %s; each family keeps the class's treatments and costs and uses its own fitted matrix. Targets on %s apply to each family; budget groups naming %s pay for all of them",
+			c.Name, strings.Join(fs.by, "/"), fs.file, strings.Join(fs.by, ", "), strings.Join(parts, "; "), c.Name, c.Name)
+		if len(missing) > 0 {
+			note += fmt.Sprintf(". No segment belongs to family %s", strings.Join(missing, ", "))
+		}
+		sc.Notes = append(sc.Notes, note)
+	}
+	if len(renamed) == 0 {
+		return
+	}
+	sc.Classes = out
+	// Targets and budget groups as written name the class: point them at
+	// its families.
+	var targets []fileTarget
+	for _, t := range f.Targets {
+		subs, ok := renamed[t.Class]
+		if !ok {
+			targets = append(targets, t)
+			continue
+		}
+		for _, name := range subs {
+			c := t
+			c.Class = name
+			targets = append(targets, c)
+		}
+	}
+	f.Targets = targets
+	if f.Budget != nil {
+		for g := range f.Budget.Groups {
+			var classes []string
+			for _, name := range f.Budget.Groups[g].Classes {
+				if subs, ok := renamed[name]; ok {
+					classes = append(classes, subs...)
+					continue
+				}
+				classes = append(classes, name)
+			}
+			f.Budget.Groups[g].Classes = classes
+		}
+	}
+}
