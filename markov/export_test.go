@@ -11,3 +11,32 @@ func NewWorkSelectionForTest(states int, keptWork [][3][2]float64) *WorkSelectio
 	}
 	return w
 }
+
+// OrderedGradientCheck compares the ordered model's exact gradient with
+// central differences at theta, returning both.
+func OrderedGradientCheck(pairs []Pair, states int, names []string, link Link, theta []float64) (exact, numeric []float64, err error) {
+	m := &OrderedModel{Link: link, States: states, Names: names}
+	d, err := m.standardise(pairs, len(names))
+	if err != nil {
+		return nil, nil, err
+	}
+	m.Drops = supportedDrops(pairs, states, Structure{})
+	ev := &orderedEval{m: m, d: d}
+	if theta == nil {
+		theta = make([]float64, len(names)+m.thresholdCount())
+		for k := range theta {
+			theta[k] = 0.3 * float64(k%5-2)
+		}
+	}
+	exact = make([]float64, len(theta))
+	ev.eval(theta, exact)
+	numeric = make([]float64, len(theta))
+	for k := range theta {
+		h := 1e-5
+		up, down := append([]float64(nil), theta...), append([]float64(nil), theta...)
+		up[k] += h
+		down[k] -= h
+		numeric[k] = (ev.eval(up, nil) - ev.eval(down, nil)) / (2 * h)
+	}
+	return exact, numeric, nil
+}

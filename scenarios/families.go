@@ -26,6 +26,9 @@ type familySplit struct {
 	families       []*FitClass
 	result         *FitResult
 	line           int
+	// at names the covariate values whose matrices the families use
+	// (at: NAME); "" for the families' own matrices.
+	at string
 }
 
 // familyOf returns the family a key belongs to: the family of that name,
@@ -165,13 +168,21 @@ func splitFamilies(sc *Scenario, f *fileScenario, is *issues) {
 					sub.Initial[i] += v
 				}
 			}
-			t, err := markov.NewTransition(fam.Deterioration.Matrix, markov.Options{AllowImprovement: fam.Deterioration.AllowImprovement})
+			block, evidence := fam.Deterioration, evidenceOf(fs.result, fam, fs.file)
+			if fs.at != "" {
+				for _, p := range fam.Covariates.At {
+					if p.Name == fs.at {
+						block, evidence = p.Deterioration, nil
+					}
+				}
+			}
+			t, err := markov.NewTransition(block.Matrix, markov.Options{AllowImprovement: block.AllowImprovement})
 			if err != nil {
 				is.add(fs.line, field+".fit", "family %s in %s: %v", fam.Family, fs.file, err)
 				continue
 			}
 			sub.Transition = t
-			sub.Evidence = evidenceOf(fs.result, fam, fs.file)
+			sub.Evidence = evidence
 			if total > 0 {
 				sub.Weight = c.Weight * sub.Total() / total
 			}

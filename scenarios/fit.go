@@ -63,6 +63,22 @@ type FitOptions struct {
 	// them apart at FamilyLevel.
 	By         []string
 	MergeAlike bool
+	// Covariates names numeric columns of the export (InspectionOptions.
+	// Covariates): each class (and family) then also gets an ordered model
+	// of the yearly drop in state from them (markov.OrderedMLE) with Link
+	// logit (the default) or probit, and its matrices at the values At
+	// names (every combination, the other covariates at their means; at
+	// the means alone when At is empty).
+	Covariates []string
+	Link       string
+	At         []CovariateValues
+}
+
+// CovariateValues are values of one covariate at which to evaluate a
+// covariate model's matrix.
+type CovariateValues struct {
+	Covariate string
+	Values    []float64
 }
 
 // FamilyLevel is the significance level at which families are told apart:
@@ -128,6 +144,9 @@ type FitClass struct {
 	// Selection compares the pairs left out for work with those kept; nil
 	// when no pair had work.
 	Selection *FitSelection `yaml:"selection,omitempty" json:"selection,omitempty"`
+	// Covariates is the ordered model of the yearly drop (FitOptions.
+	// Covariates), nil without covariates.
+	Covariates *FitCovariates `yaml:"covariates,omitempty" json:"covariates,omitempty"`
 	// Merges lists the merging of families (MergeAlike), in order.
 	Merges []FitMerge `yaml:"merges,omitempty" json:"merges,omitempty"`
 	// Families holds each family's fit, in the class's layout.
@@ -348,6 +367,9 @@ func Fit(ins *Inspections, opt FitOptions) (*FitResult, error) {
 	}
 	if opt.Bootstrap < 0 {
 		return nil, fmt.Errorf("bootstrap %d: give zero or more resamples", opt.Bootstrap)
+	}
+	if err := checkCovariateOptions(&opt); err != nil {
+		return nil, err
 	}
 	res := newFitResult(opt)
 	res.Source, res.Rows, res.Skipped, res.BadRows = ins.Source, ins.Rows, ins.Skipped, ins.BadRows
@@ -582,6 +604,15 @@ func fitClass(c *InspectionClass, who string, opt FitOptions, is *issues) (*FitC
 		}
 	}
 	describe(fc, p, c.Scale, reps)
+
+	// The covariate model.
+	if fitted && len(opt.Covariates) > 0 {
+		cv, ok := covariateModel(used.Pairs(), c, who, opt, is)
+		if !ok {
+			return nil, nil, false
+		}
+		fc.Covariates = cv
+	}
 
 	// Pairs per starting state.
 	for _, pr := range used.Pairs() {

@@ -7,6 +7,7 @@ import (
 	"io/fs"
 	"reflect"
 	"slices"
+	"strconv"
 	"strings"
 
 	"gopkg.in/yaml.v3"
@@ -111,16 +112,29 @@ func ReadFitFile(fsys fs.FS, name string) (*FitResult, error) {
 		fc := &r.Classes[k]
 		field := fmt.Sprintf("classes[%d] (%s)", k, fc.Class)
 		checkFitMatrix(fc, field, is)
+		checkCovariateMatrices(fc, fc.States, field, is)
 		for f := range fc.Families {
 			fam := fc.Families[f] // a copy: families share the class's states
 			fam.States = fc.States
-			checkFitMatrix(&fam, fmt.Sprintf("%s.families[%d] (%s)", field, f, fam.Family), is)
+			ffield := fmt.Sprintf("%s.families[%d] (%s)", field, f, fam.Family)
+			checkFitMatrix(&fam, ffield, is)
+			checkCovariateMatrices(&fam, fc.States, ffield, is)
 		}
 	}
 	if err := is.err(); err != nil {
 		return nil, err
 	}
 	return &r, nil
+}
+
+// checkCovariateMatrices checks the matrices of a covariate model.
+func checkCovariateMatrices(fc *FitClass, states []string, field string, is *issues) {
+	if fc.Covariates == nil {
+		return
+	}
+	for k, at := range fc.Covariates.At {
+		checkFitMatrix(&FitClass{States: states, Deterioration: at.Deterioration, Lines: fc.Lines}, fmt.Sprintf("%s.covariates.at[%d] (%s)", field, k, at.Name), is)
+	}
 }
 
 func checkFitMatrix(fc *FitClass, field string, is *issues) {
@@ -262,13 +276,23 @@ func resolveFits(f *fileScenario, fsys fs.FS, is *issues) (read []string) {
 		if !ok {
 			continue
 		}
-		rows := make([]int, len(chosen.Deterioration.Matrix))
+		block, evidence := chosen.Deterioration, evidenceOf(got.r, chosen, d.Fit)
+		if at := strings.TrimSpace(d.At); at != "" && d.split == nil {
+			m, ok := covariatesAt(chosen, at, d, want, field, is)
+			if !ok {
+				continue
+			}
+			// The matrix at chosen covariate values is not the counting
+			// or bootstrap estimate the evidence describes.
+			block, evidence = m, nil
+		}
+		rows := make([]int, len(block.Matrix))
 		for i := range rows {
 			rows[i] = line
 		}
-		d.Matrix = &matrix{Rows: chosen.Deterioration.Matrix, Lines: rows, Line: line}
-		d.AllowImprovement = chosen.Deterioration.AllowImprovement
-		d.evidence = evidenceOf(got.r, chosen, d.Fit)
+		d.Matrix = &matrix{Rows: block.Matrix, Lines: rows, Line: line}
+		d.AllowImprovement = block.AllowImprovement
+		d.evidence = evidence
 	}
 	return read
 }
@@ -297,9 +321,39 @@ func chooseFamily(fitted *FitClass, d *fileDeterioration, r *FitResult, class, f
 		is.add(d.Lines.of("family"), field+".family", "class %q in %q has no family %q; its families (by %s) are %s, or all for the class's own matrix", class, d.Fit, name, strings.Join(fitted.By, "/"), split.names())
 		return nil, false
 	case len(fitted.Families) > 0:
-		d.split = &familySplit{file: d.Fit, fitClass: class, by: fitted.By, families: familyPointers(fitted), result: r, line: line}
+		d.split = &familySplit{file: d.Fit, fitClass: class, by: fitted.By, families: familyPointers(fitted), result: r, line: line, at: strings.TrimSpace(d.At)}
+		if d.split.at != "" {
+			// Every family must have the matrix at those values.
+			for _, f := range d.split.families {
+				if _, ok := covariatesAt(f, d.split.at, d, class, field, is); !ok {
+					return nil, false
+				}
+			}
+		}
 	}
 	return fitted, true
+}
+
+// covariatesAt returns the matrix of a fitted class's (or family's)
+// covariate model at the named values (at: NAME).
+func covariatesAt(c *FitClass, at string, d *fileDeterioration, class, field string, is *issues) (FitDeterioration, bool) {
+	who := fmt.Sprintf("class %q", class)
+	if c.Family != "" {
+		who = fmt.Sprintf("family %q of class %q", c.Family, class)
+	}
+	if c.Covariates == nil {
+		is.add(d.Lines.of("at"), field+".at", "%s in %q has no covariate model (fit it with --covariate COLUMN); drop at:", who, d.Fit)
+		return FitDeterioration{}, false
+	}
+	var names []string
+	for _, p := range c.Covariates.At {
+		if p.Name == at {
+			return p.Deterioration, true
+		}
+		names = append(names, strconv.Quote(p.Name))
+	}
+	is.add(d.Lines.of("at"), field+".at", "%s in %q has no matrix at %q; it has %s (fit again with --at to add others)", who, d.Fit, at, strings.Join(names, ", "))
+	return FitDeterioration{}, false
 }
 
 func familyPointers(c *FitClass) []*FitClass {

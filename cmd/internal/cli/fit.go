@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"io"
 	"io/fs"
+	"math"
 	"os"
 	"path/filepath"
 	"slices"
@@ -34,6 +35,8 @@ type fitOptions struct {
 	skipBadRows                 bool
 	by                          []string
 	mergeAlike                  bool
+	covariates, at              []string
+	link                        string
 	save                        string
 	format, out, table          string
 }
@@ -110,6 +113,9 @@ be reviewed by qualified people before it drives decisions.`,
 	f.BoolVar(&o.skipBadRows, "skip-bad-rows", false, "leave out rows that cannot be read, with a warning, instead of stopping")
 	f.StringArrayVar(&o.by, "by", nil, "fit a matrix per family of assets, by the values of this column (repeat for several columns)")
 	f.BoolVar(&o.mergeAlike, "merge-alike", false, "with --by: merge families that a test cannot tell apart at the 5% level")
+	f.StringArrayVar(&o.covariates, "covariate", nil, "model the yearly drop in state from this numeric column too (repeat for several)")
+	f.StringArrayVar(&o.at, "at", nil, "COVARIATE=V1,V2,...: matrices of the covariate model at these values (repeat; others at their means)")
+	f.StringVar(&o.link, "link", "logit", "covariate model: logit (ordered logit) or probit (ordered probit)")
 	f.StringVar(&o.save, "save", "", "write the fit file (YAML) for scenarios to use with deterioration: {fit: FILE}")
 	f.StringVar(&o.format, "format", "table", "report format: "+strings.Join(fitFormats, ", "))
 	f.StringVar(&o.out, "out", "", "write the report to this file (for csv: a directory gets one file per table)")
@@ -159,6 +165,18 @@ func (o *fitOptions) validate(args []string) error {
 			return usageError("--by %q: name each column once", c)
 		}
 	}
+	if len(o.covariates) > 0 && o.method == scenarios.MethodYearsInState {
+		return usageError("--covariate fits a model from the data; --method years-in-state sets matrices by judgement")
+	}
+	if len(o.covariates) > 0 && o.keepImprovements {
+		return usageError("--covariate models drops in condition; it cannot be used with --keep-improvements")
+	}
+	if len(o.at) > 0 && len(o.covariates) == 0 {
+		return usageError("--at gives covariate values: name the covariates with --covariate COLUMN")
+	}
+	if o.link != "logit" && o.link != "probit" {
+		return usageError("--link %q: choose logit or probit", o.link)
+	}
 	if len(args) == 0 && o.method != scenarios.MethodYearsInState {
 		return usageError("give the inspection export (CSV); only --method years-in-state works without one")
 	}
@@ -203,6 +221,31 @@ func (o *fitOptions) columnMap() (scenarios.InspectionColumns, error) {
 	return cols, nil
 }
 
+// atValues reads --at COVARIATE=V1,V2,...
+func (o *fitOptions) atValues() ([]scenarios.CovariateValues, error) {
+	var out []scenarios.CovariateValues
+	for _, spec := range o.at {
+		name, list, ok := strings.Cut(spec, "=")
+		name = strings.TrimSpace(name)
+		if !ok || name == "" || strings.TrimSpace(list) == "" {
+			return nil, usageError("--at %q: write COVARIATE=V1,V2,..., e.g. --at aadt=500,5000,20000", spec)
+		}
+		if !slices.Contains(o.covariates, name) {
+			return nil, usageError("--at %q: %s is not a covariate; name it with --covariate %s", spec, name, name)
+		}
+		cv := scenarios.CovariateValues{Covariate: name}
+		for _, f := range strings.Split(list, ",") {
+			v, err := strconv.ParseFloat(strings.TrimSpace(f), 64)
+			if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
+				return nil, usageError("--at %q: %q is not a number", spec, strings.TrimSpace(f))
+			}
+			cv.Values = append(cv.Values, v)
+		}
+		out = append(out, cv)
+	}
+	return out, nil
+}
+
 func (o *fitOptions) judgement() (map[string][]float64, []string, error) {
 	out := map[string][]float64{}
 	var order []string
@@ -245,6 +288,10 @@ func (o *fitOptions) run(cmd *cobra.Command, args []string) error {
 	if err != nil {
 		return err
 	}
+	at, err := o.atValues()
+	if err != nil {
+		return err
+	}
 	source := o.scenario
 	if o.scalesFile != "" {
 		source = o.scalesFile
@@ -275,7 +322,7 @@ func (o *fitOptions) run(cmd *cobra.Command, args []string) error {
 	opt := scenarios.FitOptions{
 		Method: o.method, OneStep: o.oneStep, KeepImprovements: o.keepImprovements,
 		Bootstrap: o.bootstrap, Seed: o.seed, YearsInState: judged, ScalesFrom: source,
-		By: o.by, MergeAlike: o.mergeAlike,
+		By: o.by, MergeAlike: o.mergeAlike, Covariates: o.covariates, Link: o.link, At: at,
 	}
 	var res *scenarios.FitResult
 	if len(args) == 0 {
@@ -324,7 +371,7 @@ func (o *fitOptions) fitFile(path string, sep rune, cols scenarios.InspectionCol
 	}
 	defer f.Close()
 	ins, err := scenarios.ReadInspections(f, path, scenarios.InspectionOptions{
-		Columns: cols, Separator: sep, ScaleFor: scaleFor, Only: o.classes, SkipBadRows: o.skipBadRows, By: o.by,
+		Columns: cols, Separator: sep, ScaleFor: scaleFor, Only: o.classes, SkipBadRows: o.skipBadRows, By: o.by, Covariates: o.covariates,
 	})
 	if err != nil {
 		return nil, err

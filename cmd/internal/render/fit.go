@@ -12,7 +12,7 @@ import (
 )
 
 // FitCSVTables names the tables of a fit that CSV can write.
-var FitCSVTables = []string{"matrix", "states", "fit", "condition", "data", "counts", "families", "homogeneity"}
+var FitCSVTables = []string{"matrix", "states", "fit", "condition", "data", "counts", "families", "homogeneity", "covariates", "at"}
 
 // FitJSON writes a fit result as JSON: the fit file's content.
 func FitJSON(w io.Writer, r *scenarios.FitResult) error {
@@ -186,6 +186,14 @@ func homogeneityText(c *scenarios.FitClass, h *scenarios.FitHomogeneity) string 
 	return s + ": " + h.Note
 }
 
+func coefficientNames(cv *scenarios.FitCovariates) []string {
+	var out []string
+	for _, c := range cv.Coefficients {
+		out = append(out, c.Covariate)
+	}
+	return out
+}
+
 // membersNote names the values a merged family covers.
 func membersNote(f *scenarios.FitClass, c *scenarios.FitClass) string {
 	if len(f.Members) < 2 {
@@ -205,6 +213,60 @@ func pSentence(p float64) string {
 		return "< 0.0001"
 	}
 	return "= " + strconv.FormatFloat(p, 'f', 4, 64)
+}
+
+// coefficientTable lists a covariate model's coefficients.
+func coefficientTable(cv *scenarios.FitCovariates) table {
+	t := table{header: []string{"COVARIATE", "MEAN", "SD", "COEFFICIENT", "STANDARD ERROR", "Z", "P"}, right: []bool{false, true, true, true, true, true, true}}
+	g := func(v float64) string { return strconv.FormatFloat(v, 'g', 4, 64) }
+	for _, c := range cv.Coefficients {
+		t.rows = append(t.rows, []string{c.Covariate, g(c.Mean), g(c.SD), g(c.Coefficient), g(c.StandardError), strconv.FormatFloat(c.Z, 'f', 2, 64), pvalue(c.PValue)})
+	}
+	return t
+}
+
+// atStayTable compares the staying probability (years in state) of the
+// covariate model's matrices.
+func atStayTable(c *scenarios.FitClass, cv *scenarios.FitCovariates) table {
+	t := table{header: []string{"STATE"}, right: []bool{false}}
+	for _, a := range cv.At {
+		t.header = append(t.header, a.Name)
+		t.right = append(t.right, true)
+	}
+	for i := 0; i+1 < len(c.States); i++ {
+		row := []string{c.States[i]}
+		for _, a := range cv.At {
+			cell := prob(a.Deterioration.Matrix[i][i])
+			if y := a.YearsInState[i]; y != nil {
+				cell += fmt.Sprintf(" (%s y)", years(*y))
+			}
+			row = append(row, cell)
+		}
+		t.rows = append(t.rows, row)
+	}
+	return t
+}
+
+func covariateSentence(cv *scenarios.FitCovariates) string {
+	link := "ordered logit"
+	if cv.Link == "probit" {
+		link = "ordered probit"
+	}
+	return fmt.Sprintf("%s model of the yearly drop in state (Madanat, Mishalani and Wan Ibrahim, 1995), %s pairs; a positive coefficient means faster wear as the covariate grows. Likelihood ratio against the matrix without covariates: %.2f on %d degrees of freedom, p %s: %s",
+		link, count(cv.Pairs), cv.LikelihoodRatio.Statistic, cv.LikelihoodRatio.DF, pSentence(*cv.LikelihoodRatio.PValue), cv.Note)
+}
+
+func atNote(cv *scenarios.FitCovariates) string {
+	var means []string
+	for _, v := range cv.At[0].Values {
+		if v.AtMean {
+			means = append(means, fmt.Sprintf("%s %s", v.Covariate, strconv.FormatFloat(v.Value, 'g', 6, 64)))
+		}
+	}
+	if len(means) == 0 {
+		return ""
+	}
+	return " (at the mean of the others: " + strings.Join(means, ", ") + ")"
 }
 
 // optimizerSentence says how the interval method's maximisation ended.
@@ -281,6 +343,12 @@ func FitText(w io.Writer, r *scenarios.FitResult) error {
 			return err
 		}
 		ew.printf("\nPaste into the scenario's class %s (or use deterioration: {fit: FILE} with --save FILE):\n%s", c.Class, block)
+		if cv := c.Covariates; cv != nil {
+			ew.printf("\n-- %s with covariates (%s) --\n\n%s\n", c.Class, strings.Join(coefficientNames(cv), ", "), wrap(covariateSentence(cv), 100))
+			tabulate(ew, coefficientTable(cv))
+			ew.printf("\nStaying probability (years in state) at chosen values%s; use one with deterioration: {fit: FILE, fit_class: %s, at: NAME}\n", atNote(cv), c.Class)
+			tabulate(ew, atStayTable(c, cv))
+		}
 		if len(c.Families) > 0 {
 			ew.printf("\n-- %s by family (%s) --\n", c.Class, strings.Join(c.By, ", "))
 			ew.printf("\nDo the families differ? %s\n", wrap(homogeneitySentence(c), 100))
@@ -372,6 +440,12 @@ func FitMarkdown(w io.Writer, r *scenarios.FitResult) error {
 			return err
 		}
 		ew.printf("\n### For the scenario\n\n```yaml\n%s```\n", block)
+		if cv := c.Covariates; cv != nil {
+			ew.printf("\n### With covariates (%s)\n\n%s.\n\n", strings.Join(coefficientNames(cv), ", "), covariateSentence(cv))
+			mdTable(ew, coefficientTable(cv))
+			ew.printf("\nStaying probability (years in state) at chosen values%s; use one with `deterioration: {fit: FILE, fit_class: %s, at: NAME}`.\n\n", atNote(cv), c.Class)
+			mdTable(ew, atStayTable(c, cv))
+		}
 		if len(c.Families) > 0 {
 			ew.printf("\n### By family (%s)\n\n%s.\n", strings.Join(c.By, ", "), homogeneitySentence(c))
 			for _, m := range c.Merges {
@@ -474,6 +548,36 @@ func FitCSV(w io.Writer, r *scenarios.FitResult, name string) error {
 				for i, row := range f.Deterioration.Matrix {
 					for j, v := range row {
 						rows = append(rows, []string{c.Class, f.Family, strings.Join(f.Members, "|"), c.States[i], c.States[j], Plain(v)})
+					}
+				}
+			}
+		}
+	case "covariates":
+		rows = append(rows, []string{"class", "family", "covariate", "mean", "standard_deviation", "coefficient", "standard_error", "z", "p_value", "likelihood_ratio", "degrees_of_freedom", "likelihood_ratio_p_value"})
+		for _, c := range r.Classes {
+			for _, g := range append([]scenarios.FitClass{c}, c.Families...) {
+				cv := g.Covariates
+				if cv == nil {
+					continue
+				}
+				for _, k := range cv.Coefficients {
+					rows = append(rows, []string{c.Class, g.Family, k.Covariate, Plain(k.Mean), Plain(k.SD), Plain(k.Coefficient), Plain(k.StandardError), Plain(k.Z), Plain(k.PValue),
+						Plain(cv.LikelihoodRatio.Statistic), fmt.Sprint(cv.LikelihoodRatio.DF), opt(cv.LikelihoodRatio.PValue)})
+				}
+			}
+		}
+	case "at":
+		rows = append(rows, []string{"class", "family", "at", "from_state", "to_state", "probability"})
+		for _, c := range r.Classes {
+			for _, g := range append([]scenarios.FitClass{c}, c.Families...) {
+				if g.Covariates == nil {
+					continue
+				}
+				for _, a := range g.Covariates.At {
+					for i, row := range a.Deterioration.Matrix {
+						for j, v := range row {
+							rows = append(rows, []string{c.Class, g.Family, a.Name, c.States[i], c.States[j], Plain(v)})
+						}
 					}
 				}
 			}
