@@ -4,6 +4,8 @@ import (
 	"errors"
 	"math"
 	"math/rand/v2"
+	"runtime"
+	"sync"
 	"testing"
 
 	"wearplan/markov"
@@ -61,16 +63,40 @@ func orderedPairs(r *rand.Rand, assets, years, every int) []markov.Pair {
 // handful of the 400 checks should miss; and within one standard error in
 // roughly 68% of them (55-80% allowed), so that the standard errors are
 // not inflated either.
+//
+// The seeds run on every core at once; each fit is deterministic.
 func TestOrderedRecoversCoefficients(t *testing.T) {
+	const seeds = 200
+	zs := make([][]float64, seeds)
+	errs := make([]error, seeds)
+	var wg sync.WaitGroup
+	next := make(chan uint64, seeds)
+	for seed := range uint64(seeds) {
+		next <- seed
+	}
+	close(next)
+	for range runtime.GOMAXPROCS(0) {
+		wg.Go(func() {
+			for seed := range next {
+				r := rand.New(rand.NewPCG(seed, 1995))
+				m, err := markov.OrderedMLE(orderedPairs(r, 400, 5, 1), 5, []string{"traffic", "age"}, markov.Logit, markov.Structure{})
+				if err != nil {
+					errs[seed] = err
+					continue
+				}
+				for c, want := range orderedBeta {
+					zs[seed] = append(zs[seed], math.Abs(m.Coef[c]-want)/m.CoefSE[c])
+				}
+			}
+		})
+	}
+	wg.Wait()
 	within3, within1, total := 0, 0, 0
-	for seed := range uint64(200) {
-		r := rand.New(rand.NewPCG(seed, 1995))
-		m, err := markov.OrderedMLE(orderedPairs(r, 400, 5, 1), 5, []string{"traffic", "age"}, markov.Logit, markov.Structure{})
-		if err != nil {
-			t.Fatalf("seed %d: %v", seed, err)
+	for seed := range seeds {
+		if errs[seed] != nil {
+			t.Fatalf("seed %d: %v", seed, errs[seed])
 		}
-		for c, want := range orderedBeta {
-			z := math.Abs(m.Coef[c]-want) / m.CoefSE[c]
+		for _, z := range zs[seed] {
 			total++
 			if z <= 3 {
 				within3++
