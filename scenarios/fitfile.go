@@ -20,7 +20,10 @@ const fitFileHeader = `wearplan fit result (format 1). Written by "wearplan fit"
 A scenario class uses a matrix from this file with
   deterioration: {fit: THIS-FILE.yaml}            # the class of the same name
   deterioration: {fit: THIS-FILE.yaml, fit_class: NAME}
-or paste a class's deterioration block into the scenario.`
+  deterioration: {fit: THIS-FILE.yaml, family: FAMILY}     # a class fitted by family
+  deterioration: {fit: THIS-FILE.yaml, at: "aadt=5000"}    # a covariate model's matrix
+or paste a class's deterioration block into the scenario. A class fitted by
+family that names none is split by the family column of its segment list.`
 
 // WriteFitFile writes a fit result as YAML: the fit file a scenario can
 // name. Lists of numbers are written on one line each (a matrix row per

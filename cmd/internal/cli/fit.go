@@ -75,7 +75,21 @@ Methods (--method):
 
 Pairs with work between them are left out; a pair that improves without
 recorded work is a probable data error and is left out unless
---keep-improvements. --one-step allows at most one state a year.
+--keep-improvements. --one-step allows at most one state a year. When work
+looks condition-driven enough to bias the staying probabilities, the report
+warns with the figures.
+
+Families: --by COLUMN (repeat for several columns) fits a matrix per family
+of assets (traffic band, surface, district...) besides the class's, and
+tests whether the families differ (likelihood ratio; with counting, also
+Anderson and Goodman's chi-square); --merge-alike merges families a test
+cannot tell apart at the 5% level.
+
+Covariates: --covariate COLUMN (repeat) also fits an ordered logit model of
+the yearly drop in state from numeric columns (--link probit for ordered
+probit), with standard errors and a likelihood-ratio test against the matrix
+alone; --at COLUMN=V1,V2,... gives its matrices at those values (others at
+their means), for a scenario to use with deterioration: {fit: FILE, at: NAME}.
 
 --save FILE writes the fit file (YAML) that a scenario class can use with
 deterioration: {fit: FILE}. Output is a statistical estimate for planning, to
@@ -90,6 +104,10 @@ be reviewed by qualified people before it drives decisions.`,
   # An export with its own column names, one scale for every class
   wearplan fit export.csv --scales scenarios/examples/marrowby.yaml --scale pci \
       --column asset=SEGMENT_ID --column inspected=SURVEY_DATE --column condition=PCI
+
+  # A matrix per traffic band, and a model of wear from traffic and age
+  wearplan fit export.csv --scenario roads.yaml --method interval --by traffic_band \
+      --covariate aadt --covariate age --at aadt=500,5000,20000 --save roads-fit.yaml
 
   # A matrix from judgement alone, with what it implies
   wearplan fit --scenario scenarios/examples/marrowby.yaml \

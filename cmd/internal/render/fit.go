@@ -363,6 +363,12 @@ func FitText(w io.Writer, r *scenarios.FitResult) error {
 				ew.printf("\nFamily %s%s: one-year transition matrix; use with deterioration: {fit: FILE, fit_class: %s, family: %s}\n",
 					f.Family, membersNote(f, c), c.Class, f.Family)
 				tabulate(ew, fitMatrixTable(f))
+				if cv := f.Covariates; cv != nil {
+					ew.printf("Family %s with covariates: %s\n", f.Family, wrap(covariateSentence(cv), 100))
+					tabulate(ew, coefficientTable(cv))
+					ew.printf("At chosen values%s; use one with deterioration: {fit: FILE, fit_class: %s, family: %s, at: NAME}\n", atNote(cv), c.Class, f.Family)
+					tabulate(ew, atStayTable(f, cv))
+				}
 				f.States = nil
 				for _, n := range f.Notes {
 					ew.printf("Note: %s\n", wrap(n, 100))
@@ -459,6 +465,12 @@ func FitMarkdown(w io.Writer, r *scenarios.FitResult) error {
 				ew.printf("\n#### Family %s\n\nUse with `deterioration: {fit: FILE, fit_class: %s, family: %s}`%s.\n\n",
 					f.Family, c.Class, f.Family, membersNote(f, c))
 				mdTable(ew, fitMatrixTable(f))
+				if cv := f.Covariates; cv != nil {
+					ew.printf("\nWith covariates: %s.\n\n", covariateSentence(cv))
+					mdTable(ew, coefficientTable(cv))
+					ew.printf("\nAt chosen values%s; use one with `deterioration: {fit: FILE, fit_class: %s, family: %s, at: NAME}`.\n\n", atNote(cv), c.Class, f.Family)
+					mdTable(ew, atStayTable(f, cv))
+				}
 				f.States = nil
 				for _, n := range f.Notes {
 					ew.printf("\n- %s\n", n)
