@@ -61,7 +61,10 @@ type FitThresholds struct {
 
 // FitAt is the model's matrix at one set of covariate values.
 type FitAt struct {
-	Name          string           `yaml:"name" json:"name"`
+	Name string `yaml:"name" json:"name"`
+	// Extrapolated says some chosen value lies outside the values of the
+	// pairs fitted.
+	Extrapolated  bool             `yaml:"extrapolated" json:"extrapolated"`
 	Values        []FitCovariateAt `yaml:"values" json:"values"`
 	Deterioration FitDeterioration `yaml:"deterioration" json:"deterioration"`
 	YearsInState  []*float64       `yaml:"years_in_state" json:"years_in_state"`
@@ -166,6 +169,13 @@ func covariateModel(pairs []markov.Pair, c *InspectionClass, who string, opt Fit
 		}
 		out.Thresholds = append(out.Thresholds, ft)
 	}
+	// Values outside those the pairs had are extrapolations.
+	lo, hi := slices.Clone(m.Mean), slices.Clone(m.Mean)
+	for _, pr := range pairs {
+		for k, v := range pr.X {
+			lo[k], hi[k] = math.Min(lo[k], v), math.Max(hi[k], v)
+		}
+	}
 	for _, pt := range atPoints(m, opt.At) {
 		t, err := m.Matrix(pt.x)
 		if err != nil {
@@ -174,6 +184,9 @@ func covariateModel(pairs []markov.Pair, c *InspectionClass, who string, opt Fit
 		}
 		t = t.Rounded(fitDecimals)
 		at := FitAt{Name: pt.name, Values: pt.values, Deterioration: FitDeterioration{Matrix: t.Rows()}}
+		for k, v := range pt.x {
+			at.Extrapolated = at.Extrapolated || v < lo[k] || v > hi[k]
+		}
 		for _, y := range t.YearsInState() {
 			if math.IsInf(y, 1) {
 				at.YearsInState = append(at.YearsInState, nil)
@@ -189,13 +202,6 @@ func covariateModel(pairs []markov.Pair, c *InspectionClass, who string, opt Fit
 		out.Note = "no evidence at the 5% level that the covariates explain the drops: the class's matrix may serve as well"
 	}
 	out.Note += "; each pair's drops are modelled from the covariates at its first inspection, held for its interval, and a covariate acts linearly on the latent wear (use a transformed column, such as the logarithm of traffic, for another shape)"
-	// Values outside those the pairs had are extrapolations.
-	lo, hi := slices.Clone(m.Mean), slices.Clone(m.Mean)
-	for _, pr := range pairs {
-		for k, v := range pr.X {
-			lo[k], hi[k] = math.Min(lo[k], v), math.Max(hi[k], v)
-		}
-	}
 	for _, a := range opt.At {
 		k := slices.Index(m.Names, a.Covariate)
 		for _, v := range a.Values {

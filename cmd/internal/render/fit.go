@@ -230,7 +230,11 @@ func coefficientTable(cv *scenarios.FitCovariates) table {
 func atStayTable(c *scenarios.FitClass, cv *scenarios.FitCovariates) table {
 	t := table{header: []string{"STATE"}, right: []bool{false}}
 	for _, a := range cv.At {
-		t.header = append(t.header, a.Name)
+		name := a.Name
+		if a.Extrapolated {
+			name += " *"
+		}
+		t.header = append(t.header, name)
 		t.right = append(t.right, true)
 	}
 	for i := 0; i+1 < len(c.States); i++ {
@@ -254,6 +258,22 @@ func covariateSentence(cv *scenarios.FitCovariates) string {
 	}
 	return fmt.Sprintf("%s model of the yearly drop in state (Madanat, Mishalani and Wan Ibrahim, 1995), %s pairs; a positive coefficient means faster wear as the covariate grows. Likelihood ratio against the matrix without covariates: %.2f on %d degrees of freedom, p %s: %s",
 		link, count(cv.Pairs), cv.LikelihoodRatio.Statistic, cv.LikelihoodRatio.DF, pSentence(*cv.LikelihoodRatio.PValue), cv.Note)
+}
+
+// extrapolationNote explains the asterisk of extrapolated columns.
+func extrapolationNote(cv *scenarios.FitCovariates) string {
+	for _, a := range cv.At {
+		if a.Extrapolated {
+			return "* a chosen value lies outside the values of the pairs fitted: the matrix there is an extrapolation, not an estimate\n"
+		}
+	}
+	return ""
+}
+
+// covariateShort is the covariate sentence for a family.
+func covariateShort(cv *scenarios.FitCovariates) string {
+	return fmt.Sprintf("%s pairs; likelihood ratio against its matrix without covariates %.2f on %d degrees of freedom, p %s",
+		count(cv.Pairs), cv.LikelihoodRatio.Statistic, cv.LikelihoodRatio.DF, pSentence(*cv.LikelihoodRatio.PValue))
 }
 
 func atNote(cv *scenarios.FitCovariates) string {
@@ -323,6 +343,9 @@ func FitText(w io.Writer, r *scenarios.FitResult) error {
 		tabulate(ew, fitMatrixTable(c))
 		ew.printf("\nPer state: %s\n", bootstrapSentence(r, c))
 		tabulate(ew, fitStateTable(c))
+		if c.Selection != nil && c.Selection.Warning != "" {
+			ew.printf("%s\n", wrap("Caution: pairs left out for work may make these staying probabilities too high; see the warning at the end, with the figures.", 100))
+		}
 		if c.GoodnessOfFit != nil {
 			ew.printf("\nGoodness of fit: %s\n", wrap(gofSentence(c.GoodnessOfFit), 100))
 		}
@@ -346,12 +369,13 @@ func FitText(w io.Writer, r *scenarios.FitResult) error {
 		if cv := c.Covariates; cv != nil {
 			ew.printf("\n-- %s with covariates (%s) --\n\n%s\n", c.Class, strings.Join(coefficientNames(cv), ", "), wrap(covariateSentence(cv), 100))
 			tabulate(ew, coefficientTable(cv))
-			ew.printf("\nStaying probability (years in state) at chosen values%s; use one with deterioration: {fit: FILE, fit_class: %s, at: NAME}\n", atNote(cv), c.Class)
+			ew.printf("\n%s\n", wrap(fmt.Sprintf("Staying probability (years in state) at chosen values%s; use one with deterioration: {fit: FILE, fit_class: %s, at: NAME}", atNote(cv), c.Class), 100))
 			tabulate(ew, atStayTable(c, cv))
+			ew.printf("%s", extrapolationNote(cv))
 		}
 		if len(c.Families) > 0 {
 			ew.printf("\n-- %s by family (%s) --\n", c.Class, strings.Join(c.By, ", "))
-			ew.printf("\nDo the families differ? %s\n", wrap(homogeneitySentence(c), 100))
+			ew.printf("\n%s\n", wrap("Do the families differ? "+homogeneitySentence(c), 100))
 			for _, m := range c.Merges {
 				ew.printf("%s\n", wrap("Merged "+mergeSentence(m), 100))
 			}
@@ -360,14 +384,15 @@ func FitText(w io.Writer, r *scenarios.FitResult) error {
 			for k := range c.Families {
 				f := &c.Families[k]
 				f.States = c.States
-				ew.printf("\nFamily %s%s: one-year transition matrix; use with deterioration: {fit: FILE, fit_class: %s, family: %s}\n",
-					f.Family, membersNote(f, c), c.Class, f.Family)
+				ew.printf("\n%s\n", wrap(fmt.Sprintf("Family %s%s: one-year transition matrix; use with deterioration: {fit: FILE, fit_class: %s, family: %s}",
+					f.Family, membersNote(f, c), c.Class, f.Family), 100))
 				tabulate(ew, fitMatrixTable(f))
 				if cv := f.Covariates; cv != nil {
-					ew.printf("Family %s with covariates: %s\n", f.Family, wrap(covariateSentence(cv), 100))
+					ew.printf("%s\n", wrap(fmt.Sprintf("Family %s with covariates: %s", f.Family, covariateShort(cv)), 100))
 					tabulate(ew, coefficientTable(cv))
-					ew.printf("At chosen values%s; use one with deterioration: {fit: FILE, fit_class: %s, family: %s, at: NAME}\n", atNote(cv), c.Class, f.Family)
+					ew.printf("%s\n", wrap(fmt.Sprintf("At chosen values%s; use one with deterioration: {fit: FILE, fit_class: %s, family: %s, at: NAME}", atNote(cv), c.Class, f.Family), 100))
 					tabulate(ew, atStayTable(f, cv))
+					ew.printf("%s", extrapolationNote(cv))
 				}
 				f.States = nil
 				for _, n := range f.Notes {
@@ -451,6 +476,9 @@ func FitMarkdown(w io.Writer, r *scenarios.FitResult) error {
 			mdTable(ew, coefficientTable(cv))
 			ew.printf("\nStaying probability (years in state) at chosen values%s; use one with `deterioration: {fit: FILE, fit_class: %s, at: NAME}`.\n\n", atNote(cv), c.Class)
 			mdTable(ew, atStayTable(c, cv))
+			if n := extrapolationNote(cv); n != "" {
+				ew.printf("\n%s", n)
+			}
 		}
 		if len(c.Families) > 0 {
 			ew.printf("\n### By family (%s)\n\n%s.\n", strings.Join(c.By, ", "), homogeneitySentence(c))
@@ -466,10 +494,13 @@ func FitMarkdown(w io.Writer, r *scenarios.FitResult) error {
 					f.Family, c.Class, f.Family, membersNote(f, c))
 				mdTable(ew, fitMatrixTable(f))
 				if cv := f.Covariates; cv != nil {
-					ew.printf("\nWith covariates: %s.\n\n", covariateSentence(cv))
+					ew.printf("\nWith covariates: %s.\n\n", covariateShort(cv))
 					mdTable(ew, coefficientTable(cv))
 					ew.printf("\nAt chosen values%s; use one with `deterioration: {fit: FILE, fit_class: %s, family: %s, at: NAME}`.\n\n", atNote(cv), c.Class, f.Family)
 					mdTable(ew, atStayTable(f, cv))
+					if n := extrapolationNote(cv); n != "" {
+						ew.printf("\n%s", n)
+					}
 				}
 				f.States = nil
 				for _, n := range f.Notes {
