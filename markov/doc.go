@@ -60,7 +60,7 @@
 // checks the Karush-Kuhn-Tucker conditions of the maximum over each row's
 // simplex after every run, gives room to any entry the likelihood would
 // gain from, and stops when they hold and the log-likelihood's relative
-// change is below 1e-12. An upper-triangular matrix
+// change over an iteration is below 1e-12. An upper-triangular matrix
 // with a positive diagonal is determined by P^2 (solve the diagonal, then
 // one diagonal above it at a time), so assets inspected every second year
 // identify the yearly matrix.

@@ -27,7 +27,7 @@ type IntervalFit struct {
 	// followed by another from a point where that move has room.
 	Rounds int
 	// RelativeChange is the relative change of the log-likelihood over the
-	// last round.
+	// last iteration of the last round.
 	RelativeChange float64
 	// The Karush-Kuhn-Tucker conditions of the maximum over each row's
 	// simplex, with g_ij = ∂(L/N)/∂p_ij (N pairs) and λ_i = Σ_j p_ij g_ij:
@@ -54,8 +54,9 @@ const (
 	// 1e-4 in the log-likelihood, far below what separates two matrices a
 	// planner could tell apart.
 	KKTTolerance = 1e-7
-	// RelativeTolerance is the relative change of the log-likelihood
-	// between two rounds below which a round is the last.
+	// RelativeTolerance is the relative change of the log-likelihood over
+	// a round's last iteration below which (with the KKT conditions) the
+	// round is the last.
 	RelativeTolerance = 1e-12
 	// StartTolerance is how close to the best log-likelihood another
 	// start must end to count as reaching the same maximum.
@@ -123,9 +124,12 @@ func IntervalMLE(c *Counts, s Structure, start *Transition) (*Transition, Interv
 	ev := newIntervalEval(c, m)
 	var starts []*mat.Dense
 	if start != nil {
-		starts = append(starts, interior(start.p, s))
+		// A start near the maximum (a bootstrap replicate's, from the
+		// estimate) moves little: floored lightly, since the KKT check
+		// gives room to any entry that would gain.
+		starts = append(starts, interior(start.p, s, 1e-4))
 	} else {
-		starts = append(starts, nearestStart(c, s), interior(guessStart(c, s).p, s), evenStart(n, s))
+		starts = append(starts, nearestStart(c, s), interior(guessStart(c, s).p, s, 0.01), evenStart(n, s))
 	}
 	var best *intervalRun
 	var info IntervalFit
@@ -173,21 +177,23 @@ type kktResidual struct{ dual, comp float64 }
 func (k kktResidual) ok() bool { return k.dual <= KKTTolerance && k.comp <= KKTTolerance }
 
 // maximise runs BFGS from p0 until the KKT conditions hold and the
-// log-likelihood has settled, giving room to entries the likelihood would
-// gain from between runs.
+// log-likelihood has settled (its relative change over the last major
+// iteration at most RelativeTolerance), giving room to entries the
+// likelihood would gain from between runs.
 func (ev *intervalEval) maximise(p0 *mat.Dense) (*intervalRun, error) {
 	prob := optimize.Problem{Func: ev.f, Grad: ev.grad}
+	last := &lastIteration{}
 	settings := &optimize.Settings{
 		// The objective is a mean log-likelihood per pair: its gradient is
 		// of order 1 away from the optimum. The KKT check below, not this
 		// threshold, decides whether a point is accepted.
 		GradientThreshold: 1e-11,
-		Converger:         &optimize.FunctionConverge{Absolute: 1e-15, Relative: 1e-14, Iterations: 40},
+		Converger:         &optimize.FunctionConverge{Absolute: 1e-15, Relative: 1e-14, Iterations: 8},
 		MajorIterations:   5000,
+		Recorder:          last,
 	}
 	run := &intervalRun{}
 	x := ev.m.params(p0)
-	prev := math.Inf(-1)
 	for round := 1; round <= maxRounds; round++ {
 		res, err := optimize.Minimize(prob, x, settings, &optimize.BFGS{})
 		if err != nil && res == nil {
@@ -199,8 +205,7 @@ func (ev *intervalEval) maximise(p0 *mat.Dense) (*intervalRun, error) {
 		x = res.X
 		run.p = ev.m.matrix(x)
 		run.ll = logLikelihood(ev.c, run.p)
-		run.relChange = math.Abs(run.ll-prev) / math.Max(math.Abs(run.ll), 1)
-		prev = run.ll
+		run.relChange = last.relativeChange()
 		var gain *mat.Dense
 		run.kkt, gain = ev.kkt(x)
 		if run.kkt.ok() && run.relChange <= RelativeTolerance {
@@ -230,6 +235,35 @@ func (ev *intervalEval) maximise(p0 *mat.Dense) (*intervalRun, error) {
 		}
 	}
 	return run, nil
+}
+
+// lastIteration records the objective at the last two major iterations
+// of a run (an optimize.Recorder).
+type lastIteration struct {
+	prev, last float64
+	n          int
+}
+
+func (r *lastIteration) Init() error {
+	r.n = 0
+	return nil
+}
+
+func (r *lastIteration) Record(loc *optimize.Location, op optimize.Operation, _ *optimize.Stats) error {
+	if op&optimize.MajorIteration != 0 || op == optimize.InitIteration {
+		r.prev, r.last = r.last, loc.F
+		r.n++
+	}
+	return nil
+}
+
+// relativeChange is the objective's relative change over the last major
+// iteration (1 when there was none).
+func (r *lastIteration) relativeChange() float64 {
+	if r.n < 2 {
+		return 1
+	}
+	return math.Abs(r.last-r.prev) / math.Max(math.Abs(r.last), 1e-300)
 }
 
 func normaliseRow(p *mat.Dense, i int) {
@@ -270,10 +304,10 @@ func (ev *intervalEval) kkt(x []float64) (kktResidual, *mat.Dense) {
 	return r, gain
 }
 
-// interior returns p with every allowed move at least 1% of its row's
-// moves away from the diagonal (and 1e-4), so that a start is well inside
-// the simplex.
-func interior(p *mat.Dense, s Structure) *mat.Dense {
+// interior returns p with every allowed move at least share of its row's
+// moves away from the diagonal (and 1e-6), so that a start is inside the
+// simplex.
+func interior(p *mat.Dense, s Structure, share float64) *mat.Dense {
 	n, _ := p.Dims()
 	out := mat.DenseCopyOf(p)
 	for i := 0; i < n; i++ {
@@ -284,15 +318,15 @@ func interior(p *mat.Dense, s Structure) *mat.Dense {
 		changed := false
 		for j := 0; j < n; j++ {
 			if j != i && s.Allowed(i, j, n) {
-				floor := math.Max(0.01*off, 1e-4)
+				floor := math.Max(share*off, 1e-6)
 				if out.At(i, j) < floor {
 					out.Set(i, j, floor)
 					changed = true
 				}
 			}
 		}
-		if out.At(i, i) < 1e-4 {
-			out.Set(i, i, 1e-4)
+		if out.At(i, i) < 1e-6 {
+			out.Set(i, i, 1e-6)
 			changed = true
 		}
 		if changed {
@@ -364,7 +398,7 @@ func nearestStart(c *Counts, s Structure) *mat.Dense {
 			p.Set(i, i, 1)
 		}
 	}
-	return interior(p, s)
+	return interior(p, s, 0.01)
 }
 
 func sign(v int) int {

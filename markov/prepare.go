@@ -104,8 +104,14 @@ func Prepare(histories [][]Inspection, states int, s Structure) (*Sample, []Read
 	var prep Preparation
 	prep.ImprovedKept = s.Improvement
 	prep.Selection = newWorkSelection(states)
-	sample := NewSample(states)
-	var readings []Reading
+	// Sized once: a million pairs grown by appending spend more time
+	// copying than preparing.
+	total := 0
+	for _, h := range histories {
+		total += len(h)
+	}
+	sample := &Sample{states: states, pairs: make([]Pair, 0, total), starts: make([]int, 1, len(histories)+1)}
+	readings := make([]Reading, 0, total)
 	byYears := map[int]int{}
 	unit := make([]Pair, 0, 16)
 	for a, h := range histories {

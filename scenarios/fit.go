@@ -305,7 +305,8 @@ type FitCondition struct {
 
 // FitOptimizer reports the interval method's numerical maximisation: its
 // stopping rules (the Karush-Kuhn-Tucker conditions of the maximum over
-// each row, and the log-likelihood's relative change over the last round)
+// each row, and the log-likelihood's relative change over the last
+// iteration)
 // and how many starts reached the best value.
 type FitOptimizer struct {
 	LogLikelihood float64 `yaml:"log_likelihood" json:"log_likelihood"`
@@ -315,7 +316,7 @@ type FitOptimizer struct {
 	StartsAtBest  int     `yaml:"starts_at_best" json:"starts_at_best"`
 	Rounds        int     `yaml:"rounds" json:"rounds"`
 	// RelativeChange is the log-likelihood's relative change over the
-	// last round.
+	// last iteration.
 	RelativeChange float64 `yaml:"relative_change" json:"relative_change"`
 	// KKT holds the conditions' residuals and the tolerance they meet.
 	KKT FitKKT `yaml:"kkt" json:"kkt"`
