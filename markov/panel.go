@@ -91,7 +91,7 @@ const (
 // IntervalFit); an entry the likelihood would gain from is given room (a
 // share of its row) and the optimizer runs again. A start ends when the
 // conditions hold and the log-likelihood changed by less than
-// RelativeTolerance over the last round.
+// RelativeTolerance over the last iteration.
 //
 // start, when not nil, is the only starting matrix (a bootstrap replicate
 // starts from the estimate). Pairs in cells the structure makes impossible

@@ -306,8 +306,7 @@ type FitCondition struct {
 // FitOptimizer reports the interval method's numerical maximisation: its
 // stopping rules (the Karush-Kuhn-Tucker conditions of the maximum over
 // each row, and the log-likelihood's relative change over the last
-// iteration)
-// and how many starts reached the best value.
+// iteration) and how many starts reached the best value.
 type FitOptimizer struct {
 	LogLikelihood float64 `yaml:"log_likelihood" json:"log_likelihood"`
 	Iterations    int     `yaml:"iterations" json:"iterations"`
