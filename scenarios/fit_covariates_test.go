@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"runtime"
 	"slices"
 	"strings"
 	"testing"
@@ -133,5 +134,39 @@ func TestFitCovariateErrors(t *testing.T) {
 		if err == nil || !strings.Contains(err.Error(), c.want) {
 			t.Errorf("%v: %v", c.cov, err)
 		}
+	}
+}
+
+// The covariate model sums its pairs in a fixed layout of chunks (20,000
+// pairs here: two chunks of 16,384 at most), so the fit file is the same
+// byte for byte whatever the number of processors.
+func TestFitCovariatesSameBytes(t *testing.T) {
+	opt := scenarios.FitOptions{Method: scenarios.MethodCounting, Covariates: []string{"traffic", "age"}, By: []string{"band"}}
+	text := strings.Replace(covariateExport(4, 4000), "traffic,age\n", "traffic,age,band\n", 1)
+	var b strings.Builder
+	for k, line := range strings.Split(strings.TrimSpace(text), "\n") {
+		if k > 0 {
+			line += []string{",north", ",south"}[len(line)%2]
+		}
+		b.WriteString(line + "\n")
+	}
+	fit := func(procs int) []byte {
+		defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(procs))
+		ins, err := readCSV(t, b.String(), scenarios.InspectionOptions{Covariates: opt.Covariates, By: opt.By})
+		if err != nil {
+			t.Fatal(err)
+		}
+		res, err := scenarios.Fit(ins, opt)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var out bytes.Buffer
+		if err := scenarios.WriteFitFile(&out, res); err != nil {
+			t.Fatal(err)
+		}
+		return out.Bytes()
+	}
+	if !bytes.Equal(fit(1), fit(4)) {
+		t.Error("the fit file differs between 1 and 4 processors")
 	}
 }
