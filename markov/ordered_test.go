@@ -216,3 +216,29 @@ func TestOrderedGradient(t *testing.T) {
 		}
 	}
 }
+
+// The closed-form Hessian (one-year pairs) against central differences of
+// the exact gradient, both links: agreement within 1e-5 of the largest
+// entry (central differences err by O(h²) plus rounding).
+func TestOrderedHessian(t *testing.T) {
+	for _, link := range []markov.Link{markov.Logit, markov.Probit} {
+		r := rand.New(rand.NewPCG(4, 4))
+		exact, numeric, err := markov.OrderedHessianCheck(orderedPairs(r, 300, 5, 1), 5, []string{"traffic", "age"}, link, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		scale := 0.0
+		for _, row := range numeric {
+			for _, v := range row {
+				scale = math.Max(scale, math.Abs(v))
+			}
+		}
+		for a := range exact {
+			for b := range exact[a] {
+				if math.Abs(exact[a][b]-numeric[a][b]) > 1e-5*scale {
+					t.Errorf("%s: H[%d][%d] = %.8g, finite differences %.8g", link, a, b, exact[a][b], numeric[a][b])
+				}
+			}
+		}
+	}
+}
