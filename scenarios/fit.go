@@ -559,6 +559,9 @@ func fitClass(c *InspectionClass, who string, opt FitOptions, is *issues) (*FitC
 				names[k] = strconv.Quote(c.Scale.States[r].Name)
 			}
 			hint := "use --method interval (pairs of any interval), gather more inspections, or set the matrix by judgement"
+			if who != c.Name {
+				hint = "this family is too small for a matrix of its own: group the assets by another column, put this value with another family in the export, or fit the class without families"
+			}
 			fitIssue(is, firstInspectionLine(c), who, "no usable pair starts in state %s, so its row cannot be estimated; %s", strings.Join(names, ", "), hint)
 			return nil, nil, false
 		}
@@ -708,8 +711,8 @@ func selectionReport(name string, scale *Scale, w *markov.WorkSelection, p *mark
 		if !st.Flagged {
 			continue
 		}
-		states = append(states, fmt.Sprintf("%s: %d of %d pairs (%.0f%%) had work, %.1f years apart on average (pairs kept %.1f); stay %.3f, %.3f if every one of them had left the state",
-			scale.States[st.State].Name, st.Work, st.Kept+st.Work, 100*st.WorkShare, st.WorkYears, st.KeptYears, st.Stay, st.StayIfLeft))
+		states = append(states, fmt.Sprintf("%s: %s of %s pairs (%.0f%%) had work, %.1f years apart on average (pairs kept %.1f); stay %.3f, %.3f if every one of them had left the state",
+			scale.States[st.State].Name, groupDigits(st.Work), groupDigits(st.Kept+st.Work), 100*st.WorkShare, st.WorkYears, st.KeptYears, st.Stay, st.StayIfLeft))
 	}
 	drivenBy := fmt.Sprintf("the share of pairs with work differs between starting states (chi-square %.1f on %d degrees of freedom, p %s)", d.ByState.Statistic, d.ByState.DF, pText(d.ByState.PValue))
 	if d.ByYears.Groups > 0 && d.ByYears.Z > 0 && d.ByYears.PValue < markov.SelectionLevel {
@@ -723,6 +726,15 @@ func selectionReport(name string, scale *Scale, w *markov.WorkSelection, p *mark
 		"the pairs left out are mostly assets that dropped, and the staying probabilities are too HIGH (deterioration too slow, years in state too long), by up to: %s. Check how work was chosen.",
 		name, drivenBy, strings.Join(states, "; "))
 	return out
+}
+
+// groupDigits writes a count with commas between thousands: 12,345.
+func groupDigits(n int) string {
+	s := strconv.Itoa(n)
+	for i := len(s) - 3; i > 0 && s[i-1] != '-'; i -= 3 {
+		s = s[:i] + "," + s[i:]
+	}
+	return s
 }
 
 // pText writes a p-value for a sentence: "= 0.023" or "< 0.0001".

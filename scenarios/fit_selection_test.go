@@ -52,7 +52,7 @@ func TestFitWarnsOfConditionDrivenWork(t *testing.T) {
 		t.Fatalf("no warning of condition-driven work: %+v", c.Selection)
 	}
 	for _, st := range c.Selection.States {
-		if st.Flagged && !strings.Contains(c.Selection.Warning, fmt.Sprintf("%s: %d of %d pairs", st.State, st.Work, st.Kept+st.Work)) {
+		if st.Flagged && !strings.Contains(c.Selection.Warning, fmt.Sprintf("%s: %s of %s pairs", st.State, thousands(st.Work), thousands(st.Kept+st.Work))) {
 			t.Errorf("the warning does not give the figures of %s: %s", st.State, c.Selection.Warning)
 		}
 	}
@@ -71,4 +71,16 @@ func draw(r *rand.Rand, row []float64) int {
 		u -= p
 	}
 	return len(row) - 1
+}
+
+// thousands writes n with commas between thousands (independently of
+// the package's own helper).
+func thousands(n int) string {
+	s := fmt.Sprint(n)
+	out := ""
+	for len(s) > 3 {
+		out = "," + s[len(s)-3:] + out
+		s = s[:len(s)-3]
+	}
+	return s + out
 }
