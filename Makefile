@@ -20,7 +20,7 @@ $(SUDO) env DEBIAN_FRONTEND=noninteractive apt-get install -y -q --no-install-re
   { $(SUDO) apt-get update -q >/dev/null && $(SUDO) env DEBIAN_FRONTEND=noninteractive apt-get install -y -q --no-install-recommends $(1); }
 endef
 
-.PHONY: demo serve test build deps deps-test deps-bench bench bench-go fuzz clean
+.PHONY: demo serve test build deps deps-test deps-bench bench bench-go bench-fit fuzz clean
 
 deps:
 	@dpkg -s liblpsolve55-dev >/dev/null 2>&1 || { echo "installing liblpsolve55-dev"; $(call apt_install,liblpsolve55-dev); }
@@ -77,6 +77,15 @@ bench: deps-bench
 # Go micro-benchmarks (model build, flat and decomposed solves).
 bench-go: deps-test
 	go test -run '^$$' -bench . -benchmem ./...
+
+# wearplan fit on a generated export of 1,000,000 inspection rows with two
+# covariates (the ordered logit model of the yearly drop besides the
+# matrix), without and with the default 1,000 bootstrap resamples; each in
+# its own process so that its peak memory is its own. Target: under 30 s
+# and 1 GiB on 2 cores (docs/benchmarks.md).
+bench-fit: deps-test
+	go test -run '^$$' -bench 'BenchmarkFit/counting/1000000/bootstrap=0/covariates' -benchtime 3x ./scenarios/
+	go test -run '^$$' -bench 'BenchmarkFit/counting/1000000/bootstrap=1000/covariates' -benchtime 3x ./scenarios/
 
 clean:
 	rm -rf bin

@@ -41,7 +41,7 @@ func (s *Sample) Pairs() []Pair { return s.pairs }
 // Filter returns the sample with only the pairs keep accepts; assets left
 // without pairs drop out.
 func (s *Sample) Filter(keep func(Pair) bool) *Sample {
-	out := NewSample(s.states)
+	out := &Sample{states: s.states, pairs: make([]Pair, 0, len(s.pairs)), starts: make([]int, 1, len(s.starts))}
 	for u := 0; u < s.Units(); u++ {
 		var unit []Pair
 		for _, p := range s.pairs[s.starts[u]:s.starts[u+1]] {

@@ -58,7 +58,13 @@
 // stays one year). Rows are softmax functions of free parameters over the
 // moves the Structure allows (any worse state, or one state a year), so
 // every candidate is a stochastic matrix; gonum's BFGS uses the exact
-// gradient, from d(P^g) = Σ_k P^k (dP) P^(g-1-k). An upper-triangular matrix
+// gradient, from d(P^g) = Σ_k P^k (dP) P^(g-1-k). A softmax entry near zero
+// barely moves, so the search starts from three interior matrices (the
+// counting estimate of each state's nearest-interval pairs among them),
+// checks the Karush-Kuhn-Tucker conditions of the maximum over each row's
+// simplex after every run, gives room to any entry the likelihood would
+// gain from, and stops when they hold and the log-likelihood's relative
+// change over an iteration is below 1e-12. An upper-triangular matrix
 // with a positive diagonal is determined by P^2 (solve the diagonal, then
 // one diagonal above it at a time), so assets inspected every second year
 // identify the yearly matrix.

@@ -219,3 +219,24 @@ func ExampleIntervalMLE() {
 	// [0.0000 0.8000 0.2000]
 	// [0.0000 0.0000 1.0000]
 }
+
+// Two families of a Fair/Poor chain (invented counts): do they share one
+// matrix? Both tests say no at the 1% level.
+func ExampleTestHomogeneity() {
+	light, heavy := markov.NewCounts(2), markov.NewCounts(2)
+	light.Add(1, 0, 0, 80) // 80 of 100 light-traffic segments stayed Fair
+	light.Add(1, 0, 1, 20)
+	heavy.Add(1, 0, 0, 60) // 60 of 100 heavy-traffic ones
+	heavy.Add(1, 0, 1, 40)
+	var lls []float64
+	for _, c := range []*markov.Counts{light, heavy} {
+		p, _ := markov.CountingMLE(c, markov.Structure{})
+		lls = append(lls, markov.LogLikelihood(c, p))
+	}
+	all := markov.Pooled(light, heavy)
+	pooled, _ := markov.CountingMLE(all, markov.Structure{})
+	h := markov.TestHomogeneity([]*markov.Counts{light, heavy}, lls, pooled, markov.LogLikelihood(all, pooled), markov.Structure{}, true)
+	fmt.Printf("likelihood ratio %.2f, Anderson-Goodman %.2f, %d degree of freedom, p %.4f and %.4f\n", h.LR, h.Pearson, h.DF, h.LRPValue, h.PearsonPValue)
+	// Output:
+	// likelihood ratio 9.66, Anderson-Goodman 9.52, 1 degree of freedom, p 0.0019 and 0.0020
+}

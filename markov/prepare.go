@@ -16,6 +16,14 @@ type Inspection struct {
 	Work bool
 	// Ref is the caller's reference for messages, such as a line number.
 	Ref int
+	// Stratum is the caller's label for the inspection, such as the index
+	// of a family of assets; Prepare passes it on to the pair that starts
+	// here.
+	Stratum int
+	// X holds the covariates of the asset at this inspection (traffic,
+	// age...), passed on to the pair that starts here; nil when there are
+	// none. OrderedMLE models the pair's change from them.
+	X []float64
 }
 
 // Pair is two consecutive inspections of one asset kept for estimation.
@@ -26,6 +34,9 @@ type Pair struct {
 	// Group is the calendar year of the first inspection; goodness of fit
 	// compares observed and expected counts group by group.
 	Group int
+	// Stratum and X are the first inspection's.
+	Stratum int
+	X       []float64
 }
 
 // Reading is one inspection of an asset before any recorded work, seen
@@ -74,6 +85,9 @@ type Preparation struct {
 	ByYears []YearsCount
 	// Examples of excluded pairs, at most a few of each kind.
 	ImprovedExamples, ImpossibleExamples, TooCloseExamples []RefPair
+	// Selection compares the pairs left out for work (one to
+	// MaxIntervalYears apart) with the pairs kept, by starting state.
+	Selection *WorkSelection
 }
 
 // YearsCount is the number of pairs used with a given interval.
@@ -89,8 +103,15 @@ type YearsCount struct {
 func Prepare(histories [][]Inspection, states int, s Structure) (*Sample, []Reading, Preparation, error) {
 	var prep Preparation
 	prep.ImprovedKept = s.Improvement
-	sample := NewSample(states)
-	var readings []Reading
+	prep.Selection = newWorkSelection(states)
+	// Sized once: a million pairs grown by appending spend more time
+	// copying than preparing.
+	total := 0
+	for _, h := range histories {
+		total += len(h)
+	}
+	sample := &Sample{states: states, pairs: make([]Pair, 0, total), starts: make([]int, 1, len(histories)+1)}
+	readings := make([]Reading, 0, total)
 	byYears := map[int]int{}
 	unit := make([]Pair, 0, 16)
 	for a, h := range histories {
@@ -128,6 +149,9 @@ func Prepare(histories [][]Inspection, states int, s Structure) (*Sample, []Read
 			switch {
 			case cur.Work:
 				prep.WithWork++
+				if years >= 1 && years <= MaxIntervalYears {
+					prep.Selection.addWork(prev.State, cur.State, years)
+				}
 				continue
 			case years < 1:
 				prep.TooClose++
@@ -149,9 +173,10 @@ func Prepare(histories [][]Inspection, states int, s Structure) (*Sample, []Read
 				prep.ImpossibleExamples = example(prep.ImpossibleExamples, refs)
 				continue
 			}
-			unit = append(unit, Pair{From: prev.State, To: cur.State, Years: years, Group: int(math.Floor(prev.Time))})
+			unit = append(unit, Pair{From: prev.State, To: cur.State, Years: years, Group: int(math.Floor(prev.Time)), Stratum: prev.Stratum, X: prev.X})
 			byYears[years]++
 			prep.Used++
+			prep.Selection.addKept(prev.State, years)
 		}
 		sample.AddUnit(unit...)
 	}

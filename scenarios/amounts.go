@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"strconv"
+	"strings"
 )
 
 // maxAmount bounds every amount the plan derives from the file: a class's
@@ -27,12 +28,28 @@ func checkAmounts(sc *Scenario, f *fileScenario, catalogue map[string]*catalogue
 		growth = math.Max(1, math.Pow(1+sc.Escalation, float64(sc.Horizon-1)))
 	}
 	network, weights, classBad := 0.0, 0.0, false
+	// A class split by family (families.go) is several classes of the
+	// scenario written as one in the file.
+	written := map[string]int{}
+	for k := range f.Classes {
+		if name := strings.TrimSpace(f.Classes[k].Name); name != "" {
+			if _, dup := written[name]; !dup {
+				written[name] = k
+			}
+		}
+	}
 	for k := range sc.Classes {
-		c, fc := &sc.Classes[k], &f.Classes[k]
-		if c.Scale == nil || k >= len(f.Classes) {
+		c := &sc.Classes[k]
+		name := c.Name
+		if c.Parent != "" {
+			name = c.Parent
+		}
+		j, ok := written[name]
+		if c.Scale == nil || !ok {
 			continue
 		}
-		field := fmt.Sprintf("classes[%d] (%s)", k, c.Name)
+		fc := &f.Classes[j]
+		field := fmt.Sprintf("classes[%d] (%s)", j, c.Name)
 		total := c.Total()
 		if bad(total) {
 			line, key := fc.Lines.of("inventory"), ".inventory"
@@ -52,7 +69,7 @@ func checkAmounts(sc *Scenario, f *fileScenario, catalogue map[string]*catalogue
 		}
 		network += value
 		if fc.Weight != nil {
-			weights += *fc.Weight
+			weights += c.Weight // a family's share of the weight written
 		}
 		for _, t := range c.Treatments {
 			for _, i := range t.Applies {

@@ -45,9 +45,10 @@ func build(f *fileScenario, is *issues) *Scenario {
 	sc.DiscountRate = rate(is, f.DiscountRate, f.Lines.of("discount_rate"), "discount_rate")
 	sc.Escalation = rate(is, f.CostEscalation, f.Lines.of("cost_escalation"), "cost_escalation")
 
-	scales := buildScales(f, is)
+	scales, classScale := classScales(f, is)
 	catalogue := indexTreatments(f, is)
-	buildClasses(sc, f, scales, catalogue, is)
+	buildClasses(sc, f, scales, classScale, catalogue, is)
+	splitFamilies(sc, f, is)
 	buildBudget(sc, f, is)
 	checkAmounts(sc, f, catalogue, is)
 	buildTargets(sc, f, is)
@@ -536,7 +537,7 @@ func trimNum(v float64) string {
 	return strconv.FormatFloat(math.Round(v*100)/100, 'f', -1, 64)
 }
 
-func buildClasses(sc *Scenario, f *fileScenario, scales map[string]*Scale, catalogue map[string]*catalogueEntry, is *issues) {
+func buildClasses(sc *Scenario, f *fileScenario, scales map[string]*Scale, classScale []*Scale, catalogue map[string]*catalogueEntry, is *issues) {
 	if len(f.Classes) == 0 {
 		is.add(f.Lines.of(""), "classes", "missing; list at least one asset class")
 		return
@@ -559,14 +560,7 @@ func buildClasses(sc *Scenario, f *fileScenario, scales map[string]*Scale, catal
 		if c.Unit == "" {
 			is.add(fc.Lines.of(""), field+".unit", "missing; give the quantity unit, e.g. lane-km, m2 or each")
 		}
-		c.Scale = scales[fc.Scale]
-		if fc.Scale == "" {
-			is.add(fc.Lines.of(""), field+".scale", "missing; name one of the scales defined under scales")
-		} else if c.Scale == nil {
-			if _, defined := f.Scales[fc.Scale]; !defined && !strings.HasPrefix(fc.Scale, PresetPrefix) {
-				is.add(fc.Lines.of("scale"), field+".scale", "unknown scale %q; define it under scales, or name a preset (%s%s)", fc.Scale, PresetPrefix, strings.ReplaceAll(presetNames(), ", ", ", "+PresetPrefix))
-			}
-		}
+		c.Scale = classScale[k] // problems reported by classScales
 		if fc.ReplacementCost != nil {
 			if *fc.ReplacementCost < 0 {
 				is.add(fc.Lines.of("replacement_cost"), field+".replacement_cost", "%s must be zero or more", num(*fc.ReplacementCost))
@@ -746,6 +740,7 @@ func buildDeterioration(c *Class, fc *fileClass, field string, is *issues) {
 		}
 		c.Transition = t
 		c.Evidence = d.evidence
+		c.split = d.split
 	case d.YearsInState != nil:
 		if len(d.YearsInState) != n-1 {
 			is.add(d.Lines.of("years_in_state"), fld+".years_in_state", "%d values for %d states; give one per state except the worst (%d)", len(d.YearsInState), n, n-1)

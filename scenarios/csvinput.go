@@ -217,9 +217,12 @@ func (in *csvInput) oneColumn() (rune, bool) {
 }
 
 // headerList quotes the header's names, for messages.
-func (in *csvInput) headerList() string {
-	q := make([]string, len(in.header))
-	for i, s := range in.header {
+func (in *csvInput) headerList() string { return quotedList(in.header) }
+
+// quotedList writes names quoted and comma-separated.
+func quotedList(ss []string) string {
+	q := make([]string, len(ss))
+	for i, s := range ss {
 		q[i] = strconv.Quote(s)
 	}
 	return strings.Join(q, ", ")

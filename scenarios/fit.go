@@ -56,7 +56,35 @@ type FitOptions struct {
 	YearsInState map[string][]float64
 	// ScalesFrom names the file the scales came from, for the record.
 	ScalesFrom string
+	// By names the columns the inspections were grouped into families by
+	// (InspectionOptions.By): each class then gets a matrix per family and
+	// a test of whether the families differ. MergeAlike merges, step by
+	// step, the two families that differ least while a test cannot tell
+	// them apart at FamilyLevel.
+	By         []string
+	MergeAlike bool
+	// Covariates names numeric columns of the export (InspectionOptions.
+	// Covariates): each class (and family) then also gets an ordered model
+	// of the yearly drop in state from them (markov.OrderedMLE) with Link
+	// logit (the default) or probit, and its matrices at the values At
+	// names (every combination, the other covariates at their means; at
+	// the means alone when At is empty).
+	Covariates []string
+	Link       string
+	At         []CovariateValues
 }
+
+// CovariateValues are values of one covariate at which to evaluate a
+// covariate model's matrix.
+type CovariateValues struct {
+	Covariate string
+	Values    []float64
+}
+
+// FamilyLevel is the significance level at which families are told apart:
+// merged (MergeAlike) only while a test of the two cannot reject their
+// sameness at it, and reported as differing below it.
+const FamilyLevel = 0.05
 
 // FitResult is what `wearplan fit` found, class by class. It is also the
 // schema of the fit file (WriteFitFile, and `deterioration: {fit: FILE}` in
@@ -84,10 +112,22 @@ type FitResult struct {
 
 // FitClass is one class's fitted matrix and its evidence.
 type FitClass struct {
-	Class  string   `yaml:"class" json:"class"`
-	Scale  string   `yaml:"scale" json:"scale"`
-	States []string `yaml:"states" json:"states"`
+	Class string `yaml:"class" json:"class"`
+	// Family names a family of the class (an entry of Families); Members
+	// lists the values of the By columns it covers (more than one when
+	// families were merged). Empty for the class itself.
+	Family  string   `yaml:"family,omitempty" json:"family,omitempty"`
+	Members []string `yaml:"members,omitempty" json:"members,omitempty"`
+	// Scale and States are given for the class; its families share them.
+	Scale  string   `yaml:"scale,omitempty" json:"scale,omitempty"`
+	States []string `yaml:"states,omitempty" json:"states,omitempty"`
 	Method string   `yaml:"method" json:"method"`
+	// By names the columns that define the class's families (fit by
+	// family), and Homogeneity tests whether they differ.
+	By          []string        `yaml:"by,omitempty" json:"by,omitempty"`
+	Homogeneity *FitHomogeneity `yaml:"homogeneity,omitempty" json:"homogeneity,omitempty"`
+	// MergedHomogeneity tests the families left after merging (MergeAlike).
+	MergedHomogeneity *FitHomogeneity `yaml:"homogeneity_after_merging,omitempty" json:"homogeneity_after_merging,omitempty"`
 	// Deterioration is the block to paste into the scenario's class.
 	Deterioration FitDeterioration `yaml:"deterioration" json:"deterioration"`
 	// PerState holds figures per state, best first.
@@ -101,7 +141,85 @@ type FitClass struct {
 	Optimizer     *FitOptimizer  `yaml:"optimizer" json:"optimizer"`
 	Counts        []FitCounts    `yaml:"counts" json:"counts"`
 	Bootstrap     *FitReplicates `yaml:"bootstrap" json:"bootstrap"`
-	Lines         lines          `yaml:"-" json:"-"`
+	// Selection compares the pairs left out for work with those kept; nil
+	// when no pair had work.
+	Selection *FitSelection `yaml:"selection,omitempty" json:"selection,omitempty"`
+	// Covariates is the ordered model of the yearly drop (FitOptions.
+	// Covariates), nil without covariates.
+	Covariates *FitCovariates `yaml:"covariates,omitempty" json:"covariates,omitempty"`
+	// Merges lists the merging of families (MergeAlike), in order.
+	Merges []FitMerge `yaml:"merges,omitempty" json:"merges,omitempty"`
+	// Families holds each family's fit, in the class's layout.
+	Families []FitClass `yaml:"families,omitempty" json:"families,omitempty"`
+	Lines    lines      `yaml:"-" json:"-"`
+}
+
+// FitHomogeneity tests whether a class's families deteriorate by one
+// matrix (markov.Homogeneity).
+type FitHomogeneity struct {
+	Families int `yaml:"families" json:"families"`
+	// LikelihoodRatio is 2(Σ L_family - L_class) with its chi-square
+	// p-value; AndersonGoodman is Pearson's chi-square of the same
+	// hypothesis (counting method only).
+	LikelihoodRatio *FitStatTest `yaml:"likelihood_ratio" json:"likelihood_ratio"`
+	AndersonGoodman *FitStatTest `yaml:"anderson_goodman_chi_square" json:"anderson_goodman_chi_square"`
+	// Differ says the likelihood-ratio p-value is below FamilyLevel.
+	Differ bool   `yaml:"differ" json:"differ"`
+	Note   string `yaml:"note" json:"note"`
+}
+
+// FitMerge is one step of merging families that do not differ: the two
+// merged, the test that could not tell them apart, and the new family.
+type FitMerge struct {
+	Merged []string    `yaml:"merged" json:"merged"`
+	Into   string      `yaml:"into" json:"into"`
+	Test   FitStatTest `yaml:"likelihood_ratio" json:"likelihood_ratio"`
+}
+
+// FitSelection compares, per starting state, the pairs left out because
+// work was recorded between them with the pairs kept, and says whether the
+// work looks condition-driven enough to bias the staying probabilities
+// (markov.WorkSelection).
+type FitSelection struct {
+	States []FitSelectionState `yaml:"states" json:"states"`
+	// ByState is the chi-square test that the share of pairs with work is
+	// the same from every starting state.
+	ByState FitStatTest `yaml:"work_share_by_state" json:"work_share_by_state"`
+	// ByYears is the trend test that, from the same state, the share rises
+	// with the interval; nil when every pair has the same interval.
+	ByYears         *FitStatTest `yaml:"work_share_by_interval" json:"work_share_by_interval"`
+	ConditionDriven bool         `yaml:"condition_driven" json:"condition_driven"`
+	// Warning is empty unless the possible bias exceeds sampling error.
+	Warning string `yaml:"warning" json:"warning"`
+}
+
+// FitSelectionState is one starting state's comparison.
+type FitSelectionState struct {
+	State     string  `yaml:"state" json:"state"`
+	Kept      int     `yaml:"pairs_kept" json:"pairs_kept"`
+	Work      int     `yaml:"pairs_with_work" json:"pairs_with_work"`
+	WorkShare float64 `yaml:"work_share" json:"work_share"`
+	KeptYears float64 `yaml:"mean_years_kept" json:"mean_years_kept"`
+	WorkYears float64 `yaml:"mean_years_with_work" json:"mean_years_with_work"`
+	// The work pairs by their later condition (after the work) against
+	// the first.
+	WorkEndedBetter int `yaml:"work_ended_better" json:"work_ended_better"`
+	WorkEndedSame   int `yaml:"work_ended_same" json:"work_ended_same"`
+	WorkEndedWorse  int `yaml:"work_ended_worse" json:"work_ended_worse"`
+	// Stay is the estimate; StayIfLeft what it would be had every work
+	// pair left the state before the work (the largest bias).
+	Stay       float64 `yaml:"stay" json:"stay"`
+	StayIfLeft float64 `yaml:"stay_if_work_pairs_had_left" json:"stay_if_work_pairs_had_left"`
+	StayError  float64 `yaml:"stay_standard_error" json:"stay_standard_error"`
+	Flagged    bool    `yaml:"flagged" json:"flagged"`
+}
+
+// FitStatTest is a test statistic with its p-value: a chi-square with
+// degrees of freedom, or a standard normal z (DF 0).
+type FitStatTest struct {
+	Statistic float64  `yaml:"statistic" json:"statistic"`
+	DF        int      `yaml:"degrees_of_freedom" json:"degrees_of_freedom"`
+	PValue    *float64 `yaml:"p_value" json:"p_value"`
 }
 
 // FitDeterioration is the matrix as a scenario's deterioration block.
@@ -185,11 +303,34 @@ type FitCondition struct {
 	FromPrevious float64 `yaml:"predicted_from_previous" json:"predicted_from_previous"`
 }
 
-// FitOptimizer reports the interval method's numerical maximisation.
+// FitOptimizer reports the interval method's numerical maximisation: its
+// stopping rules (the Karush-Kuhn-Tucker conditions of the maximum over
+// each row, and the log-likelihood's relative change over the last
+// iteration) and how many starts reached the best value.
 type FitOptimizer struct {
 	LogLikelihood float64 `yaml:"log_likelihood" json:"log_likelihood"`
 	Iterations    int     `yaml:"iterations" json:"iterations"`
 	Status        string  `yaml:"status" json:"status"`
+	Starts        int     `yaml:"starts" json:"starts"`
+	StartsAtBest  int     `yaml:"starts_at_best" json:"starts_at_best"`
+	Rounds        int     `yaml:"rounds" json:"rounds"`
+	// RelativeChange is the log-likelihood's relative change over the
+	// last iteration.
+	RelativeChange float64 `yaml:"relative_change" json:"relative_change"`
+	// KKT holds the conditions' residuals and the tolerance they meet.
+	KKT FitKKT `yaml:"kkt" json:"kkt"`
+}
+
+// FitKKT is the check of the Karush-Kuhn-Tucker conditions at the
+// estimate, in mean log-likelihood per pair per unit of probability:
+// DualInfeasibility is the most any allowed entry would gain from
+// probability moved into it (zero or less at a maximum), Complementarity
+// the largest entry times its gain or loss (zero at a maximum).
+type FitKKT struct {
+	DualInfeasibility float64 `yaml:"dual_infeasibility" json:"dual_infeasibility"`
+	Complementarity   float64 `yaml:"complementarity" json:"complementarity"`
+	Tolerance         float64 `yaml:"tolerance" json:"tolerance"`
+	Satisfied         bool    `yaml:"satisfied" json:"satisfied"`
 }
 
 // FitCounts holds the transition counts of the pairs used with one
@@ -227,14 +368,20 @@ func Fit(ins *Inspections, opt FitOptions) (*FitResult, error) {
 	if opt.Bootstrap < 0 {
 		return nil, fmt.Errorf("bootstrap %d: give zero or more resamples", opt.Bootstrap)
 	}
+	if err := checkCovariateOptions(&opt); err != nil {
+		return nil, err
+	}
 	res := newFitResult(opt)
 	res.Source, res.Rows, res.Skipped, res.BadRows = ins.Source, ins.Rows, ins.Skipped, ins.BadRows
 	res.Warnings = append(res.Warnings, ins.Warnings...)
 	is := &issues{file: ins.Source}
 	for k := range ins.Classes {
 		c := &ins.Classes[k]
-		fc, ok := fitClass(c, opt, is)
+		fc, ok := fitWhole(c, opt, is)
 		if ok {
+			if fc.Selection != nil && fc.Selection.Warning != "" {
+				res.Warnings = append(res.Warnings, "class "+fc.Selection.Warning)
+			}
 			res.Classes = append(res.Classes, *fc)
 		}
 	}
@@ -329,13 +476,23 @@ func firstInspectionLine(c *InspectionClass) int {
 	return 0
 }
 
-func fitClass(c *InspectionClass, opt FitOptions, is *issues) (*FitClass, bool) {
+// groupFit is what the family tests need from a fit: the counts the
+// method used, the estimate before rounding and its log-likelihood.
+type groupFit struct {
+	counts *markov.Counts
+	p      *markov.Transition
+	ll     float64
+}
+
+// fitClass fits one class, or one family of a class (who names it in
+// messages: "roads" or "roads, family heavy (traffic)").
+func fitClass(c *InspectionClass, who string, opt FitOptions, is *issues) (*FitClass, *groupFit, bool) {
 	n := len(c.Scale.States)
 	s := markov.Structure{OneStep: opt.OneStep || opt.Method == MethodYearsInState, Improvement: opt.KeepImprovements}
 	sample, readings, prep, err := markov.Prepare(c.Histories, n, s)
 	if err != nil {
-		fitIssue(is, 0, c.Name, "%v", err)
-		return nil, false
+		fitIssue(is, 0, who, "%v", err)
+		return nil, nil, false
 	}
 	fc := &FitClass{Class: c.Name, Scale: c.Scale.Name, States: stateNames(c.Scale), Method: opt.Method}
 	fc.Data = &FitData{
@@ -349,47 +506,47 @@ func fitClass(c *InspectionClass, opt FitOptions, is *issues) (*FitClass, bool) 
 	}
 	switch {
 	case prep.Pairs == 0:
-		fitIssue(is, firstInspectionLine(c), c.Name, "no asset has two inspections (%d assets, one inspection each), so there is no change to fit; an export with several years of inspections is needed", prep.Assets)
-		return nil, false
+		fitIssue(is, firstInspectionLine(c), who, "no asset has two inspections (%d assets, one inspection each), so there is no change to fit; an export with several years of inspections is needed", prep.Assets)
+		return nil, nil, false
 	case prep.Used == 0 && prep.WithWork == prep.Pairs:
-		fitIssue(is, firstInspectionLine(c), c.Name, "all %d pairs of consecutive inspections have work recorded between them, so none shows deterioration alone; check the work column (empty, 0 or no mean no work)", prep.Pairs)
-		return nil, false
+		fitIssue(is, firstInspectionLine(c), who, "all %d pairs of consecutive inspections have work recorded between them, so none shows deterioration alone; check the work column (empty, 0 or no mean no work)", prep.Pairs)
+		return nil, nil, false
 	case prep.Used == 0:
-		fitIssue(is, firstInspectionLine(c), c.Name, "none of the %d pairs of consecutive inspections can be used (%s)", prep.Pairs, exclusionSummary(prep))
-		return nil, false
+		fitIssue(is, firstInspectionLine(c), who, "none of the %d pairs of consecutive inspections can be used (%s)", prep.Pairs, exclusionSummary(prep))
+		return nil, nil, false
 	}
 	noteExclusions(fc, prep, c.Name)
 
 	// Estimate.
 	var p *markov.Transition
+	var info markov.IntervalFit
 	used := sample
 	fitted := true
 	switch opt.Method {
 	case MethodCounting:
 		used = sample.Filter(func(pr markov.Pair) bool { return pr.Years == 1 })
 		if len(used.Pairs()) == 0 {
-			fitIssue(is, firstInspectionLine(c), c.Name, "no pairs of inspections one year apart (intervals used: %s); the counting method needs yearly pairs: use --method interval", intervalList(prep))
-			return nil, false
+			fitIssue(is, firstInspectionLine(c), who, "no pairs of inspections one year apart (intervals used: %s); the counting method needs yearly pairs: use --method interval", intervalList(prep))
+			return nil, nil, false
 		}
 		if len(used.Pairs()) < prep.Used/2 {
 			fc.Notes = append(fc.Notes, fmt.Sprintf("only %d of %d usable pairs are one year apart; --method interval would use them all", len(used.Pairs()), prep.Used))
 		}
 		p, err = markov.CountingMLE(used.Counts(), s)
 	case MethodInterval:
-		var info markov.IntervalFit
 		p, info, err = markov.IntervalMLE(sample.Counts(), s, nil)
 		if err == nil {
-			fc.Optimizer = &FitOptimizer{LogLikelihood: round(info.LogLikelihood, 4), Iterations: info.Iterations, Status: info.Status}
+			fc.Optimizer = optimizerReport(info)
 		}
 	case MethodYearsInState:
 		years, ok := opt.YearsInState[c.Name]
 		if !ok {
-			fitIssue(is, firstInspectionLine(c), c.Name, "method years-in-state needs the class's expected years in each state: --years-in-state %s=D1,D2,...", c.Name)
-			return nil, false
+			fitIssue(is, firstInspectionLine(c), who, "method years-in-state needs the class's expected years in each state: --years-in-state %s=D1,D2,...", c.Name)
+			return nil, nil, false
 		}
 		p, ok = judgedMatrix(c.Name, c.Scale, years, is)
 		if !ok {
-			return nil, false
+			return nil, nil, false
 		}
 		fitted = false
 		fc.Notes = append(fc.Notes, "matrix from expected years in each state (judgement); the data only test it")
@@ -402,11 +559,21 @@ func fitClass(c *InspectionClass, opt FitOptions, is *issues) (*FitClass, bool) 
 				names[k] = strconv.Quote(c.Scale.States[r].Name)
 			}
 			hint := "use --method interval (pairs of any interval), gather more inspections, or set the matrix by judgement"
-			fitIssue(is, firstInspectionLine(c), c.Name, "no usable pair starts in state %s, so its row cannot be estimated; %s", strings.Join(names, ", "), hint)
-			return nil, false
+			if who != c.Name {
+				hint = "this family is too small for a matrix of its own: group the assets by another column, put this value with another family in the export, or fit the class without families"
+			}
+			fitIssue(is, firstInspectionLine(c), who, "no usable pair starts in state %s, so its row cannot be estimated; %s", strings.Join(names, ", "), hint)
+			return nil, nil, false
 		}
-		fitIssue(is, firstInspectionLine(c), c.Name, "%v", err)
-		return nil, false
+		fitIssue(is, firstInspectionLine(c), who, "%v", err)
+		return nil, nil, false
+	}
+	gf := &groupFit{counts: used.Counts(), p: p}
+	switch {
+	case info.Iterations > 0:
+		gf.ll = info.LogLikelihood
+	case fitted:
+		gf.ll = markov.LogLikelihood(gf.counts, p)
 	}
 	p = p.Rounded(fitDecimals)
 	fc.Data.UsedByMethod = len(used.Pairs())
@@ -441,6 +608,15 @@ func fitClass(c *InspectionClass, opt FitOptions, is *issues) (*FitClass, bool) 
 	}
 	describe(fc, p, c.Scale, reps)
 
+	// The covariate model.
+	if fitted && len(opt.Covariates) > 0 {
+		cv, ok := covariateModel(used.Pairs(), c, who, opt, is)
+		if !ok {
+			return nil, nil, false
+		}
+		fc.Covariates = cv
+	}
+
 	// Pairs per starting state.
 	for _, pr := range used.Pairs() {
 		fc.PerState[pr.From].Pairs++
@@ -470,6 +646,11 @@ func fitClass(c *InspectionClass, opt FitOptions, is *issues) (*FitClass, bool) 
 		}
 	}
 
+	// Pairs left out for work against the pairs kept.
+	if fitted && prep.WithWork > 0 {
+		fc.Selection = selectionReport(who, c.Scale, prep.Selection, p)
+	}
+
 	// Observed against predicted mean condition.
 	values := make([]float64, n)
 	for i, st := range c.Scale.States {
@@ -477,8 +658,8 @@ func fitClass(c *InspectionClass, opt FitOptions, is *issues) (*FitClass, bool) 
 	}
 	points, err := markov.MeanCondition(readings, p, values)
 	if err != nil {
-		fitIssue(is, 0, c.Name, "%v", err)
-		return nil, false
+		fitIssue(is, 0, who, "%v", err)
+		return nil, nil, false
 	}
 	fc.MeanCondition = []FitCondition{}
 	for _, pt := range points {
@@ -492,7 +673,85 @@ func fitClass(c *InspectionClass, opt FitOptions, is *issues) (*FitClass, bool) 
 	for _, g := range counts.Gaps() {
 		fc.Counts = append(fc.Counts, FitCounts{Years: g, Rows: counts.Matrix(g)})
 	}
-	return fc, true
+	return fc, gf, true
+}
+
+// selectionReport compares the work and kept pairs of a class (or
+// family) and words the warning, with its figures, when work looks
+// condition-driven enough to bias the staying probabilities.
+func selectionReport(name string, scale *Scale, w *markov.WorkSelection, p *markov.Transition) *FitSelection {
+	n := p.States()
+	stay := make([]float64, n)
+	for i := range stay {
+		stay[i] = p.At(i, i)
+	}
+	d := w.Diagnose(stay)
+	out := &FitSelection{States: []FitSelectionState{}, ConditionDriven: d.ConditionDriven}
+	for _, st := range d.States {
+		out.States = append(out.States, FitSelectionState{
+			State: scale.States[st.State].Name, Kept: st.Kept, Work: st.Work, WorkShare: round(st.WorkShare, 4),
+			KeptYears: round(st.KeptYears, 2), WorkYears: round(st.WorkYears, 2),
+			WorkEndedBetter: st.WorkBetter, WorkEndedSame: st.WorkSame, WorkEndedWorse: st.WorkWorse,
+			Stay: st.Stay, StayIfLeft: round(st.StayIfLeft, 4), StayError: round(st.StayError, 4), Flagged: st.Flagged,
+		})
+	}
+	if d.ByState.DF > 0 {
+		pv := sig(d.ByState.PValue, 4)
+		out.ByState = FitStatTest{Statistic: round(d.ByState.Statistic, 3), DF: d.ByState.DF, PValue: &pv}
+	}
+	if d.ByYears.Groups > 0 {
+		pv := sig(d.ByYears.PValue, 4)
+		out.ByYears = &FitStatTest{Statistic: round(d.ByYears.Z, 3), PValue: &pv}
+	}
+	if !d.Warn {
+		return out
+	}
+	var states []string
+	for _, st := range d.States {
+		if !st.Flagged {
+			continue
+		}
+		states = append(states, fmt.Sprintf("%s: %s of %s pairs (%.0f%%) had work, %.1f years apart on average (pairs kept %.1f); stay %.3f, %.3f if every one of them had left the state",
+			scale.States[st.State].Name, groupDigits(st.Work), groupDigits(st.Kept+st.Work), 100*st.WorkShare, st.WorkYears, st.KeptYears, st.Stay, st.StayIfLeft))
+	}
+	drivenBy := fmt.Sprintf("the share of pairs with work differs between starting states (chi-square %.1f on %d degrees of freedom, p %s)", d.ByState.Statistic, d.ByState.DF, pText(d.ByState.PValue))
+	if d.ByYears.Groups > 0 && d.ByYears.Z > 0 && d.ByYears.PValue < markov.SelectionLevel {
+		out.Warning = fmt.Sprintf("%s: work between inspections looks decided on deterioration during the interval: %s, and from the same state pairs further apart had work more often (trend z = %.2f, p %s). "+
+			"The pairs left out for work are then mostly assets that dropped, so the staying probabilities are too HIGH (deterioration too slow, years in state too long), by up to: %s.",
+			name, drivenBy, d.ByYears.Z, pText(d.ByYears.PValue), strings.Join(states, "; "))
+		return out
+	}
+	out.Warning = fmt.Sprintf("%s: work between inspections is condition-driven: %s. "+
+		"If work was chosen on the condition found at the first inspection of each pair, the estimate is not biased; if it followed deterioration between inspections, "+
+		"the pairs left out are mostly assets that dropped, and the staying probabilities are too HIGH (deterioration too slow, years in state too long), by up to: %s. Check how work was chosen.",
+		name, drivenBy, strings.Join(states, "; "))
+	return out
+}
+
+// groupDigits writes a count with commas between thousands: 12,345.
+func groupDigits(n int) string {
+	s := strconv.Itoa(n)
+	for i := len(s) - 3; i > 0 && s[i-1] != '-'; i -= 3 {
+		s = s[:i] + "," + s[i:]
+	}
+	return s
+}
+
+// pText writes a p-value for a sentence: "= 0.023" or "< 0.0001".
+func pText(p float64) string {
+	if p < 0.0001 {
+		return "< 0.0001"
+	}
+	return "= " + strconv.FormatFloat(sig(p, 2), 'g', -1, 64)
+}
+
+func optimizerReport(info markov.IntervalFit) *FitOptimizer {
+	return &FitOptimizer{
+		LogLikelihood: round(info.LogLikelihood, 4), Iterations: info.Iterations, Status: info.Status,
+		Starts: info.Starts, StartsAtBest: info.StartsAtBest, Rounds: info.Rounds, RelativeChange: sig(info.RelativeChange, 2),
+		KKT: FitKKT{DualInfeasibility: sig(info.DualInfeasibility, 2), Complementarity: sig(info.Complementarity, 2),
+			Tolerance: markov.KKTTolerance, Satisfied: info.KKT},
+	}
 }
 
 // describe fills the deterioration block and per-state figures from the

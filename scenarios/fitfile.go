@@ -7,6 +7,7 @@ import (
 	"io/fs"
 	"reflect"
 	"slices"
+	"strconv"
 	"strings"
 
 	"gopkg.in/yaml.v3"
@@ -19,7 +20,10 @@ const fitFileHeader = `wearplan fit result (format 1). Written by "wearplan fit"
 A scenario class uses a matrix from this file with
   deterioration: {fit: THIS-FILE.yaml}            # the class of the same name
   deterioration: {fit: THIS-FILE.yaml, fit_class: NAME}
-or paste a class's deterioration block into the scenario.`
+  deterioration: {fit: THIS-FILE.yaml, family: FAMILY}     # a class fitted by family
+  deterioration: {fit: THIS-FILE.yaml, at: "aadt=5000"}    # a covariate model's matrix
+or paste a class's deterioration block into the scenario. A class fitted by
+family that names none is split by the family column of its segment list.`
 
 // WriteFitFile writes a fit result as YAML: the fit file a scenario can
 // name. Lists of numbers are written on one line each (a matrix row per
@@ -111,11 +115,29 @@ func ReadFitFile(fsys fs.FS, name string) (*FitResult, error) {
 		fc := &r.Classes[k]
 		field := fmt.Sprintf("classes[%d] (%s)", k, fc.Class)
 		checkFitMatrix(fc, field, is)
+		checkCovariateMatrices(fc, fc.States, field, is)
+		for f := range fc.Families {
+			fam := fc.Families[f] // a copy: families share the class's states
+			fam.States = fc.States
+			ffield := fmt.Sprintf("%s.families[%d] (%s)", field, f, fam.Family)
+			checkFitMatrix(&fam, ffield, is)
+			checkCovariateMatrices(&fam, fc.States, ffield, is)
+		}
 	}
 	if err := is.err(); err != nil {
 		return nil, err
 	}
 	return &r, nil
+}
+
+// checkCovariateMatrices checks the matrices of a covariate model.
+func checkCovariateMatrices(fc *FitClass, states []string, field string, is *issues) {
+	if fc.Covariates == nil {
+		return
+	}
+	for k, at := range fc.Covariates.At {
+		checkFitMatrix(&FitClass{States: states, Deterioration: at.Deterioration, Lines: fc.Lines}, fmt.Sprintf("%s.covariates.at[%d] (%s)", field, k, at.Name), is)
+	}
 }
 
 func checkFitMatrix(fc *FitClass, field string, is *issues) {
@@ -166,14 +188,21 @@ func resolveFits(f *fileScenario, fsys fs.FS, is *issues) (read []string) {
 	for k := range f.Classes {
 		fc := &f.Classes[k]
 		d := fc.Deterioration
-		if d == nil || (d.Fit == "" && d.FitClass == "") {
+		if d == nil || (d.Fit == "" && d.FitClass == "" && d.Family == "" && d.At == "") {
 			continue
 		}
 		field := fmt.Sprintf("classes[%d] (%s).deterioration", k, strings.TrimSpace(fc.Name))
 		line := d.Lines.of("fit")
 		switch {
 		case d.Fit == "":
-			is.add(d.Lines.of("fit_class"), field+".fit_class", "fit_class needs fit: FILE (the fit file to take the class from)")
+			key := "fit_class"
+			switch {
+			case d.Family != "":
+				key = "family"
+			case d.At != "":
+				key = "at"
+			}
+			is.add(d.Lines.of(key), field+"."+key, "%s needs fit: FILE (the fit file to take the class from)", key)
 			continue
 		case d.Matrix != nil || d.YearsInState != nil:
 			is.add(d.Lines.of(""), field, "give one of fit, matrix or years_in_state")
@@ -228,15 +257,96 @@ func resolveFits(f *fileScenario, fsys fs.FS, is *issues) (read []string) {
 				continue
 			}
 		}
-		rows := make([]int, len(fitted.Deterioration.Matrix))
+		chosen, ok := chooseFamily(fitted, d, got.r, want, field, is)
+		if !ok {
+			continue
+		}
+		block, evidence := chosen.Deterioration, evidenceOf(got.r, chosen, d.Fit)
+		if at := strings.TrimSpace(d.At); at != "" && d.split == nil {
+			m, ok := covariatesAt(chosen, at, d, want, field, is)
+			if !ok {
+				continue
+			}
+			// The matrix at chosen covariate values is not the counting
+			// or bootstrap estimate the evidence describes.
+			block, evidence = m, nil
+		}
+		rows := make([]int, len(block.Matrix))
 		for i := range rows {
 			rows[i] = line
 		}
-		d.Matrix = &matrix{Rows: fitted.Deterioration.Matrix, Lines: rows, Line: line}
-		d.AllowImprovement = fitted.Deterioration.AllowImprovement
-		d.evidence = evidenceOf(got.r, fitted, d.Fit)
+		d.Matrix = &matrix{Rows: block.Matrix, Lines: rows, Line: line}
+		d.AllowImprovement = block.AllowImprovement
+		d.evidence = evidence
 	}
 	return read
+}
+
+// chooseFamily picks the part of a fitted class a deterioration block
+// names: the family it names (family: NAME, a family or a value merged
+// into one; all for the class's own matrix), or, when the class was fitted
+// by family and none is named, the class's own matrix for now with the
+// families kept to split the class by its segment list (splitFamilies).
+func chooseFamily(fitted *FitClass, d *fileDeterioration, r *FitResult, class, field string, is *issues) (*FitClass, bool) {
+	line := d.Lines.of("fit")
+	name := strings.TrimSpace(d.Family)
+	switch {
+	case name == "all":
+		return fitted, true
+	case name != "" && len(fitted.Families) == 0:
+		is.add(d.Lines.of("family"), field+".family", "class %q in %q was not fitted by family (fit it with --by COLUMN); drop family:", class, d.Fit)
+		return nil, false
+	case name != "":
+		for k := range fitted.Families {
+			if f := &fitted.Families[k]; f.Family == name || slices.Contains(f.Members, name) {
+				return f, true
+			}
+		}
+		split := &familySplit{families: familyPointers(fitted)}
+		is.add(d.Lines.of("family"), field+".family", "class %q in %q has no family %q; its families (by %s) are %s, or all for the class's own matrix", class, d.Fit, name, strings.Join(fitted.By, "/"), split.names())
+		return nil, false
+	case len(fitted.Families) > 0:
+		d.split = &familySplit{file: d.Fit, fitClass: class, by: fitted.By, families: familyPointers(fitted), result: r, line: line, at: strings.TrimSpace(d.At)}
+		if d.split.at != "" {
+			// Every family must have the matrix at those values.
+			for _, f := range d.split.families {
+				if _, ok := covariatesAt(f, d.split.at, d, class, field, is); !ok {
+					return nil, false
+				}
+			}
+		}
+	}
+	return fitted, true
+}
+
+// covariatesAt returns the matrix of a fitted class's (or family's)
+// covariate model at the named values (at: NAME).
+func covariatesAt(c *FitClass, at string, d *fileDeterioration, class, field string, is *issues) (FitDeterioration, bool) {
+	who := fmt.Sprintf("class %q", class)
+	if c.Family != "" {
+		who = fmt.Sprintf("family %q of class %q", c.Family, class)
+	}
+	if c.Covariates == nil {
+		is.add(d.Lines.of("at"), field+".at", "%s in %q has no covariate model (fit it with --covariate COLUMN); drop at:", who, d.Fit)
+		return FitDeterioration{}, false
+	}
+	var names []string
+	for _, p := range c.Covariates.At {
+		if p.Name == at {
+			return p.Deterioration, true
+		}
+		names = append(names, strconv.Quote(p.Name))
+	}
+	is.add(d.Lines.of("at"), field+".at", "%s in %q has no matrix at %q; it has %s (fit again with --at to add others)", who, d.Fit, at, strings.Join(names, ", "))
+	return FitDeterioration{}, false
+}
+
+func familyPointers(c *FitClass) []*FitClass {
+	out := make([]*FitClass, len(c.Families))
+	for k := range c.Families {
+		out[k] = &c.Families[k]
+	}
+	return out
 }
 
 // DeteriorationBlock returns the class's deterioration block as YAML

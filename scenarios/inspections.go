@@ -51,6 +51,11 @@ type InspectionOptions struct {
 	// outside the scale, unknown class...) with a warning instead of
 	// failing.
 	SkipBadRows bool
+	// By names columns whose values put each inspection in a family of
+	// assets (several columns: the values joined with "/"); Covariates
+	// names columns of numbers carried with each inspection. Both are
+	// read on every row; other extra columns are ignored.
+	By, Covariates []string
 }
 
 // Inspections is an inspection export read and checked: for each class,
@@ -78,6 +83,9 @@ type InspectionClass struct {
 	// inspections in time order, each with its line number as Ref.
 	Assets    []string
 	Histories [][]markov.Inspection
+	// Families lists the families met (By), sorted; an inspection's
+	// Stratum is its family's index here. Nil without By.
+	Families []string
 	// Duplicates repeat an inspection (same asset, same date, same
 	// condition); Conflicts give the same asset and date two conditions.
 	// Both are dropped. OutOfOrder counts inspections listed before an
@@ -113,7 +121,7 @@ func ReadInspections(r io.Reader, name string, opt InspectionOptions) (*Inspecti
 	if !in.readHeader(strings.Join([]string{cols.Asset, cols.Class, cols.Inspected, cols.Condition}, string(in.format.comma()))) {
 		return nil, is.err()
 	}
-	idx, ok := mapColumns(in, cols)
+	idx, ok := mapColumns(in, cols, opt.By, opt.Covariates)
 	if !ok {
 		return nil, is.err()
 	}
@@ -181,6 +189,14 @@ func (l *lineList) add(line int) {
 	l.count++
 }
 
+// merge adds the lines of m, keeping the first ones in order.
+func (l *lineList) merge(m *lineList) {
+	l.first = append(l.first, m.first...)
+	slices.Sort(l.first)
+	l.first = l.first[:min(len(l.first), 3)]
+	l.count += m.count
+}
+
 func (l *lineList) String() string {
 	parts := make([]string, len(l.first))
 	for i, v := range l.first {
@@ -198,9 +214,10 @@ func (l *lineList) String() string {
 
 type columnIndex struct {
 	asset, class, inspected, condition, work int // work is -1 when absent
+	by, covariates                           []int
 }
 
-func mapColumns(in *csvInput, cols InspectionColumns) (columnIndex, bool) {
+func mapColumns(in *csvInput, cols InspectionColumns, by, covariates []string) (columnIndex, bool) {
 	var idx columnIndex
 	var missing []string
 	ok := true
@@ -219,6 +236,21 @@ func mapColumns(in *csvInput, cols InspectionColumns) (columnIndex, bool) {
 	w, unique := in.column(cols.Work)
 	ok = ok && unique
 	idx.work = w
+	for _, extra := range []struct {
+		names []string
+		at    *[]int
+		what  string
+	}{{by, &idx.by, "to group by"}, {covariates, &idx.covariates, "of covariate values"}} {
+		for _, name := range extra.names {
+			i, unique := in.column(name)
+			ok = ok && unique
+			if i < 0 && unique {
+				in.is.add(in.headerLine, "", "no column %q %s; the header reads %q", name, extra.what, strings.Join(in.header, string(in.format.comma())))
+				ok = false
+			}
+			*extra.at = append(*extra.at, i)
+		}
+	}
 	if len(missing) > 0 {
 		found := strings.Join(in.header, string(in.format.comma()))
 		if d, one := in.oneColumn(); one {
@@ -242,6 +274,10 @@ type inspectionReader struct {
 	only    map[string]bool
 	unknown map[string]*lineList
 	badKind map[string]*badRows
+	// families[k] maps class k's family keys to their index; xs is a
+	// block the covariates of the inspections are cut from.
+	families []map[string]int
+	xs       []float64
 }
 
 // bad records a row that cannot be used: an error, or under SkipBadRows a
@@ -302,6 +338,7 @@ func (rd *inspectionReader) row(rec []string, line int) {
 		rd.byClass[strings.Clone(class)] = k
 		rd.out.Classes = append(rd.out.Classes, InspectionClass{Name: strings.Clone(class), Scale: scale})
 		rd.assets = append(rd.assets, map[string]int{})
+		rd.families = append(rd.families, map[string]int{})
 	}
 	c := &rd.out.Classes[k]
 	asset := strings.TrimSpace(rec[rd.idx.asset])
@@ -323,6 +360,10 @@ func (rd *inspectionReader) row(rec []string, line int) {
 	if rd.idx.work >= 0 {
 		work = workDone(rec[rd.idx.work])
 	}
+	stratum, x, ok := rd.extras(rec, line, k)
+	if !ok {
+		return
+	}
 	a, ok := rd.assets[k][asset]
 	if !ok {
 		a = len(c.Assets)
@@ -331,8 +372,52 @@ func (rd *inspectionReader) row(rec []string, line int) {
 		c.Assets = append(c.Assets, asset)
 		c.Histories = append(c.Histories, nil)
 	}
-	c.Histories[a] = append(c.Histories[a], markov.Inspection{Time: t, State: state, Work: work, Ref: line})
+	c.Histories[a] = append(c.Histories[a], markov.Inspection{Time: t, State: state, Work: work, Ref: line, Stratum: stratum, X: x})
 	c.Rows++
+}
+
+// extras reads the family and covariate columns of a row of class k: the
+// family's index and the covariates, cut from a shared block.
+func (rd *inspectionReader) extras(rec []string, line, k int) (int, []float64, bool) {
+	stratum := 0
+	if len(rd.idx.by) > 0 {
+		parts := make([]string, len(rd.idx.by))
+		for i, at := range rd.idx.by {
+			parts[i] = strings.TrimSpace(rec[at])
+			if parts[i] == "" {
+				rd.bad(line, rd.opt.By[i], "empty; the fit groups assets by this column, so every inspection needs a value")
+				return 0, nil, false
+			}
+		}
+		key := strings.Join(parts, "/")
+		f, seen := rd.families[k][key]
+		if !seen {
+			f = len(rd.families[k])
+			rd.families[k][strings.Clone(key)] = f
+		}
+		stratum = f
+	}
+	var x []float64
+	if p := len(rd.idx.covariates); p > 0 {
+		if len(rd.xs) < p {
+			rd.xs = make([]float64, 4096*p)
+		}
+		x, rd.xs = rd.xs[:p:p], rd.xs[p:]
+		for i, at := range rd.idx.covariates {
+			v := strings.TrimSpace(rec[at])
+			f, err := rd.format.number(v)
+			switch {
+			case v == "":
+				rd.bad(line, rd.opt.Covariates[i], "empty; a covariate needs a number on every row")
+				return 0, nil, false
+			case err != nil:
+				rd.bad(line, rd.opt.Covariates[i], "%q is not a number; %s", v, rd.format.numberHint(err))
+				return 0, nil, false
+			}
+			x[i] = f
+		}
+	}
+	return stratum, x, true
 }
 
 // finish reports unknown classes, sorts each asset's inspections by date
@@ -354,6 +439,20 @@ func (rd *inspectionReader) finish() {
 	}
 	for k := range rd.out.Classes {
 		c := &rd.out.Classes[k]
+		if len(rd.idx.by) > 0 {
+			// Families in sorted order, so that output does not depend on
+			// the order of the rows.
+			c.Families = sortedKeys(rd.families[k])
+			remap := make([]int, len(c.Families))
+			for i, key := range c.Families {
+				remap[rd.families[k][key]] = i
+			}
+			for _, h := range c.Histories {
+				for i := range h {
+					h[i].Stratum = remap[h[i].Stratum]
+				}
+			}
+		}
 		var order, dup, conflict lineList
 		for a, h := range c.Histories {
 			sorted := slices.IsSortedFunc(h, func(x, y markov.Inspection) int { return compareTime(x.Time, y.Time) })

@@ -35,6 +35,10 @@ type Segment struct {
 	WKT      string
 	Lon, Lat float64
 	HasPoint bool
+	// Family is the segment's family key (the values of the columns its
+	// class's fit groups by, joined with "/"); "" unless the class is split
+	// by family.
+	Family string
 }
 
 // Inventory says what was read from one inventory CSV.
@@ -53,6 +57,15 @@ type Inventory struct {
 	Geometry string
 	// idColumn is the id column's name in the header, for messages.
 	idColumn string
+	// families tallies each (class, family) whose class is split by
+	// family (splitFamilies).
+	families map[classFamily]*familyTally
+}
+
+// classFamily keys the quantities of one family of one class.
+type classFamily struct {
+	class  int
+	family string
 }
 
 // InventoryClass is what one class took from an inventory CSV.
@@ -271,6 +284,9 @@ type segmentReader struct {
 	segs   [][]Segment
 	counts []int
 	sums   [][]exactSum
+	// families[k] holds the columns of class k's families when the class
+	// is split by family (families.go).
+	families [][]int
 	// row is the current row's line and whether a problem was found in it.
 	line int
 	bad  bool
@@ -282,6 +298,10 @@ func (r *segmentReader) read(is *issues) {
 	if !r.in.readHeader("id,class,quantity,condition") || !r.findColumns() {
 		return
 	}
+	var ok bool
+	if r.families, ok = familyColumns(r.sc, r.job, r.in); !ok {
+		return
+	}
 	header := r.in.header
 	r.inv.idColumn = header[r.cols.id]
 	switch {
@@ -291,7 +311,6 @@ func (r *segmentReader) read(is *issues) {
 		r.inv.Geometry = "lon/lat"
 	}
 	if r.inv.Priority != "" {
-		var ok bool
 		if r.prio, ok = compilePriority(r.inv.Priority, header, r.job.field+".priority", r.job.spec.Lines.of("priority"), is); !ok {
 			return
 		}
@@ -422,6 +441,10 @@ func (r *segmentReader) row(rec []string, wktProblem string) {
 		seg.Priority = p
 	}
 	r.sums[k][state].add(billionths)
+	if at := r.families[k]; at != nil {
+		seg.Family = familyKey(rec, at)
+		r.inv.addFamily(k, seg.Family, len(c.Scale.States), state, billionths, r.line)
+	}
 	r.counts[k]++
 	r.ids.add(id, r.line)
 	if !r.keep.CountSegments {

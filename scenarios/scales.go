@@ -23,46 +23,58 @@ type ScaleSet struct {
 	ClassScale map[string]string
 	// Classes lists the scenario's classes in file order.
 	Classes []string
+	// Bases names the files of the extends chain after the file itself,
+	// relative to its folder: inputs too, which an output must not replace.
+	Bases []string
 }
 
-// LoadScaleSet reads the scales: section of a scenario or of a file that
-// holds only scales: (same syntax), and the class-to-scale mapping of a
-// scenario's classes:. The file is parsed strictly, but nothing else in
-// it is checked: a scenario whose fit files do not exist yet still gives
-// its scales.
+// LoadScaleSet reads the condition scales of a scenario, or of a file that
+// holds only scales: (same syntax), exactly as loading the scenario would:
+// through its extends chain, with the scales written under scales:
+// (presets among them) and the presets classes name directly (scale:
+// preset:NAME), each class mapped to its scale. The file is parsed
+// strictly, but nothing else in it is checked: a scenario whose fit files
+// do not exist yet still gives its scales. Files are named in messages as
+// LoadFile names them, relative to the file's folder.
 func LoadScaleSet(path string) (*ScaleSet, error) {
 	fsys, name, err := openScenarioFolder(path)
 	if err != nil {
 		return nil, err
 	}
 	defer fsys.Close()
+	set, err := loadScaleSet(fsys, name)
+	if err != nil {
+		return nil, err
+	}
+	set.Source = path
+	return set, nil
+}
+
+func loadScaleSet(fsys fs.FS, name string) (*ScaleSet, error) {
 	data, err := readInput(fsys, name, MaxFileSize, nil)
 	if err != nil {
 		msg := describeOpenError(err)
 		if errors.Is(err, fs.ErrNotExist) {
 			msg = "file not found; check the path"
 		}
-		return nil, &InputError{Issues: []*Issue{{File: printable(path), Msg: msg}}}
+		return nil, &InputError{Issues: []*Issue{{File: printable(name), Msg: msg}}}
 	}
-	root, err := parseNode(path, data)
+	root, files, err := loadChain(inputSource{fsys: fsys, name: name, digests: map[string]string{}}, name, data)
 	if err != nil {
 		return nil, err
 	}
-	is := &issues{file: path}
+	is := &issues{file: name, files: files}
 	var f fileScenario
 	d := &decoder{issues: is}
 	d.decode(root, reflect.ValueOf(&f).Elem(), "")
 	if err := is.err(); err != nil {
 		return nil, err
 	}
-	set := &ScaleSet{Source: path, Scales: buildScales(&f, is), ClassScale: map[string]string{}}
+	scales, classScale := classScales(&f, is)
+	set := &ScaleSet{Source: name, Scales: scales, ClassScale: map[string]string{}, Bases: files[1:]}
 	for k, c := range f.Classes {
 		name := strings.TrimSpace(c.Name)
-		if name == "" {
-			continue
-		}
-		if _, ok := f.Scales[c.Scale]; !ok {
-			is.add(c.Lines.of("scale"), fmt.Sprintf("classes[%d] (%s).scale", k, name), "unknown scale %q; define it under scales", c.Scale)
+		if name == "" || classScale[k] == nil {
 			continue
 		}
 		if _, dup := set.ClassScale[name]; !dup {
@@ -74,6 +86,31 @@ func LoadScaleSet(path string) (*ScaleSet, error) {
 		return nil, err
 	}
 	return set, nil
+}
+
+// classScales builds the file's scales (buildScales) and looks up each
+// class's: the one place where a class's scale key is resolved, for
+// scenarios (buildClasses) and for the scales of a fit alike. An unknown
+// scale is reported against the class.
+func classScales(f *fileScenario, is *issues) (map[string]*Scale, []*Scale) {
+	scales := buildScales(f, is)
+	out := make([]*Scale, len(f.Classes))
+	for k := range f.Classes {
+		fc := &f.Classes[k]
+		field := fmt.Sprintf("classes[%d]", k)
+		if name := strings.TrimSpace(fc.Name); name != "" {
+			field = fmt.Sprintf("classes[%d] (%s)", k, name)
+		}
+		out[k] = scales[fc.Scale]
+		if fc.Scale == "" {
+			is.add(fc.Lines.of(""), field+".scale", "missing; name one of the scales defined under scales")
+		} else if out[k] == nil {
+			if _, defined := f.Scales[fc.Scale]; !defined && !strings.HasPrefix(fc.Scale, PresetPrefix) {
+				is.add(fc.Lines.of("scale"), field+".scale", "unknown scale %q; define it under scales, or name a preset (%s%s)", fc.Scale, PresetPrefix, strings.ReplaceAll(presetNames(), ", ", ", "+PresetPrefix))
+			}
+		}
+	}
+	return scales, out
 }
 
 // Names lists the scale names, sorted.
@@ -113,4 +150,19 @@ func (s *Scale) parseCondition(text string, f csvFormat) (int, string) {
 		return -1, fmt.Sprintf("condition %q is not a number; %s", t, f.numberHint(err))
 	}
 	return -1, fmt.Sprintf("condition %q is neither a number nor a state of scale %q (%s)", t, s.Name, stateList(s))
+}
+
+// PresetScale returns a built-in scale by its name in a class's scale key
+// (preset:NAME), built as a scenario builds it.
+func PresetScale(name string) (*Scale, error) {
+	p, ok := strings.CutPrefix(name, PresetPrefix)
+	if !ok {
+		return nil, fmt.Errorf("%q is not a preset name; write %sNAME, one of %s", name, PresetPrefix, presetNames())
+	}
+	is := &issues{}
+	s := buildPreset(name, p, 0, nil, "scale", is)
+	if s == nil {
+		return nil, fmt.Errorf("unknown preset %q; presets are %s", p, presetNames())
+	}
+	return s, nil
 }

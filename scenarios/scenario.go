@@ -107,6 +107,13 @@ type Class struct {
 	// result; nil for a matrix typed into the scenario. Simulations draw
 	// matrices from it under matrix uncertainty.
 	Evidence *MatrixEvidence
+	// Parent and Family say that the class is one family of the class
+	// Parent of the scenario, split off by the family columns of its
+	// segment list with its own fitted matrix (splitFamilies); both are
+	// empty for a class as written.
+	Parent, Family string
+	// split holds the fit's families while the class waits to be split.
+	split *familySplit
 }
 
 // Total is the class's total quantity.

@@ -66,10 +66,15 @@ type fileDeterioration struct {
 	AllowImprovement bool      `yaml:"allow_improvement"`
 	Fit              string    `yaml:"fit"`       // a fit file (resolveFits)
 	FitClass         string    `yaml:"fit_class"` // its class, when not named as here
+	Family           string    `yaml:"family"`    // one family of it, or all
+	At               string    `yaml:"at"`        // its covariate model at named values
 	Lines            lines
 	// evidence is what the fit file keeps about the estimate (resolveFits),
 	// for simulations that draw the matrix.
 	evidence *MatrixEvidence
+	// split holds the fit's families when the class is to be split by the
+	// family columns of its segment list (resolveFits, splitFamilies).
+	split *familySplit
 }
 
 type fileTreatment struct {

@@ -52,6 +52,9 @@ doing nothing). Nothing is written.`,
 				for _, note := range sc.Notes {
 					fmt.Fprintf(cmd.OutOrStdout(), "  note: %s\n", note)
 				}
+				for _, n := range sc.Notes {
+					fmt.Fprintf(cmd.OutOrStdout(), "  note: %s\n", n)
+				}
 			}
 			return nil
 		},

@@ -4,6 +4,8 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
+	"path/filepath"
 	"slices"
 	"strconv"
 	"strings"
@@ -29,6 +31,10 @@ type fitOptions struct {
 	bootstrap                   int
 	seed                        int
 	skipBadRows                 bool
+	by                          []string
+	mergeAlike                  bool
+	covariates, at              []string
+	link                        string
 	save                        string
 	format, out, table          string
 }
@@ -51,9 +57,10 @@ inspection; 0, no, n, false, none and - also mean no work). Other columns are
 ignored; --column maps other header names.
 
 Scales: --scenario FILE uses each class's scale from that scenario (every
-class in the export must be one of its classes); --scale NAME uses one scale
-for every class, read from --scales FILE (any YAML file with a scales:
-section, such as a scenario) or from --scenario FILE.
+class in the export must be one of its classes), read as check reads it
+(extends, presets named in classes); --scale NAME uses one scale for every
+class, read from --scales FILE (any scenario-syntax YAML file) or from
+--scenario FILE; --scale preset:NAME needs no file.
 
 Methods (--method):
   counting        pairs of inspections one year apart: p_ij = n_ij / n_i
@@ -66,7 +73,21 @@ Methods (--method):
 
 Pairs with work between them are left out; a pair that improves without
 recorded work is a probable data error and is left out unless
---keep-improvements. --one-step allows at most one state a year.
+--keep-improvements. --one-step allows at most one state a year. When work
+looks condition-driven enough to bias the staying probabilities, the report
+warns with the figures.
+
+Families: --by COLUMN (repeat for several columns) fits a matrix per family
+of assets (traffic band, surface, district...) besides the class's, and
+tests whether the families differ (likelihood ratio; with counting, also
+Anderson and Goodman's chi-square); --merge-alike merges families a test
+cannot tell apart at the 5% level.
+
+Covariates: --covariate COLUMN (repeat) also fits an ordered logit model of
+the yearly drop in state from numeric columns (--link probit for ordered
+probit), with standard errors and a likelihood-ratio test against the matrix
+alone; --at COLUMN=V1,V2,... gives its matrices at those values (others at
+their means), for a scenario to use with deterioration: {fit: FILE, at: NAME}.
 
 --save FILE writes the fit file (YAML) that a scenario class can use with
 deterioration: {fit: FILE}. Output is a statistical estimate for planning, to
@@ -81,6 +102,10 @@ be reviewed by qualified people before it drives decisions.`,
   # An export with its own column names, one scale for every class
   wearplan fit export.csv --scales scenarios/examples/marrowby.yaml --scale pci \
       --column asset=SEGMENT_ID --column inspected=SURVEY_DATE --column condition=PCI
+
+  # A matrix per traffic band, and a model of wear from traffic and age
+  wearplan fit export.csv --scenario roads.yaml --method interval --by traffic_band \
+      --covariate aadt --covariate age --at aadt=500,5000,20000 --save roads-fit.yaml
 
   # A matrix from judgement alone, with what it implies
   wearplan fit --scenario scenarios/examples/marrowby.yaml \
@@ -106,6 +131,11 @@ be reviewed by qualified people before it drives decisions.`,
 	f.IntVar(&o.bootstrap, "bootstrap", 1000, "bootstrap resamples of assets for the intervals (0 for none)")
 	f.IntVar(&o.seed, "seed", 1, "seed of the bootstrap: the same seed gives the same result")
 	f.BoolVar(&o.skipBadRows, "skip-bad-rows", false, "leave out rows that cannot be read, with a warning, instead of stopping")
+	f.StringArrayVar(&o.by, "by", nil, "fit a matrix per family of assets, by the values of this column (repeat for several columns)")
+	f.BoolVar(&o.mergeAlike, "merge-alike", false, "with --by: merge families that a test cannot tell apart at the 5% level")
+	f.StringArrayVar(&o.covariates, "covariate", nil, "model the yearly drop in state from this numeric column too (repeat for several)")
+	f.StringArrayVar(&o.at, "at", nil, "COVARIATE=V1,V2,...: matrices of the covariate model at these values (repeat; others at their means)")
+	f.StringVar(&o.link, "link", "logit", "covariate model: logit (ordered logit) or probit (ordered probit)")
 	f.StringVar(&o.save, "save", "", "write the fit file (YAML) for scenarios to use with deterioration: {fit: FILE}")
 	f.StringVar(&o.format, "format", "table", "report format: "+strings.Join(fitFormats, ", "))
 	f.StringVar(&o.out, "out", "", "write the report to this file (for csv: a directory gets one file per table)")
@@ -133,8 +163,8 @@ func (o *fitOptions) validate(args []string) error {
 	if o.scenario != "" && o.scalesFile != "" {
 		return usageError("give --scenario or --scales, not both")
 	}
-	if o.scenario == "" && o.scalesFile == "" {
-		return usageError("say where the condition scales come from: --scenario FILE (each class's scale), or --scales FILE --scale NAME (one scale for every class)")
+	if o.scenario == "" && o.scalesFile == "" && !strings.HasPrefix(o.scale, scenarios.PresetPrefix) {
+		return usageError("say where the condition scales come from: --scenario FILE (each class's scale), --scales FILE --scale NAME (one scale for every class), or --scale preset:NAME (a built-in scale for every class)")
 	}
 	if o.scalesFile != "" && o.scale == "" {
 		return usageError("--scales FILE needs --scale NAME: the scale to use for every class")
@@ -144,6 +174,29 @@ func (o *fitOptions) validate(args []string) error {
 	}
 	if o.method == scenarios.MethodYearsInState && o.keepImprovements {
 		return usageError("--keep-improvements does not apply to --method years-in-state: a matrix from years in state never improves")
+	}
+	if len(o.by) > 0 && o.method == scenarios.MethodYearsInState {
+		return usageError("--by fits a matrix per family from the data; --method years-in-state sets matrices by judgement")
+	}
+	if o.mergeAlike && len(o.by) == 0 {
+		return usageError("--merge-alike merges families: give --by COLUMN")
+	}
+	for i, c := range o.by {
+		if strings.TrimSpace(c) == "" || slices.Contains(o.by[:i], c) {
+			return usageError("--by %q: name each column once", c)
+		}
+	}
+	if len(o.covariates) > 0 && o.method == scenarios.MethodYearsInState {
+		return usageError("--covariate fits a model from the data; --method years-in-state sets matrices by judgement")
+	}
+	if len(o.covariates) > 0 && o.keepImprovements {
+		return usageError("--covariate models drops in condition; it cannot be used with --keep-improvements")
+	}
+	if len(o.at) > 0 && len(o.covariates) == 0 {
+		return usageError("--at gives covariate values: name the covariates with --covariate COLUMN")
+	}
+	if o.link != "logit" && o.link != "probit" {
+		return usageError("--link %q: choose logit or probit", o.link)
 	}
 	if len(args) == 0 && o.method != scenarios.MethodYearsInState {
 		return usageError("give the inspection export (CSV); only --method years-in-state works without one")
@@ -194,6 +247,31 @@ func (o *fitOptions) columnMap() (scenarios.InspectionColumns, error) {
 	return cols, nil
 }
 
+// atValues reads --at COVARIATE=V1,V2,...
+func (o *fitOptions) atValues() ([]scenarios.CovariateValues, error) {
+	var out []scenarios.CovariateValues
+	for _, spec := range o.at {
+		name, list, ok := strings.Cut(spec, "=")
+		name = strings.TrimSpace(name)
+		if !ok || name == "" || strings.TrimSpace(list) == "" {
+			return nil, usageError("--at %q: write COVARIATE=V1,V2,..., e.g. --at aadt=500,5000,20000", spec)
+		}
+		if !slices.Contains(o.covariates, name) {
+			return nil, usageError("--at %q: %s is not a covariate; name it with --covariate %s", spec, name, name)
+		}
+		cv := scenarios.CovariateValues{Covariate: name}
+		for _, f := range strings.Split(list, ",") {
+			v, err := strconv.ParseFloat(strings.TrimSpace(f), 64)
+			if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
+				return nil, usageError("--at %q: %q is not a number", spec, strings.TrimSpace(f))
+			}
+			cv.Values = append(cv.Values, v)
+		}
+		out = append(out, cv)
+	}
+	return out, nil
+}
+
 func (o *fitOptions) judgement() (map[string][]float64, []string, error) {
 	out := map[string][]float64{}
 	var order []string
@@ -236,30 +314,49 @@ func (o *fitOptions) run(cmd *cobra.Command, args []string) error {
 	if err != nil {
 		return err
 	}
+	at, err := o.atValues()
+	if err != nil {
+		return err
+	}
 	source := o.scenario
 	if o.scalesFile != "" {
 		source = o.scalesFile
 	}
-	set, err := scenarios.LoadScaleSet(source)
-	if err != nil {
-		return err
+	set := &scenarios.ScaleSet{Scales: map[string]*scenarios.Scale{}}
+	if source != "" {
+		if set, err = scenarios.LoadScaleSet(source); err != nil {
+			return err
+		}
 	}
 	outs := outputsOf(cmd)
 	outs.read(source, "the file the scales come from")
+	for _, b := range set.Bases {
+		outs.read(filepath.Join(folderOf(source), filepath.FromSlash(b)), "a base scenario the scales come from")
+	}
 	if len(args) > 0 {
 		outs.read(args[0], "the inspection export")
 	}
 	scaleFor := set.ForClass
 	if o.scale != "" {
 		s, ok := set.Scales[o.scale]
+		if !ok && strings.HasPrefix(o.scale, scenarios.PresetPrefix) {
+			if s, err = scenarios.PresetScale(o.scale); err != nil {
+				return usageError("--scale: %v", err)
+			}
+			ok = true
+			if source == "" {
+				source = o.scale
+			}
+		}
 		if !ok {
-			return usageError("--scale %q: %s defines %s", o.scale, source, strings.Join(set.Names(), ", "))
+			return usageError("--scale %q: %s defines %s; or name a built-in scale, --scale preset:NAME", o.scale, source, strings.Join(set.Names(), ", "))
 		}
 		scaleFor = func(string) *scenarios.Scale { return s }
 	}
 	opt := scenarios.FitOptions{
 		Method: o.method, OneStep: o.oneStep, KeepImprovements: o.keepImprovements,
 		Bootstrap: o.bootstrap, Seed: o.seed, YearsInState: judged, ScalesFrom: source,
+		By: o.by, MergeAlike: o.mergeAlike, Covariates: o.covariates, Link: o.link, At: at,
 	}
 	var res *scenarios.FitResult
 	if len(args) == 0 {
@@ -277,6 +374,7 @@ func (o *fitOptions) run(cmd *cobra.Command, args []string) error {
 		res, err = scenarios.FitFromJudgement(classes, opt)
 	} else {
 		read.Columns, read.ScaleFor, read.Only, read.SkipBadRows = cols, scaleFor, o.classes, o.skipBadRows
+		read.By, read.Covariates = o.by, o.covariates
 		res, err = o.fitFile(args[0], read, opt)
 	}
 	if err != nil {

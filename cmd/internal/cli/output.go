@@ -141,10 +141,7 @@ func (o *outputs) read(path, what string) {
 
 // readScenario notes every file a scenario was read from.
 func (o *outputs) readScenario(path string, sc *scenarios.Scenario) {
-	dir := filepath.Dir(path)
-	if real, err := filepath.EvalSymlinks(path); err == nil {
-		dir = filepath.Dir(real)
-	}
+	dir := folderOf(path)
 	for i, in := range sc.Inputs {
 		what := "a file the scenario names"
 		if i == 0 {
@@ -152,6 +149,15 @@ func (o *outputs) readScenario(path string, sc *scenarios.Scenario) {
 		}
 		o.read(filepath.Join(dir, filepath.FromSlash(in.Name)), what)
 	}
+}
+
+// folderOf is the folder the files a file names are relative to: that of
+// the file a symbolic link at path leads to.
+func folderOf(path string) string {
+	if real, err := filepath.EvalSymlinks(path); err == nil {
+		return filepath.Dir(real)
+	}
+	return filepath.Dir(path)
 }
 
 // outputError is a refusal to write: a usage error (exit 2) naming the

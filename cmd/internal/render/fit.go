@@ -12,7 +12,7 @@ import (
 )
 
 // FitCSVTables names the tables of a fit that CSV can write.
-var FitCSVTables = []string{"matrix", "states", "fit", "condition", "data", "counts"}
+var FitCSVTables = []string{"matrix", "states", "fit", "condition", "data", "counts", "families", "homogeneity", "covariates", "at"}
 
 // FitJSON writes a fit result as JSON: the fit file's content.
 func FitJSON(w io.Writer, r *scenarios.FitResult) error {
@@ -133,6 +133,172 @@ func gofSentence(g *scenarios.FitTest) string {
 		g.Statistic, g.DF, g.Rows, g.Cells, count(g.Pairs), pvalue(*g.PValue), g.Note)
 }
 
+// familyStayTable compares the families' staying probabilities and years
+// in state with the class's, state by state.
+func familyStayTable(c *scenarios.FitClass) table {
+	t := table{header: []string{"STATE"}, right: []bool{false}}
+	for _, f := range c.Families {
+		t.header = append(t.header, f.Family)
+		t.right = append(t.right, true)
+	}
+	t.header = append(t.header, "WHOLE CLASS")
+	t.right = append(t.right, true)
+	pairs := []string{"pairs used"}
+	for _, f := range c.Families {
+		pairs = append(pairs, count(f.Data.UsedByMethod))
+	}
+	t.rows = append(t.rows, append(pairs, count(c.Data.UsedByMethod)))
+	cell := func(st scenarios.FitState) string {
+		if st.YearsInState == nil {
+			return prob(st.Stay)
+		}
+		return fmt.Sprintf("%s (%s y)", prob(st.Stay), years(*st.YearsInState))
+	}
+	for i, st := range c.PerState[:len(c.PerState)-1] {
+		row := []string{st.State}
+		for _, f := range c.Families {
+			row = append(row, cell(f.PerState[i]))
+		}
+		t.rows = append(t.rows, append(row, cell(st)))
+	}
+	return t
+}
+
+func homogeneitySentence(c *scenarios.FitClass) string {
+	s := homogeneityText(c, c.Homogeneity)
+	if c.MergedHomogeneity != nil {
+		s += ". After merging, " + homogeneityText(c, c.MergedHomogeneity)
+	}
+	return s
+}
+
+func homogeneityText(c *scenarios.FitClass, h *scenarios.FitHomogeneity) string {
+	if h == nil {
+		return fmt.Sprintf("one family only (%s): nothing to compare", c.Families[0].Family)
+	}
+	if h.LikelihoodRatio == nil {
+		return h.Note
+	}
+	s := fmt.Sprintf("likelihood-ratio chi-square %.2f on %d degrees of freedom, p %s", h.LikelihoodRatio.Statistic, h.LikelihoodRatio.DF, pSentence(*h.LikelihoodRatio.PValue))
+	if ag := h.AndersonGoodman; ag != nil {
+		s += fmt.Sprintf(" (Anderson and Goodman's chi-square %.2f, p %s)", ag.Statistic, pSentence(*ag.PValue))
+	}
+	return s + ": " + h.Note
+}
+
+func coefficientNames(cv *scenarios.FitCovariates) []string {
+	var out []string
+	for _, c := range cv.Coefficients {
+		out = append(out, c.Covariate)
+	}
+	return out
+}
+
+// membersNote names the values a merged family covers.
+func membersNote(f *scenarios.FitClass, c *scenarios.FitClass) string {
+	if len(f.Members) < 2 {
+		return ""
+	}
+	return fmt.Sprintf(" (%s values %s, merged)", strings.Join(c.By, "/"), strings.Join(f.Members, ", "))
+}
+
+func mergeSentence(m scenarios.FitMerge) string {
+	return fmt.Sprintf("%s and %s into %s (likelihood-ratio chi-square %.2f on %d degrees of freedom, p %s)",
+		m.Merged[0], m.Merged[1], m.Into, m.Test.Statistic, m.Test.DF, pSentence(*m.Test.PValue))
+}
+
+// pSentence writes "= 0.0123" or "< 0.0001".
+func pSentence(p float64) string {
+	if p < 0.0001 {
+		return "< 0.0001"
+	}
+	return "= " + strconv.FormatFloat(p, 'f', 4, 64)
+}
+
+// coefficientTable lists a covariate model's coefficients.
+func coefficientTable(cv *scenarios.FitCovariates) table {
+	t := table{header: []string{"COVARIATE", "MEAN", "SD", "COEFFICIENT", "STANDARD ERROR", "Z", "P"}, right: []bool{false, true, true, true, true, true, true}}
+	g := func(v float64) string { return strconv.FormatFloat(v, 'g', 4, 64) }
+	for _, c := range cv.Coefficients {
+		t.rows = append(t.rows, []string{c.Covariate, g(c.Mean), g(c.SD), g(c.Coefficient), g(c.StandardError), strconv.FormatFloat(c.Z, 'f', 2, 64), pvalue(c.PValue)})
+	}
+	return t
+}
+
+// atStayTable compares the staying probability (years in state) of the
+// covariate model's matrices.
+func atStayTable(c *scenarios.FitClass, cv *scenarios.FitCovariates) table {
+	t := table{header: []string{"STATE"}, right: []bool{false}}
+	for _, a := range cv.At {
+		name := a.Name
+		if a.Extrapolated {
+			name += " *"
+		}
+		t.header = append(t.header, name)
+		t.right = append(t.right, true)
+	}
+	for i := 0; i+1 < len(c.States); i++ {
+		row := []string{c.States[i]}
+		for _, a := range cv.At {
+			cell := prob(a.Deterioration.Matrix[i][i])
+			if y := a.YearsInState[i]; y != nil {
+				cell += fmt.Sprintf(" (%s y)", years(*y))
+			}
+			row = append(row, cell)
+		}
+		t.rows = append(t.rows, row)
+	}
+	return t
+}
+
+func covariateSentence(cv *scenarios.FitCovariates) string {
+	link := "ordered logit"
+	if cv.Link == "probit" {
+		link = "ordered probit"
+	}
+	return fmt.Sprintf("%s model of the yearly drop in state (Madanat, Mishalani and Wan Ibrahim, 1995), %s pairs; a positive coefficient means faster wear as the covariate grows. Likelihood ratio against the matrix without covariates: %.2f on %d degrees of freedom, p %s: %s",
+		link, count(cv.Pairs), cv.LikelihoodRatio.Statistic, cv.LikelihoodRatio.DF, pSentence(*cv.LikelihoodRatio.PValue), cv.Note)
+}
+
+// extrapolationNote explains the asterisk of extrapolated columns.
+func extrapolationNote(cv *scenarios.FitCovariates) string {
+	for _, a := range cv.At {
+		if a.Extrapolated {
+			return "* a chosen value lies outside the values of the pairs fitted: the matrix there is an extrapolation, not an estimate\n"
+		}
+	}
+	return ""
+}
+
+// covariateShort is the covariate sentence for a family.
+func covariateShort(cv *scenarios.FitCovariates) string {
+	return fmt.Sprintf("%s pairs; likelihood ratio against its matrix without covariates %.2f on %d degrees of freedom, p %s",
+		count(cv.Pairs), cv.LikelihoodRatio.Statistic, cv.LikelihoodRatio.DF, pSentence(*cv.LikelihoodRatio.PValue))
+}
+
+func atNote(cv *scenarios.FitCovariates) string {
+	var means []string
+	for _, v := range cv.At[0].Values {
+		if v.AtMean {
+			means = append(means, fmt.Sprintf("%s %s", v.Covariate, strconv.FormatFloat(v.Value, 'g', 6, 64)))
+		}
+	}
+	if len(means) == 0 {
+		return ""
+	}
+	return " (at the mean of the others: " + strings.Join(means, ", ") + ")"
+}
+
+// optimizerSentence says how the interval method's maximisation ended.
+func optimizerSentence(o *scenarios.FitOptimizer) string {
+	starts := fmt.Sprintf("%d of %d starts reached it", o.StartsAtBest, o.Starts)
+	if o.StartsAtBest == o.Starts {
+		starts = fmt.Sprintf("all %d starts reached it", o.Starts)
+	}
+	return fmt.Sprintf("Optimizer: log-likelihood %.2f, a maximum (%s; no move of probability between entries of a row "+
+		"raises it: Karush-Kuhn-Tucker residual %.1e per pair, tolerance %.0e)", o.LogLikelihood, starts, o.KKT.DualInfeasibility, o.KKT.Tolerance)
+}
+
 func pvalue(p float64) string {
 	if p < 0.0001 {
 		return "< 0.0001"
@@ -177,11 +343,14 @@ func FitText(w io.Writer, r *scenarios.FitResult) error {
 		tabulate(ew, fitMatrixTable(c))
 		ew.printf("\nPer state: %s\n", bootstrapSentence(r, c))
 		tabulate(ew, fitStateTable(c))
+		if c.Selection != nil && c.Selection.Warning != "" {
+			ew.printf("%s\n", wrap("Caution: pairs left out for work may make these staying probabilities too high; see the warning at the end, with the figures.", 100))
+		}
 		if c.GoodnessOfFit != nil {
 			ew.printf("\nGoodness of fit: %s\n", wrap(gofSentence(c.GoodnessOfFit), 100))
 		}
 		if c.Optimizer != nil {
-			ew.printf("Optimizer: log-likelihood %.2f after %d iterations (%s)\n", c.Optimizer.LogLikelihood, c.Optimizer.Iterations, c.Optimizer.Status)
+			ew.printf("%s\n", wrap(optimizerSentence(c.Optimizer), 100))
 		}
 		if len(c.MeanCondition) > 0 {
 			ew.printf("\nMean condition index by years since each asset's first inspection (before any recorded work),\n")
@@ -197,6 +366,40 @@ func FitText(w io.Writer, r *scenarios.FitResult) error {
 			return err
 		}
 		ew.printf("\nPaste into the scenario's class %s (or use deterioration: {fit: FILE} with --save FILE):\n%s", c.Class, block)
+		if cv := c.Covariates; cv != nil {
+			ew.printf("\n-- %s with covariates (%s) --\n\n%s\n", c.Class, strings.Join(coefficientNames(cv), ", "), wrap(covariateSentence(cv), 100))
+			tabulate(ew, coefficientTable(cv))
+			ew.printf("\n%s\n", wrap(fmt.Sprintf("Staying probability (years in state) at chosen values%s; use one with deterioration: {fit: FILE, fit_class: %s, at: NAME}", atNote(cv), c.Class), 100))
+			tabulate(ew, atStayTable(c, cv))
+			ew.printf("%s", extrapolationNote(cv))
+		}
+		if len(c.Families) > 0 {
+			ew.printf("\n-- %s by family (%s) --\n", c.Class, strings.Join(c.By, ", "))
+			ew.printf("\n%s\n", wrap("Do the families differ? "+homogeneitySentence(c), 100))
+			for _, m := range c.Merges {
+				ew.printf("%s\n", wrap("Merged "+mergeSentence(m), 100))
+			}
+			ew.printf("\nStaying probability (years in state) by family\n")
+			tabulate(ew, familyStayTable(c))
+			for k := range c.Families {
+				f := &c.Families[k]
+				f.States = c.States
+				ew.printf("\n%s\n", wrap(fmt.Sprintf("Family %s%s: one-year transition matrix; use with deterioration: {fit: FILE, fit_class: %s, family: %s}",
+					f.Family, membersNote(f, c), c.Class, f.Family), 100))
+				tabulate(ew, fitMatrixTable(f))
+				if cv := f.Covariates; cv != nil {
+					ew.printf("%s\n", wrap(fmt.Sprintf("Family %s with covariates: %s", f.Family, covariateShort(cv)), 100))
+					tabulate(ew, coefficientTable(cv))
+					ew.printf("%s\n", wrap(fmt.Sprintf("At chosen values%s; use one with deterioration: {fit: FILE, fit_class: %s, family: %s, at: NAME}", atNote(cv), c.Class, f.Family), 100))
+					tabulate(ew, atStayTable(f, cv))
+					ew.printf("%s", extrapolationNote(cv))
+				}
+				f.States = nil
+				for _, n := range f.Notes {
+					ew.printf("Note: %s\n", wrap(n, 100))
+				}
+			}
+		}
 	}
 	for _, warn := range r.Warnings {
 		ew.printf("\nWarning: %s\n", wrap(warn, 100))
@@ -268,6 +471,43 @@ func FitMarkdown(w io.Writer, r *scenarios.FitResult) error {
 			return err
 		}
 		ew.printf("\n### For the scenario\n\n```yaml\n%s```\n", block)
+		if cv := c.Covariates; cv != nil {
+			ew.printf("\n### With covariates (%s)\n\n%s.\n\n", strings.Join(coefficientNames(cv), ", "), covariateSentence(cv))
+			mdTable(ew, coefficientTable(cv))
+			ew.printf("\nStaying probability (years in state) at chosen values%s; use one with `deterioration: {fit: FILE, fit_class: %s, at: NAME}`.\n\n", atNote(cv), c.Class)
+			mdTable(ew, atStayTable(c, cv))
+			if n := extrapolationNote(cv); n != "" {
+				ew.printf("\n%s", n)
+			}
+		}
+		if len(c.Families) > 0 {
+			ew.printf("\n### By family (%s)\n\n%s.\n", strings.Join(c.By, ", "), homogeneitySentence(c))
+			for _, m := range c.Merges {
+				ew.printf("\n- Merged %s\n", mergeSentence(m))
+			}
+			ew.printf("\nStaying probability (years in state) by family:\n\n")
+			mdTable(ew, familyStayTable(c))
+			for k := range c.Families {
+				f := &c.Families[k]
+				f.States = c.States
+				ew.printf("\n#### Family %s\n\nUse with `deterioration: {fit: FILE, fit_class: %s, family: %s}`%s.\n\n",
+					f.Family, c.Class, f.Family, membersNote(f, c))
+				mdTable(ew, fitMatrixTable(f))
+				if cv := f.Covariates; cv != nil {
+					ew.printf("\nWith covariates: %s.\n\n", covariateShort(cv))
+					mdTable(ew, coefficientTable(cv))
+					ew.printf("\nAt chosen values%s; use one with `deterioration: {fit: FILE, fit_class: %s, family: %s, at: NAME}`.\n\n", atNote(cv), c.Class, f.Family)
+					mdTable(ew, atStayTable(f, cv))
+					if n := extrapolationNote(cv); n != "" {
+						ew.printf("\n%s", n)
+					}
+				}
+				f.States = nil
+				for _, n := range f.Notes {
+					ew.printf("\n- %s\n", n)
+				}
+			}
+		}
 	}
 	if len(r.Warnings) > 0 {
 		ew.printf("\n## Warnings\n\n")
@@ -343,6 +583,63 @@ func FitCSV(w io.Writer, r *scenarios.FitResult, name string) error {
 					}
 				}
 			}
+		}
+	case "families":
+		rows = append(rows, []string{"class", "family", "members", "from_state", "to_state", "probability"})
+		for _, c := range r.Classes {
+			for _, f := range c.Families {
+				for i, row := range f.Deterioration.Matrix {
+					for j, v := range row {
+						rows = append(rows, []string{c.Class, f.Family, strings.Join(f.Members, "|"), c.States[i], c.States[j], Plain(v)})
+					}
+				}
+			}
+		}
+	case "covariates":
+		rows = append(rows, []string{"class", "family", "covariate", "mean", "standard_deviation", "coefficient", "standard_error", "z", "p_value", "likelihood_ratio", "degrees_of_freedom", "likelihood_ratio_p_value"})
+		for _, c := range r.Classes {
+			for _, g := range append([]scenarios.FitClass{c}, c.Families...) {
+				cv := g.Covariates
+				if cv == nil {
+					continue
+				}
+				for _, k := range cv.Coefficients {
+					rows = append(rows, []string{c.Class, g.Family, k.Covariate, Plain(k.Mean), Plain(k.SD), Plain(k.Coefficient), Plain(k.StandardError), Plain(k.Z), Plain(k.PValue),
+						Plain(cv.LikelihoodRatio.Statistic), fmt.Sprint(cv.LikelihoodRatio.DF), opt(cv.LikelihoodRatio.PValue)})
+				}
+			}
+		}
+	case "at":
+		rows = append(rows, []string{"class", "family", "at", "from_state", "to_state", "probability"})
+		for _, c := range r.Classes {
+			for _, g := range append([]scenarios.FitClass{c}, c.Families...) {
+				if g.Covariates == nil {
+					continue
+				}
+				for _, a := range g.Covariates.At {
+					for i, row := range a.Deterioration.Matrix {
+						for j, v := range row {
+							rows = append(rows, []string{c.Class, g.Family, a.Name, c.States[i], c.States[j], Plain(v)})
+						}
+					}
+				}
+			}
+		}
+	case "homogeneity":
+		rows = append(rows, []string{"class", "by", "families", "likelihood_ratio", "degrees_of_freedom", "p_value", "anderson_goodman", "anderson_goodman_p_value", "differ"})
+		for _, c := range r.Classes {
+			h := c.Homogeneity
+			if h == nil {
+				continue
+			}
+			row := []string{c.Class, strings.Join(c.By, "|"), fmt.Sprint(h.Families), "", "", "", "", "", fmt.Sprint(h.Differ)}
+			if t := h.LikelihoodRatio; t != nil {
+				row[3], row[4], row[5] = Plain(t.Statistic), fmt.Sprint(t.DF), opt(t.PValue)
+			}
+			if t := h.AndersonGoodman; t != nil {
+				row[6], row[7] = Plain(t.Statistic), opt(t.PValue)
+			}
+			rows = append(rows, row)
 		}
 	default:
 		return fmt.Errorf("unknown table %q; choose one of %s", name, strings.Join(FitCSVTables, ", "))
