@@ -45,6 +45,10 @@ type Treatment struct {
 	// SkipsAging is true when treated units do not also age during the year
 	// of treatment (the year's transition is E instead of E·P).
 	SkipsAging bool
+	// MinInterval is the number of years a quantity must wait after any
+	// treatment before it may get this one (0 or 1: no wait; History
+	// widens the states of classes that need it).
+	MinInterval int
 }
 
 // EffectRow returns row i of E for an n-state scale: the distribution right
@@ -93,6 +97,9 @@ func (t *Treatment) Validate(n int) error {
 	}
 	if len(t.Cost) != n {
 		errs = append(errs, fmt.Errorf("treatment %q: %d costs for a %d-state scale", t.Name, len(t.Cost), n))
+	}
+	if t.MinInterval < 0 {
+		errs = append(errs, fmt.Errorf("treatment %q: interval of %d years; give 0 or more", t.Name, t.MinInterval))
 	}
 	seen := map[int]bool{}
 	// An effect that does not fit the scale (a target state outside it, a
