@@ -41,6 +41,9 @@ type Segment struct {
 	// Priority is the value of the inventory's priority expression (higher
 	// first); 0 when there is none.
 	Priority float64
+	// LastTreated is the calendar year of the segment's last treatment
+	// (the optional last_treated column); 0 when not given.
+	LastTreated int
 	// Geometry, passed through for GIS: WKT as written, or a point.
 	WKT      string
 	Lon, Lat float64
@@ -100,7 +103,9 @@ type fileColumns struct {
 	WKT       string `yaml:"wkt"`
 	Lon       string `yaml:"lon"`
 	Lat       string `yaml:"lat"`
-	Lines     lines
+	// LastTreated is the optional column of the year of the last work.
+	LastTreated string `yaml:"last_treated"`
+	Lines       lines
 }
 
 func (s *fileInventoryCSV) decodeNode(d *decoder, n *yaml.Node, path string) {
@@ -325,7 +330,7 @@ func delimiterRune(s string) (rune, bool) {
 
 // columns are the positions of the roles in a CSV's header, -1 if absent.
 type columns struct {
-	id, class, quantity, condition, name, wkt, lon, lat int
+	id, class, quantity, condition, name, wkt, lon, lat, lastTreated int
 }
 
 // normalColumn is how header names are compared: trimmed, any case.
@@ -416,6 +421,9 @@ func headerColumns(header []string, spec *fileInventoryCSV, needClass bool, comm
 		wkt:       find("wkt", given.WKT, false),
 		lon:       find("lon", given.Lon, false),
 		lat:       find("lat", given.Lat, false),
+		// The year of the last work, for classes whose treatments keep
+		// intervals (treatments.History).
+		lastTreated: find("last_treated", given.LastTreated, false),
 	}
 	if ok && (c.lon < 0) != (c.lat < 0) {
 		ci.add(line, "", "give both lon and lat columns for point geometry, or neither")
@@ -688,6 +696,14 @@ func readRows(sc *Scenario, j inventoryJob, r io.Reader, comma rune, inv *Invent
 					seg.Lon, seg.Lat, seg.HasPoint = x, y, true
 				}
 			}
+		}
+		if cols.lastTreated >= 0 {
+			v := strings.TrimSpace(rec[cols.lastTreated])
+			y, msg := lastTreatedYear(v, sc.StartYear)
+			if msg != "" {
+				fail(header[cols.lastTreated], "%s", msg)
+			}
+			seg.LastTreated = y
 		}
 		if bad {
 			continue

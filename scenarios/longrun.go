@@ -99,6 +99,7 @@ func LongRun(sc *Scenario, opt Options) (*LongRunResult, error) {
 		cond[k] = [][]float64{sc.Classes[k].Initial, lr.Distribution[k]}
 	}
 	today := assemble(&Scenario{Name: sc.Name, Classes: sc.Classes, Horizon: 1, StartYear: sc.StartYear, Weighting: sc.Weighting}, p, cond, nil, nil)
+	views := conditionClasses(sc, p)
 	r.Today = today.Initial
 	r.Network = today.Years[0].Network
 	for k := range sc.Classes {
@@ -110,13 +111,18 @@ func LongRun(sc *Scenario, opt Options) (*LongRunResult, error) {
 		// tie-break stage may move that much (optimize.holdTolerance), and
 		// no one plans a millionth of a network.
 		floor := 1e-6 * c.Total()
-		for i, byAction := range lr.Policy[k] {
-			inState := lr.Distribution[k][i]
+		dist := foldQuantities(c, lr.Distribution[k])
+		policy := lr.Policy[k]
+		if c.History != nil {
+			policy = foldByAction(c.History, policy)
+		}
+		for i, byAction := range policy {
+			inState := dist[i]
 			for a, q := range byAction {
 				if q <= floor {
 					continue
 				}
-				act := &p.Classes[k].Actions[a]
+				act := &views[k].Actions[a]
 				cost := q * act.Cost[i]
 				if a == 0 && c.Routine != nil {
 					cost = q * c.Routine[i]

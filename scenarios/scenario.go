@@ -107,6 +107,23 @@ type Class struct {
 	// result; nil for a matrix typed into the scenario. Simulations draw
 	// matrices from it under matrix uncertainty.
 	Evidence *MatrixEvidence
+	// AfterWork is the wear of the first years after any treatment (nil:
+	// the usual matrix throughout).
+	AfterWork *treatments.AfterWork
+	// History widens the class's states with the years since its last
+	// treatment when its treatments keep intervals or it wears differently
+	// after work; nil otherwise (history.go).
+	History *treatments.History
+	// LastTreated are the shares of the class's quantity last treated in
+	// each year, for a class whose inventory is written in the scenario
+	// (segment lists give Segment.LastTreated instead).
+	LastTreated []LastTreated
+}
+
+// LastTreated is the share of each state's quantity last treated in Year.
+type LastTreated struct {
+	Year  int
+	Share []float64
 }
 
 // Total is the class's total quantity.
@@ -213,17 +230,11 @@ func (s *Scenario) Problem() (*optimize.Problem, error) {
 	for k := range s.Classes {
 		c := &s.Classes[k]
 		index[c.Name] = k
-		acts, err := treatments.Actions(c.Transition, c.Treatments)
+		oc, err := c.problemClass(s.StartYear)
 		if err != nil {
 			return nil, fmt.Errorf("class %q: %w", c.Name, err)
 		}
-		score := make([]float64, len(c.Scale.States))
-		for i, st := range c.Scale.States {
-			score[i] = c.Scale.Score(st.Value)
-		}
-		p.Classes = append(p.Classes, optimize.Class{
-			Name: c.Name, Initial: c.Initial, Score: score, Group: c.Scale.Group, Weight: c.Weight, Actions: acts, Routine: c.Routine,
-		})
+		p.Classes = append(p.Classes, oc)
 	}
 	for _, g := range s.BudgetGroups {
 		gb := optimize.GroupBudget{Name: g.Name, Yearly: g.Yearly}
@@ -233,6 +244,9 @@ func (s *Scenario) Problem() (*optimize.Problem, error) {
 		p.GroupBudgets = append(p.GroupBudgets, gb)
 	}
 	for _, t := range s.Targets {
+		// A target on states of one class (a per-state mask) must be
+		// widened here for a class with a History, through
+		// treatments.Widen: this is where the optimizer's states are chosen.
 		p.Targets = append(p.Targets, t.Spec)
 	}
 	return p, nil
