@@ -178,24 +178,25 @@ func lastTreatedYear(cell string, start int) (int, string) {
 }
 
 // historyNotes says, for classes with a History, what was assumed about
-// quantities whose last treatment is not known, and for the others that a
+// quantities whose last treatment is not known (one note for the classes
+// typed as quantities, one for segment lists), and for the others that a
 // last_treated they give changes nothing.
 func historyNotes(sc *Scenario) {
+	var typed, segs []string
+	after := false
 	for k := range sc.Classes {
 		c := &sc.Classes[k]
 		if c.Scale == nil {
 			continue
 		}
-		given, of := 0, 0
-		if c.Segments != nil {
-			for j := range c.Segments {
-				if c.Segments[j].LastTreated > 0 {
-					given++
-				}
+		given := 0
+		for j := range c.Segments {
+			if c.Segments[j].LastTreated > 0 {
+				given++
 			}
-			of = len(c.Segments)
-		} else if len(c.LastTreated) > 0 {
-			given, of = 1, 1
+		}
+		if c.Segments == nil && len(c.LastTreated) > 0 {
+			given = 1
 		}
 		if c.History == nil {
 			if given > 0 {
@@ -203,18 +204,29 @@ func historyNotes(sc *Scenario) {
 			}
 			continue
 		}
-		past := fmt.Sprintf("%d or more years since its last treatment: free for every treatment interval", c.History.Span)
-		if c.AfterWork != nil {
-			past += " and past the wear after work"
-		}
 		switch {
-		case c.Segments != nil && given == 0:
-			sc.Notes = append(sc.Notes, fmt.Sprintf("class %s: the segment list gives no last_treated year, so every segment is taken as %s; add a last_treated column to say otherwise", c.Name, past))
-		case c.Segments != nil && given < of:
-			sc.Notes = append(sc.Notes, fmt.Sprintf("class %s: %d of %d segments give no last_treated year; they are taken as %s", c.Name, of-given, of, past))
+		case c.Segments != nil && given < len(c.Segments):
+			segs = append(segs, fmt.Sprintf("%s %d of %d", c.Name, len(c.Segments)-given, len(c.Segments)))
 		case c.Segments == nil && given == 0:
-			sc.Notes = append(sc.Notes, fmt.Sprintf("class %s: no last_treated given, so all of it is taken as %s; give last_treated shares to say otherwise", c.Name, past))
+			typed = append(typed, c.Name)
+		default:
+			continue
 		}
+		after = after || c.AfterWork != nil
+	}
+	past := "free for every treatment interval"
+	if after {
+		past += " and past any wear after work"
+	}
+	if len(typed) > 0 {
+		who, whose := "class "+typed[0]+" gives", "its"
+		if len(typed) > 1 {
+			who, whose = "classes "+strings.Join(typed, ", ")+" give", "their"
+		}
+		sc.Notes = append(sc.Notes, fmt.Sprintf("%s no last_treated, so all of %s quantity is taken as treated long ago: %s; give last_treated shares to say otherwise", who, whose, past))
+	}
+	if len(segs) > 0 {
+		sc.Notes = append(sc.Notes, fmt.Sprintf("segments that give no last_treated year are taken as treated long ago: %s (%s)", past, strings.Join(segs, ", ")))
 	}
 }
 

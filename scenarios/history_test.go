@@ -319,14 +319,14 @@ func TestForecastWithHistoryMatchesHandRoll(t *testing.T) {
 // nothing.
 func TestHistoryNotes(t *testing.T) {
 	sc := parse(t, sealScenario("\n    min_interval: 6"))
-	if notes := strings.Join(sc.Notes, " "); !strings.Contains(notes, "class lanes: no last_treated given, so all of it is taken as 6 or more years since its last treatment: free for every treatment interval") {
+	if notes := strings.Join(sc.Notes, " "); !strings.Contains(notes, "class lanes gives no last_treated, so all of its quantity is taken as treated long ago: free for every treatment interval;") {
 		t.Errorf("notes %q", sc.Notes)
 	}
 	r, err := scenarios.Forecast(sc)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !strings.Contains(strings.Join(r.Warnings, " "), "no last_treated given") {
+	if !strings.Contains(strings.Join(r.Warnings, " "), "gives no last_treated") {
 		t.Errorf("the forecast's warnings do not repeat the assumption: %q", r.Warnings)
 	}
 	if sc := parse(t, afterWorkScenario); len(sc.Notes) != 0 {
