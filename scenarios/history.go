@@ -412,6 +412,23 @@ func foldCondition(sc *Scenario, cond [][][]float64) [][][]float64 {
 	return out
 }
 
+// wideOnly keeps cond[k] of the classes whose quantities are by widened
+// state (nil for the others, and nil when there are none).
+func wideOnly(sc *Scenario, cond [][][]float64) [][][]float64 {
+	var out [][][]float64
+	for k := range cond {
+		h := sc.Classes[k].History
+		if h == nil || len(cond[k]) == 0 || len(cond[k][len(cond[k])-1]) != h.States() {
+			continue
+		}
+		if out == nil {
+			out = make([][][]float64, len(cond))
+		}
+		out[k] = cond[k]
+	}
+	return out
+}
+
 // foldWork sums work[k][t][i][a] (quantities by state and action) back to
 // condition states, leaving work itself as it is.
 func foldWork(sc *Scenario, work [][][][]float64) [][][][]float64 {

@@ -474,3 +474,25 @@ func TestSimulateWithHistoryCentreMatchesPlan(t *testing.T) {
 		t.Fatal("the plan does no work: the widened policy was not exercised")
 	}
 }
+
+// TestDemoWorklistWithHistoryWithinTolerance: on the demo, whose seals keep
+// intervals and whose segments carry their last treatment, the indicative
+// years place the segments with each number of years since work against
+// the plan's quantities with that number, so every treatment's listed
+// quantity stays within the tolerance (two segments) of the plan's.
+func TestDemoWorklistWithHistoryWithinTolerance(t *testing.T) {
+	sc := loadDemo(t)
+	plan, err := scenarios.Plan(sc, scenarios.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	wl, err := scenarios.MakeWorklist(sc, plan, 5)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range wl.Checks {
+		if !c.Within() {
+			t.Errorf("%d %s %s %s: listed %.3f of the plan's %.3f (tolerance %.3f)", c.Year, c.Class, c.State, c.Treatment, c.Listed, c.Planned, c.Tolerance)
+		}
+	}
+}

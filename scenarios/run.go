@@ -127,9 +127,11 @@ func indexPoints(sc *Scenario, t Target, score float64) float64 {
 // like optimize.Plan's. work and spend are nil for a forecast.
 func assemble(sc *Scenario, p *optimize.Problem, cond [][][]float64, work [][][][]float64, spend [][]float64) *Result {
 	// Everything reported is by condition state (history.go).
+	wide := wideOnly(sc, cond)
 	cond, work = foldCondition(sc, cond), foldWork(sc, work)
 	views := conditionClasses(sc, p)
 	r := &Result{
+		wide: wide,
 		Scenario: sc.Name, Source: sc.Source, Currency: sc.Currency, StartYear: sc.StartYear, Horizon: sc.Horizon,
 		DiscountRate: sc.DiscountRate, Escalation: sc.Escalation, Weighting: string(sc.Weighting),
 		Caution: Caution, Warnings: append([]string{}, sc.Notes...),

@@ -229,7 +229,7 @@ func listClass(w *Worklist, sc *Scenario, r *Result, k, years int) error {
 	}
 	for t := 1; t <= years; t++ {
 		if t > 1 {
-			l.expectedStates(r.Years[t-2].Classes[k].States)
+			l.expectedStates(r.Years[t-2].Classes[k].States, r.wideCondition(k, t-1))
 		}
 		if err := l.assignYear(w, sc, r.Years[t-1].Classes[k], t); err != nil {
 			return err
@@ -452,8 +452,12 @@ func (l *classLister) row(j, a, i int) []float64 {
 
 // expectedStates places the segments in states for the start of a later
 // year: ranked by expected state, worst first, against the plan's expected
-// quantities q (end of the previous year), worst state first.
-func (l *classLister) expectedStates(q Quantities) {
+// quantities q (end of the previous year), worst state first. For a class
+// with a History, when the plan's quantities by widened state are known
+// (wide), the segments with each number of years since work are placed
+// against the plan's quantities with that number, so that the segments a
+// treatment may have match the plan's.
+func (l *classLister) expectedStates(q Quantities, wide []float64) {
 	n := l.n
 	m := len(l.state)
 	if l.tie == nil {
@@ -482,17 +486,28 @@ func (l *classLister) expectedStates(q Quantities) {
 		}
 		return cmp.Compare(a.tie, b.tie)
 	})
-	s := n - 1
-	end := q[s].Quantity
-	at := 0.0
-	for _, k := range keys {
-		qj := l.c.Segments[k.j].Quantity
-		mid := at + qj/2
-		at += qj
-		for s > 0 && mid >= end {
-			s--
-			end += q[s].Quantity
+	groups, group := 1, func(int32) int { return 0 }
+	quantity := func(s, _ int) float64 { return q[s].Quantity }
+	if h := l.history; h != nil && wide != nil {
+		groups, group = h.Span, func(j int32) int { return l.since[j] - 1 }
+		quantity = func(s, g int) float64 { return wide[h.State(s, g+1)] }
+	}
+	for g := range groups {
+		s := n - 1
+		end := quantity(s, g)
+		at := 0.0
+		for _, k := range keys {
+			if group(k.j) != g {
+				continue
+			}
+			qj := l.c.Segments[k.j].Quantity
+			mid := at + qj/2
+			at += qj
+			for s > 0 && mid >= end {
+				s--
+				end += quantity(s, g)
+			}
+			l.state[k.j] = s
 		}
-		l.state[k.j] = s
 	}
 }
