@@ -131,7 +131,7 @@ func assemble(sc *Scenario, p *optimize.Problem, cond [][][]float64, work [][][]
 	cond, work = foldCondition(sc, cond), foldWork(sc, work)
 	views := conditionClasses(sc, p)
 	r := &Result{
-		wide: wide,
+		wide:     wide,
 		Scenario: sc.Name, Source: sc.Source, Currency: sc.Currency, StartYear: sc.StartYear, Horizon: sc.Horizon,
 		DiscountRate: sc.DiscountRate, Escalation: sc.Escalation, Weighting: string(sc.Weighting),
 		Caution: Caution, Warnings: append([]string{}, sc.Notes...),
