@@ -206,7 +206,7 @@ func historyNotes(sc *Scenario) {
 		}
 		switch {
 		case c.Segments != nil && given < len(c.Segments):
-			segs = append(segs, fmt.Sprintf("%s %d of %d", c.Name, len(c.Segments)-given, len(c.Segments)))
+			segs = append(segs, fmt.Sprintf("%s %s of %s", c.Name, money(float64(len(c.Segments)-given)), money(float64(len(c.Segments)))))
 		case c.Segments == nil && given == 0:
 			typed = append(typed, c.Name)
 		default:
