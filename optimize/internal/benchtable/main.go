@@ -236,7 +236,12 @@ func runPeer(pr peer, mps string, timeout time.Duration) result {
 // glpsolObjective reads the objective from glpsol's raw solution file
 // (the simplex's or the interior point's, whichever glpsol wrote).
 func glpsolObjective(_ []byte, sol string) (float64, error) {
-	obj, _, _, err := optimizetest.ReadGlpsolSolution(sol)
+	obj, optimal, _, err := optimizetest.ReadGlpsolSolution(sol)
+	if err == nil && !optimal {
+		// glpsol writes a solution file even when it gives up (a basis
+		// singular to working precision): its objective is no optimum.
+		return 0, errors.New("no optimum")
+	}
 	return obj, err
 }
 
