@@ -131,11 +131,30 @@ func TestLongRunSealEveryYear(t *testing.T) {
 		t.Errorf("long-run annual cost %.4f, value iteration %.4f", lr.AnnualCost, want)
 	}
 	t.Logf("good %.1f%% at %.0f a year (value iteration %.0f); without the interval 100%% at 420,000", 100*c.Shares.Good, lr.AnnualCost, 100*vi.Gain)
-	// Everything the long run reports is by condition state.
+	// Everything the long run reports is by condition state; the JSON
+	// splits each entry by years since work, and the seal only ever goes
+	// to lanes whose 6 years have passed.
+	sealed := 0.0
 	for _, e := range c.Policy {
 		if e.State != "Good" && e.State != "Fair" && e.State != "Poor" {
 			t.Errorf("policy entry on state %q", e.State)
 		}
+		sum := 0.0
+		for _, y := range e.ByYearsSinceWork {
+			sum += y.Quantity
+			if e.Treatment == "seal" && (y.Years < 6 || !y.OrMore) {
+				t.Errorf("the seal given %d years after work", y.Years)
+			}
+		}
+		if math.Abs(sum-e.Quantity) > 1e-6*100 {
+			t.Errorf("%s %s: %g by years since work, %g in all", e.State, e.Treatment, sum, e.Quantity)
+		}
+		if e.Treatment == "seal" {
+			sealed += e.Quantity
+		}
+	}
+	if sealed == 0 {
+		t.Error("the long run never seals: the interval case was not exercised")
 	}
 }
 
