@@ -53,6 +53,14 @@
 // objective with the total slack held at that minimum. Each positive slack is
 // a Shortfall: which target, which year, by how much.
 //
+// States need not be condition states only: a class whose treatments must
+// wait some years after any work, or that wears differently after work, is
+// handed in over its condition states widened with the years since work
+// (treatments.History), with each widened state scored and grouped as its
+// condition. The model above is then the exact one of the widened chain and
+// nothing here changes; Class.Labels name the widened states in exported
+// legends, and callers sum results back to condition states.
+//
 // Routine cost: a class may give a yearly cost per unit left untreated, by
 // state. It is charged on the do-nothing columns, escalates like treatment
 // prices, always enters the MinCost objective (life-cycle cost), and enters

@@ -20,10 +20,20 @@ type GenSpec struct {
 	// the worse half of the network once (0.7-1.3 times that, at random);
 	// zero means no budget.
 	BudgetShare float64
+	// Interval, when 2 or more, makes every third treatment (the first,
+	// the fourth, ...) wait that many years after any work, over classes
+	// widened with the years since work (treatments.History); all of
+	// today's quantity is past the interval. The rest of the problem is
+	// drawn as without it.
+	Interval int
 }
 
 func (s GenSpec) String() string {
-	return fmt.Sprintf("%dx%dx%dx%d", s.Classes, s.States, s.Treatments, s.Years)
+	out := fmt.Sprintf("%dx%dx%dx%d", s.Classes, s.States, s.Treatments, s.Years)
+	if s.Interval > 0 {
+		out += fmt.Sprintf("-interval%d", s.Interval)
+	}
+	return out
 }
 
 // randomChain returns an upper-triangular stochastic matrix whose units stay
@@ -117,7 +127,8 @@ func Generate(rng *rand.Rand, s GenSpec) *Problem {
 		}
 		c.Initial[0] += scale // never empty
 		c.Weight = 0.5 + rng.Float64()
-		acts, err := treatments.Actions(randomChain(rng, n), randomTreatments(rng, n, s.Treatments))
+		chain, ts := randomChain(rng, n), randomTreatments(rng, n, s.Treatments)
+		acts, err := treatments.Actions(chain, ts)
 		if err != nil {
 			panic(err)
 		}
@@ -132,6 +143,9 @@ func Generate(rng *rand.Rand, s GenSpec) *Problem {
 			if !math.IsInf(cheapest, 1) {
 				need += cheapest * c.Initial[i]
 			}
+		}
+		if s.Interval > 1 {
+			c = withInterval(c, chain, ts, s.Interval)
 		}
 		p.Classes = append(p.Classes, c)
 	}
@@ -161,4 +175,26 @@ func Generate(rng *rand.Rand, s GenSpec) *Problem {
 		p.Objective = MinCost
 	}
 	return p
+}
+
+// withInterval returns class c with every third of its treatments ts
+// waiting interval years after any work, over the widened states.
+func withInterval(c Class, chain *markov.Transition, ts []treatments.Treatment, interval int) Class {
+	for a := range ts {
+		if a%3 == 0 {
+			ts[a].MinInterval = interval
+		}
+	}
+	h := treatments.NewHistory(len(c.Initial), ts, nil)
+	acts, err := h.Actions(chain, nil, ts)
+	if err != nil {
+		panic(err)
+	}
+	wide := make([]float64, h.States())
+	for i, q := range c.Initial {
+		wide[h.State(i, h.Span)] = q
+	}
+	c.Initial, c.Actions = wide, acts
+	c.Score, c.Group = treatments.Widen(h, c.Score), treatments.Widen(h, c.Group)
+	return c
 }

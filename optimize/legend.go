@@ -35,6 +35,13 @@ func (b *builder) legend() []string {
 			acts[a] = fmt.Sprintf("%d %s", a, c.Actions[a].Name)
 		}
 		out = append(out, fmt.Sprintf("class %d: %s (network weight %s); actions: %s", k+1, c.Name, num(b.weights[k]), strings.Join(acts, ", ")))
+		if c.Labels != nil {
+			states := make([]string, len(c.Labels))
+			for i, l := range c.Labels {
+				states[i] = fmt.Sprintf("%d %s", i+1, l)
+			}
+			out = append(out, fmt.Sprintf("class %d states (I in its columns and flow rows): %s", k+1, strings.Join(states, "; ")))
+		}
 	}
 	for g, gb := range p.GroupBudgets {
 		out = append(out, fmt.Sprintf("budget group %d: %s", g+1, gb.Name))

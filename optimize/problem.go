@@ -68,6 +68,11 @@ type Class struct {
 	// Routine is the yearly cost per unit left untreated (do nothing) in
 	// each state at start-year prices; nil for none.
 	Routine []float64
+	// Labels name the states in the legend of exported models, for
+	// classes whose states are not simply condition states (a state
+	// widened with the years since work, treatments.History); nil for
+	// condition states numbered best first.
+	Labels []string
 }
 
 // Network is the Class index that Target uses for the whole network.
@@ -310,6 +315,9 @@ func (c *Class) validate() error {
 		if len(a.Applies) != n || len(a.Cost) != n || len(a.Rows) != n {
 			add("action %q does not match the %d-state scale", a.Name, n)
 		}
+	}
+	if c.Labels != nil && len(c.Labels) != n {
+		add("%d state labels for %d states", len(c.Labels), n)
 	}
 	if c.Routine != nil && len(c.Routine) != n {
 		add("%d routine costs for %d states", len(c.Routine), n)

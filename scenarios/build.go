@@ -16,8 +16,11 @@ import (
 // Limits on scenario values that catch typing mistakes early.
 const (
 	maxHorizon = 100
-	minYear    = 1900
-	maxYear    = 2300
+	// maxInterval bounds min_interval and after_work years: each year
+	// kept widens the class's states (treatments.History).
+	maxInterval = 50
+	minYear     = 1900
+	maxYear     = 2300
 )
 
 // build checks the decoded file and turns it into a Scenario, recording
@@ -348,6 +351,13 @@ func treatmentFor(ce *catalogueEntry, s *Scale, is *issues) (treatments.Treatmen
 		is.add(line, fld, format, args...)
 		ok = false
 	}
+	if ft.MinInterval != nil {
+		if v := *ft.MinInterval; v < 0 || v > maxInterval {
+			bad(ft.Lines.of("min_interval"), field+".min_interval", "%d years; give the least number of years between two treatments of the same quantity, 0 (no wait) to %d", v, maxInterval)
+		} else {
+			t.MinInterval = v
+		}
+	}
 	stateOf := func(name string, line int, fld string) int {
 		i := s.StateIndex(name)
 		if i < 0 {
@@ -609,6 +619,8 @@ func buildClasses(sc *Scenario, f *fileScenario, scales map[string]*Scale, class
 					}
 				}
 			}
+			fromCSV := fc.Inventory == nil && (fc.InventoryCSV != nil || f.InventoryCSV != nil)
+			buildHistory(sc, &c, fc, field, fromCSV, is)
 		}
 		sc.Classes = append(sc.Classes, c)
 	}
@@ -624,6 +636,7 @@ func buildClasses(sc *Scenario, f *fileScenario, scales map[string]*Scale, class
 		}
 	}
 	readInventories(sc, f, is)
+	historyNotes(sc)
 	switch {
 	case withWeight > 0 && withWeight < len(f.Classes):
 		is.add(f.Lines.of("classes"), "classes", "%d of %d classes give a weight; give weight for every class or for none", withWeight, len(f.Classes))
@@ -708,15 +721,28 @@ func buildDeterioration(c *Class, fc *fileClass, field string, is *issues) {
 		is.add(fc.Lines.of(""), fld, "missing; give matrix: (one row per state), years_in_state: (one value per state but the worst) or fit: (a fit file)")
 		return
 	}
-	n := len(c.Scale.States)
+	if t := transitionOf(d, c.Scale, fld, is); t != nil {
+		c.Transition = t
+		if d.Matrix != nil {
+			c.Evidence = d.evidence
+			c.split = d.split
+		}
+	}
+}
+
+// transitionOf checks a deterioration written as a matrix or as years in
+// state against scale s and returns its matrix, or nil after recording
+// its problems.
+func transitionOf(d *fileDeterioration, s *Scale, fld string, is *issues) *markov.Transition {
+	n := len(s.States)
 	switch {
 	case d.Matrix != nil && d.YearsInState != nil:
 		is.add(d.Lines.of(""), fld, "give matrix or years_in_state, not both")
 	case d.Matrix != nil:
 		m := d.Matrix
 		if len(m.Rows) != n {
-			is.add(m.Line, fld+".matrix", "%d rows for the %d states of scale %q; give one row per state, best first", len(m.Rows), n, c.Scale.Name)
-			return
+			is.add(m.Line, fld+".matrix", "%d rows for the %d states of scale %q; give one row per state, best first", len(m.Rows), n, s.Name)
+			return nil
 		}
 		t, err := markov.NewTransition(m.Rows, markov.Options{AllowImprovement: d.AllowImprovement})
 		if err != nil {
@@ -729,22 +755,20 @@ func buildDeterioration(c *Class, fc *fileClass, field string, is *issues) {
 					}
 					msg := ee.Reason
 					if ee.Col >= 0 {
-						msg = fmt.Sprintf("from %q to %q: %s", c.Scale.States[ee.Row].Name, c.Scale.States[ee.Col].Name, ee.Reason)
+						msg = fmt.Sprintf("from %q to %q: %s", s.States[ee.Row].Name, s.States[ee.Col].Name, ee.Reason)
 					}
 					is.add(line, fmt.Sprintf("%s.matrix[%d]", fld, ee.Row), "%s", msg)
 					continue
 				}
 				is.add(m.Line, fld+".matrix", "%v", e)
 			}
-			return
+			return nil
 		}
-		c.Transition = t
-		c.Evidence = d.evidence
-		c.split = d.split
+		return t
 	case d.YearsInState != nil:
 		if len(d.YearsInState) != n-1 {
 			is.add(d.Lines.of("years_in_state"), fld+".years_in_state", "%d values for %d states; give one per state except the worst (%d)", len(d.YearsInState), n, n-1)
-			return
+			return nil
 		}
 		if d.AllowImprovement {
 			is.add(d.Lines.of("allow_improvement"), fld+".allow_improvement", "only applies to matrix; years_in_state never improves")
@@ -759,12 +783,13 @@ func buildDeterioration(c *Class, fc *fileClass, field string, is *issues) {
 				}
 				is.add(d.Lines.of("years_in_state"), fld+".years_in_state", "%v", e)
 			}
-			return
+			return nil
 		}
-		c.Transition = t
+		return t
 	default:
 		is.add(d.Lines.of(""), fld, "give matrix: (one row per state), years_in_state: (one value per state but the worst) or fit: (a fit file)")
 	}
+	return nil
 }
 
 // flatten undoes errors.Join.

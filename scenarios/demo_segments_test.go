@@ -46,6 +46,11 @@ type demoClassSpec struct {
 	aadtLo  int
 	aadtHi  int
 	road    bool
+	// lastTreated bounds, per state, the years between the segment's last
+	// treatment and the plan's start (0, 0: not known), and known is the
+	// chance in percent that a segment of the state has a year at all.
+	lastLo, lastHi []int64
+	known          []int64
 }
 
 // demoInventory is the demo's inventory per class and state (invented).
@@ -60,6 +65,11 @@ func demoInventory() []demoClassSpec {
 	demoPCI := []string{"Good", "Satisfactory", "Fair", "Poor", "Very poor", "Serious", "Failed"}
 	pciLo := []int{86, 71, 56, 41, 26, 11, 0}
 	pciHi := []int{100, 85, 70, 55, 40, 25, 10}
+	// Years since the last work: recent in the best states, long ago in
+	// the worst, and more often not known down the scale.
+	roadLastLo := []int64{1, 2, 5, 8, 10, 12, 15}
+	roadLastHi := []int64{6, 9, 12, 15, 18, 22, 25}
+	roadKnown := []int64{90, 85, 75, 65, 55, 45, 35}
 	arterials := []string{"Marrow Road", "Tannery Way", "Kilnbridge Road", "Fettle Street", "Sluice Avenue", "Furrow Road", "Quernstone Way", "Wharf Parade"}
 	var locals []string
 	for _, a := range []string{"Alder", "Bracken", "Cinder", "Damson", "Elver", "Fallow", "Gorse", "Hazel", "Ivy", "Juniper", "Kestrel", "Larch", "Medlar", "Nettle", "Osier", "Pippin", "Quince", "Rowan", "Sorrel", "Teasel", "Umber", "Vetch", "Willow", "Yarrow"} {
@@ -69,14 +79,18 @@ func demoInventory() []demoClassSpec {
 	}
 	return []demoClassSpec{
 		{class: "arterial-asphalt", prefix: "ART", states: demoPCI, thousandths: k(40, 45, 38, 25, 17, 10, 5),
-			minSize: 150, maxSize: 800, step: 1, lo: pciLo, hi: pciHi, streets: arterials, lanes: 4, aadtLo: 8000, aadtHi: 30000, road: true},
+			minSize: 150, maxSize: 800, step: 1, lo: pciLo, hi: pciHi, streets: arterials, lanes: 4, aadtLo: 8000, aadtHi: 30000, road: true,
+			lastLo: roadLastLo, lastHi: roadLastHi, known: roadKnown},
 		{class: "local-asphalt", prefix: "LOC", states: demoPCI, thousandths: k(70, 95, 110, 72, 40, 22, 11),
-			minSize: 60, maxSize: 300, step: 1, lo: pciLo, hi: pciHi, streets: locals, lanes: 2, aadtLo: 150, aadtHi: 3000, road: true},
+			minSize: 60, maxSize: 300, step: 1, lo: pciLo, hi: pciHi, streets: locals, lanes: 2, aadtLo: 150, aadtHi: 3000, road: true,
+			lastLo: roadLastLo, lastHi: roadLastHi, known: roadKnown},
 		{class: "bridge-decks", prefix: "BRD", states: []string{"Good (7-9)", "Satisfactory (6)", "Fair (5)", "Poor (4)", "Serious (3)", "Critical (0-2)"},
 			thousandths: k(5200, 3900, 2700, 1600, 800, 300), minSize: 80_000, maxSize: 700_000, step: 1000,
-			lo: []int{7, 6, 5, 4, 3, 0}, hi: []int{9, 6, 5, 4, 3, 2}, streets: arterials, aadtLo: 800, aadtHi: 26000},
+			lo: []int{7, 6, 5, 4, 3, 0}, hi: []int{9, 6, 5, 4, 3, 2}, streets: arterials, aadtLo: 800, aadtHi: 26000,
+			lastLo: []int64{1, 3, 6, 8, 10, 12}, lastHi: []int64{9, 12, 16, 20, 25, 30}, known: []int64{90, 80, 70, 60, 50, 40}},
 		{class: "culverts", prefix: "CUL", states: []string{"Very good", "Good", "Fair", "Poor", "Very poor"},
-			thousandths: k(38, 52, 41, 20, 9), minSize: 1000, maxSize: 1000, step: 1000, byName: true, streets: locals, aadtLo: 100, aadtHi: 6000},
+			thousandths: k(38, 52, 41, 20, 9), minSize: 1000, maxSize: 1000, step: 1000, byName: true, streets: locals, aadtLo: 100, aadtHi: 6000,
+			lastLo: []int64{1, 1, 2, 3, 4}, lastHi: []int64{4, 6, 8, 10, 12}, known: []int64{70, 60, 50, 40, 30}},
 	}
 }
 
@@ -95,15 +109,22 @@ func (s *splitmix64) next() uint64 {
 // between returns a whole number in [lo, hi].
 func (s *splitmix64) between(lo, hi int64) int64 { return lo + int64(s.next()%uint64(hi-lo+1)) }
 
+// demoStartYear is the demo scenario's start_year, from which the last
+// treatment years are counted back.
+const demoStartYear = 2027
+
 // Marrowby's invented origin, in open sea (lon, lat in degrees).
 const demoLon, demoLat = -30.42, -41.17
 
 // demoSegments generates the segment list.
 func demoSegments() []byte {
 	rng := splitmix64(20270101)
+	// The last treatments come from a stream of their own, so that the
+	// columns before them are the same as before they were added.
+	last := splitmix64(20270115)
 	var b bytes.Buffer
 	w := csv.NewWriter(&b)
-	w.Write([]string{"id", "class", "name", "quantity", "condition", "aadt", "wkt"})
+	w.Write([]string{"id", "class", "name", "quantity", "condition", "aadt", "wkt", "last_treated"})
 	coord := func(v float64) string { return strconv.FormatFloat(v, 'f', 6, 64) }
 	kmLat := 1 / 111.32
 	kmLon := 1 / (111.32 * math.Cos(demoLat*math.Pi/180))
@@ -175,7 +196,11 @@ func demoSegments() []byte {
 				cond = fmt.Sprint(rng.between(int64(spec.lo[p.state]), int64(spec.hi[p.state])))
 			}
 			aadt := rng.between(int64(spec.aadtLo), int64(spec.aadtHi))
-			w.Write([]string{fmt.Sprintf("%s-%04d", spec.prefix, n+1), spec.class, label, qty, cond, fmt.Sprint(aadt), geom})
+			treated := ""
+			if last.between(1, 100) <= spec.known[p.state] {
+				treated = fmt.Sprint(demoStartYear - last.between(spec.lastLo[p.state], spec.lastHi[p.state]))
+			}
+			w.Write([]string{fmt.Sprintf("%s-%04d", spec.prefix, n+1), spec.class, label, qty, cond, fmt.Sprint(aadt), geom, treated})
 		}
 	}
 	w.Flush()

@@ -24,9 +24,10 @@ type TargetMoney struct {
 // targets it misses: the least level budget that holds today's condition,
 // the least level budget of a plan that meets its targets, and the money
 // per missed target. Each is a flat LP of the plan's size, which lp_solve
-// solves in about half a second at this size and in several seconds at
-// three times it; larger networks leave them out and say so.
-const FundingDetailColumns = 4000
+// solves in about half a second at the demo's 5,120 columns (its classes
+// widened by treatment history) and in several seconds at three times
+// this bound; larger networks leave them out and say so.
+const FundingDetailColumns = 8000
 
 // fundingDetail adds to f the hold budget, the level budget where the plan
 // did not need it, and the money per missed target, when the model is

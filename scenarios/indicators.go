@@ -351,7 +351,9 @@ func classRenewal(sc *Scenario, k int, opt Options) ([]float64, string, error) {
 	if err != nil {
 		return nil, "", err
 	}
-	today := p.Classes[0].ScoreOf(c.Initial)
+	// The problem's own quantities: a class with a History is planned over
+	// widened states, and c.Initial has only its condition states.
+	today := p.Classes[0].ScoreOf(p.Classes[0].Initial)
 	label := c.Name + " condition score at least today's in every year"
 	sub.Targets = []Target{{Label: label, Class: c.Name, FromYear: sc.Year(1), ToYear: sc.Year(sc.Horizon),
 		Spec: optimize.Target{Label: label, Class: 0, Kind: optimize.MinScore, Value: today - holdSlack, From: 1, To: sc.Horizon}}}

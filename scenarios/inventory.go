@@ -4,9 +4,11 @@ import (
 	"errors"
 	"fmt"
 	"io/fs"
+	"maps"
 	"math"
 	"path"
 	"reflect"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -31,6 +33,9 @@ type Segment struct {
 	// Priority is the value of the inventory's priority expression (higher
 	// first); 0 when there is none.
 	Priority float64
+	// LastTreated is the calendar year of the segment's last treatment
+	// (the optional last_treated column); 0 when not given.
+	LastTreated int
 	// Geometry, passed through for GIS: WKT as written, or a point.
 	WKT      string
 	Lon, Lat float64
@@ -107,7 +112,9 @@ type fileColumns struct {
 	WKT       string `yaml:"wkt"`
 	Lon       string `yaml:"lon"`
 	Lat       string `yaml:"lat"`
-	Lines     lines
+	// LastTreated is the optional column of the year of the last work.
+	LastTreated string `yaml:"last_treated"`
+	Lines       lines
 }
 
 func (s *fileInventoryCSV) decodeNode(d *decoder, n *yaml.Node, path string) {
@@ -249,6 +256,7 @@ func readInventory(sc *Scenario, f *fileScenario, j inventoryJob, ids *segmentID
 			}
 			c.Initial[i] = v
 		}
+		c.LastTreated, c.datedSegments = r.lastTreatedShares(k, c.Initial), r.dated[k]
 		ic := InventoryClass{Class: c.Name, Unit: c.Unit, Segments: r.counts[k], Quantity: c.Total()}
 		r.inv.Classes = append(r.inv.Classes, ic)
 		if ic.Segments == 0 {
@@ -263,9 +271,27 @@ func readInventory(sc *Scenario, f *fileScenario, j inventoryJob, ids *segmentID
 	return r.inv
 }
 
+// lastTreatedShares turns the quantities of class k by the year of their
+// last treatment into the shares of each state's quantity, latest year
+// first: what the plan needs of the segments' years, whether the segments
+// are kept or only counted.
+func (r *segmentReader) lastTreatedShares(k int, initial []float64) []LastTreated {
+	var out []LastTreated
+	for _, y := range slices.Backward(slices.Sorted(maps.Keys(r.treated[k]))) {
+		lt := LastTreated{Year: y, Share: make([]float64, len(initial))}
+		for i, sum := range r.treated[k][y] {
+			if v, _ := sum.float(); initial[i] > 0 {
+				lt.Share[i] = min(v/initial[i], 1)
+			}
+		}
+		out = append(out, lt)
+	}
+	return out
+}
+
 // columns are the positions of the roles in a CSV's header, -1 if absent.
 type columns struct {
-	id, class, quantity, condition, name, wkt, lon, lat int
+	id, class, quantity, condition, name, wkt, lon, lat, lastTreated int
 }
 
 // segmentReader reads the rows of one segment list.
@@ -287,6 +313,10 @@ type segmentReader struct {
 	// families[k] holds the columns of class k's families when the class
 	// is split by family (families.go).
 	families [][]int
+	// treated[k] sums class k's quantities by the year of their last
+	// treatment and by state; dated[k] counts its segments that give one.
+	treated []map[int][]exactSum
+	dated   []int
 	// row is the current row's line and whether a problem was found in it.
 	line int
 	bad  bool
@@ -317,6 +347,7 @@ func (r *segmentReader) read(is *issues) {
 	}
 	n := len(r.sc.Classes)
 	r.segs, r.counts, r.sums = make([][]Segment, n), make([]int, n), make([][]exactSum, n)
+	r.treated, r.dated = make([]map[int][]exactSum, n), make([]int, n)
 	for k := range r.sc.Classes {
 		if r.job.takes[k] && r.sc.Classes[k].Scale != nil {
 			r.sums[k] = make([]exactSum, len(r.sc.Classes[k].Scale.States))
@@ -383,6 +414,9 @@ func (r *segmentReader) findColumns() bool {
 		wkt:       find("wkt", given.WKT, false),
 		lon:       find("lon", given.Lon, false),
 		lat:       find("lat", given.Lat, false),
+		// The year of the last work, for classes whose treatments keep
+		// intervals (treatments.History).
+		lastTreated: find("last_treated", given.LastTreated, false),
 	}
 	if ok && (r.cols.lon < 0) != (r.cols.lat < 0) {
 		r.in.is.add(r.in.headerLine, "", "give both lon and lat columns for point geometry, or neither")
@@ -421,6 +455,13 @@ func (r *segmentReader) row(rec []string, wktProblem string) {
 		seg.Name = strings.TrimSpace(rec[r.cols.name])
 	}
 	r.geometry(rec, wktProblem, &seg)
+	if r.cols.lastTreated >= 0 {
+		y, msg := lastTreatedYear(strings.TrimSpace(rec[r.cols.lastTreated]), r.sc.StartYear)
+		if msg != "" {
+			r.fail(r.in.header[r.cols.lastTreated], "%s", msg)
+		}
+		seg.LastTreated = y
+	}
 	if r.bad {
 		return
 	}
@@ -441,6 +482,16 @@ func (r *segmentReader) row(rec []string, wktProblem string) {
 		seg.Priority = p
 	}
 	r.sums[k][state].add(billionths)
+	if y := seg.LastTreated; y > 0 {
+		if r.treated[k] == nil {
+			r.treated[k] = map[int][]exactSum{}
+		}
+		if r.treated[k][y] == nil {
+			r.treated[k][y] = make([]exactSum, len(c.Scale.States))
+		}
+		r.treated[k][y][state].add(billionths)
+		r.dated[k]++
+	}
 	if at := r.families[k]; at != nil {
 		seg.Family = familyKey(rec, at)
 		r.inv.addFamily(k, seg.Family, len(c.Scale.States), state, billionths, r.line)

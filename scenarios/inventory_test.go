@@ -107,6 +107,8 @@ func TestInventoryCorpusRefused(t *testing.T) {
 		{"17-quantity-with-unit.csv", "", []wantIssue{{3, "quantity", `"0.25 km" is not a number`}}},
 		{"18-priority-not-number.csv", ", priority: aadt", []wantIssue{{3, "aadt", `"n/a" is not a number`}, {4, "aadt", "empty, and the priority expression uses it"}}},
 		{"19-unclosed-quote.csv", "", []wantIssue{{2, "", "not closed properly"}}},
+		{"h1-last-treated-not-a-year.csv", "", []wantIssue{{3, "last_treated", `"last spring" is not a year`}, {6, "last_treated", `"14/08/2019" is not a year`}}},
+		{"h2-last-treated-future.csv", "", []wantIssue{{3, "last_treated", "2030 is not before start_year 2030"}, {4, "last_treated", "2031 is not before start_year 2030"}, {5, "last_treated", "1850 is not a plausible calendar year"}}},
 	} {
 		t.Run(c.file, func(t *testing.T) {
 			_, err := loadWith(t, inventoryScenario(c.options), map[string][]byte{"segments.csv": readFixture(t, c.file)})

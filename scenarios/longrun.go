@@ -54,6 +54,23 @@ type PolicyEntry struct {
 	// Share is the fraction of the state's long-run quantity (0-1).
 	Share float64 `json:"share"`
 	Cost  float64 `json:"annual_cost"`
+	// ByYearsSinceWork splits the entry by the years since the quantity's
+	// last treatment, for classes whose treatments keep intervals or that
+	// wear differently after work (absent for the others).
+	ByYearsSinceWork []PolicyYears `json:"by_years_since_work,omitempty"`
+}
+
+// PolicyYears is the part of a policy entry with one number of years since
+// the last treatment.
+type PolicyYears struct {
+	// Years since the last treatment at the start of the year; with OrMore,
+	// that many or more (the longest the class keeps).
+	Years    int     `json:"years_since_work"`
+	OrMore   bool    `json:"or_more,omitempty"`
+	Quantity float64 `json:"quantity"`
+	// Share is the fraction of the long-run quantity in the state with
+	// these years since work (0-1).
+	Share float64 `json:"share"`
 }
 
 // LongRunTarget says whether a target holds in the long run.
@@ -102,6 +119,7 @@ func LongRun(sc *Scenario, opt Options) (*LongRunResult, error) {
 		cond[k] = [][]float64{sc.Classes[k].Initial, lr.Distribution[k]}
 	}
 	today := assemble(&Scenario{Name: sc.Name, Classes: sc.Classes, Horizon: 1, StartYear: sc.StartYear, Weighting: sc.Weighting}, p, cond, nil, nil)
+	views := conditionClasses(sc, p)
 	r.Today = today.Initial
 	r.Network = today.Years[0].Network
 	for k := range sc.Classes {
@@ -113,18 +131,32 @@ func LongRun(sc *Scenario, opt Options) (*LongRunResult, error) {
 		// tie-break stage may move that much (optimize.holdTolerance), and
 		// no one plans a millionth of a network.
 		floor := 1e-6 * c.Total()
-		for i, byAction := range lr.Policy[k] {
-			inState := lr.Distribution[k][i]
+		dist := foldQuantities(c, lr.Distribution[k])
+		policy := lr.Policy[k]
+		if c.History != nil {
+			policy = foldByAction(c.History, policy)
+		}
+		for i, byAction := range policy {
+			inState := dist[i]
 			for a, q := range byAction {
 				if q <= floor {
 					continue
 				}
-				act := &p.Classes[k].Actions[a]
+				act := &views[k].Actions[a]
 				cost := q * act.Cost[i]
 				if a == 0 && c.Routine != nil {
 					cost = q * c.Routine[i]
 				}
-				lc.Policy = append(lc.Policy, PolicyEntry{State: c.Scale.States[i].Name, Treatment: act.Name, Quantity: q, Share: q / inState, Cost: cost})
+				e := PolicyEntry{State: c.Scale.States[i].Name, Treatment: act.Name, Quantity: q, Share: q / inState, Cost: cost}
+				if h := c.History; h != nil {
+					for y := 1; y <= h.Span; y++ {
+						w := h.State(i, y)
+						if v := lr.Policy[k][w][a]; v > floor {
+							e.ByYearsSinceWork = append(e.ByYearsSinceWork, PolicyYears{Years: y, OrMore: y == h.Span, Quantity: v, Share: v / lr.Distribution[k][w]})
+						}
+					}
+				}
+				lc.Policy = append(lc.Policy, e)
 			}
 		}
 		r.Classes = append(r.Classes, lc)

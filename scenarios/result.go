@@ -61,6 +61,19 @@ type Result struct {
 	Indicators *Indicators `json:"indicators,omitempty"`
 	Model      *ModelSize  `json:"model,omitempty"`
 	Caution    string      `json:"caution"`
+	// wide keeps, for classes with a History, the quantities by widened
+	// state at the end of each year (index 0: today), for worklists; nil
+	// for the other classes, and not part of the JSON contract.
+	wide [][][]float64
+}
+
+// wideCondition is class k's quantity by widened state at the end of year
+// t (0: today), or nil when not known.
+func (r *Result) wideCondition(k, t int) []float64 {
+	if k >= len(r.wide) || r.wide[k] == nil || t >= len(r.wide[k]) {
+		return nil
+	}
+	return r.wide[k][t]
 }
 
 // ClassWeight is one class's share of network figures.

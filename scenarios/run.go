@@ -33,11 +33,18 @@ func Forecast(sc *Scenario) (*Result, error) {
 	}
 	cond := make([][][]float64, len(sc.Classes))
 	for k := range sc.Classes {
+		if sc.Classes[k].History != nil {
+			// Quantities treated lately wear by the class's after-work
+			// matrix: roll the widened states.
+			cond[k] = rollRows(p.Classes[k].Actions[0].Rows, p.Classes[k].Initial, sc.Horizon)
+			continue
+		}
 		cond[k], err = sc.Classes[k].Transition.Roll(sc.Classes[k].Initial, sc.Horizon)
 		if err != nil {
 			return nil, fmt.Errorf("class %q: %w", sc.Classes[k].Name, err)
 		}
 	}
+	cond = foldCondition(sc, cond)
 	r := assemble(sc, p, cond, nil, nil)
 	addRoutine(sc, r, forecastRoutine(sc, cond))
 	r.Kind, r.Status = "forecast", "do-nothing"
@@ -143,7 +150,12 @@ func indexPoints(sc *Scenario, t Target, score float64) float64 {
 // assemble builds a Result from condition, work and spend arrays indexed
 // like optimize.Plan's. work and spend are nil for a forecast.
 func assemble(sc *Scenario, p *optimize.Problem, cond [][][]float64, work [][][][]float64, spend [][]float64) *Result {
+	// Everything reported is by condition state (history.go).
+	wide := wideOnly(sc, cond)
+	cond, work = foldCondition(sc, cond), foldWork(sc, work)
+	views := conditionClasses(sc, p)
 	r := &Result{
+		wide:     wide,
 		Scenario: sc.Name, Source: sc.Source, Currency: sc.Currency, StartYear: sc.StartYear, Horizon: sc.Horizon,
 		DiscountRate: sc.DiscountRate, Escalation: sc.Escalation, Weighting: string(sc.Weighting),
 		Caution: Caution, Warnings: append([]string{}, sc.Notes...),
@@ -164,7 +176,7 @@ func assemble(sc *Scenario, p *optimize.Problem, cond [][][]float64, work [][][]
 		var net NetworkCondition
 		for k := range sc.Classes {
 			c := &sc.Classes[k]
-			oc := &p.Classes[k]
+			oc := views[k]
 			q := cond[k][t]
 			cc := ClassCondition{Class: c.Name, Unit: c.Unit, States: make(Quantities, len(q))}
 			for i, v := range q {
@@ -201,7 +213,7 @@ func assemble(sc *Scenario, p *optimize.Problem, cond [][][]float64, work [][][]
 		if work != nil {
 			for k := range sc.Classes {
 				cc := &y.Classes[k]
-				cc.Work = workOf(&sc.Classes[k], &p.Classes[k], work[k][t-1], p.Escalation, t-1)
+				cc.Work = workOf(&sc.Classes[k], views[k], work[k][t-1], p.Escalation, t-1)
 				s := spend[k][t-1]
 				cc.Spend = &s
 				y.Spend += s

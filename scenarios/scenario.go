@@ -114,6 +114,27 @@ type Class struct {
 	Parent, Family string
 	// split holds the fit's families while the class waits to be split.
 	split *familySplit
+	// AfterWork is the wear of the first years after any treatment (nil:
+	// the usual matrix throughout).
+	AfterWork *treatments.AfterWork
+	// History widens the class's states with the years since its last
+	// treatment when its treatments keep intervals or it wears differently
+	// after work; nil otherwise (history.go).
+	History *treatments.History
+	// LastTreated are the shares of the class's quantity last treated in
+	// each year: as written in the scenario for a class typed as
+	// quantities, or summed from a segment list's last_treated column
+	// (each segment also keeps its own year when segments are kept).
+	LastTreated []LastTreated
+	// datedSegments counts the segments of a segment list that give a
+	// last_treated year.
+	datedSegments int
+}
+
+// LastTreated is the share of each state's quantity last treated in Year.
+type LastTreated struct {
+	Year  int
+	Share []float64
 }
 
 // Total is the class's total quantity.
@@ -259,17 +280,11 @@ func (s *Scenario) Problem() (*optimize.Problem, error) {
 	for k := range s.Classes {
 		c := &s.Classes[k]
 		index[c.Name] = k
-		acts, err := treatments.Actions(c.Transition, c.Treatments)
+		oc, err := c.problemClass(s.StartYear)
 		if err != nil {
 			return nil, fmt.Errorf("class %q: %w", c.Name, err)
 		}
-		score := make([]float64, len(c.Scale.States))
-		for i, st := range c.Scale.States {
-			score[i] = c.Scale.Score(st.Value)
-		}
-		p.Classes = append(p.Classes, optimize.Class{
-			Name: c.Name, Initial: c.Initial, Score: score, Group: c.Scale.Group, Weight: c.Weight, Actions: acts, Routine: c.Routine,
-		})
+		p.Classes = append(p.Classes, oc)
 	}
 	for _, g := range s.BudgetGroups {
 		gb := optimize.GroupBudget{Name: g.Name, Yearly: g.Yearly}
@@ -286,7 +301,19 @@ func (s *Scenario) Problem() (*optimize.Problem, error) {
 		p.MinSpends = append(p.MinSpends, ms)
 	}
 	for _, t := range s.Targets {
-		p.Targets = append(p.Targets, t.Spec)
+		spec := t.Spec
+		// A target on states of a class planned over widened states holds
+		// every widened state of those condition states.
+		if spec.States != nil && spec.Class >= 0 && spec.Class < len(s.Classes) {
+			if h := s.Classes[spec.Class].History; h != nil {
+				wide := make([]bool, h.States())
+				for w := range wide {
+					wide[w] = spec.States[h.Condition(w)]
+				}
+				spec.States = wide
+			}
+		}
+		p.Targets = append(p.Targets, spec)
 	}
 	return p, nil
 }

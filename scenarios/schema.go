@@ -2,6 +2,8 @@ package scenarios
 
 import (
 	"fmt"
+	"math"
+	"strconv"
 
 	"gopkg.in/yaml.v3"
 )
@@ -57,7 +59,17 @@ type fileClass struct {
 	ReplacementCost *float64           `yaml:"replacement_cost"`
 	Weight          *float64           `yaml:"weight"`
 	RoutineCost     *stateNumbers      `yaml:"routine_cost"`
+	AfterWork       *fileAfterWork     `yaml:"after_work"`
+	MinIntervals    *treatmentYears    `yaml:"min_intervals"`
+	LastTreated     *lastTreatedSpec   `yaml:"last_treated"`
 	Lines           lines
+}
+
+// fileAfterWork is a class's wear in the first years after any treatment.
+type fileAfterWork struct {
+	Years         *int               `yaml:"years"`
+	Deterioration *fileDeterioration `yaml:"deterioration"`
+	Lines         lines
 }
 
 type fileDeterioration struct {
@@ -86,8 +98,9 @@ type fileTreatment struct {
 	// Renewal says whether the treatment's spend counts as renewal in the
 	// asset management plan indicators (default: it restores the best
 	// state from every state it applies to).
-	Renewal *bool `yaml:"renewal"`
-	Lines   lines
+	Renewal     *bool `yaml:"renewal"`
+	MinInterval *int  `yaml:"min_interval"`
+	Lines       lines
 }
 
 type fileEffect struct {
@@ -310,5 +323,93 @@ func (m *matrix) decodeNode(d *decoder, n *yaml.Node, path string) {
 		}
 		m.Rows = append(m.Rows, row)
 		m.Lines = append(m.Lines, rowNode.Line)
+	}
+}
+
+// treatmentYears maps treatment names to whole numbers of years, in file
+// order, with lines (a class's min_intervals).
+type treatmentYears struct {
+	Entries []treatmentYear
+	Line    int
+}
+
+type treatmentYear struct {
+	Treatment string
+	Years     int
+	Line      int
+}
+
+func (ty *treatmentYears) decodeNode(d *decoder, n *yaml.Node, path string) {
+	ty.Line = n.Line
+	if n.Kind != yaml.MappingNode {
+		d.add(n.Line, path, "want treatment names with years (e.g. {crack-seal: 6}), got %s", kindName(n))
+		return
+	}
+	seen := map[string]bool{}
+	for _, kl := range mappingKeys(n) {
+		field := joinPath(path, kl.key)
+		if seen[kl.key] {
+			d.add(kl.line, field, "treatment written twice; keep one")
+			continue
+		}
+		seen[kl.key] = true
+		v := resolve(kl.val)
+		f, ok := d.number(v, field)
+		if !ok {
+			continue
+		}
+		if f != math.Trunc(f) || math.Abs(f) > 1e9 {
+			d.add(kl.line, field, "want a whole number of years, got %s", v.Value)
+			continue
+		}
+		ty.Entries = append(ty.Entries, treatmentYear{Treatment: kl.key, Years: int(f), Line: kl.line})
+	}
+}
+
+// lastTreatedSpec is a class's last_treated: for each year, the share of
+// the class's quantity last treated in that year, one share for every
+// state ({2024: 0.1}) or one per state ({2024: {Good: 0.3, Fair: 0.1}}).
+type lastTreatedSpec struct {
+	Entries []lastTreatedEntry
+	Line    int
+}
+
+type lastTreatedEntry struct {
+	Year    int
+	Share   *float64
+	ByState *stateNumbers
+	Line    int
+}
+
+func (lt *lastTreatedSpec) decodeNode(d *decoder, n *yaml.Node, path string) {
+	lt.Line = n.Line
+	if n.Kind != yaml.MappingNode {
+		d.add(n.Line, path, "want years with shares (e.g. {2024: 0.1, 2021: {Good: 0.3}}), got %s", kindName(n))
+		return
+	}
+	seen := map[string]bool{}
+	for _, kl := range mappingKeys(n) {
+		field := joinPath(path, kl.key)
+		if seen[kl.key] {
+			d.add(kl.line, field, "year written twice; keep one")
+			continue
+		}
+		seen[kl.key] = true
+		year, err := strconv.Atoi(kl.key)
+		if err != nil {
+			d.add(kl.line, field, "%q is not a year; write the calendar year of the last work, e.g. 2024", kl.key)
+			continue
+		}
+		e := lastTreatedEntry{Year: year, Line: kl.line}
+		v := resolve(kl.val)
+		if v.Kind == yaml.MappingNode {
+			e.ByState = &stateNumbers{}
+			e.ByState.decodeNode(d, v, field)
+		} else if f, ok := d.number(v, field); ok {
+			e.Share = &f
+		} else {
+			continue
+		}
+		lt.Entries = append(lt.Entries, e)
 	}
 }

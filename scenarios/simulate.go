@@ -84,6 +84,10 @@ type Lot struct {
 	// State is the segment's state today (0 = best).
 	State    int
 	Quantity float64
+	// LastTreated is the calendar year of the segment's last treatment, for
+	// classes whose treatments keep intervals; 0 when not known (taken as
+	// long ago).
+	LastTreated int
 }
 
 // SimulateOptions set up a simulation.
@@ -217,17 +221,22 @@ func Simulate(sc *Scenario, opt SimulateOptions) (*SimulationResult, error) {
 		if work != nil {
 			sim.Policy, info.BorrowedShares, info.Untreated = planPolicy(work[k], c.Total(), len(oc.Actions))
 		} else {
-			sim.Policy = doNothingPolicy(sc.Horizon, len(c.Initial), len(oc.Actions))
+			sim.Policy = doNothingPolicy(sc.Horizon, len(oc.Initial), len(oc.Actions))
 		}
 		if s := samplers[k]; s != nil {
 			info.Matrix = s.Method()
-			ts := c.Treatments
+			ts, h, after := c.Treatments, c.History, c.AfterWork
 			sim.Draw = func(rng *rand.Rand) ([][][]float64, error) {
 				m, err := s.Draw(rng)
 				if err != nil {
 					return nil, err
 				}
-				acts, err := treatments.Actions(m, ts)
+				var acts []treatments.Action
+				if h != nil {
+					acts, err = h.Actions(m, after, ts)
+				} else {
+					acts, err = treatments.Actions(m, ts)
+				}
 				if err != nil {
 					return nil, err
 				}
@@ -343,7 +352,7 @@ func CutLots(sc *Scenario, def float64, per map[string]float64) ([]Lot, error) {
 		c := &sc.Classes[k]
 		if segmentsAsLots(c, def, per) {
 			for _, sg := range c.Segments {
-				out = append(out, Lot{ID: sg.ID, Class: c.Name, State: sg.State, Quantity: sg.Quantity})
+				out = append(out, Lot{ID: sg.ID, Class: c.Name, State: sg.State, Quantity: sg.Quantity, LastTreated: sg.LastTreated})
 			}
 			continue
 		}
@@ -358,13 +367,14 @@ func CutLots(sc *Scenario, def float64, per map[string]float64) ([]Lot, error) {
 			return nil, &OptionError{"lot size", fmt.Sprintf("class %q: %s %s in lots of %s would make %.0f lots; a simulation takes at most %d in all: give a larger lot size for the class, e.g. %s=%s",
 				c.Name, num(c.Total()), c.Unit, num(size), n, MaxLots, c.Name, num(suggestLot(c.Total(), MaxLots/10)))}
 		}
-		for i, q := range c.Initial {
+		for _, pc := range c.pieces(sc.StartYear) {
+			q := pc.Quantity
 			whole := math.Floor(q/size + 1e-9)
 			for range int(whole) {
-				out = append(out, Lot{Class: c.Name, State: i, Quantity: size})
+				out = append(out, Lot{Class: c.Name, State: pc.State, Quantity: size, LastTreated: pc.LastTreated})
 			}
 			if rest := q - whole*size; rest > 1e-9*size {
-				out = append(out, Lot{Class: c.Name, State: i, Quantity: rest})
+				out = append(out, Lot{Class: c.Name, State: pc.State, Quantity: rest, LastTreated: pc.LastTreated})
 			}
 		}
 	}
@@ -393,6 +403,7 @@ func toLots(sc *Scenario, segs []Lot) ([]markov.Lot, []int, error) {
 	for k := range sums {
 		sums[k] = make([]float64, len(sc.Classes[k].Initial))
 	}
+	wide := make([][]float64, len(sc.Classes)) // by widened state, for classes with a History
 	for n, s := range segs {
 		k := sc.classIndex(s.Class)
 		name := s.ID
@@ -407,7 +418,21 @@ func toLots(sc *Scenario, segs []Lot) ([]markov.Lot, []int, error) {
 		case math.IsNaN(s.Quantity) || math.IsInf(s.Quantity, 0) || s.Quantity < 0:
 			return nil, nil, &OptionError{"segments", fmt.Sprintf("segment %s: quantity %g must be a finite number of zero or more", name, s.Quantity)}
 		}
-		lots[n] = markov.Lot{Class: k, State: s.State, Quantity: s.Quantity}
+		state := s.State
+		if h := sc.Classes[k].History; h != nil {
+			if s.LastTreated != 0 {
+				if msg := lastTreatedCheck(s.LastTreated, sc.StartYear); msg != "" {
+					return nil, nil, &OptionError{"segments", fmt.Sprintf("segment %s: last treated %s", name, msg)}
+				}
+			}
+			// The engine moves lots over the class's widened states.
+			state = h.State(s.State, sc.Classes[k].yearsSinceWork(s.LastTreated, sc.StartYear))
+			if wide[k] == nil {
+				wide[k] = make([]float64, h.States())
+			}
+			wide[k][state] += s.Quantity
+		}
+		lots[n] = markov.Lot{Class: k, State: state, Quantity: s.Quantity}
 		counts[k]++
 		sums[k][s.State] += s.Quantity
 	}
@@ -417,6 +442,18 @@ func toLots(sc *Scenario, segs []Lot) ([]markov.Lot, []int, error) {
 			if math.Abs(sums[k][i]-want) > 1e-9*math.Max(c.Total(), 1) {
 				return nil, nil, &OptionError{"segments", fmt.Sprintf("class %q, state %q: segments add up to %s %s but the inventory has %s; simulate the inventory the plan was made for",
 					c.Name, c.Scale.States[i].Name, num(sums[k][i]), c.Unit, num(want))}
+			}
+		}
+		if h := c.History; h != nil && wide[k] != nil {
+			for w, want := range c.wideInitial(sc.StartYear) {
+				if math.Abs(wide[k][w]-want) > 1e-9*math.Max(c.Total(), 1) {
+					names := make([]string, len(c.Scale.States))
+					for i := range names {
+						names[i] = c.Scale.States[i].Name
+					}
+					return nil, nil, &OptionError{"segments", fmt.Sprintf("class %q, state %q: segments add up to %s %s but the inventory has %s; give the segments' last treatment years as the inventory does",
+						c.Name, h.Label(names, w), num(wide[k][w]), c.Unit, num(want))}
+				}
 			}
 		}
 	}

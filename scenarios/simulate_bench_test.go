@@ -11,26 +11,46 @@ import (
 
 // segmentsOf splits each class's quantity in each state into equal
 // segments, counts[k] per class in all, spread over the states in
-// proportion to their quantity (the largest state takes the rounding).
+// proportion to their quantity (the largest state takes the rounding). For a
+// class read from a segment list the split is per state and year of last
+// treatment, so that the segments carry the years since work the plan was
+// made for.
 func segmentsOf(sc *scenarios.Scenario, counts []int) []scenarios.Lot {
 	var out []scenarios.Lot
 	for k := range sc.Classes {
 		c := &sc.Classes[k]
-		n := make([]int, len(c.Initial))
-		left, big := counts[k], 0
-		for i, q := range c.Initial {
-			if q > 0 {
-				n[i] = max(1, int(math.Round(float64(counts[k])*q/c.Total())))
+		type group struct{ state, last int }
+		var groups []group
+		qty := map[group]float64{}
+		if c.Segments != nil {
+			for _, s := range c.Segments {
+				g := group{s.State, s.LastTreated}
+				if _, ok := qty[g]; !ok {
+					groups = append(groups, g)
+				}
+				qty[g] += s.Quantity
 			}
-			left -= n[i]
-			if q > c.Initial[big] {
-				big = i
+		} else {
+			for i, q := range c.Initial {
+				groups = append(groups, group{i, 0})
+				qty[group{i, 0}] = q
+			}
+		}
+		n := make([]int, len(groups))
+		left, big := counts[k], 0
+		for gi, g := range groups {
+			if q := qty[g]; q > 0 {
+				n[gi] = max(1, int(math.Round(float64(counts[k])*q/c.Total())))
+			}
+			left -= n[gi]
+			if qty[g] > qty[groups[big]] {
+				big = gi
 			}
 		}
 		n[big] += left
-		for i, q := range c.Initial {
-			for s := range n[i] {
-				out = append(out, scenarios.Lot{ID: c.Name + "-" + strconv.Itoa(i) + "-" + strconv.Itoa(s), Class: c.Name, State: i, Quantity: q / float64(n[i])})
+		for gi, g := range groups {
+			for s := range n[gi] {
+				out = append(out, scenarios.Lot{ID: c.Name + "-" + strconv.Itoa(gi) + "-" + strconv.Itoa(s), Class: c.Name, State: g.state, Quantity: qty[g] / float64(n[gi]), LastTreated: g.last})
 			}
 		}
 	}

@@ -508,9 +508,20 @@ func TestSimulateInventorySegments(t *testing.T) {
 	for k, c := range r.Classes {
 		want := len(sc.Classes[k].Segments)
 		if c.Class == "culverts" {
-			// Lots of 2 per state, one smaller lot for an odd count.
+			// Lots of 2 per state and year of the last treatment (kept
+			// up to the class's longest interval), one smaller lot for
+			// an odd count.
+			span := sc.Classes[k].History.Span
+			count := map[[2]int]float64{}
+			for _, s := range sc.Classes[k].Segments {
+				y := span
+				if s.LastTreated > 0 {
+					y = min(sc.StartYear-s.LastTreated, span)
+				}
+				count[[2]int{s.State, y}] += s.Quantity
+			}
 			lots := 0
-			for _, q := range sc.Classes[k].Initial {
+			for _, q := range count {
 				lots += int(math.Ceil(q / 2))
 			}
 			if !strings.HasPrefix(c.SegmentsFrom, "lots of 2 each") || c.Segments != lots {

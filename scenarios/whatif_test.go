@@ -44,7 +44,7 @@ func TestCurrentChangesChangeNothing(t *testing.T) {
 		if ch.BudgetLevel == nil || *ch.BudgetLevel != e.Scenario.Budget[0] {
 			t.Errorf("%s: budget level %v, want %v", name, ch.BudgetLevel, e.Scenario.Budget[0])
 		}
-		want := []TargetSpec{{Class: "all", Group: "poor", MaxShare: ref(0.15), FromYear: ref(2031)}, {Hold: true}}
+		want := []TargetSpec{{Class: "all", Group: "poor", MaxShare: ref(0.15), FromYear: ref(2035)}, {Hold: true}}
 		if ch.Targets == nil || !reflect.DeepEqual(*ch.Targets, want) {
 			t.Errorf("%s: targets %+v, want %+v", name, ch.Targets, want)
 		}
@@ -106,15 +106,15 @@ func TestChangesCheckedLikeTheFile(t *testing.T) {
 		{"negative level", Changes{BudgetLevel: ref(-5.0)}, [2]string{"yearly: 4500000", "yearly: -5"}, "budget.yearly", "zero or more"},
 		{"escalation as percent", Changes{Escalation: ref(3.0)}, [2]string{"cost_escalation: 0.025", "cost_escalation: 3"}, "cost_escalation", "fractions"},
 		{"share above 1", Changes{Targets: &[]TargetSpec{{Class: "all", Group: "poor", MaxShare: ref(1.5)}}},
-			[2]string{"{class: all, group: poor, max_share: 0.15, from_year: 2031}", "{class: all, group: poor, max_share: 1.5}"}, "targets[0].max_share", "outside 0-1"},
+			[2]string{"{class: all, group: poor, max_share: 0.15, from_year: 2035}", "{class: all, group: poor, max_share: 1.5}"}, "targets[0].max_share", "outside 0-1"},
 		{"unknown class", Changes{Targets: &[]TargetSpec{{Class: "sidewalks", Group: "poor", MaxShare: ref(0.1)}}},
-			[2]string{"{class: all, group: poor, max_share: 0.15, from_year: 2031}", "{class: sidewalks, group: poor, max_share: 0.1}"}, "targets[0].class", "unknown class"},
+			[2]string{"{class: all, group: poor, max_share: 0.15, from_year: 2035}", "{class: sidewalks, group: poor, max_share: 0.1}"}, "targets[0].class", "unknown class"},
 		{"year outside", Changes{Targets: &[]TargetSpec{{Group: "good", MinShare: ref(0.3), FromYear: ref(2050)}}},
-			[2]string{"{class: all, group: poor, max_share: 0.15, from_year: 2031}", "{group: good, min_share: 0.3, from_year: 2050}"}, "targets[0].from_year", "outside the plan"},
+			[2]string{"{class: all, group: poor, max_share: 0.15, from_year: 2035}", "{group: good, min_share: 0.3, from_year: 2050}"}, "targets[0].from_year", "outside the plan"},
 		{"two kinds", Changes{Targets: &[]TargetSpec{{Group: "poor", MaxShare: ref(0.1), MinShare: ref(0.05)}}},
-			[2]string{"{class: all, group: poor, max_share: 0.15, from_year: 2031}", "{group: poor, max_share: 0.1, min_share: 0.05}"}, "targets[0]", "exactly one"},
+			[2]string{"{class: all, group: poor, max_share: 0.15, from_year: 2035}", "{group: poor, max_share: 0.1, min_share: 0.05}"}, "targets[0]", "exactly one"},
 		{"index on mixed scales", Changes{Targets: &[]TargetSpec{{Class: "all", MinAverageIndex: ref(60.0)}}},
-			[2]string{"{class: all, group: poor, max_share: 0.15, from_year: 2031}", "{class: all, min_average_index: 60}"}, "targets[0].min_average_index", "different scales"},
+			[2]string{"{class: all, group: poor, max_share: 0.15, from_year: 2035}", "{class: all, min_average_index: 60}"}, "targets[0].min_average_index", "different scales"},
 		{"objective", Changes{Objective: "max-score"}, [2]string{"objective: max-condition", "objective: max-score"}, "objective", "unknown objective"},
 	}
 	for _, c := range cases {

@@ -157,6 +157,14 @@ type classLister struct {
 	belief []float64
 	// treated[j] is the action given to segment j in the year (0 = none).
 	treated []int
+	// For a class with a History (history.go): the actions over its
+	// widened states, their rows summed back to condition states
+	// (folded[a][w], nil where a does not apply), and since[j], segment
+	// j's years since its last treatment at the start of the year listed.
+	history *treatments.History
+	wide    []treatments.Action
+	folded  [][][]float64
+	since   []int
 }
 
 func listClass(w *Worklist, sc *Scenario, r *Result, k, years int) error {
@@ -214,9 +222,14 @@ func listClass(w *Worklist, sc *Scenario, r *Result, k, years int) error {
 		l.state[j] = segs[j].State
 	}
 	l.treated = make([]int, m)
+	if h := c.History; h != nil {
+		if err := l.withHistory(sc, h); err != nil {
+			return err
+		}
+	}
 	for t := 1; t <= years; t++ {
 		if t > 1 {
-			l.expectedStates(r.Years[t-2].Classes[k].States)
+			l.expectedStates(r.Years[t-2].Classes[k].States, r.wideCondition(k, t-1))
 		}
 		if err := l.assignYear(w, sc, r.Years[t-1].Classes[k], t); err != nil {
 			return err
@@ -272,8 +285,13 @@ func (l *classLister) assignYear(w *Worklist, sc *Scenario, cc ClassCondition, t
 		if len(work[i]) == 0 {
 			continue
 		}
-		// Costliest treatment first, then the catalogue's order.
+		// Costliest treatment first, then the catalogue's order; with
+		// intervals, the treatments with the longest wait first, since the
+		// segments they may take are among those the others may take.
 		slices.SortStableFunc(work[i], func(x, y planned) int {
+			if v := cmp.Compare(l.wait(y.a), l.wait(x.a)); v != 0 {
+				return v
+			}
 			return cmp.Compare(l.actions[y.a].Cost[i], l.actions[x.a].Cost[i])
 		})
 		checks := make([]WorklistCheck, len(work[i]))
@@ -282,28 +300,35 @@ func (l *classLister) assignYear(w *Worklist, sc *Scenario, cc ClassCondition, t
 				Planned: pw.quantity, PlannedCost: pw.cost, Tolerance: tolerance * largest[i]}
 		}
 		// Lay the state's segments end to end; each goes to the treatment
-		// whose stretch holds its midpoint.
-		p, end, at := 0, work[i][0].quantity, 0.0
-		for rank, j := range byState[i] {
-			q := segs[j].Quantity
-			mid := at + q/2
-			at += q
-			for p < len(work[i]) && mid >= end {
-				p++
-				if p < len(work[i]) {
-					end += work[i][p].quantity
+		// whose stretch holds its midpoint. A segment that may not have a
+		// treatment yet (its interval since the last work has not passed)
+		// is left out of that treatment's stretch and kept for the next.
+		taken := make([]bool, len(byState[i]))
+		first := 0 // segments before it are all taken
+		end, at := 0.0, 0.0
+		for p, pw := range work[i] {
+			end += pw.quantity
+			for rank := first; rank < len(byState[i]); rank++ {
+				j := byState[i][rank]
+				if taken[rank] || !l.eligible(j, i, pw.a) {
+					continue
 				}
+				q := segs[j].Quantity
+				if at+q/2 >= end {
+					break
+				}
+				at += q
+				taken[rank] = true
+				for first < len(taken) && taken[first] {
+					first++
+				}
+				l.treated[j] = pw.a
+				cost := q * l.actions[pw.a].Cost[i] * price
+				checks[p].Listed += q
+				checks[p].ListedCost += cost
+				checks[p].Segments++
+				w.Items = append(w.Items, l.item(j, year, basis, i, pw.a, cost, rank+1, t == 1))
 			}
-			if p == len(work[i]) {
-				break
-			}
-			pw := work[i][p]
-			l.treated[j] = pw.a
-			cost := q * l.actions[pw.a].Cost[i] * price
-			checks[p].Listed += q
-			checks[p].ListedCost += cost
-			checks[p].Segments++
-			w.Items = append(w.Items, l.item(j, year, basis, i, pw.a, cost, rank+1, t == 1))
 		}
 		w.Checks = append(w.Checks, checks...)
 	}
@@ -346,7 +371,7 @@ func (l *classLister) age() {
 	for j := range l.state {
 		b := l.belief[j*n : (j+1)*n]
 		if a := l.treated[j]; a != 0 {
-			copy(b, l.actions[a].Rows[l.state[j]])
+			copy(b, l.row(j, a, l.state[j]))
 			continue
 		}
 		clear(next)
@@ -354,18 +379,85 @@ func (l *classLister) age() {
 			if bi == 0 {
 				continue
 			}
-			for jj, pij := range p[i] {
+			row := p[i]
+			if l.history != nil {
+				row = l.row(j, 0, i)
+			}
+			for jj, pij := range row {
 				next[jj] += bi * pij
 			}
 		}
 		copy(b, next)
 	}
+	if l.history != nil {
+		for j, a := range l.treated {
+			if a != 0 {
+				l.since[j] = 1
+			} else {
+				l.since[j] = min(l.since[j]+1, l.history.Span)
+			}
+		}
+	}
+}
+
+// withHistory sets up the widened states of a class with a History: each
+// segment's years since work from its last_treated year.
+func (l *classLister) withHistory(sc *Scenario, h *treatments.History) error {
+	c := l.c
+	wide, err := h.Actions(c.Transition, c.AfterWork, c.Treatments)
+	if err != nil {
+		return err
+	}
+	l.history, l.wide = h, wide
+	l.folded = make([][][]float64, len(wide))
+	for a := range wide {
+		l.folded[a] = make([][]float64, h.States())
+		for w, r := range wide[a].Rows {
+			if wide[a].Applies[w] {
+				l.folded[a][w] = h.Fold(r)
+			}
+		}
+	}
+	l.since = make([]int, len(c.Segments))
+	for j := range c.Segments {
+		l.since[j] = c.yearsSinceWork(c.Segments[j].LastTreated, sc.StartYear)
+	}
+	return nil
+}
+
+// eligible says whether segment j, placed in state i, may be given action
+// a this year: always, unless an interval since its last work has not
+// passed.
+func (l *classLister) eligible(j int32, i, a int) bool {
+	return l.history == nil || l.wide[a].Applies[l.history.State(i, l.since[j])]
+}
+
+// wait is the years action a must wait after any work (0 without
+// intervals).
+func (l *classLister) wait(a int) int {
+	if l.history == nil || a == 0 {
+		return 0
+	}
+	return max(l.c.Treatments[a-1].MinInterval, 1)
+}
+
+// row is the year's transition of segment j, in state i, given action a,
+// by condition state.
+func (l *classLister) row(j, a, i int) []float64 {
+	if l.history == nil {
+		return l.actions[a].Rows[i]
+	}
+	return l.folded[a][l.history.State(i, l.since[j])]
 }
 
 // expectedStates places the segments in states for the start of a later
 // year: ranked by expected state, worst first, against the plan's expected
-// quantities q (end of the previous year), worst state first.
-func (l *classLister) expectedStates(q Quantities) {
+// quantities q (end of the previous year), worst state first. For a class
+// with a History, when the plan's quantities by widened state are known
+// (wide), the segments with each number of years since work are placed
+// against the plan's quantities with that number, so that the segments a
+// treatment may have match the plan's.
+func (l *classLister) expectedStates(q Quantities, wide []float64) {
 	n := l.n
 	m := len(l.state)
 	if l.tie == nil {
@@ -394,17 +486,28 @@ func (l *classLister) expectedStates(q Quantities) {
 		}
 		return cmp.Compare(a.tie, b.tie)
 	})
-	s := n - 1
-	end := q[s].Quantity
-	at := 0.0
-	for _, k := range keys {
-		qj := l.c.Segments[k.j].Quantity
-		mid := at + qj/2
-		at += qj
-		for s > 0 && mid >= end {
-			s--
-			end += q[s].Quantity
+	groups, group := 1, func(int32) int { return 0 }
+	quantity := func(s, _ int) float64 { return q[s].Quantity }
+	if h := l.history; h != nil && wide != nil {
+		groups, group = h.Span, func(j int32) int { return l.since[j] - 1 }
+		quantity = func(s, g int) float64 { return wide[h.State(s, g+1)] }
+	}
+	for g := range groups {
+		s := n - 1
+		end := quantity(s, g)
+		at := 0.0
+		for _, k := range keys {
+			if group(k.j) != g {
+				continue
+			}
+			qj := l.c.Segments[k.j].Quantity
+			mid := at + qj/2
+			at += qj
+			for s > 0 && mid >= end {
+				s--
+				end += quantity(s, g)
+			}
+			l.state[k.j] = s
 		}
-		l.state[k.j] = s
 	}
 }

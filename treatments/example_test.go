@@ -86,3 +86,28 @@ func ExampleActions() {
 	// overlay    state 4  cost 190000  -> [0.000 0.800 0.200 0.000 0.000]
 	// rebuild    state 4  cost 450000  -> [1.000 0.000 0.000 0.000 0.000]
 }
+
+// A seal that must wait three years after any work, on a three-state scale:
+// the class's states are widened with the years since the last work, and
+// the seal applies only where three or more years have passed.
+func ExampleHistory() {
+	p, _ := markov.NewTransition([][]float64{{0.8, 0.2, 0}, {0, 0.7, 0.3}, {0, 0, 1}}, markov.Options{})
+	seal := treatments.Treatment{Name: "seal", Applies: []int{0}, Cost: []float64{40, 0, 0}, MinInterval: 3, SkipsAging: true,
+		Effect: treatments.Effect{Kind: treatments.ToState, State: 0}}
+	ts := []treatments.Treatment{seal}
+	h := treatments.NewHistory(3, ts, nil)
+	acts, _ := h.Actions(p, nil, ts)
+	names := []string{"Good", "Fair", "Poor"}
+	for y := 1; y <= h.Span; y++ {
+		w := h.State(0, y)
+		fmt.Printf("%-36s seal allowed: %t\n", h.Label(names, w), acts[1].Applies[w])
+	}
+	// A year untreated from Good worked last year, summed back to
+	// condition states.
+	fmt.Println(h.Fold(acts[0].Rows[h.State(0, 1)]))
+	// Output:
+	// Good, worked last year               seal allowed: false
+	// Good, 2 years since work             seal allowed: false
+	// Good, 3 or more years since work     seal allowed: true
+	// [0.8 0.2 0]
+}

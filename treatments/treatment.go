@@ -50,6 +50,10 @@ type Treatment struct {
 	// plan's renewal indicators count its spend. RestoresBest is the usual
 	// default.
 	Renewal bool
+	// MinInterval is the number of years a quantity must wait after any
+	// treatment before it may get this one (0 or 1: no wait; History
+	// widens the states of classes that need it).
+	MinInterval int
 }
 
 // RestoresBest says whether the treatment, for an n-state scale, puts
@@ -114,6 +118,9 @@ func (t *Treatment) Validate(n int) error {
 	}
 	if len(t.Cost) != n {
 		errs = append(errs, fmt.Errorf("treatment %q: %d costs for a %d-state scale", t.Name, len(t.Cost), n))
+	}
+	if t.MinInterval < 0 {
+		errs = append(errs, fmt.Errorf("treatment %q: interval of %d years; give 0 or more", t.Name, t.MinInterval))
 	}
 	seen := map[int]bool{}
 	// An effect that does not fit the scale (a target state outside it, a

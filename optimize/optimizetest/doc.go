@@ -13,6 +13,11 @@
 // the program they check against beside the check; this package only runs
 // it.
 //
+// Dynamic programming: RelativeValueIteration solves an average-cost
+// Markov decision process written out state by state (MDP), the
+// independent check of the steady-state LP on classes widened with their
+// treatment history.
+//
 // Measurements: PeakRSS and ResetPeakRSS read and restart the process's
 // resident-set high-water mark (Linux), which includes lp_solve's C
 // allocations that Go's -benchmem cannot see; CPUSeconds is the process's

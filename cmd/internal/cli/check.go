@@ -18,11 +18,16 @@ func newCheckCmd() *cobra.Command {
 		Long: `Check reads each scenario file strictly and reports every problem at once,
 with its line and field: unknown keys, wrong types, matrices whose rows do not
 sum to 1, moves to a better state without work, unknown states or treatments,
-budgets, targets and ring-fenced money that make no sense; for inventory
-CSVs, every bad row with its line and column, and a summary of what was read.
-It lists every target and ring-fenced amount the plan must keep, and notes
-what looks wrong but is allowed (a treatment that leaves a state worse than
-doing nothing). Nothing is written.`,
+budgets, targets and ring-fenced money that make no sense, treatment
+intervals (min_interval) that are not whole years or name a treatment the
+class does not list, wear after work (after_work) that does not fit the
+scale, last treatments (last_treated) that are not years before the plan;
+for inventory CSVs, every bad row with its line and column, and a summary of
+what was read. It lists every target and ring-fenced amount the plan must
+keep, notes what looks wrong but is allowed (a treatment that leaves a state
+worse than doing nothing) and, for each class whose treatments keep
+intervals or that wears differently after work, says what it assumed about
+when the class was last treated. Nothing is written.`,
 		Example: `  # Validate the demo scenario
   wearplan check scenarios/examples/marrowby.yaml`,
 		Args: cobra.MinimumNArgs(1),
@@ -49,8 +54,10 @@ doing nothing). Nothing is written.`,
 				for _, line := range guardrails(sc) {
 					fmt.Fprintf(cmd.OutOrStdout(), "  %s\n", line)
 				}
-				for _, note := range sc.Notes {
-					fmt.Fprintf(cmd.OutOrStdout(), "  note: %s\n", note)
+				for k := range sc.Classes {
+					if line := historySummary(&sc.Classes[k]); line != "" {
+						fmt.Fprintf(cmd.OutOrStdout(), "  %s\n", line)
+					}
 				}
 				for _, n := range sc.Notes {
 					fmt.Fprintf(cmd.OutOrStdout(), "  note: %s\n", n)
@@ -117,4 +124,40 @@ func inventorySummary(inv *scenarios.Inventory) string {
 		priority = "priority: " + inv.Priority
 	}
 	return fmt.Sprintf("inventory %s: %s rows read; %s; %s; %s; %s", inv.File, render.Money(float64(inv.Rows)), strings.Join(parts, ", "), leftOut, geometry, priority)
+}
+
+// historySummary says in one line what a class's treatment history is:
+// the intervals its treatments keep and its wear after work ("" for a
+// class with neither).
+func historySummary(c *scenarios.Class) string {
+	if c.History == nil {
+		return ""
+	}
+	var parts []string
+	for _, t := range c.Treatments {
+		if t.MinInterval > 1 {
+			parts = append(parts, fmt.Sprintf("%s at least %d years after any work", t.Name, t.MinInterval))
+		}
+	}
+	if a := c.AfterWork; a != nil {
+		parts = append(parts, fmt.Sprintf("its own wear for %d years after work", a.Years))
+	}
+	known := ""
+	switch {
+	case c.Segments != nil:
+		n := 0
+		for j := range c.Segments {
+			if c.Segments[j].LastTreated > 0 {
+				n++
+			}
+		}
+		known = fmt.Sprintf("; %d of %d segments give their last treatment", n, len(c.Segments))
+	case len(c.LastTreated) > 0:
+		years := make([]string, len(c.LastTreated))
+		for i, lt := range c.LastTreated {
+			years[i] = fmt.Sprint(lt.Year)
+		}
+		known = "; last treated: shares given for " + strings.Join(years, ", ")
+	}
+	return fmt.Sprintf("treatment history of %s: %s%s", c.Name, strings.Join(parts, ", "), known)
 }

@@ -168,6 +168,24 @@ func TestMissingFile(t *testing.T) {
 	}
 }
 
+// TestCheckSaysWhatItAssumedOfHistory: check names each class's
+// intervals and after-work wear and says what it took for segments that
+// give no last treatment (the demo's segment list leaves some out).
+func TestCheckSaysWhatItAssumedOfHistory(t *testing.T) {
+	code, out, errs := run(t, "check", demo)
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	for _, want := range []string{
+		"treatment history of arterial-asphalt: crack-seal at least 6 years after any work, micro-surface at least 5 years after any work, its own wear for 3 years after work; ",
+		"note: 802 of 2,893 segments (of arterial-asphalt, local-asphalt, bridge-decks, culverts) give no last_treated year and are taken as treated long ago",
+	} {
+		if !strings.Contains(out, want) {
+			t.Errorf("check output lacks %q:\n%s", want, out)
+		}
+	}
+}
+
 func TestHelpShowsExamples(t *testing.T) {
 	for _, c := range []string{"check", "forecast", "plan", "longrun", "sweep", "compare", "report", "fit", "worklist", "simulate"} {
 		code, out, _ := run(t, c, "--help")
@@ -182,7 +200,7 @@ func TestStrictTargetsNotMet(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	// One tenth of the demo's money cannot hold 15% poor from 2031.
+	// One tenth of the demo's money cannot hold 15% poor from 2035.
 	low := strings.Replace(string(data), "yearly: 4500000", "yearly: 450000", 1)
 	if low == string(data) {
 		t.Fatal("demo budget line not found; update the test")

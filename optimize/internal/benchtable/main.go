@@ -17,6 +17,7 @@ import (
 	"os/exec"
 	"path/filepath"
 	"runtime"
+	"slices"
 	"strconv"
 	"strings"
 	"syscall"
@@ -27,11 +28,15 @@ import (
 )
 
 // sizes are the benchmark models: a binding yearly budget, the
-// max-condition objective, no targets (the seed of optimize's benchmarks).
+// max-condition objective, no targets (the seed of optimize's benchmarks);
+// the last is the largest with a 6-year interval on every third treatment,
+// so that its classes are widened with the years since work (10 condition
+// states x 6 years).
 var sizes = []optimize.GenSpec{
 	{Classes: 4, States: 5, Treatments: 4, Years: 20, BudgetShare: 0.15},
 	{Classes: 20, States: 7, Treatments: 6, Years: 30, BudgetShare: 0.15},
 	{Classes: 60, States: 10, Treatments: 8, Years: 40, BudgetShare: 0.15},
+	{Classes: 60, States: 10, Treatments: 8, Years: 40, BudgetShare: 0.15, Interval: 6},
 }
 
 // result is one solver's run on one model.
@@ -90,6 +95,7 @@ func main() {
 	timeout := flag.Duration("timeout", 60*time.Second, "time limit of each peer run and of wearplan's flat solve")
 	reps := flag.Int("reps", 3, "wearplan runs per model (the fastest is reported)")
 	sweepOnly := flag.Bool("sweep", false, "time only the budget sweep")
+	only := flag.String("models", "", "comma-separated models to time (e.g. 60x10x8x40,60x10x8x40-interval6); all by default, then the sweep")
 	flag.Parse()
 	dir, err := os.MkdirTemp("", "wearplan-bench")
 	if err != nil {
@@ -98,7 +104,7 @@ func main() {
 	defer os.RemoveAll(dir)
 
 	fmt.Printf("wearplan benchmark, %s, %d cores (GOMAXPROCS %d), load average at start %s\n", time.Now().UTC().Format("2006-01-02 15:04 UTC"), runtime.NumCPU(), runtime.GOMAXPROCS(0), loadAvg())
-	fmt.Printf("Generated models (optimize.Generate, seed 1): binding yearly budget, max-condition, no targets. wearplan: fastest of %d runs of the whole plan (optimum and tie-break); flat = lp_solve through golp, in process; peers: one run each on the exported flat MPS file, wall time including reading it, limit %s. Peak = resident-set high-water mark.\n\n", *reps, *timeout)
+	fmt.Printf("Generated models (optimize.Generate, seed 1): binding yearly budget, max-condition, no targets; -intervalN: every third treatment waits N years after any work (classes widened with the years since work). wearplan: fastest of %d runs of the whole plan (optimum and tie-break); flat = lp_solve through golp, in process; peers: one run each on the exported flat MPS file, wall time including reading it, limit %s. Peak = resident-set high-water mark.\n\n", *reps, *timeout)
 	header := []string{"model (C x S x T x Y)", "flat cols", "flat rows", "wearplan decomposed", "pricing rounds / master solves", "peak", "wearplan flat"}
 	for _, pr := range peers {
 		header = append(header, pr.name)
@@ -112,6 +118,9 @@ func main() {
 		return
 	}
 	for _, spec := range sizes {
+		if *only != "" && !slices.Contains(strings.Split(*only, ","), spec.String()) {
+			continue
+		}
 		p := optimize.Generate(rand.New(rand.NewPCG(1, 1)), spec)
 		m, err := optimize.BuildModel(p)
 		if err != nil {
@@ -152,6 +161,10 @@ func main() {
 		}
 		row = append(row, ratio, fmt.Sprintf("within %.0e", math.Max(worst, 1e-12)))
 		fmt.Println("| " + strings.Join(row, " | ") + " |")
+	}
+	if *only != "" {
+		fmt.Printf("\nload average at end %s\n", loadAvg())
+		return
 	}
 	sweep()
 	fmt.Printf("\nload average at end %s\n", loadAvg())
@@ -223,7 +236,12 @@ func runPeer(pr peer, mps string, timeout time.Duration) result {
 // glpsolObjective reads the objective from glpsol's raw solution file
 // (the simplex's or the interior point's, whichever glpsol wrote).
 func glpsolObjective(_ []byte, sol string) (float64, error) {
-	obj, _, _, err := optimizetest.ReadGlpsolSolution(sol)
+	obj, optimal, _, err := optimizetest.ReadGlpsolSolution(sol)
+	if err == nil && !optimal {
+		// glpsol writes a solution file even when it gives up (a basis
+		// singular to working precision): its objective is no optimum.
+		return 0, errors.New("no optimum")
+	}
 	return obj, err
 }
 
