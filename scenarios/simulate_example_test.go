@@ -31,11 +31,11 @@ func ExampleSimulate() {
 	}
 	fmt.Println(r.Uncertainty.Included[0])
 	// Output:
-	// 2027 network poor: plan 25.2%, runs 25.3% [24.0% to 26.6%]
-	// 2028 network poor: plan 20.8%, runs 20.7% [19.1% to 22.6%]
-	// 2029 network poor: plan 15.9%, runs 15.9% [14.4% to 17.6%]
-	// 2030 network poor: plan 15.1%, runs 15.0% [13.5% to 16.8%]
-	// 2031 network poor: plan 14.4%, runs 14.3% [12.7% to 16.2%]
+	// 2027 network poor: plan 25.2%, runs 25.3% [23.9% to 26.6%]
+	// 2028 network poor: plan 20.8%, runs 20.8% [19.2% to 22.5%]
+	// 2029 network poor: plan 15.9%, runs 15.9% [14.3% to 17.4%]
+	// 2030 network poor: plan 15.1%, runs 15.1% [13.4% to 16.8%]
+	// 2031 network poor: plan 14.4%, runs 14.4% [12.7% to 16.2%]
 	// network poor share at most 25% in 2029-2031: met by the plan true, in every year in 100% of runs
 	// local-asphalt average index at least 50 in 2028-2031: met by the plan true, in every year in 100% of runs
 	// network average condition in 2031 no worse than today: met by the plan true, in every year in 100% of runs
