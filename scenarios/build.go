@@ -469,6 +469,13 @@ func buildClasses(sc *Scenario, f *fileScenario, scales map[string]*Scale, catal
 				withValue++
 			}
 		}
+		if fc.SegmentSize != nil {
+			if v := *fc.SegmentSize; !(v > 0) || math.IsInf(v, 0) {
+				is.add(fc.Lines.of("segment_size"), field+".segment_size", "%s: give the size of the pieces the class is managed in, a positive number in its unit (e.g. 0.5 for half a lane-km)", num(v))
+			} else {
+				c.SegmentSize = v
+			}
+		}
 		if fc.Weight != nil {
 			if *fc.Weight <= 0 {
 				is.add(fc.Lines.of("weight"), field+".weight", "%g must be positive", *fc.Weight)

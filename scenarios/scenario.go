@@ -103,6 +103,10 @@ type Class struct {
 	// inventory is written in the scenario); Inventory says what was read.
 	Segments  []Segment
 	Inventory *Inventory
+	// SegmentSize is the size of the pieces a simulation cuts the class
+	// into, in its unit (segment_size); 0 when not given: the segment list's
+	// segments, or DefaultSegmentSize.
+	SegmentSize float64
 	// Evidence is how the matrix was estimated, when it comes from a fit
 	// result; nil for a matrix typed into the scenario. Simulations draw
 	// matrices from it under matrix uncertainty.

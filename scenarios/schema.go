@@ -56,6 +56,7 @@ type fileClass struct {
 	ReplacementCost *float64           `yaml:"replacement_cost"`
 	Weight          *float64           `yaml:"weight"`
 	RoutineCost     *stateNumbers      `yaml:"routine_cost"`
+	SegmentSize     *float64           `yaml:"segment_size"`
 	Lines           lines
 }
 

@@ -152,27 +152,34 @@ func Simulate(sc *Scenario, opt SimulateOptions) (*SimulationResult, error) {
 	segs := opt.Lots
 	from := make([]string, len(sc.Classes))
 	sizes := make([]float64, len(sc.Classes))
+	rules := make([]string, len(sc.Classes))
 	if segs == nil {
 		if segs, err = CutLots(sc, opt.LotSize, opt.ClassLotSize); err != nil {
 			return nil, err
 		}
 		for k := range sc.Classes {
 			c := &sc.Classes[k]
-			if segmentsAsLots(c, opt.LotSize, opt.ClassLotSize) {
+			size, segments, why := piecesOf(c, opt.LotSize, opt.ClassLotSize)
+			if segments {
 				from[k] = fmt.Sprintf("the %d segments of the inventory list %s", len(c.Segments), c.Inventory.File)
 				continue
 			}
-			sizes[k] = lotSize(c.Name, opt.LotSize, opt.ClassLotSize)
-			from[k] = fmt.Sprintf("lots of %s %s cut from the quantity in each state (one smaller lot takes any remainder)", num(sizes[k]), c.Unit)
+			sizes[k], rules[k] = size, why
+			from[k] = fmt.Sprintf("pieces of %s %s cut from the quantity in each state (%s; one smaller piece takes any remainder)", num(size), c.Unit, why)
 		}
 	} else {
 		for k := range from {
-			from[k] = "lots given by the caller"
+			from[k] = "pieces given by the caller"
 		}
 	}
 	lots, counts, err := toLots(sc, segs)
 	if err != nil {
 		return nil, err
+	}
+	for k := range sc.Classes {
+		if w := pieceWarning(&sc.Classes[k], counts[k]); w != "" {
+			res.Warnings = append(res.Warnings, w)
+		}
 	}
 
 	simClasses := make([]markov.SimClass, len(sc.Classes))
@@ -209,7 +216,7 @@ func Simulate(sc *Scenario, opt SimulateOptions) (*SimulationResult, error) {
 	for k := range sc.Classes {
 		c := &sc.Classes[k]
 		oc := &p.Classes[k]
-		info := SimClassInfo{Class: c.Name, Unit: c.Unit, Segments: counts[k], Quantity: c.Total(), LotSize: sizes[k], SegmentsFrom: from[k], Matrix: "as given"}
+		info := SimClassInfo{Class: c.Name, Unit: c.Unit, Segments: counts[k], Quantity: c.Total(), LotSize: sizes[k], PieceRule: rules[k], SegmentsFrom: from[k], Matrix: "as given"}
 		sim := markov.SimClass{Rows: make([][][]float64, len(oc.Actions))}
 		for a := range oc.Actions {
 			sim.Rows[a] = oc.Actions[a].Rows
@@ -305,29 +312,35 @@ func (o *SimulateOptions) normalise() error {
 	return nil
 }
 
-func lotSize(class string, def float64, per map[string]float64) float64 {
-	if v, ok := per[class]; ok {
-		return v
+// piecesOf says how a simulation cuts a class: into the segments of its
+// segment list (segments true), or into pieces of size, with the reason in
+// words. A size asked for the simulation (per class, then for all classes)
+// comes first, then the class's segment_size, then its segment list, then
+// the default of its unit (DefaultSegmentSize).
+func piecesOf(c *Class, def float64, per map[string]float64) (size float64, segments bool, why string) {
+	if v, ok := per[c.Name]; ok {
+		return v, false, "the size asked for this class in this simulation"
 	}
 	if def > 0 {
-		return def
+		return def, false, "the size asked for every class in this simulation"
 	}
-	return 1
+	if c.SegmentSize > 0 {
+		return c.SegmentSize, false, "the class's segment_size"
+	}
+	if len(c.Segments) > 0 {
+		return 0, true, ""
+	}
+	size, why = DefaultSegmentSize(c.Unit, c.Initial)
+	return size, false, why
 }
 
-// segmentsAsLots says whether a class's inventory segments are simulated
-// as they are: when it has a segment list and no lot size is given for it.
-func segmentsAsLots(c *Class, def float64, per map[string]float64) bool {
-	_, sized := per[c.Name]
-	return len(c.Segments) > 0 && def == 0 && !sized
-}
-
-// CutLots returns the lots of a simulation. A class read from an inventory
-// list moves segment by segment, unless a lot size is given for it. Other
-// classes are cut into lots: with lot size L (def, overridden per class by
-// per; 1 when neither is given), a quantity q becomes floor(q/L) lots of L
-// and, when more than 1e-9·L is left, one lot of the remainder
-// q - floor(q/L)·L. Classes come in order, best state first.
+// CutLots returns the pieces of a simulation. A class read from an
+// inventory list moves segment by segment, unless a size is given for it
+// (def for every class, per for one, or its segment_size). Other classes
+// are cut into pieces of their segment_size or else of their unit's
+// default size (DefaultSegmentSize): with size L, a quantity q becomes
+// floor(q/L) pieces of L and, when more than 1e-9·L is left, one piece of
+// the remainder q - floor(q/L)·L. Classes come in order, best state first.
 func CutLots(sc *Scenario, def float64, per map[string]float64) ([]Lot, error) {
 	for _, name := range sortedKeys(per) {
 		if sc.classIndex(name) < 0 {
@@ -341,21 +354,17 @@ func CutLots(sc *Scenario, def float64, per map[string]float64) ([]Lot, error) {
 	var out []Lot
 	for k := range sc.Classes {
 		c := &sc.Classes[k]
-		if segmentsAsLots(c, def, per) {
+		size, segments, _ := piecesOf(c, def, per)
+		if segments {
 			for _, sg := range c.Segments {
 				out = append(out, Lot{ID: sg.ID, Class: c.Name, State: sg.State, Quantity: sg.Quantity})
 			}
 			continue
 		}
-		size := lotSize(c.Name, def, per)
-		// Count before cutting, so that a lot size far too small for the
+		// Count before cutting, so that a size far too small for the
 		// class fails at once with the numbers to fix it.
-		n := 0.0
-		for _, q := range c.Initial {
-			n += math.Ceil(q/size - 1e-9)
-		}
-		if n+float64(len(out)) > MaxLots {
-			return nil, &OptionError{"lot size", fmt.Sprintf("class %q: %s %s in lots of %s would make %.0f lots; a simulation takes at most %d in all: give a larger lot size for the class, e.g. %s=%s",
+		if n := pieceCount(c.Initial, size); n+len(out) > MaxLots {
+			return nil, &OptionError{"lot size", fmt.Sprintf("class %q: %s %s in pieces of %s would make %d pieces; a simulation takes at most %d in all: give a larger size for the class, e.g. %s=%s",
 				c.Name, num(c.Total()), c.Unit, num(size), n, MaxLots, c.Name, num(suggestLot(c.Total(), MaxLots/10)))}
 		}
 		for i, q := range c.Initial {
@@ -486,7 +495,7 @@ func describeUncertainty(res *SimulationResult, opt SimulateOptions, counts []in
 	}
 	u := &res.Uncertainty
 	u.Segments, u.Matrix = true, opt.Matrix
-	u.Included = append(u.Included, fmt.Sprintf("segment-level randomness: each of %d segments or lots draws its treatment and its next state at random in every year, independently of the others", total))
+	u.Included = append(u.Included, fmt.Sprintf("piece-level randomness: each of %d pieces (segments of a list, or pieces cut from quantities) draws its treatment and its next state at random in every year, independently of the others", total))
 	if opt.Matrix == MatrixNone {
 		u.Excluded = append(u.Excluded, "matrix uncertainty: every run uses the transition matrices as given, so estimation error in them is not in the bands")
 	} else {
