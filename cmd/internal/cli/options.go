@@ -230,7 +230,7 @@ func (o *simulateOptions) register(cmd *cobra.Command) {
 	f.Uint64Var(&o.seed, "seed", 1, "random seed: the same seed gives the same output")
 	f.StringVar(&o.matrix, "matrix-uncertainty", scenarios.MatrixNone, "draw matrices per run: none, dirichlet (posterior of fitted counts) or bootstrap (fitted replicates)")
 	f.Float64Var(&o.prior, "dirichlet-prior", 0.5, "symmetric Dirichlet prior for --matrix-uncertainty dirichlet: 0.5 (Jeffreys) or 1 (uniform)")
-	f.StringArrayVar(&o.lotSizes, "lot-size", nil, "size of the lots cut from the quantities, in each class's unit: SIZE for all classes or CLASS=SIZE (repeatable; default: the inventory list's segments, else 1)")
+	f.StringArrayVar(&o.lotSizes, "lot-size", nil, "size of the pieces each class moves as, in its unit: SIZE for all classes or CLASS=SIZE (repeatable; default: the class's segment_size, else its segment list's segments, else its unit's default piece, e.g. 0.5 lane-km, 500 m2, 1 each)")
 }
 
 // changed returns the first simulation flag given on the command line, or "".
