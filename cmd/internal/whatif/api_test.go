@@ -496,6 +496,31 @@ func TestBandsWhenAskedFor(t *testing.T) {
 	}
 }
 
+// TestPieceSizesReachTheBands: a piece size set on the page cuts the class
+// into pieces of that size in the bands (one deck-sized piece of the whole
+// 14,500 m2 class: a single piece, so the class is all in one state in
+// every run, and a warning says so); a class the scenario lacks is a 422
+// naming the field.
+func TestPieceSizesReachTheBands(t *testing.T) {
+	s, ts := newTestServer(t, Options{})
+	out, _, bad := s.plan(context.Background(), alternative{Changes: scenarios.Changes{SegmentSizes: map[string]float64{"bridge-decks": 14500}}, Bands: true})
+	if bad != nil {
+		t.Fatal(bad)
+	}
+	decks := out.simulation.Classes[2]
+	if decks.Class != "bridge-decks" || decks.Segments != 6 || decks.LotSize != 14500 {
+		// 6: one piece per state that holds decks today (pieces never span states).
+		t.Errorf("decks moved as %d pieces of %g, want 6 of 14500", decks.Segments, decks.LotSize)
+	}
+	if !strings.Contains(strings.Join(out.simulation.Warnings, " "), `class "bridge-decks" moves as 6 pieces, fewer than 20`) {
+		t.Errorf("no warning about too few pieces: %q", out.simulation.Warnings)
+	}
+	r := postJSON(t, ts, "/api/plan", `{"scenario": 0, "changes": {"segment_sizes": {"trams": 5}}, "bands": true}`)
+	if r.status != 422 || !strings.Contains(string(r.body), "segment_sizes.trams") {
+		t.Errorf("unknown class: %d %s", r.status, r.body)
+	}
+}
+
 // TestAnswersDoNotDependOnHistory: each request starts from the base
 // plan's policies, not from the requests before it, so the same request
 // gets the same bytes on a fresh server and after other requests.

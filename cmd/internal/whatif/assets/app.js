@@ -30,6 +30,7 @@
     scenarios: [],
     info: null, // the chosen scenario (from /api/scenarios)
     steps: [], // {from, to, kind: 'percent' | 'amount', value}
+    pieces: {}, // class name -> piece size typed on the page ('' keeps the file's)
     targets: [], // {who, measure: good|fair|poor|index|hold, bound: max|min, value, from, to}
     seq: 0,
     inflight: null,
@@ -78,9 +79,23 @@
     $('escalation').value = String(round((set.cost_escalation || 0) * 100));
     for (const r of document.querySelectorAll('input[name=objective]')) r.checked = r.value === set.objective;
     state.targets = (set.targets || []).map(targetRow);
+    state.pieces = {};
+    for (const c of info.classes) state.pieces[c.name] = String((set.segment_sizes || {})[c.name] ?? '');
     $('alt-name').value = set.name || info.name;
     drawSteps();
     drawTargets();
+    drawPieces();
+  }
+
+  // drawPieces draws one piece-size input per class.
+  function drawPieces() {
+    const list = $('pieces');
+    list.replaceChildren();
+    state.info.classes.forEach((c) => {
+      const value = el('input', { type: 'number', min: '0', step: 'any', inputMode: 'decimal', 'aria-label': c.name + ': piece size', placeholder: c.pieces, value: state.pieces[c.name] });
+      value.addEventListener('change', () => { state.pieces[c.name] = value.value; });
+      list.append(el('li', { 'data-field': 'segment_sizes.' + c.name }, word(c.name), value, word(c.unit)));
+    });
   }
 
   function setLevel(v) {
@@ -218,6 +233,9 @@
     };
     const level = $('budget-level').value;
     if (level !== '') ch.budget_level = Number(level);
+    const sizes = {};
+    for (const [name, v] of Object.entries(state.pieces)) if (v !== '') sizes[name] = Number(v);
+    if (Object.keys(sizes).length) ch.segment_sizes = sizes;
     return ch;
   }
 
@@ -281,6 +299,8 @@
     if (field.startsWith('cost_escalation')) return 'Cost escalation';
     if (field.startsWith('objective')) return 'Objective';
     if (field.startsWith('name')) return 'Name';
+    m = /^segment_sizes\.(.*)$/.exec(field) || /^classes\[\d+\] \((.*)\)\.segment_size/.exec(field);
+    if (m) return 'Piece size of ' + m[1];
     return field;
   }
 
@@ -291,6 +311,8 @@
     if (field.startsWith('cost_escalation')) return $('escalation');
     if (field.startsWith('name')) return $('alt-name');
     if (field.startsWith('objective')) return $('f-objective');
+    m = /^segment_sizes\.(.*)$/.exec(field) || /^classes\[\d+\] \((.*)\)\.segment_size/.exec(field);
+    if (m) return document.querySelector('[data-field="segment_sizes.' + CSS.escape(m[1]) + '"]');
     return null;
   }
 
