@@ -93,33 +93,36 @@ func runSource(seed uint64, run int, stream uint64) *rand.PCG {
 
 // step is one possible outcome of a lot's year: the action it gets and
 // the state it ends the year in, with the running sum of the outcomes'
-// probabilities up to and including this one (cum) and its own (p).
+// probabilities up to and including this one as a threshold on 53-bit
+// random integers (cut) and its own probability (p).
 type step struct {
-	cum, p float64
-	a, j   int32
+	cut  uint64
+	p    float64
+	a, j int32
 }
 
 // stepPicker draws a lot's year, action and next state at once, from the
 // joint distribution P(a, j) = policy(a)·row_a(j), by inverse CDF: outcome
-// k when the uniform number falls below cum[k]. Outcomes with probability 0
-// are left out; a year with a single outcome needs no draw. One draw a
-// lot-year instead of two, and the action follows from the same number.
+// k when a uniform 53-bit integer falls below cut[k]. Outcomes with
+// probability 0 are left out; a year with a single outcome needs no draw.
+// One draw a lot-year instead of two, and the action follows from the same
+// number.
 type stepPicker []step
 
 // uniform returns a float64 in [0, 1) from 53 random bits, as
 // math/rand/v2's Float64 does, without the interface call.
 func uniform(src *rand.PCG) float64 { return float64(src.Uint64()>>11) * 0x1p-53 }
 
-func (sp stepPicker) draw(src *rand.PCG) *step {
+func (sp stepPicker) draw(src *rand.PCG) (a, j int32) {
 	if len(sp) == 1 {
-		return &sp[0]
+		return sp[0].a, sp[0].j
 	}
-	u := uniform(src)
+	u := src.Uint64() >> 11
 	k := 0
-	for u >= sp[k].cum {
+	for u >= sp[k].cut {
 		k++
 	}
-	return &sp[k]
+	return sp[k].a, sp[k].j
 }
 
 // fillSteps writes the joint outcomes of a policy row pol (by action) and
@@ -134,19 +137,21 @@ func fillSteps(buf stepPicker, pol []float64, rows [][][]float64, i int) stepPic
 		for j, m := range rows[a][i] {
 			if v := pa * m; v > 0 {
 				total += v
-				buf = append(buf, step{cum: total, p: v, a: int32(a), j: int32(j)})
+				buf = append(buf, step{p: v, a: int32(a), j: int32(j)})
 			}
 		}
 	}
-	// Normalise, and let the last outcome take everything left, so that
-	// rounding in the running sum can never leave a uniform number without
-	// an outcome.
+	// Normalise; the last outcome takes everything left, so that rounding
+	// in the running sum can never leave a random number without an
+	// outcome.
+	run := 0.0
 	for k := range buf {
-		buf[k].cum /= total
 		buf[k].p /= total
+		run += buf[k].p
+		buf[k].cut = uint64(math.Min(run, 1) * 0x1p53)
 	}
 	if n := len(buf); n > 0 {
-		buf[n-1].cum = math.Inf(1)
+		buf[n-1].cut = math.MaxUint64
 	}
 	return buf
 }
@@ -484,9 +489,9 @@ func (w *simWorker) moveSingles(k int, lots []Lot, src *rand.PCG) {
 		s, q := l.State, l.Quantity
 		qty[s] += q
 		for t := range w.years {
-			st := steps[t*ns+s].draw(src)
-			treated[(t*ns+s)*na+int(st.a)] += q
-			s = int(st.j)
+			a, j := steps[t*ns+s].draw(src)
+			treated[(t*ns+s)*na+int(a)] += q
+			s = int(j)
 			qty[(t+1)*ns+s] += q
 		}
 	}
@@ -523,9 +528,9 @@ func (w *simWorker) moveCohort(k int, c *cohort, src *rand.PCG) {
 				nxt[sp[0].j] += n
 			case n <= fewLots:
 				for range n {
-					st := sp.draw(src)
-					treated[base+int(st.a)] += q
-					nxt[st.j]++
+					a, j := sp.draw(src)
+					treated[base+int(a)] += q
+					nxt[j]++
 				}
 			default:
 				left, mass := n, 1.0

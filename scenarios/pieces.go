@@ -43,8 +43,8 @@ type unitPiece struct {
 // agency's own sections are better, through segment_size or a segment
 // list).
 var unitPieces = []unitPiece{
-	{[]string{"lane-km", "lanekm", "km", "kilometre", "kilometres", "kilometer", "kilometers", "centreline-km", "centerline-km", "lane-kilometre", "lane-kilometres", "lane-kilometer", "lane-kilometers"}, 0.5, "a road section (about 250 m of a two-lane road)"},
-	{[]string{"lane-mi", "lane-mile", "lane-miles", "lanemi", "mi", "mile", "miles", "centerline-mi", "centerline-mile", "centerline-miles"}, 0.25, "a road section (about 200 m of a two-lane road)"},
+	{[]string{"lane-km", "lanekm", "km", "kilometre", "kilometres", "kilometer", "kilometers", "centreline-km", "centerline-km", "lane-kilometre", "lane-kilometres", "lane-kilometer", "lane-kilometers"}, 0.5, "a road section, about 250 m of two lanes"},
+	{[]string{"lane-mi", "lane-mile", "lane-miles", "lanemi", "mi", "mile", "miles", "centerline-mi", "centerline-mile", "centerline-miles"}, 0.25, "a road section, about 200 m of two lanes"},
 	{[]string{"m", "metre", "metres", "meter", "meters", "lane-m", "linear-m", "lm", "m-of-pipe"}, 100, "a length between junctions or manholes"},
 	{[]string{"ft", "foot", "feet", "lf", "linear-ft", "linear-feet"}, 300, "a length between junctions or manholes"},
 	{[]string{"m2", "m²", "sqm", "sq-m", "square-metre", "square-metres", "square-meter", "square-meters"}, 500, "a bridge deck or a footpath block"},

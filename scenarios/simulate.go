@@ -508,7 +508,7 @@ func describeUncertainty(res *SimulationResult, opt SimulateOptions, counts []in
 		u.Included = append(u.Included, fmt.Sprintf("matrix uncertainty (%s): each run draws the matrices of %s from their sampling distribution", opt.Matrix, strings.Join(names, ", ")))
 	}
 	u.Excluded = append(u.Excluded,
-		"common causes: segments deteriorate independently here, while real ones share weather, traffic, materials and contractors, so real outcomes may spread wider",
+		"common causes: pieces deteriorate independently here, while real assets share weather, traffic, materials and contractors, so real outcomes may spread wider",
 		"uncertainty in costs, budgets and treatment effects")
 	if opt.Policy == PolicyPlan {
 		u.Excluded = append(u.Excluded, "budget discipline: runs follow the plan's shares, so their spend varies around the plan's instead of being held to the budget")
