@@ -132,16 +132,31 @@ const targetSlack = 1e-6
 // Simulate runs the scenario's plan (or do nothing) through opt.Runs
 // random runs at segment level and returns the uncertainty bands.
 func Simulate(sc *Scenario, opt SimulateOptions) (*SimulationResult, error) {
+	res, _, err := simulate(sc, opt, nil)
+	return res, err
+}
+
+// givenPlan is a plan a simulation follows instead of solving the
+// scenario's: the problem it was solved for (targets may be tightened) and
+// the plan.
+type givenPlan struct {
+	p    *optimize.Problem
+	plan *optimize.Plan
+}
+
+// simulate is Simulate, following given when it is not nil, and returning
+// every run's figures too.
+func simulate(sc *Scenario, opt SimulateOptions, given *givenPlan) (*SimulationResult, *figures, error) {
 	if err := opt.normalise(); err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	if n := (len(sc.Classes) + 1) * sc.Horizon * figCount * opt.Runs; n > maxFigures {
-		return nil, &OptionError{"runs", fmt.Sprintf("%d runs of %d classes over %d years would keep %d MB of figures; use at most %d runs for this scenario",
+		return nil, nil, &OptionError{"runs", fmt.Sprintf("%d runs of %d classes over %d years would keep %d MB of figures; use at most %d runs for this scenario",
 			opt.Runs, len(sc.Classes), sc.Horizon, n*8>>20, maxFigures/((len(sc.Classes)+1)*sc.Horizon*figCount))}
 	}
 	p, err := sc.Problem()
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	res := &SimulationResult{
 		Scenario: sc.Name, Source: sc.Source, Kind: "simulation", Policy: opt.Policy, Currency: sc.Currency,
@@ -155,7 +170,7 @@ func Simulate(sc *Scenario, opt SimulateOptions) (*SimulationResult, error) {
 	rules := make([]string, len(sc.Classes))
 	if segs == nil {
 		if segs, err = CutLots(sc, opt.LotSize, opt.ClassLotSize); err != nil {
-			return nil, err
+			return nil, nil, err
 		}
 		for k := range sc.Classes {
 			c := &sc.Classes[k]
@@ -174,7 +189,7 @@ func Simulate(sc *Scenario, opt SimulateOptions) (*SimulationResult, error) {
 	}
 	lots, counts, err := toLots(sc, segs)
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	for k := range sc.Classes {
 		if w := pieceWarning(&sc.Classes[k], counts[k]); w != "" {
@@ -185,7 +200,7 @@ func Simulate(sc *Scenario, opt SimulateOptions) (*SimulationResult, error) {
 	simClasses := make([]markov.SimClass, len(sc.Classes))
 	samplers := make([]markov.MatrixSampler, len(sc.Classes))
 	if err := chooseSamplers(sc, opt, samplers, res); err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 
 	// The deterministic flow, once the options are known to work: the
@@ -194,12 +209,14 @@ func Simulate(sc *Scenario, opt SimulateOptions) (*SimulationResult, error) {
 	var work [][][][]float64
 	if opt.Policy == PolicyPlan {
 		p.Timeout = opt.Timeout
-		plan, err := optimize.SolveWith(p, optimize.Options{Method: opt.Solver})
-		if err != nil {
-			return nil, err
+		var plan *optimize.Plan
+		if given != nil {
+			p, plan = given.p, given.plan
+		} else if plan, err = optimize.SolveWith(p, optimize.Options{Method: opt.Solver}); err != nil {
+			return nil, nil, err
 		}
 		if plan.Status == optimize.Infeasible {
-			return nil, fmt.Errorf("%s: the budgets cannot be kept even by doing nothing; check the budget lines", sc.Source)
+			return nil, nil, fmt.Errorf("%s: the budgets cannot be kept even by doing nothing; check the budget lines", sc.Source)
 		}
 		det = assemble(sc, p, plan.Condition, plan.Work, plan.Spend)
 		work = plan.Work
@@ -208,7 +225,7 @@ func Simulate(sc *Scenario, opt SimulateOptions) (*SimulationResult, error) {
 	} else {
 		det, err = Forecast(sc)
 		if err != nil {
-			return nil, err
+			return nil, nil, err
 		}
 	}
 	res.Initial = det.Initial
@@ -259,14 +276,14 @@ func Simulate(sc *Scenario, opt SimulateOptions) (*SimulationResult, error) {
 			return nil
 		})
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	fig.bands(res, det)
 	res.Targets = fig.targetChances(det)
 	if opt.Runs < fewRuns {
 		res.Warnings = append(res.Warnings, fmt.Sprintf("only %d runs: the 5th and 95th percentiles are rough; use --runs 1000 or more for figures to report", opt.Runs))
 	}
-	return res, nil
+	return res, fig, nil
 }
 
 func (o *SimulateOptions) normalise() error {
@@ -753,60 +770,84 @@ func (f *figures) bands(res *SimulationResult, det *Result) {
 	}
 }
 
+// targetSeries says where a target's measure is kept: the class (or the
+// network, len(classes)) and figure, and the limit it is held to, on the
+// figures' scale (a share, or the 0-100 score).
+func (f *figures) targetSeries(tg *Target, initial *Snapshot) (k, fig int, limit float64) {
+	spec := tg.Spec
+	k = len(f.sc.Classes)
+	if tg.Class != "" {
+		k = f.sc.classIndex(tg.Class)
+	}
+	fig = figScore
+	if spec.Kind == optimize.MaxShare || spec.Kind == optimize.MinShare {
+		fig = figGood + int(spec.Group)
+	}
+	limit = spec.Value
+	if spec.Kind == optimize.Hold {
+		if k == len(f.sc.Classes) {
+			limit = initial.Network.Score
+		} else {
+			limit = initial.Classes[k].Score
+		}
+	}
+	return k, fig, limit
+}
+
+// missBy is how far value v misses a target of the kind with the limit:
+// positive when missed, zero or less when met.
+func missBy(kind optimize.TargetKind, v, limit float64) float64 {
+	if kind == optimize.MaxShare {
+		return v - limit
+	}
+	return limit - v
+}
+
+// worstMiss returns, for each run, the most by which the target misses its
+// limit in any year it covers (a share, or score points): the run meets
+// the target in every year when it is at most targetSlack.
+func (f *figures) worstMiss(tg *Target, initial *Snapshot) []float64 {
+	k, fig, limit := f.targetSeries(tg, initial)
+	out := make([]float64, len(f.vals[0]))
+	for r := range out {
+		out[r] = math.Inf(-1)
+	}
+	for t := range f.years {
+		if year := f.sc.Year(t + 1); year < tg.FromYear || year > tg.ToYear {
+			continue
+		}
+		for r, v := range f.vals[f.series(k, t, fig)] {
+			out[r] = math.Max(out[r], missBy(tg.Spec.Kind, v, limit))
+		}
+	}
+	return out
+}
+
 // targetChances measures each target in every run and year it covers.
 func (f *figures) targetChances(det *Result) []TargetChance {
 	sc := f.sc
-	K := len(sc.Classes)
 	runs := len(f.vals[0])
 	out := make([]TargetChance, 0, len(sc.Targets))
-	for n, tg := range sc.Targets {
-		spec := tg.Spec
-		k := K
-		if tg.Class != "" {
-			k = sc.classIndex(tg.Class)
-		}
-		fig := figScore
-		if spec.Kind == optimize.MaxShare || spec.Kind == optimize.MinShare {
-			fig = figGood + int(spec.Group)
-		}
-		limit := spec.Value
-		if spec.Kind == optimize.Hold {
-			if k == K {
-				limit = det.Initial.Network.Score
-			} else {
-				limit = det.Initial.Classes[k].Score
-			}
-		}
-		met := func(v float64) bool {
-			if spec.Kind == optimize.MaxShare {
-				return v-limit <= targetSlack
-			}
-			return limit-v <= targetSlack
-		}
+	for n := range sc.Targets {
+		tg := &sc.Targets[n]
+		k, fig, limit := f.targetSeries(tg, &det.Initial)
 		tc := TargetChance{Target: tg.Label, MetByPlan: det.Targets[n].Met}
-		always := make([]bool, runs)
-		for r := range always {
-			always[r] = true
-		}
 		for t := range f.years {
 			year := sc.Year(t + 1)
 			if year < tg.FromYear || year > tg.ToYear {
 				continue
 			}
-			xs := f.vals[f.series(k, t, fig)]
 			hits := 0
-			for r, v := range xs {
-				if met(v) {
+			for _, v := range f.vals[f.series(k, t, fig)] {
+				if missBy(tg.Spec.Kind, v, limit) <= targetSlack {
 					hits++
-				} else {
-					always[r] = false
 				}
 			}
 			tc.Years = append(tc.Years, YearChance{Year: year, Probability: float64(hits) / float64(runs)})
 		}
 		hits := 0
-		for _, ok := range always {
-			if ok {
+		for _, m := range f.worstMiss(tg, &det.Initial) {
+			if m <= targetSlack {
 				hits++
 			}
 		}
