@@ -778,6 +778,17 @@ func buildTargets(sc *Scenario, f *fileScenario, is *issues) {
 			scale = sc.SharedScale()
 		}
 		first, last := sc.StartYear, sc.StartYear+sc.Horizon-1
+		if ft.Confidence != nil {
+			switch c := *ft.Confidence; {
+			case ft.Hold:
+				is.add(ft.Lines.of("confidence"), field+".confidence", "hold: true cannot take a confidence: it is the guard that the plan's expected condition in the last year is no worse than today's; for a level that must hold in a share of runs, give min_average_index with from_year set to the last year and the confidence")
+				continue
+			case !(c > 0 && c < 1):
+				is.add(ft.Lines.of("confidence"), field+".confidence", "%s is outside (0, 1): give the share of simulated runs in which the target must hold, e.g. 0.9 for 90%%", num(c))
+				continue
+			}
+			t.Confidence = *ft.Confidence
+		}
 		if ft.Hold {
 			if ft.Group != "" || ft.MaxShare != nil || ft.MinShare != nil || ft.MinAverageIndex != nil || ft.FromYear != nil || ft.ToYear != nil {
 				is.add(line, field, "hold: true takes only class; it always compares the last year with today")

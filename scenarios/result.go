@@ -50,7 +50,10 @@ type Result struct {
 	// comparison with an optimised plan.
 	Baseline *Baseline  `json:"baseline,omitempty"`
 	Model    *ModelSize `json:"model,omitempty"`
-	Caution  string     `json:"caution"`
+	// Confidence is how the plan meets the targets that state a
+	// confidence (confidence.go); nil when none does.
+	Confidence *Confidence `json:"confidence,omitempty"`
+	Caution    string      `json:"caution"`
 }
 
 // ClassWeight is one class's share of network figures.

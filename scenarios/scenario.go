@@ -130,6 +130,10 @@ type Target struct {
 	Spec  optimize.Target
 	// FromYear and ToYear are calendar years (end-of-year condition).
 	FromYear, ToYear int
+	// Confidence is the share of simulated runs in which the plan must
+	// meet the target in every year it covers (confidence); 0 when the
+	// plan need only meet it in expectation.
+	Confidence float64
 }
 
 // BudgetGroup caps the yearly spend on some classes.

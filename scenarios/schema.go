@@ -113,6 +113,7 @@ type fileTarget struct {
 	FromYear        *int     `yaml:"from_year"`
 	ToYear          *int     `yaml:"to_year"`
 	Hold            bool     `yaml:"hold"`
+	Confidence      *float64 `yaml:"confidence"`
 	Lines           lines
 }
 

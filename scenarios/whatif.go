@@ -81,6 +81,7 @@ type TargetSpec struct {
 	FromYear        *int     `json:"from_year,omitempty" yaml:"from_year,omitempty"`
 	ToYear          *int     `json:"to_year,omitempty" yaml:"to_year,omitempty"`
 	Hold            bool     `json:"hold,omitempty" yaml:"hold,omitempty"`
+	Confidence      *float64 `json:"confidence,omitempty" yaml:"confidence,omitempty"`
 }
 
 // Editable is a loaded scenario kept as written: its YAML node tree with
@@ -414,6 +415,9 @@ func (e *Editable) describe(sc *Scenario) string {
 		labels := make([]string, len(sc.Targets))
 		for i, t := range sc.Targets {
 			labels[i] = t.Label
+			if t.Confidence > 0 {
+				labels[i] += " with " + pct(t.Confidence) + " confidence"
+			}
 		}
 		text := "none"
 		if len(labels) > 0 {
@@ -445,7 +449,7 @@ func (e *Editable) describe(sc *Scenario) string {
 
 func sameTargets(a, b []Target) bool {
 	return slices.EqualFunc(a, b, func(x, y Target) bool {
-		return x.Label == y.Label && x.Spec == y.Spec && x.FromYear == y.FromYear && x.ToYear == y.ToYear
+		return x.Label == y.Label && x.Spec == y.Spec && x.FromYear == y.FromYear && x.ToYear == y.ToYear && x.Confidence == y.Confidence
 	})
 }
 
@@ -516,7 +520,7 @@ func (o overlayNodes) target(t TargetSpec, field string, is *issues) *yaml.Node 
 	for _, f := range []struct {
 		key string
 		v   *float64
-	}{{"max_share", t.MaxShare}, {"min_share", t.MinShare}, {"min_average_index", t.MinAverageIndex}} {
+	}{{"max_share", t.MaxShare}, {"min_share", t.MinShare}, {"min_average_index", t.MinAverageIndex}, {"confidence", t.Confidence}} {
 		if f.v == nil {
 			continue
 		}

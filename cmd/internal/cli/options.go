@@ -199,6 +199,32 @@ func (o *solveOptions) scenarioOptions() (scenarios.Options, error) {
 	return scenarios.Options{Timeout: o.timeout, Solver: m}, nil
 }
 
+// confidenceOptions are the flags of the search for plans that meet
+// targets with a stated confidence (plan, report, compare, sweep); they
+// matter only when a target states one.
+type confidenceOptions struct {
+	runs int
+	seed uint64
+}
+
+func (o *confidenceOptions) register(cmd *cobra.Command) {
+	f := cmd.Flags()
+	f.IntVar(&o.runs, "confidence-runs", scenarios.DefaultConfidenceRuns, "for targets with a confidence: simulated runs each plan is measured on")
+	f.Uint64Var(&o.seed, "confidence-seed", 1, "for targets with a confidence: random seed of those runs")
+}
+
+// apply checks the flags and sets them in the scenario options.
+func (o *confidenceOptions) apply(opt *scenarios.Options) error {
+	if o.runs < 100 || o.runs > scenarios.MaxRuns {
+		return usageError("--confidence-runs %d: give between 100 and %d (the share of runs meeting a target needs at least 100 to mean much; 1000 is the default)", o.runs, scenarios.MaxRuns)
+	}
+	if o.seed == 0 {
+		return usageError("--confidence-seed 0: give a seed of 1 or more")
+	}
+	opt.Confidence = scenarios.ConfidenceOptions{Runs: o.runs, Seed: o.seed}
+	return nil
+}
+
 // simulateOptions are the flags that set up a simulation, shared by
 // simulate and report --bands (which adds the bands to the report). The
 // policy is not among them: simulate has --policy, and a report's bands are

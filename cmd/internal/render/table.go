@@ -34,6 +34,7 @@ func Text(w io.Writer, r *scenarios.Result) error {
 		tabulate(ew, targetTable(r))
 	}
 	fundingText(ew, r)
+	confidenceText(ew, r)
 	for _, warn := range r.Warnings {
 		ew.printf("\nNote: %s\n", warn)
 	}
