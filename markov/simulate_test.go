@@ -171,7 +171,7 @@ func randomPolicyClass(r *rand.Rand, n, years int) (markov.SimClass, [][][]float
 
 // With many lots in every state the simulated median and mean equal the
 // deterministic forecast within sampling error. The deterministic forecast
-// is q·P^t for doing nothing (DESIGN.md section 2) and, under a policy, the
+// is q·P^t for doing nothing (docs/model.md, Deterioration) and, under a policy, the
 // flow q_{t+1} = Σ_{i,a} q_t,i π_t(i,a) M_a(i,·) that the plan's LP uses.
 // Lots move independently, so the quantity of a class in state j is a sum of
 // independent lot indicators with variance Σ_l q_l² π_l(1 - π_l), where π_l

@@ -73,7 +73,7 @@ func TestNewTransitionValidation(t *testing.T) {
 		{name: "NaN entry", rows: with(2, []float64{0, 0, nan, 0.1}), want: []pos{{2, 2}}},
 		{name: "+Inf entry also breaks the sum", rows: with(0, []float64{0.8, math.Inf(1), 0, 0}), want: []pos{{0, 1}, {0, -1}}},
 		// Improvement without work is an input error unless the class allows it
-		// (DESIGN.md section 2: infrastructure does not heal itself).
+		// (docs/model.md, Deterioration: infrastructure does not mend itself).
 		{name: "improvement below the diagonal", rows: with(2, []float64{0, 0.05, 0.85, 0.10}), want: []pos{{2, 1}}},
 		{name: "improvement in the worst row", rows: with(3, []float64{0.1, 0, 0, 0.9}), want: []pos{{3, 0}}},
 		{name: "improvement allowed", rows: with(2, []float64{0, 0.05, 0.85, 0.10}), opt: markov.Options{AllowImprovement: true}},

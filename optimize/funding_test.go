@@ -11,8 +11,8 @@ import (
 // feeding them back into the plan: the least level budget must make the
 // targets feasible (status Optimal) and, when positive, a budget 2% lower
 // must not; the extra money of ClosingMoney must turn a targets-not-met plan
-// into an optimal one. These follow from the definitions (DESIGN.md section
-// 2), not from any number the optimizer produced.
+// into an optimal one. These follow from the definitions (docs/model.md,
+// Funding questions), not from any number the optimizer produced.
 
 func TestLevelBudgetFedBackIsOptimal(t *testing.T) {
 	rng := rand.New(rand.NewPCG(31, 2027))

@@ -7,7 +7,7 @@ import (
 )
 
 // Invariants every plan must satisfy, checked over random problems. These
-// follow from the model's definition (DESIGN.md section 2), not from any
+// follow from the model's definition (docs/model.md, Invariants), not from any
 // number the optimizer produced.
 func TestPlanInvariants(t *testing.T) {
 	rng := rand.New(rand.NewPCG(7, 2027))
@@ -201,7 +201,8 @@ func TestZeroBudgetIsDoNothing(t *testing.T) {
 func TestTieBreakSpendsNothingWithoutBenefit(t *testing.T) {
 	// One class already all in the best state, a treatment that leaves it in
 	// the best state, and plenty of money: treating buys nothing, so the
-	// tie-break must spend nothing (DESIGN.md: no spending without benefit).
+	// tie-break must spend nothing (docs/model.md, The lexicographic
+	// tie-break: no money spent without benefit).
 	rng := rand.New(rand.NewPCG(9, 9))
 	p := randomProblem(rng, randomSpec{classes: 1, states: 4, treatments: 2, years: 5, budgetShare: 5})
 	c := &p.Classes[0]

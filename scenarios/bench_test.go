@@ -6,7 +6,7 @@ import (
 	"wearplan/optimize"
 )
 
-// demoBudgets are the 20 sweep points of the README benchmark: 2 to 6.75
+// demoBudgets are the 20 sweep points of docs/benchmarks.md: 2 to 6.75
 // million in steps of 250,000.
 func demoBudgets(b *testing.B) []float64 {
 	v, err := BudgetRange(2e6, 6.75e6, 2.5e5)

@@ -18,8 +18,8 @@ import (
 // a copy of testdata/marrowby-small.yaml (invented data) with a problem put
 // in. testdata/bad-scenarios/expectations.txt says, for each file, on which
 // line every problem must be reported and what the field path and message
-// must contain. The checks below follow from the scenario-file contract in
-// DESIGN.md section 3 (strict parsing, errors name the file, line and field)
+// must contain. The checks below follow from the scenario file format in
+// docs/scenario-format.md (strict parsing, errors name the file, line and field)
 // and from the package's own promise (doc.go) that every problem is reported
 // at once in an *InputError.
 

@@ -1,7 +1,7 @@
 // Package scenarios reads a planning scenario file, checks it, and runs it
 // end to end into a Result that renderers print.
 //
-// A scenario file is YAML (see DESIGN.md section 3 and the examples in
+// A scenario file is YAML (see docs/scenario-format.md and the examples in
 // scenarios/examples). It is parsed strictly: unknown keys, wrong types and
 // duplicate keys are errors, and every problem is reported at once with its
 // file, line and the dotted path of the field, in an *InputError.

@@ -60,7 +60,7 @@ type FitOptions struct {
 
 // FitResult is what `wearplan fit` found, class by class. It is also the
 // schema of the fit file (WriteFitFile, and `deterioration: {fit: FILE}` in
-// a scenario); README.md documents it.
+// a scenario); docs/json.md (fit) documents it.
 type FitResult struct {
 	Format     int    `yaml:"wearplan_fit" json:"wearplan_fit"`
 	Source     string `yaml:"source" json:"source"`

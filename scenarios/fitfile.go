@@ -15,7 +15,7 @@ import (
 )
 
 // fitFileHeader opens every fit file.
-const fitFileHeader = `wearplan fit result (format 1). Written by "wearplan fit"; the schema is in README.md.
+const fitFileHeader = `wearplan fit result (format 1). Written by "wearplan fit"; the schema is in wearplan's docs/json.md.
 A scenario class uses a matrix from this file with
   deterioration: {fit: THIS-FILE.yaml}            # the class of the same name
   deterioration: {fit: THIS-FILE.yaml, fit_class: NAME}

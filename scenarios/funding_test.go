@@ -22,7 +22,7 @@ func loadDemo(t *testing.T, name string) *Scenario {
 
 // The reduced-funding alternative misses the poor-share target; the extra
 // money the diagnosis reports, added to the budget, must make the plan
-// optimal (DESIGN.md section 2: "the extra money that would close it").
+// optimal (docs/model.md, Funding questions: the extra money that closes the shortfall).
 func TestExtraMoneyClosesTheDemoShortfall(t *testing.T) {
 	sc := loadDemo(t, "marrowby-reduced.yaml")
 	r, err := Plan(sc, Options{})

@@ -81,8 +81,8 @@ func findIssue(err error, w wantIssue, file string) bool {
 
 func TestInventoryCorpusRefused(t *testing.T) {
 	// What a user must be told about a broken segment export: the file, the
-	// line and the column, and how to fix it (DESIGN.md section 3: errors
-	// name the file, line or field and say how to fix it).
+	// line and the column, and how to fix it (docs/scenario-format.md,
+	// Segment lists: every problem with its line and column and what to do).
 	for _, c := range []struct {
 		file    string
 		options string

@@ -11,7 +11,7 @@ const Caution = "Planning estimate only. These figures come from a network-level
 	"by qualified people, and local codes, standards and licensed practice govern."
 
 // Result is a forecast or plan, year by year, in the shape of the JSON
-// contract (DESIGN.md section 3). Shares are fractions (0-1); money is
+// output documented in docs/json.md. Shares are fractions (0-1); money is
 // nominal in the scenario's currency unless a field says present value.
 type Result struct {
 	Scenario  string `json:"scenario"`

@@ -22,7 +22,7 @@ import (
 // End-to-end checks on the demo scenario (invented data). The expected
 // values are recomputed here from the demo file itself, read with yaml.v3
 // directly rather than through the scenarios package, using only the model's
-// definitions in DESIGN.md section 2; they are invariants of the model, not
+// definitions in docs/model.md; they are invariants of the model, not
 // outside references.
 
 const demoPath = "examples/marrowby.yaml"
@@ -153,7 +153,7 @@ func readDemo(t *testing.T, path string) (*demoFile, []demoClass) {
 			c.best, c.worst = s.States[0].Min, s.States[n-1].Max
 		}
 		// Deterioration: the matrix as written, or p_ii = 1 - 1/d_i,
-		// p_i,i+1 = 1/d_i with the worst state absorbing (DESIGN.md section 2).
+		// p_i,i+1 = 1/d_i with the worst state absorbing (docs/model.md, Deterioration).
 		if fc.Deterioration.Matrix != nil {
 			c.p = fc.Deterioration.Matrix
 		} else {
@@ -169,7 +169,7 @@ func readDemo(t *testing.T, path string) (*demoFile, []demoClass) {
 			}
 		}
 		// Treatments: row i of E_a P, or of E_a when the treatment does not
-		// age in its year (DESIGN.md section 2).
+		// age in its year (docs/model.md, Treatments).
 		for _, tn := range fc.Treatments {
 			found := false
 			for _, ft := range f.Treatments {
@@ -213,8 +213,8 @@ func readDemo(t *testing.T, path string) (*demoFile, []demoClass) {
 				t.Fatalf("class %s: treatment %s not in the catalogue", fc.Name, tn)
 			}
 		}
-		// Network figures weight classes by replacement value (DESIGN.md
-		// section 2); the demo gives a replacement cost for every class.
+		// Network figures weight classes by replacement value (docs/model.md,
+		// Network figures); the demo gives a replacement cost for every class.
 		c.weight = fc.ReplacementCost * sum(c.initial)
 		totalValue += c.weight
 		classes = append(classes, c)
@@ -407,7 +407,7 @@ func TestForecastDemoMatchesHandRoll(t *testing.T) {
 			}
 			wantClose(t, what, quantities(t, c, cc), q, 1e-9*sum(q))
 			// Average index: quantity-weighted mean of the states'
-			// representative values (DESIGN.md section 2).
+			// representative values (docs/model.md, Condition scales).
 			avg := 0.0
 			for i, v := range q {
 				avg += v * c.values[i]
@@ -468,7 +468,7 @@ func TestPlanDemo(t *testing.T) {
 	qs := make([][][]float64, f.Horizon) // qs[y][k] = end-of-year quantities
 	total := 0.0
 	for y, yr := range r.Years {
-		esc := math.Pow(1+f.CostEscalation, float64(y)) // prices of year y+1 (DESIGN.md section 2, Money)
+		esc := math.Pow(1+f.CostEscalation, float64(y)) // prices of year y+1 (docs/model.md, Money)
 		if yr.Budget == nil || *yr.Budget != budget {
 			t.Errorf("%d: budget %v, want %g", yr.Year, yr.Budget, budget)
 		}
@@ -487,7 +487,7 @@ func TestPlanDemo(t *testing.T) {
 				t.Errorf("%s: total quantity %g, want %g", what, sum(q), tot)
 			}
 			// Rebuild the year from the work list: what is treated follows
-			// its treatment's row, the rest ages by P (DESIGN.md section 2, flow).
+			// its treatment's row, the rest ages by P (docs/model.md, Flows).
 			untreated := append([]float64(nil), prev[k]...)
 			end := make([]float64, len(q))
 			classSpend := 0.0
@@ -617,7 +617,7 @@ func TestPlanDemoJSONContract(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	// Field names from DESIGN.md section 3 ("plan --format json includes at least").
+	// Field names of the JSON output (docs/json.md, plan and forecast).
 	var doc map[string]any
 	if err := json.Unmarshal(out, &doc); err != nil {
 		t.Fatal(err)
@@ -806,7 +806,7 @@ func TestPlanImpossibleTarget(t *testing.T) {
 	}
 	// The least total slack makes each year's shortfall the poor share
 	// itself (the limit is 0); this follows from the elastic model's
-	// definition (DESIGN.md section 2, elastic diagnosis).
+	// definition (docs/model.md, Elastic diagnosis).
 	_, classes := readDemo(t, demoPath)
 	byYear := map[int]float64{}
 	for _, s := range o.Shortfalls {

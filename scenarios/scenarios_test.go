@@ -13,7 +13,7 @@ import (
 
 // Small inline scenarios for parsing and building. All data is invented
 // (the town of Marrowby is invented); only the layout follows the scenario
-// file contract of DESIGN.md section 3.
+// file format of docs/scenario-format.md.
 
 const fiveStateScale = `scales:
   five:
@@ -117,7 +117,7 @@ func findTreatment(t *testing.T, c *scenarios.Class, name string) int {
 
 func TestParseAndBuild(t *testing.T) {
 	// The transition the default class's years_in_state [5, 4, 4, 2] stands
-	// for: p_ii = 1 - 1/d_i, p_i,i+1 = 1/d_i (DESIGN.md section 2), the
+	// for: p_ii = 1 - 1/d_i, p_i,i+1 = 1/d_i (docs/model.md, Deterioration), the
 	// worst state absorbing (no healing without work, same section).
 	yearsMatrix := [][]float64{
 		{0.8, 0.2, 0, 0, 0},
@@ -152,8 +152,9 @@ func TestParseAndBuild(t *testing.T) {
 		check func(t *testing.T, sc *scenarios.Scenario)
 	}{
 		{
-			// Defaults of DESIGN.md section 2: min-cost when there is no
-			// budget; rates absent mean 0; years count from start_year.
+			// Defaults (docs/model.md, Objectives; docs/scenario-format.md):
+			// min-cost when there is no budget; rates absent mean 0; years
+			// count from start_year.
 			name: "defaults without budget",
 			text: scenarioYAML("", nil, "", ""),
 			check: func(t *testing.T, sc *scenarios.Scenario) {
@@ -224,7 +225,7 @@ func TestParseAndBuild(t *testing.T) {
 			},
 		},
 		{
-			name: "years_in_state gives the matrix of DESIGN.md section 2",
+			name: "years_in_state gives p_ii = 1 - 1/d_i, p_i,i+1 = 1/d_i",
 			text: scenarioYAML("", nil, "", ""),
 			check: func(t *testing.T, sc *scenarios.Scenario) {
 				wantRow(t, "rows", flatten(sc.Classes[0].Transition.Rows()), flatten(yearsMatrix))
@@ -270,7 +271,7 @@ func TestParseAndBuild(t *testing.T) {
 				c := &sc.Classes[0]
 				seal := c.Treatments[findTreatment(t, c, "seal")]
 				overlay := c.Treatments[findTreatment(t, c, "overlay")]
-				// improve by 1 is clipped at the best state (DESIGN.md section 2).
+				// improve by 1 is clipped at the best state (docs/model.md, Treatments).
 				r0, err0 := seal.EffectRow(0, 5)
 				r1, err1 := seal.EffectRow(1, 5)
 				r3, err3 := overlay.EffectRow(3, 5)
@@ -326,7 +327,7 @@ func TestParseAndBuild(t *testing.T) {
 		},
 		{
 			// The year's transition after treatment is row i of E·P, or of E
-			// when the treatment does not age in its year (DESIGN.md section 2).
+			// when the treatment does not age in its year (docs/model.md, Treatments).
 			name: "ages_same_year defaults to true",
 			text: scenarioYAML("", nil, `treatments:
   - {name: seal, applies_to: [Very good, Good], cost: 10, effect: {improve: 1}}
@@ -363,7 +364,7 @@ func TestParseAndBuild(t *testing.T) {
 		},
 		{
 			// Network weights: replacement value (quantity x unit replacement
-			// cost) when every class gives one (DESIGN.md section 2, doc.go).
+			// cost) when every class gives one (docs/model.md, Network figures).
 			name: "weighting by replacement value",
 			text: scenarioYAML("", twoClasses([]string{"replacement_cost: 1000"}, []string{"replacement_cost: 4000"}), "", ""),
 			check: func(t *testing.T, sc *scenarios.Scenario) {
@@ -413,8 +414,8 @@ func TestParseAndBuild(t *testing.T) {
 		},
 		{
 			// Targets are written in calendar years and mean end-of-year
-			// condition; the optimizer counts plan years from 1 (DESIGN.md
-			// section 2, optimize.Target).
+			// condition; the optimizer counts plan years from 1 (docs/model.md,
+			// Notation and conventions; optimize.Target).
 			name: "targets: labels and plan years",
 			text: scenarioYAML("", nil, "", `budget: {yearly: 250}
 targets:
@@ -529,8 +530,9 @@ func TestParseRejects(t *testing.T) {
 }
 
 // An IRI-like scale: lower index is better. The good/poor limits are those
-// of US 23 CFR 490 as quoted in DESIGN.md section 2 (good < 95 in/mi, poor >
-// 170 in/mi); the representative values and the 400 upper end are invented.
+// of US 23 CFR 490.313 (good < 95 in/mi, poor > 170 in/mi; from memory, as in
+// the preset iri-23cfr490-in-mi); the representative values and the 400
+// upper end are invented.
 const iriScenario = `name: Marrowby ride quality (invented example)
 start_year: 2030
 horizon: 3

@@ -6,7 +6,7 @@ import (
 	"gopkg.in/yaml.v3"
 )
 
-// The types in this file mirror the scenario file (DESIGN.md section 3)
+// The types in this file mirror the scenario file (docs/scenario-format.md)
 // key for key. They hold what was written, with lines, before any check.
 
 type fileScenario struct {

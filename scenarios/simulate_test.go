@@ -230,8 +230,8 @@ func TestSimulateCentreMatchesPlan(t *testing.T) {
 	}
 }
 
-// Doing nothing, the centre is the deterministic forecast q·P^t (DESIGN.md
-// section 2), with the same tolerances as above.
+// Doing nothing, the centre is the deterministic forecast q·P^t (docs/model.md,
+// Deterioration), with the same tolerances as above.
 func TestSimulateDoNothingCentreIsForecast(t *testing.T) {
 	const nSE = 4
 	sc := loadSmall(t)

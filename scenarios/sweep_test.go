@@ -22,7 +22,7 @@ func TestBudgetRange(t *testing.T) {
 }
 
 // More money never lowers the condition score: each budget's feasible plans
-// include every plan of a smaller budget (DESIGN.md section 2; the
+// include every plan of a smaller budget (docs/model.md, Funding questions; the
 // trade-off curve of the acceptance criteria). Also: the points come back
 // in budget order and byte for byte the same on one core as on all.
 func TestSweepMonotoneAndDeterministic(t *testing.T) {

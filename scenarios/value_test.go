@@ -54,7 +54,7 @@ func TestValueAndBacklogByDefinition(t *testing.T) {
 		t.Error("one class: network figures differ from the class's")
 	}
 	// Each year at its own prices: year t escalated (1.1)^(t-1), the prices
-	// its work is costed at (DESIGN.md section 2).
+	// its work is costed at (docs/model.md, Money; Asset value and backlog).
 	for t0, y := range r.Years {
 		price := math.Pow(1.1, float64(t0))
 		cy := y.Classes[0]

@@ -70,7 +70,7 @@ type BudgetStep struct {
 }
 
 // TargetSpec is a target written with the keys of the scenario file
-// (DESIGN.md section 3): {class, group, max_share | min_share}, {class,
+// (docs/scenario-format.md): {class, group, max_share | min_share}, {class,
 // min_average_index}, or {hold: true}, with optional from_year and to_year.
 type TargetSpec struct {
 	Class           string   `json:"class,omitempty" yaml:"class,omitempty"`

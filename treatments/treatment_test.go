@@ -293,7 +293,7 @@ var effectMatrices = map[string][]float64{
 }
 
 // The year's transition of a treatment is row i of E_a·P, or of E_a when it
-// does not age in its year (DESIGN.md section 2); the reference product is
+// does not age in its year (docs/model.md, Treatments); the reference product is
 // computed independently with gonum's matrix multiplication.
 func TestActions(t *testing.T) {
 	p := doNothing(t)

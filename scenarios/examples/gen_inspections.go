@@ -1,7 +1,7 @@
 //go:build ignore
 
 // gen_inspections writes marrowby-inspections.csv: INVENTED inspection
-// records of the invented town of Marrowby, for the README's walk-through
+// records of the invented town of Marrowby, for docs/guide.md's walk-through
 // from an inspection export to a fitted matrix to a plan. Every number is
 // made up; the "data" column of every row says so.
 //

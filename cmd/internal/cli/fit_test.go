@@ -27,7 +27,7 @@ func TestFitDemoTable(t *testing.T) {
 	}
 }
 
-// The README walk-through: fit, save the fit file next to a scenario that
+// The walk-through of docs/guide.md: fit, save the fit file next to a scenario that
 // names it, plan that scenario.
 func TestFitSaveThenPlan(t *testing.T) {
 	dir := t.TempDir()

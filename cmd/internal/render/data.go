@@ -10,7 +10,7 @@ import (
 	"wearplan/scenarios"
 )
 
-// JSON writes the result in the JSON contract of DESIGN.md section 3.
+// JSON writes the result as docs/json.md documents it (plan and forecast).
 func JSON(w io.Writer, r *scenarios.Result) error {
 	enc := json.NewEncoder(w)
 	enc.SetIndent("", "  ")

@@ -241,7 +241,7 @@ func TestLowerBudgetRaisesThePoorShare(t *testing.T) {
 		t.Errorf("3.0 million: status %s, shortfalls %q", low.Status, low.Shortfalls)
 	}
 	// The least level budget meeting the targets does not depend on the
-	// budget planned: README and `wearplan plan marrowby-reduced.yaml` give
+	// budget planned: docs/guide.md and `wearplan plan marrowby-reduced.yaml` give
 	// 4,457,172 for the demo's targets.
 	if !strings.Contains(strings.Join(low.Funding, " "), "USD 4,457,172 a year") {
 		t.Errorf("funding words %q lack the least level budget", low.Funding)

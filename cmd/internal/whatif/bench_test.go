@@ -27,7 +27,7 @@ import (
 //     its 2,893 segments, the band charts and rows laid out); the peak
 //     resident memory of the process is reported as MiB-peak.
 //
-// Besides the mean it reports the median (ms-median, the figure the README
+// Besides the mean it reports the median (ms-median, the figure docs/benchmarks.md
 // records) and the 90th percentile (ms-p90) in milliseconds, and for the
 // slider how many answers were errors (lp_solve has been seen to call a
 // feasible model infeasible at some budgets).
