@@ -64,7 +64,7 @@ func (o ConfidenceOptions) normalised() ConfidenceOptions {
 // ConfidenceMethod says how a plan that meets targets with a stated
 // confidence is found; every result with confident targets repeats it.
 const ConfidenceMethod = "A target with a confidence must hold, in every year it covers, in at least that share of simulated runs " +
-	"(the plan run piece by piece as `simulate` runs it, with the scenario's pieces and, for classes whose matrix comes from a fit, " +
+	"(the plan run piece by piece as wearplan simulate runs it, with the scenario's pieces and, for classes whose matrix comes from a fit, " +
 	"a matrix drawn from its sampling distribution in every run). The plan is found by tightening each such target in the plan's " +
 	"linear program by a margin (its limit less the margin for an at-most target, plus the margin for an at-least target): " +
 	"margins start at zero; each round simulates the plan and raises the margin of every target still short of its confidence by " +

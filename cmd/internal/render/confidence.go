@@ -91,3 +91,79 @@ func confidenceText(w *errWriter, r *scenarios.Result) {
 func wrapIndent(s string, width int, indent string) string {
 	return strings.ReplaceAll(wrap(s, width), "\n", "\n"+indent)
 }
+
+// sweepConfidenceColumn adds, when targets state a confidence, a column
+// with the lowest share of runs meeting a confident target at each budget
+// and whether every confidence is reached.
+func sweepConfidenceColumn(t *table, r *scenarios.SweepResult) {
+	if len(r.Points) == 0 || r.Points[0].ConfidenceReached == nil {
+		return
+	}
+	t.header = append(t.header, "CONFIDENCE REACHED (LOWEST SHARE OF RUNS)")
+	t.right = append(t.right, false)
+	for n, p := range r.Points {
+		lowest := 1.0
+		for _, ct := range p.Confidence {
+			lowest = min(lowest, ct.Probability)
+		}
+		t.rows[n] = append(t.rows[n], fmt.Sprintf("%s (%.1f%%)", yesNo(*p.ConfidenceReached), 100*lowest))
+	}
+}
+
+// sweepConfidenceText prints the least level budget that meets every
+// target with its confidence.
+func sweepConfidenceText(w *errWriter, r *scenarios.SweepResult) {
+	b := r.ConfidentBudget
+	if b == nil {
+		return
+	}
+	if b.Amount == nil {
+		w.printf("Least level yearly budget that meets every target with its confidence: none; %s\n", b.Unreachable)
+		return
+	}
+	var parts []string
+	for _, ct := range b.Targets {
+		parts = append(parts, fmt.Sprintf("%s planned to %s, met in %s of runs", ct.Target, PlannedLimit(ct), RunsMeeting(ct)))
+	}
+	line := fmt.Sprintf("Least level yearly budget that meets every target with its confidence: %s (%s)", Money(*b.Amount), strings.Join(parts, "; "))
+	if !b.Reached {
+		line += "; not reached: " + b.Why
+	}
+	w.printf("%s\n", wrap(line, 100))
+}
+
+// compareConfidenceRows adds, when a scenario's targets state a
+// confidence, whether each reaches it, the lowest share of runs meeting a
+// confident target, and the least level budget that reaches every
+// confidence.
+func compareConfidenceRows(r *scenarios.CompareResult, row func(string, func(scenarios.CompareColumn) string)) {
+	has := false
+	for _, c := range r.Scenarios {
+		has = has || c.Confidence != nil
+	}
+	if !has {
+		return
+	}
+	row("confidence reached", func(c scenarios.CompareColumn) string {
+		if c.Confidence == nil {
+			return "-"
+		}
+		return yesNo(c.Confidence.Reached)
+	})
+	row("lowest share of runs meeting a confident target", func(c scenarios.CompareColumn) string {
+		if c.Confidence == nil {
+			return "-"
+		}
+		lowest := 1.0
+		for _, ct := range c.Confidence.Targets {
+			lowest = min(lowest, ct.Probability)
+		}
+		return fmt.Sprintf("%.1f%%", 100*lowest)
+	})
+	row("level budget meeting them with confidence", func(c scenarios.CompareColumn) string {
+		if c.Confidence == nil || c.Confidence.LevelBudget == nil || c.Confidence.LevelBudget.Amount == nil {
+			return "-"
+		}
+		return Money(*c.Confidence.LevelBudget.Amount)
+	})
+}

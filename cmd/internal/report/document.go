@@ -60,6 +60,7 @@ type runView struct {
 	LOS         table
 	Charts      []chart
 	Targets     *table
+	Confidence  *table
 	Bands       *bandsView
 	Spend       *table
 	Work        *table
@@ -176,6 +177,7 @@ func buildRun(id string, run Run, withCharts bool) (runView, error) {
 		t := targetTable(id+"-targets", r)
 		rv.Targets = &t
 	}
+	rv.Confidence = confidenceTable(id+"-confidence", r)
 	if run.Simulation != nil {
 		rv.Bands = buildBands(id, run.Simulation)
 	}

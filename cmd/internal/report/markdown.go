@@ -56,6 +56,11 @@ func Markdown(w io.Writer, rep *Report) error {
 			m.blank()
 			m.table(*r.Targets)
 		}
+		if r.Confidence != nil {
+			m.line("### Targets with a confidence")
+			m.blank()
+			m.table(*r.Confidence)
+		}
 		if b := r.Bands; b != nil {
 			m.line("### How sure the forecast is")
 			m.blank()
