@@ -28,7 +28,7 @@ type SweepResult struct {
 	// one (confidence.go).
 	ConfidentBudget *ConfidentBudget `json:"confident_budget,omitempty"`
 	Warnings        []string         `json:"warnings"`
-	Caution       string   `json:"caution"`
+	Caution         string           `json:"caution"`
 }
 
 // SweepPoint is one yearly budget's max-condition plan.
