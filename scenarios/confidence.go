@@ -215,8 +215,18 @@ func newConfidenceSearch(sc *Scenario, opt Options, solve func(p *optimize.Probl
 	return s
 }
 
-// try plans with the margins and measures the plan on the runs.
+// try plans with the margins and, when the plan holds them, measures it
+// on the runs.
 func (s *confidenceSearch) try(margins []float64) (*trial, error) {
+	t, err := s.plan(margins)
+	if err != nil || !t.feasible {
+		return t, err
+	}
+	return t, s.measure(t)
+}
+
+// plan solves the problem with the targets tightened by the margins.
+func (s *confidenceSearch) plan(margins []float64) (*trial, error) {
 	s.tries++
 	p, err := s.sc.Problem()
 	if err != nil {
@@ -242,9 +252,15 @@ func (s *confidenceSearch) try(margins []float64) (*trial, error) {
 		return nil, budgetInfeasible(s.sc, p)
 	}
 	t.plan, t.level, t.feasible = plan, level, plan.Status == optimize.Optimal
-	res, fig, err := simulate(s.sc, s.sim, &givenPlan{p: p, plan: plan})
+	return t, nil
+}
+
+// measure simulates a trial's plan and finds the share of runs meeting
+// each confident target.
+func (s *confidenceSearch) measure(t *trial) error {
+	res, fig, err := simulate(s.sc, s.sim, &givenPlan{p: t.p, plan: t.plan})
 	if err != nil {
-		return nil, err
+		return err
 	}
 	t.sim = res
 	t.reached = true
@@ -262,7 +278,7 @@ func (s *confidenceSearch) try(margins []float64) (*trial, error) {
 			t.reached = false
 		}
 	}
-	return t, nil
+	return nil
 }
 
 // search runs the rounds from the trial at zero margins, which must be
@@ -330,7 +346,7 @@ func (s *confidenceSearch) search(first *trial) (*trial, string, error) {
 
 // largestFeasible bisects between the margins of a feasible trial and
 // those of one the budget cannot hold, for the largest fraction of the
-// step it can.
+// step it can; only the plan kept is simulated.
 func (s *confidenceSearch) largestFeasible(ok, bad *trial) (*trial, error) {
 	lo, hi := 0.0, 1.0
 	best := ok
@@ -340,7 +356,7 @@ func (s *confidenceSearch) largestFeasible(ok, bad *trial) (*trial, error) {
 		for i := range m {
 			m[i] = ok.margins[i] + f*(bad.margins[i]-ok.margins[i])
 		}
-		t, err := s.try(m)
+		t, err := s.plan(m)
 		if err != nil {
 			return nil, err
 		}
@@ -348,6 +364,11 @@ func (s *confidenceSearch) largestFeasible(ok, bad *trial) (*trial, error) {
 			best, lo = t, f
 		} else {
 			hi = f
+		}
+	}
+	if best.sim == nil {
+		if err := s.measure(best); err != nil {
+			return nil, err
 		}
 	}
 	return best, nil
@@ -401,11 +422,15 @@ func planConfident(sc *Scenario, opt Options) (*Result, error) {
 		plan, err := optimize.SolveWith(p, optimize.Options{Method: opt.Solver, Warm: warm})
 		return plan, 0, err
 	})
-	first, err := s.try(make([]float64, len(s.idx)))
+	// The plan of the targets as stated, measured even when it misses them.
+	first, err := s.plan(make([]float64, len(s.idx)))
 	if err != nil {
 		return nil, err
 	}
-	// The plan of the targets as stated, with the funding answers for them.
+	if err := s.measure(first); err != nil {
+		return nil, err
+	}
+	// Its result, with the funding answers for the targets as stated.
 	stated, err := planResult(sc, first.p, first.plan, opt)
 	if err != nil {
 		return nil, err

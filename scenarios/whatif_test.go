@@ -116,6 +116,8 @@ func TestChangesCheckedLikeTheFile(t *testing.T) {
 		{"index on mixed scales", Changes{Targets: &[]TargetSpec{{Class: "all", MinAverageIndex: ref(60.0)}}},
 			[2]string{"{class: all, group: poor, max_share: 0.15, from_year: 2031}", "{class: all, min_average_index: 60}"}, "targets[0].min_average_index", "different scales"},
 		{"objective", Changes{Objective: "max-score"}, [2]string{"objective: max-condition", "objective: max-score"}, "objective", "unknown objective"},
+		{"confidence as percent", Changes{Targets: &[]TargetSpec{{Class: "all", Group: "poor", MaxShare: ref(0.15), FromYear: ref(2031), Confidence: ref(90.0)}}},
+			[2]string{"{class: all, group: poor, max_share: 0.15, from_year: 2031}", "{class: all, group: poor, max_share: 0.15, from_year: 2031, confidence: 90}"}, "targets[0].confidence", "outside (0, 1)"},
 		{"zero piece size", Changes{SegmentSizes: map[string]float64{"culverts": 0}}, [2]string{"    unit: each\n", "    unit: each\n    segment_size: 0\n"}, "classes[3] (culverts).segment_size", "give the size of the pieces"},
 	}
 	for _, c := range cases {

@@ -521,6 +521,26 @@ func TestPieceSizesReachTheBands(t *testing.T) {
 	}
 }
 
+// TestConfidentTargetOnThePage: a target held in a share of runs comes
+// back with the share of runs reached in the words and the confidence
+// table under the targets; a confidence of 150% is refused with the
+// field, as the file would refuse it.
+func TestConfidentTargetOnThePage(t *testing.T) {
+	_, ts := newTestServer(t, Options{})
+	a := decodeAnswer(t, postJSON(t, ts, "/api/plan", `{"scenario": 0, "changes": {"targets": [{"class": "culverts", "group": "poor", "max_share": 0.4, "confidence": 0.9}]}}`))
+	words := strings.Join(a.Shortfalls, " ")
+	if !strings.Contains(words, "Met with its confidence: culverts poor share at most 40% in 2027-2046 holds in every year in 100.0% (s.e. 0.0) of 1,000 simulated runs") {
+		t.Errorf("words %q", a.Shortfalls)
+	}
+	if !strings.Contains(string(a.Panel.Targets), "Targets with a confidence") {
+		t.Errorf("no confidence table under the targets")
+	}
+	r := postJSON(t, ts, "/api/plan", `{"scenario": 0, "changes": {"targets": [{"class": "all", "group": "poor", "max_share": 0.15, "confidence": 1.5}]}}`)
+	if r.status != 422 || !strings.Contains(string(r.body), `targets[0].confidence`) || !strings.Contains(string(r.body), "outside (0, 1)") {
+		t.Errorf("confidence 1.5: %d %s", r.status, r.body)
+	}
+}
+
 // TestAnswersDoNotDependOnHistory: each request starts from the base
 // plan's policies, not from the requests before it, so the same request
 // gets the same bytes on a fresh server and after other requests.

@@ -74,7 +74,7 @@ func encodeAnswer(a *planAnswer) ([]byte, error) {
 func answer(sc *scenarios.Scenario, r *scenarios.Result, p *report.Panel) *planAnswer {
 	a := &planAnswer{
 		Scenario: r.Scenario, Status: r.Status, Objective: r.Objective, Caution: r.Caution,
-		Headline: headline(sc, r), Shortfalls: shortfallWords(sc, r), Funding: fundingWords(r),
+		Headline: headline(sc, r), Shortfalls: append(shortfallWords(sc, r), confidenceWords(r)...), Funding: append(fundingWords(r), confidentBudgetWords(r)...),
 		Warnings: r.Warnings, Figures: figures(sc, r),
 		Panel: panelAnswer{Summary: p.Summary, LOS: p.LOS, Targets: p.Targets, Spend: p.Spend, Work: p.Work},
 	}

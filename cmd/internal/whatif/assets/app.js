@@ -31,7 +31,7 @@
     info: null, // the chosen scenario (from /api/scenarios)
     steps: [], // {from, to, kind: 'percent' | 'amount', value}
     pieces: {}, // class name -> piece size typed on the page ('' keeps the file's)
-    targets: [], // {who, measure: good|fair|poor|index|hold, bound: max|min, value, from, to}
+    targets: [], // {who, measure: good|fair|poor|index|hold, bound: max|min, value, from, to, confidence: '' or percent}
     seq: 0,
     inflight: null,
     timer: 0,
@@ -133,7 +133,8 @@
 
   // targetRow turns a target as written in the file into a row.
   function targetRow(t) {
-    const row = { who: t.class || 'all', measure: 'poor', bound: 'max', value: 15, from: t.from_year ?? null, to: t.to_year ?? null };
+    const row = { who: t.class || 'all', measure: 'poor', bound: 'max', value: 15, from: t.from_year ?? null, to: t.to_year ?? null,
+      confidence: t.confidence != null ? String(round(100 * t.confidence)) : '' };
     if (t.hold) row.measure = 'hold';
     else if (t.min_average_index != null) { row.measure = 'index'; row.value = t.min_average_index; }
     else {
@@ -155,6 +156,7 @@
     }
     if (row.from != null) t.from_year = row.from;
     if (row.to != null) t.to_year = row.to;
+    if (row.confidence !== '') t.confidence = Number(row.confidence) / 100;
     return t;
   }
 
@@ -199,6 +201,11 @@
         from.addEventListener('change', () => { row.from = from.value === '' ? null : Number(from.value); });
         to.addEventListener('change', () => { row.to = to.value === '' ? null : Number(to.value); });
         parts.push(word('from'), from, word('to'), to);
+        // A confidence: the share of simulated runs in which the target
+        // must hold; empty means the plan need only meet it on average.
+        const conf = el('input', { type: 'number', min: '1', max: '99', step: 'any', inputMode: 'decimal', class: 'confidence', 'aria-label': n + 'confidence in % of simulated runs (empty: on average)', placeholder: 'average', value: row.confidence });
+        conf.addEventListener('change', () => { row.confidence = conf.value; });
+        parts.push(word('held in'), conf, word('% of runs'));
       }
       const remove = el('button', { type: 'button', class: 'remove', text: '\u00d7', 'aria-label': 'Remove target ' + (i + 1) });
       who.addEventListener('change', () => { row.who = who.value; drawTargets(); });
@@ -504,7 +511,7 @@
       schedule();
     });
     $('add-target').addEventListener('click', () => {
-      state.targets.push({ who: 'all', measure: 'poor', bound: 'max', value: 15, from: null, to: null });
+      state.targets.push({ who: 'all', measure: 'poor', bound: 'max', value: 15, from: null, to: null, confidence: '' });
       drawTargets();
       schedule();
     });
