@@ -495,7 +495,9 @@ func SolveRobust(p *Problem, samples []MatrixSample) (*RobustPlan, error) {
 		for _, c := range cols {
 			slack[c.col] = 1
 		}
-		pad := func(o []float64) []float64 { return append(append([]float64(nil), o...), make([]float64, len(cols))...) }
+		pad := func(o []float64) []float64 {
+			return append(append([]float64(nil), o...), make([]float64, len(cols))...)
+		}
 		x, solves, err = lexicographic(em, p, []objectiveSpec{{obj: slack}, {obj: pad(primary.obj), maximize: primary.maximize}, {obj: pad(secondary.obj), maximize: secondary.maximize}})
 		stats.Solves += solves
 		status, slacks = TargetsNotMet, cols
