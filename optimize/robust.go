@@ -42,9 +42,8 @@ import (
 // samples only constrain. So the price of robustness is what the robust
 // plan gives up against the point-estimate plan, measured where both are
 // planned: condition score, or money. When the targets cannot hold under
-// every sample within the budgets, one slack per target and year, shared by
-// every sample's row, is minimised first: the shortfall under the worst
-// sample.
+// every sample within the budgets, the shortfalls are minimised first
+// (SolveRobust says how).
 
 // MatrixSample is one draw of the year transitions: Rows[k][a][i] is action
 // a's distribution at the end of a year that starts in state i, for class
@@ -57,10 +56,12 @@ type MatrixSample struct {
 // RobustPlan is a work program whose targets hold under the problem's own
 // matrices and under each sample.
 type RobustPlan struct {
-	// Plan is the work program with its condition, spend and shortfalls
-	// under the problem's own matrices; its Shortfalls are those under the
-	// worst sample (or the point estimate, when it is worse).
+	// Plan is the work program with its condition, spend, status and
+	// shortfalls under the problem's own matrices (the point estimate).
 	*Plan
+	// HoldsUnderSamples says that every target holds under every sample
+	// as well.
+	HoldsUnderSamples bool
 	// Samples[s][k][t][i] is the quantity of class k in state i at the end
 	// of year t under sample s, doing the same work (RollWork).
 	Samples [][][][]float64
@@ -80,12 +81,11 @@ type robustBuilder struct {
 	wBase []int   // first w column of each class
 	dBase [][]int // [s][k]: first d column, -1 when the class shares scenario 0's
 	m     Model
-	// targetRows[n] are a target's rows, and slack[n][y] its shared slack
-	// column per year (elastic model only).
+	// targetRows[n] are a target's rows, per year and scenario.
 	targetRows [][]robustRow
 }
 
-type robustRow struct{ row, year int }
+type robustRow struct{ row, year, scenario int }
 
 // rows returns class k's rows of action a under scenario s.
 func (rb *robustBuilder) rows(s, k, a int) [][]float64 {
@@ -408,7 +408,7 @@ func (rb *robustBuilder) addTarget(n int) {
 				continue
 			}
 			r := rb.m.addRow(Row{Name: fmt.Sprintf("target%d_%d_%d", n+1, s, y), Entries: rb.measure(tg, s, y-1), Sense: sense, RHS: rhs})
-			rb.targetRows[n] = append(rb.targetRows[n], robustRow{row: r, year: y})
+			rb.targetRows[n] = append(rb.targetRows[n], robustRow{row: r, year: y, scenario: s})
 		}
 	}
 }
@@ -474,8 +474,12 @@ func BuildRobustModel(p *Problem, samples []MatrixSample) (*Model, error) {
 // matrices and under every sample, with the same work program in all of
 // them (see the package notes above). It solves the flat robust LP with
 // lp_solve: the primary objective under the point estimate, then the other
-// as tie-break; when the targets cannot all hold, the least total
-// shortfall under the worst scenario first (status TargetsNotMet).
+// as tie-break. When the targets cannot all hold, an elastic model adds a
+// slack to every target row of every scenario and minimises, in turn, the
+// total shortfall under the point estimate (as the ordinary plan does), the
+// total shortfall over the samples with that held, then the objectives:
+// the plan meets the targets as far as the point estimate allows and
+// misses them under the samples as little as it can in all.
 func SolveRobust(p *Problem, samples []MatrixSample) (*RobustPlan, error) {
 	rb, err := newRobustBuilder(p, samples)
 	if err != nil {
@@ -487,20 +491,24 @@ func SolveRobust(p *Problem, samples []MatrixSample) (*RobustPlan, error) {
 	stats := Stats{Rows: len(m.Rows), Cols: len(m.Cols), Nonzeros: m.Nonzeros(), Method: "robust"}
 	x, solves, err := lexicographic(m, p, []objectiveSpec{primary, secondary})
 	stats.Solves = solves
-	status := Optimal
-	var slacks []slackCol
+	holds := true
+	var slacks []robustSlack
 	if errors.Is(err, ErrInfeasible) && len(p.Targets) > 0 {
 		em, cols := rb.elastic()
-		slack := make([]float64, len(em.Cols))
+		nominal, sampled := make([]float64, len(em.Cols)), make([]float64, len(em.Cols))
 		for _, c := range cols {
-			slack[c.col] = 1
+			if c.scenario == 0 {
+				nominal[c.col] = 1
+			} else {
+				sampled[c.col] = 1
+			}
 		}
 		pad := func(o []float64) []float64 {
 			return append(append([]float64(nil), o...), make([]float64, len(cols))...)
 		}
-		x, solves, err = lexicographic(em, p, []objectiveSpec{{obj: slack}, {obj: pad(primary.obj), maximize: primary.maximize}, {obj: pad(secondary.obj), maximize: secondary.maximize}})
+		x, solves, err = lexicographic(em, p, []objectiveSpec{{obj: nominal}, {obj: sampled}, {obj: pad(primary.obj), maximize: primary.maximize}, {obj: pad(secondary.obj), maximize: secondary.maximize}})
 		stats.Solves += solves
-		status, slacks = TargetsNotMet, cols
+		slacks = cols
 	}
 	if errors.Is(err, ErrInfeasible) {
 		return &RobustPlan{Plan: &Plan{Status: Infeasible, Stats: stats}}, nil
@@ -510,21 +518,23 @@ func SolveRobust(p *Problem, samples []MatrixSample) (*RobustPlan, error) {
 	}
 	work := rb.readWork(x)
 	plan, _ := rollPlan(p, work, nil)
-	plan.Status, plan.Stats = status, stats
+	plan.Status, plan.Stats = Optimal, stats
 	for _, sc := range slacks {
 		v := x[sc.col]
 		if v <= shortfallFloor {
 			continue
 		}
+		holds = false
+		if sc.scenario > 0 {
+			continue
+		}
 		if k := p.Targets[sc.target].Kind; k == MinScore || k == Hold {
 			v *= 100
 		}
+		plan.Status = TargetsNotMet
 		plan.Shortfalls = append(plan.Shortfalls, Shortfall{Target: sc.target, Year: sc.year, Amount: v})
 	}
-	if status == TargetsNotMet && len(plan.Shortfalls) == 0 {
-		plan.Status = Optimal // below reporting precision: solver noise
-	}
-	rp := &RobustPlan{Plan: plan}
+	rp := &RobustPlan{Plan: plan, HoldsUnderSamples: holds}
 	for s := range samples {
 		c, _ := RollWork(p, work, &samples[s])
 		rp.Samples = append(rp.Samples, c)
@@ -532,21 +542,22 @@ func SolveRobust(p *Problem, samples []MatrixSample) (*RobustPlan, error) {
 	return rp, nil
 }
 
-// elastic returns a copy of the model with one slack column per target and
-// year, entered in every scenario's row of that target and year.
-func (rb *robustBuilder) elastic() (*Model, []slackCol) {
+// robustSlack is a slack column of the elastic robust model: the
+// shortfall of one target in one year under one scenario.
+type robustSlack struct {
+	col, target, year, scenario int
+}
+
+// elastic returns a copy of the model with a slack column on every target
+// row of every scenario.
+func (rb *robustBuilder) elastic() (*Model, []robustSlack) {
 	em := &Model{Name: rb.m.Name, Cols: append([]string(nil), rb.m.Cols...), Obj: make([]float64, len(rb.m.Cols))}
 	em.Rows = append([]Row(nil), rb.m.Rows...)
-	var cols []slackCol
+	var cols []robustSlack
 	for n, rows := range rb.targetRows {
-		at := map[int]int{} // year -> slack column
 		for _, tr := range rows {
-			c, ok := at[tr.year]
-			if !ok {
-				c = em.addCol(fmt.Sprintf("short%d_%d", n+1, tr.year), 0)
-				at[tr.year] = c
-				cols = append(cols, slackCol{col: c, target: n, year: tr.year})
-			}
+			c := em.addCol(fmt.Sprintf("short%d_%d_%d", n+1, tr.scenario, tr.year), 0)
+			cols = append(cols, robustSlack{col: c, target: n, year: tr.year, scenario: tr.scenario})
 			r := em.Rows[tr.row]
 			sign := 1.0
 			if r.Sense == LessEq {
@@ -669,4 +680,53 @@ func rollPlan(p *Problem, work [][][][]float64, s *MatrixSample) (*Plan, float64
 		}
 	}
 	return plan, undone
+}
+
+// RobustLevelBudget is the least network budget, one nominal amount for
+// every year, under which a robust plan exists: every target holds under
+// the problem's own matrices and under every sample, with the same work in
+// all (SolveRobust). Like LevelBudget it replaces the network cap (budget
+// groups keep theirs) by a column L with spend in year t at most L (with
+// carry-over, spend up to year t at most t·L) and minimises L, then the
+// present value of spend. ErrUnreachable when no amount of money will do.
+func RobustLevelBudget(p *Problem, samples []MatrixSample) (float64, error) {
+	q := *p
+	q.Budget = nil
+	rb, err := newRobustBuilder(&q, samples)
+	if err != nil {
+		return 0, err
+	}
+	m := rb.build()
+	level := m.addCol("level", 0)
+	scens := 1
+	for k := range q.Classes {
+		if q.RoutineInBudget && rb.varies[k] && q.Classes[k].Routine != nil {
+			scens = rb.scen
+		}
+	}
+	for s := range scens {
+		for t := range q.Horizon {
+			var e []Entry
+			if q.CarryOver {
+				for u := 0; u <= t; u++ {
+					e = append(e, rb.spendEntries(s, u, nil)...)
+				}
+				e = append(e, Entry{level, -float64(t + 1)})
+			} else {
+				e = append(rb.spendEntries(s, t, nil), Entry{level, -1})
+			}
+			m.addRow(Row{Name: fmt.Sprintf("level_%d_%d", s, t+1), Entries: e, Sense: LessEq, RHS: 0})
+		}
+	}
+	obj := make([]float64, len(m.Cols))
+	obj[level] = 1
+	pv := rb.objectiveOf(MinCost) // the level column is already among m's
+	x, _, err := lexicographic(m, &q, []objectiveSpec{{obj: obj}, {obj: pv}})
+	if errors.Is(err, ErrInfeasible) {
+		return 0, ErrUnreachable
+	}
+	if err != nil {
+		return 0, err
+	}
+	return roundUpMoney(x[level]*rb.b.moneyUnit, rb.b.moneyUnit), nil
 }

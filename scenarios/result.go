@@ -53,7 +53,10 @@ type Result struct {
 	// Confidence is how the plan meets the targets that state a
 	// confidence (confidence.go); nil when none does.
 	Confidence *Confidence `json:"confidence,omitempty"`
-	Caution    string      `json:"caution"`
+	// Robust compares a robust plan (PlanRobust) with the point-estimate
+	// plan under sampled matrices; nil for other plans.
+	Robust  *Robust `json:"robust,omitempty"`
+	Caution string  `json:"caution"`
 }
 
 // ClassWeight is one class's share of network figures.

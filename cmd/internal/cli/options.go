@@ -225,6 +225,53 @@ func (o *confidenceOptions) apply(opt *scenarios.Options) error {
 	return nil
 }
 
+// robustOptions are the flags of a robust plan (plan --robust).
+type robustOptions struct {
+	samples int
+	from    string
+	seed    uint64
+}
+
+var robustFlagNames = []string{"robust", "robust-matrices", "robust-seed"}
+
+func (o *robustOptions) register(cmd *cobra.Command) {
+	f := cmd.Flags()
+	f.IntVar(&o.samples, "robust", 0, "plan so that the targets hold under N matrix sets drawn for the classes fitted from inspections, and compare with the ordinary plan")
+	f.StringVar(&o.from, "robust-matrices", scenarios.MatrixBootstrap, "how --robust draws matrices: bootstrap (the fit's replicates) or dirichlet (each row from the posterior of its counts)")
+	f.Uint64Var(&o.seed, "robust-seed", 1, "random seed of the --robust draws")
+}
+
+// changed says whether a robust flag other than --robust was given.
+func (o *robustOptions) changed(cmd *cobra.Command) bool {
+	for _, name := range robustFlagNames[1:] {
+		if cmd.Flags().Changed(name) {
+			return true
+		}
+	}
+	return false
+}
+
+func (o *robustOptions) options(cmd *cobra.Command) (*scenarios.RobustOptions, error) {
+	if !cmd.Flags().Changed("robust") {
+		return nil, usageError("--robust-matrices and --robust-seed need --robust N")
+	}
+	return &scenarios.RobustOptions{Samples: o.samples, From: o.from, Seed: o.seed}, nil
+}
+
+// robustFlags maps each robust option (scenarios.RobustError.Option) to
+// its flag.
+var robustFlags = map[string]string{"robust samples": "--robust", "robust matrices": "--robust-matrices"}
+
+// robustError turns a robust plan the domain refused into a usage error
+// that names the flag; other errors pass unchanged.
+func robustError(err error) error {
+	var re *scenarios.RobustError
+	if errors.As(err, &re) {
+		return usageError("%s: %s", robustFlags[re.Option], re.Msg)
+	}
+	return err
+}
+
 // simulateOptions are the flags that set up a simulation, shared by
 // simulate and report --bands (which adds the bands to the report). The
 // policy is not among them: simulate has --policy, and a report's bands are

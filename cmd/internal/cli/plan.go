@@ -14,6 +14,7 @@ func newPlanCmd() *cobra.Command {
 	var out outputOptions
 	var solve solveOptions
 	var conf confidenceOptions
+	var robust robustOptions
 	var strict bool
 	var modelPath string
 	cmd := &cobra.Command{
@@ -38,6 +39,16 @@ reached with its standard error, and, when the budget cannot reach the
 confidence, the least level budget that can. --strict also exits 3 when a
 confidence is not reached.
 
+--robust N plans against the uncertainty of matrices fitted from
+inspections (deterioration: {fit: FILE}): it draws N sets of matrices
+(--robust-matrices bootstrap: the fit's replicates; dirichlet: each row
+from the posterior of its counts; seed --robust-seed) and finds the one
+work program whose targets hold under the point estimate and under every
+sample at once (the same treated quantities in every sample, never more
+than a state holds). It prints that plan, the price of robustness against
+the ordinary plan, and how the ordinary plan fares under the same samples.
+--strict exits 3 when the targets cannot hold under every sample.
+
 Large networks (dozens of classes, long horizons) are solved by column
 generation over each class's policies instead of as one LP; --solver picks
 flat or decomposed by hand, auto (the default) by model size. Both give the
@@ -57,6 +68,9 @@ different ones.`,
 
   # A scenario whose targets say confidence: 0.9, measured on 2000 runs
   wearplan plan scenario.yaml --confidence-runs 2000
+
+  # A plan whose targets hold under 30 matrix sets drawn from the fit's replicates
+  wearplan plan fitted.yaml --robust 30
 
   # Also write the linear program in CPLEX LP format, to check with another solver
   wearplan plan scenarios/examples/marrowby.yaml --write-model marrowby.lp
@@ -80,12 +94,24 @@ different ones.`,
 			if err != nil {
 				return err
 			}
-			if modelPath != "" {
-				if err := writeModel(cmd, sc, modelPath); err != nil {
+			var ro *scenarios.RobustOptions
+			if cmd.Flags().Changed("robust") || robust.changed(cmd) {
+				if ro, err = robust.options(cmd); err != nil {
 					return err
 				}
 			}
-			r, err := scenarios.Plan(sc, opt)
+			if modelPath != "" {
+				if err := writeModel(cmd, sc, modelPath, ro); err != nil {
+					return err
+				}
+			}
+			var r *scenarios.Result
+			if ro != nil {
+				r, err = scenarios.PlanRobust(sc, *ro, opt)
+				err = robustError(err)
+			} else {
+				r, err = scenarios.Plan(sc, opt)
+			}
 			if err != nil {
 				return err
 			}
@@ -96,6 +122,12 @@ different ones.`,
 				warnShortfalls(cmd, r)
 				if strict {
 					return &exitError{code: exitTargets, err: fmt.Errorf("%s: targets cannot be met within the budget (--strict)", args[0])}
+				}
+			}
+			if rb := r.Robust; rb != nil && !rb.HoldsUnderSamples {
+				fmt.Fprintf(cmd.ErrOrStderr(), "warning: the targets cannot hold under every one of the %d matrix samples within the budget\n", rb.Samples)
+				if strict {
+					return &exitError{code: exitTargets, err: fmt.Errorf("%s: targets cannot hold under every matrix sample (--strict)", args[0])}
 				}
 			}
 			if c := r.Confidence; c != nil && !c.Reached {
@@ -110,6 +142,7 @@ different ones.`,
 	out.register(cmd, "work")
 	solve.register(cmd)
 	conf.register(cmd)
+	robust.register(cmd)
 	cmd.Flags().BoolVar(&strict, "strict", false, "exit with code 3 when the targets cannot be met")
 	cmd.Flags().StringVar(&modelPath, "write-model", "", "also write the linear program solved first, as FILE.lp (CPLEX LP) or FILE.mps (free MPS), before solving")
 	return cmd

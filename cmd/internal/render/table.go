@@ -35,6 +35,7 @@ func Text(w io.Writer, r *scenarios.Result) error {
 	}
 	fundingText(ew, r)
 	confidenceText(ew, r)
+	robustText(ew, r)
 	for _, warn := range r.Warnings {
 		ew.printf("\nNote: %s\n", warn)
 	}
