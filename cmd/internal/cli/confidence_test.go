@@ -72,3 +72,23 @@ func TestConfidenceFlagErrors(t *testing.T) {
 		}
 	}
 }
+
+// TestRobustFlagErrors: robust samples of typed-in matrices, too few
+// samples and robust flags without --robust are refused, naming the flag
+// (and the file).
+func TestRobustFlagErrors(t *testing.T) {
+	for _, c := range []struct {
+		args []string
+		want string
+	}{
+		{[]string{"plan", small, "--robust", "10"}, "--robust: marrowby-small.yaml: no class takes its matrix from a fit file"},
+		{[]string{"plan", small, "--robust", "1"}, "--robust: 1 samples; give between 2 and 200"},
+		{[]string{"plan", small, "--robust-seed", "3"}, "--robust-matrices and --robust-seed need --robust N"},
+		{[]string{"plan", small, "--robust", "5", "--robust-matrices", "jackknife"}, `--robust-matrices: "jackknife"; choose bootstrap or dirichlet`},
+	} {
+		code, _, errs := run(t, c.args...)
+		if code != 2 || !strings.Contains(errs, c.want) {
+			t.Errorf("%v: exit %d, %q; want exit 2 and %q", c.args, code, errs, c.want)
+		}
+	}
+}
