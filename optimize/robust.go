@@ -597,17 +597,17 @@ func (rb *robustBuilder) readWork(x []float64) [][][][]float64 {
 // work[k][t][i][a] (a ≥ 1) are done as far as the state holds them (all
 // of them in proportion when it holds less), the rest is left untreated,
 // and everything moves by the sample's year transitions. It returns the
-// condition Condition[k][t][i] (t = 0 today) and the total quantity the
-// work program asked for that was not there to treat.
-func RollWork(p *Problem, work [][][][]float64, s *MatrixSample) ([][][]float64, float64) {
+// condition Condition[k][t][i] (t = 0 today) and, per class, the quantity
+// the work program asked to treat that was not there.
+func RollWork(p *Problem, work [][][][]float64, s *MatrixSample) ([][][]float64, []float64) {
 	plan, undone := rollPlan(p, work, s)
 	return plan.Condition, undone
 }
 
 // rollPlan is RollWork with the work done (do nothing included), spend
 // and condition score filled in as a Plan.
-func rollPlan(p *Problem, work [][][][]float64, s *MatrixSample) (*Plan, float64) {
-	undone := 0.0
+func rollPlan(p *Problem, work [][][][]float64, s *MatrixSample) (*Plan, []float64) {
+	undone := make([]float64, len(p.Classes))
 	T := p.Horizon
 	weights := p.Weights()
 	plan := &Plan{Work: make([][][][]float64, len(p.Classes)), Condition: make([][][]float64, len(p.Classes)),
@@ -639,7 +639,7 @@ func rollPlan(p *Problem, work [][][][]float64, s *MatrixSample) (*Plan, float64
 				f := 1.0
 				if asked > have && asked > 0 {
 					f = math.Max(have, 0) / asked
-					undone += asked - math.Max(have, 0)
+					undone[k] += asked - math.Max(have, 0)
 				}
 				left := math.Max(have, 0)
 				for a := 1; a < len(c.Actions); a++ {

@@ -118,8 +118,10 @@ func TestRobustPlanHoldsUnderEachSample(t *testing.T) {
 					sm = &samples[s]
 				}
 				cond, undone := RollWork(p, rp.Work, sm)
-				if undone > 1e-7*total {
-					t.Errorf("sample %d: the work asks to treat %g more than the states hold", s+1, undone)
+				for k, u := range undone {
+					if u > 1e-7*total {
+						t.Errorf("sample %d, class %d: the work asks to treat %g more than the states hold", s+1, k+1, u)
+					}
 				}
 				for n := range p.Targets {
 					if m := missed(p, cond, n); m > 1e-6 {

@@ -43,8 +43,8 @@ type unitPiece struct {
 // agency's own sections are better, through segment_size or a segment
 // list).
 var unitPieces = []unitPiece{
-	{[]string{"lane-km", "lanekm", "km", "kilometre", "kilometres", "kilometer", "kilometers", "centreline-km", "centerline-km", "lane-kilometre", "lane-kilometres", "lane-kilometer", "lane-kilometers"}, 0.5, "a road section, about 250 m of two lanes"},
-	{[]string{"lane-mi", "lane-mile", "lane-miles", "lanemi", "mi", "mile", "miles", "centerline-mi", "centerline-mile", "centerline-miles"}, 0.25, "a road section, about 200 m of two lanes"},
+	{[]string{"lane-km", "lanekm", "km", "kilometre", "kilometres", "kilometer", "kilometers", "centreline-km", "centerline-km", "lane-kilometre", "lane-kilometres", "lane-kilometer", "lane-kilometers"}, 0.5, "a road section of about 250 m of two lanes"},
+	{[]string{"lane-mi", "lane-mile", "lane-miles", "lanemi", "mi", "mile", "miles", "centerline-mi", "centerline-mile", "centerline-miles"}, 0.25, "a road section of about 200 m of two lanes"},
 	{[]string{"m", "metre", "metres", "meter", "meters", "lane-m", "linear-m", "lm", "m-of-pipe"}, 100, "a length between junctions or manholes"},
 	{[]string{"ft", "foot", "feet", "lf", "linear-ft", "linear-feet"}, 300, "a length between junctions or manholes"},
 	{[]string{"m2", "m²", "sqm", "sq-m", "square-metre", "square-metres", "square-meter", "square-meters"}, 500, "a bridge deck or a footpath block"},
@@ -88,18 +88,18 @@ func DefaultSegmentSize(unit string, initial []float64) (float64, string) {
 		for _, name := range up.names {
 			if name == nu {
 				size = up.size
-				rule = fmt.Sprintf("the default for %s: %s", unit, up.what)
+				rule = fmt.Sprintf("the default for %s, %s", unit, up.what)
 			}
 		}
 	}
 	if size == 0 {
 		size = roundUp125(total / 1000)
-		rule = fmt.Sprintf("unit %q has no default piece size, so the class is cut into about 1,000 pieces", unit)
+		rule = fmt.Sprintf("no default for unit %q: about 1,000 pieces", unit)
 	}
 	if pieceCount(initial, size) > MaxDefaultPieces {
 		for size = roundUp125(math.Max(size, total/MaxDefaultPieces)); pieceCount(initial, size) > MaxDefaultPieces; size = roundUp125(size * 1.5) {
 		}
-		rule += fmt.Sprintf(", enlarged so that the class has at most %d pieces", MaxDefaultPieces)
+		rule += ", enlarged so that the class has at most 5,000 pieces"
 	}
 	return size, rule
 }

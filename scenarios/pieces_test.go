@@ -26,7 +26,7 @@ func TestDefaultSegmentSize(t *testing.T) {
 		{"spelled with a space and capitals", "Lane km", []float64{600}, 0.5, "the default for Lane km", 1200},
 		{"footpaths typed as quantities (the issue's 178,500 m2)", "m2", []float64{60000, 78500, 40000}, 500, "the default for m2", 357},
 		{"culverts", "each", []float64{38, 52, 41, 20, 9}, 1, "one asset", 160},
-		{"a generated 200,000-unit class", "each", []float64{50000, 60000, 40000, 30000, 20000}, 50, "enlarged so that the class has at most 5000 pieces", 4000},
+		{"a generated 200,000-unit class", "each", []float64{50000, 60000, 40000, 30000, 20000}, 50, "enlarged so that the class has at most 5,000 pieces", 4000},
 		{"a state network of 60,000 lane-km", "lane-km", []float64{20000, 20000, 20000}, 20, "enlarged", 3000},
 		{"an odd remainder in every state", "each", []float64{2001, 2001, 2001}, 2, "enlarged", 3003},
 		{"a unit without a default", "tonnes", []float64{12345}, 20, "about 1,000 pieces", 618},

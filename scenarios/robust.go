@@ -18,6 +18,11 @@ import (
 // the ordinary (point-estimate) plan, with the price of robustness and how
 // the point-estimate plan fares under the same samples.
 
+// shortOfWork is the share of a class a work program must ask for beyond
+// what a sample holds for the sample to count as one where the work cannot
+// be done as written.
+const shortOfWork = 1e-3
+
 // MaxRobustSamples bounds the samples of a robust plan: each adds a copy
 // of every fitted class's flow and target rows to one flat LP.
 const MaxRobustSamples = 200
@@ -367,15 +372,16 @@ func robustFigures(sc *Scenario, p *optimize.Problem, name string, plan *optimiz
 			out.worst[n] = math.Inf(1)
 		}
 	}
-	total := 0.0
-	for k := range p.Classes {
-		total += p.Classes[k].Total()
-	}
 	weights := p.Weights()
 	for s := range samples {
 		cond, undone := optimize.RollWork(p, plan.Work, &samples[s])
-		if undone > 1e-6*total {
-			out.figures.SamplesShortOfWork++
+		for k, u := range undone {
+			// A thousandth of the class: less is rounding, not a work
+			// program that cannot be done.
+			if u > shortOfWork*p.Classes[k].Total() {
+				out.figures.SamplesShortOfWork++
+				break
+			}
 		}
 		score := 0.0
 		for y := 1; y <= p.Horizon; y++ {
