@@ -128,25 +128,16 @@ type RobustTarget struct {
 	PointWorst       float64  `json:"point_worst"`
 }
 
-// RobustError is a robust plan that cannot be made as asked; Option names
-// the setting ("robust samples", "robust matrices").
-type RobustError struct {
-	Option string
-	Msg    string
-}
-
-func (e *RobustError) Error() string { return e.Option + ": " + e.Msg }
-
 func (ro *RobustOptions) normalise() error {
 	if ro.Samples < 2 || ro.Samples > MaxRobustSamples {
-		return &RobustError{"robust samples", fmt.Sprintf("%d samples; give between 2 and %d (20 to 50 is a good start)", ro.Samples, MaxRobustSamples)}
+		return &OptionError{"robust samples", fmt.Sprintf("%d samples; give between 2 and %d (20 to 50 is a good start)", ro.Samples, MaxRobustSamples)}
 	}
 	switch ro.From {
 	case "":
 		ro.From = MatrixBootstrap
 	case MatrixBootstrap, MatrixDirichlet:
 	default:
-		return &RobustError{"robust matrices", fmt.Sprintf("%q; choose %s or %s", ro.From, MatrixBootstrap, MatrixDirichlet)}
+		return &OptionError{"robust matrices", fmt.Sprintf("%q; choose %s or %s", ro.From, MatrixBootstrap, MatrixDirichlet)}
 	}
 	if ro.Prior == 0 {
 		ro.Prior = markov.JeffreysPrior
@@ -198,7 +189,7 @@ func drawSamples(sc *Scenario, ro RobustOptions) ([]optimize.MatrixSample, []str
 	}
 	if len(drawn) == 0 {
 		what := map[string]string{MatrixBootstrap: "bootstrap replicate matrices", MatrixDirichlet: "transition counts"}[ro.From]
-		return nil, nil, nil, &RobustError{"robust samples", fmt.Sprintf("%s: no class takes its matrix from a fit file with %s (deterioration: {fit: FILE}); a matrix typed into the scenario has no sampling distribution to draw from, so a robust plan needs fitted matrices",
+		return nil, nil, nil, &OptionError{"robust samples", fmt.Sprintf("%s: no class takes its matrix from a fit file with %s (deterioration: {fit: FILE}); a matrix typed into the scenario has no sampling distribution to draw from, so a robust plan needs fitted matrices",
 			sc.Source, what)}
 	}
 	out := make([]optimize.MatrixSample, ro.Samples)
@@ -237,7 +228,7 @@ func PlanRobust(sc *Scenario, ro RobustOptions, opt Options) (*Result, error) {
 		return nil, err
 	}
 	if hasConfidence(sc) {
-		return nil, &RobustError{"robust samples", "a target states a confidence, which is met by simulation; a robust plan meets every target under every sample instead: plan one or the other"}
+		return nil, &OptionError{"robust samples", "a target states a confidence, which is met by simulation; a robust plan meets every target under every sample instead: plan one or the other"}
 	}
 	samples, drawn, fixed, err := drawSamples(sc, ro)
 	if err != nil {

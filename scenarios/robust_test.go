@@ -84,7 +84,7 @@ func TestPlanRobustRefused(t *testing.T) {
 		{confident, scenarios.RobustOptions{Samples: 10}, "robust samples", "states a confidence"},
 	} {
 		_, err := scenarios.PlanRobust(c.sc, c.ro, scenarios.Options{})
-		var re *scenarios.RobustError
+		var re *scenarios.OptionError
 		if !errors.As(err, &re) || re.Option != c.option || !strings.Contains(re.Msg, c.msg) {
 			t.Errorf("%+v: %v", c.ro, err)
 		}

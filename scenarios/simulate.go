@@ -115,10 +115,12 @@ type SimulateOptions struct {
 	Solver optimize.Method
 }
 
-// OptionError is a simulation option that cannot be used, with the fix.
+// OptionError is a simulation (or robust plan) option that cannot be used,
+// with the fix.
 type OptionError struct {
 	// Option is the option's name: "runs", "policy", "matrix uncertainty",
-	// "dirichlet prior", "lot size" or "segments".
+	// "dirichlet prior", "lot size" or "segments"; for robust plans
+	// "robust samples" or "robust matrices".
 	Option string
 	Msg    string
 }

@@ -37,7 +37,7 @@ func writeModel(cmd *cobra.Command, sc *scenarios.Scenario, path string, robust 
 	if robust != nil {
 		var err error
 		if m, err = scenarios.RobustModel(sc, *robust); err != nil {
-			return robustError(err)
+			return simulateError("", err)
 		}
 	} else {
 		p, err := sc.Problem()

@@ -258,20 +258,6 @@ func (o *robustOptions) options(cmd *cobra.Command) (*scenarios.RobustOptions, e
 	return &scenarios.RobustOptions{Samples: o.samples, From: o.from, Seed: o.seed}, nil
 }
 
-// robustFlags maps each robust option (scenarios.RobustError.Option) to
-// its flag.
-var robustFlags = map[string]string{"robust samples": "--robust", "robust matrices": "--robust-matrices"}
-
-// robustError turns a robust plan the domain refused into a usage error
-// that names the flag; other errors pass unchanged.
-func robustError(err error) error {
-	var re *scenarios.RobustError
-	if errors.As(err, &re) {
-		return usageError("%s: %s", robustFlags[re.Option], re.Msg)
-	}
-	return err
-}
-
 // simulateOptions are the flags that set up a simulation, shared by
 // simulate and report --bands (which adds the bands to the report). The
 // policy is not among them: simulate has --policy, and a report's bands are
@@ -295,6 +281,8 @@ var simulateFlags = map[string]string{
 	"matrix uncertainty": "--matrix-uncertainty",
 	"dirichlet prior":    "--dirichlet-prior",
 	"lot size":           "--lot-size",
+	"robust samples":     "--robust",
+	"robust matrices":    "--robust-matrices",
 }
 
 func (o *simulateOptions) register(cmd *cobra.Command) {

@@ -108,7 +108,7 @@ different ones.`,
 			var r *scenarios.Result
 			if ro != nil {
 				r, err = scenarios.PlanRobust(sc, *ro, opt)
-				err = robustError(err)
+				err = simulateError("", err)
 			} else {
 				r, err = scenarios.Plan(sc, opt)
 			}
