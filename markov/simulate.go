@@ -270,8 +270,8 @@ func (sh *simShape) checkRows(rows [][][]float64, policy [][][]float64) error {
 // single draws when n is small. The distribution of every run's quantities
 // is the same as moving the lots one by one; the time no longer grows with
 // the number of equal lots, so a class cut into equal lots costs a few
-// draws per state and year whatever its size. Lots of a quantity that no
-// other lot of the class has move one by one.
+// draws per state and year whatever its size. Lots of a quantity that
+// fewer than minCohort lots of the class share move one by one.
 //
 // Runs are spread over opt.Workers goroutines. Run r draws its random
 // numbers from its own streams (runSource(opt.Seed, r, ...), one for each
@@ -374,9 +374,14 @@ type classLots struct {
 	singles []Lot
 }
 
+// minCohort is the fewest lots that move as a cohort: fewer lots of one
+// size move one by one, which skips the cohort's pass over every state in
+// every year (a list of segments has many sizes shared by a few segments).
+const minCohort = 32
+
 // groupLots puts the lots of each class that share a quantity (bit for
-// bit) into cohorts, in the order of their first lot; a lot whose quantity
-// no other lot of its class has stays single, in the order given.
+// bit), when there are at least minCohort of them, into cohorts, in the
+// order of their first lot; the other lots stay single, in the order given.
 func groupLots(classes int, shapes []simShape, lots []Lot) []classLots {
 	type key struct {
 		class int
@@ -390,7 +395,7 @@ func groupLots(classes int, shapes []simShape, lots []Lot) []classLots {
 	at := map[key]int{}
 	for _, l := range lots {
 		kk := key{l.Class, math.Float64bits(l.Quantity)}
-		if n[kk] == 1 {
+		if n[kk] < minCohort {
 			out[l.Class].singles = append(out[l.Class].singles, l)
 			continue
 		}
