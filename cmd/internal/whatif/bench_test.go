@@ -25,7 +25,8 @@ import (
 //   - memo: the same request again;
 //   - bands: the demo with the uncertainty bands ticked (BandRuns runs of
 //     its 2,893 segments, the band charts and rows laid out); the peak
-//     resident memory of the process is reported as MiB-peak.
+//     resident memory of the process is reported as MiB-peak and the
+//     processor time per request as cpu-ms/op.
 //
 // Besides the mean it reports the median (ms-median, the figure docs/benchmarks.md
 // records) and the 90th percentile (ms-p90) in milliseconds, and for the
@@ -53,6 +54,7 @@ func BenchmarkPlanRequest(b *testing.B) {
 				b.Fatal(err)
 			}
 			optimizetest.ResetPeakRSS()
+			cpu := optimizetest.CPUSeconds()
 			var times []time.Duration
 			failed := 0
 			i := 0
@@ -89,6 +91,7 @@ func BenchmarkPlanRequest(b *testing.B) {
 			}
 			if c.bands {
 				b.ReportMetric(optimizetest.PeakRSS(), "MiB-peak")
+				b.ReportMetric((optimizetest.CPUSeconds()-cpu)*1000/float64(len(times)), "cpu-ms/op")
 			}
 		})
 	}
