@@ -110,3 +110,24 @@ func TestPieceWarningsAtTheThresholds(t *testing.T) {
 		})
 	}
 }
+
+// The pieces a simulation cuts a class typed as quantities into, when the
+// scenario gives no segment_size: the default piece of its unit, larger
+// when the class would have more than 5,000 (invented quantities).
+func ExampleDefaultSegmentSize() {
+	for _, c := range []struct {
+		unit    string
+		initial []float64
+	}{
+		{"m2", []float64{60000, 78500, 40000}},     // footpaths
+		{"lane-km", []float64{160, 150, 120, 190}}, // roads
+		{"each", []float64{50000, 60000, 90000}},   // street lights
+	} {
+		size, rule := scenarios.DefaultSegmentSize(c.unit, c.initial)
+		fmt.Printf("%s: pieces of %g (%s)\n", c.unit, size, rule)
+	}
+	// Output:
+	// m2: pieces of 500 (the default for m2, a bridge deck or a footpath block)
+	// lane-km: pieces of 0.5 (the default for lane-km, a road section of about 250 m of two lanes)
+	// each: pieces of 50 (the default for each, one asset, enlarged so that the class has at most 5,000 pieces)
+}
