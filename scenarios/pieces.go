@@ -125,7 +125,7 @@ func roundUp125(v float64) float64 {
 func pieceWarning(c *Class, n int) string {
 	switch {
 	case n > ManyPieces:
-		return fmt.Sprintf("class %q moves as %d pieces, more than %d: so many independent pieces make its bands too narrow to trust (real assets share weather, traffic and contractors); give segment_size in the class (or --lot-size) the size of the pieces it is managed in", c.Name, n, ManyPieces)
+		return fmt.Sprintf("class %q moves as %d pieces, more than %d: so many independent pieces make its bands too narrow to trust (real assets share weather, traffic and contractors); give the class a segment_size (or the run a piece size) the size of the pieces it is managed in", c.Name, n, ManyPieces)
 	case n < FewPieces:
 		return fmt.Sprintf("class %q moves as %d pieces, fewer than %d: its shares move in steps of about 1/%d of the class, so its percentiles are coarse; that is real if the class has so few assets, otherwise give segment_size the size of the pieces it is managed in", c.Name, n, FewPieces, max(n, 1))
 	}
