@@ -170,6 +170,9 @@ type decomposer struct {
 	// seeded counts the pool's first columns, there before any stage: do
 	// nothing and the Warm's policies.
 	seeded int
+	// setOf is, per target, the index of its state set among its class's
+	// sets (dwClass.sets); -1 for targets on groups or scores.
+	setOf []int
 }
 
 func newDecomposer(p *Problem, o Options) *decomposer {
@@ -192,6 +195,13 @@ func newDecomposer(p *Problem, o Options) *decomposer {
 	for k := range p.Classes {
 		dw.classes[k] = newDWClass(p, k, b.lay.pairs[k], b.terms[k], b.weights[k])
 		dw.seen[k] = map[uint64]int{}
+	}
+	dw.setOf = make([]int, len(p.Targets))
+	for n := range p.Targets {
+		dw.setOf[n] = -1
+		if tg := &p.Targets[n]; tg.States != nil {
+			dw.setOf[n] = dw.classes[tg.Class].addSet(tg)
+		}
 	}
 	dw.links = dw.linkRows()
 	for _, d := range dw.classes {
@@ -275,7 +285,8 @@ func solveDecomposed(p *Problem, o Options) (*Plan, error) {
 	secondary := objKindOf(other(p.Objective))
 
 	// Stage 0, when doing nothing overspends a budget (routine costs
-	// counted against it): the least total spend over the budgets. Above
+	// counted against it) or spends less than a least spend: the least
+	// total spend over the caps and under the least spends. Above
 	// infeasibleExcess no plan keeps the budgets, as the flat model would
 	// report; otherwise the pool now holds policies that keep them, which
 	// every later stage's first master needs.
@@ -324,13 +335,13 @@ func solveDecomposed(p *Problem, o Options) (*Plan, error) {
 		// every row that plan misses to what it reaches (and a hair more,
 		// so that the plan stays feasible to lp_solve), and drop the
 		// shortfall columns.
-		score, group := dw.mixMeasures(res)
+		m := dw.mixMeasures(res)
 		for r := range dw.links {
 			l := &dw.links[r]
 			if l.kind != linkTarget {
 				continue
 			}
-			v := dw.targetValue(l, score, group)
+			v := dw.targetValue(l, m)
 			if l.sense == LessEq && v > l.rhs {
 				l.rhs, l.active = v+relaxMargin, true
 			} else if l.sense == GreaterEq && v < l.rhs {
@@ -369,21 +380,18 @@ const infeasibleExcess = 1e-9
 
 // doNothingOverspends reports whether doing nothing in every class spends
 // more than some budget row allows (possible only with routine costs
-// counted against the budget).
+// counted against the budget), or less than a least spend asks.
 func (dw *decomposer) doNothingOverspends() bool {
-	if !dw.p.RoutineInBudget {
-		return false
-	}
 	for r := range dw.links {
 		l := &dw.links[r]
-		if l.kind != linkBudget {
+		if l.kind != linkBudget || (l.sense == LessEq && !dw.p.RoutineInBudget) {
 			continue
 		}
 		v := 0.0
 		for k := range dw.classes {
 			v += dw.coef(l, dw.pool[k]) // the pool starts with each class's do nothing
 		}
-		if v > l.rhs+1e-12 {
+		if (l.sense == LessEq && v > l.rhs+1e-12) || (l.sense == GreaterEq && v < l.rhs-1e-12) {
 			return true
 		}
 	}
@@ -422,7 +430,7 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 	K := len(dw.classes)
 	pc := &pricer{dw: dw, st: st, pr: make([]prices, K), pols: make([]policy, K), vals: make([]float64, K)}
 	for k := range pc.pr {
-		pc.pr[k] = newPrices(dw.p.Horizon)
+		pc.pr[k] = newPrices(dw.p.Horizon, len(dw.classes[k].sets))
 	}
 	// A later stage starts from the policies the earlier stages' plans
 	// use; pricing brings back any other it needs.
@@ -660,33 +668,51 @@ func (dw *decomposer) slackBound(st *stage, pi []float64) float64 {
 	return s
 }
 
-// mixMeasures returns, per class and year, the expected end-of-year score
-// and group shares of the master's plan.
-func (dw *decomposer) mixMeasures(res *masterResult) ([][]float64, [][][3]float64) {
+// mix holds, per class and year, the expected end-of-year measures of a
+// master's plan: score, group shares and state-set shares.
+type mix struct {
+	score [][]float64
+	group [][][3]float64
+	set   [][][]float64
+}
+
+// mixMeasures returns the measures of the master's plan.
+func (dw *decomposer) mixMeasures(res *masterResult) *mix {
 	T, K := dw.p.Horizon, len(dw.classes)
-	score := make([][]float64, K)
-	group := make([][][3]float64, K)
-	for k := range score {
-		score[k] = make([]float64, T)
-		group[k] = make([][3]float64, T)
+	m := &mix{score: make([][]float64, K), group: make([][][3]float64, K), set: make([][][]float64, K)}
+	for k := range m.score {
+		m.score[k] = make([]float64, T)
+		m.group[k] = make([][3]float64, T)
+		if ns := len(dw.classes[k].sets); ns > 0 {
+			m.set[k] = make([][]float64, T)
+			for t := range m.set[k] {
+				m.set[k][t] = make([]float64, ns)
+			}
+		}
 	}
 	for j, w := range res.lambda {
 		if w <= 0 {
 			continue
 		}
 		col := dw.pool[j]
+		k := col.class
 		for t := 0; t < T; t++ {
-			score[col.class][t] += w * col.score[t]
+			m.score[k][t] += w * col.score[t]
 			for g := 0; g < 3; g++ {
-				group[col.class][t][g] += w * col.group[t][g]
+				m.group[k][t][g] += w * col.group[t][g]
+			}
+			if col.set != nil {
+				for s, v := range col.set[t] {
+					m.set[k][t][s] += w * v
+				}
 			}
 		}
 	}
-	return score, group
+	return m
 }
 
 // targetValue is a target row's measure under the measures of mixMeasures.
-func (dw *decomposer) targetValue(l *link, score [][]float64, group [][][3]float64) float64 {
+func (dw *decomposer) targetValue(l *link, m *mix) float64 {
 	tg := &dw.p.Targets[l.target]
 	v := 0.0
 	for k := range dw.classes {
@@ -694,10 +720,13 @@ func (dw *decomposer) targetValue(l *link, score [][]float64, group [][][3]float
 		if w == 0 {
 			continue
 		}
-		if tg.Kind == MinScore || tg.Kind == Hold {
-			v += w * score[k][l.year] / 100
-		} else {
-			v += w * group[k][l.year][tg.Group]
+		switch {
+		case tg.Kind == MinScore || tg.Kind == Hold:
+			v += w * m.score[k][l.year] / 100
+		case tg.States != nil:
+			v += w * m.set[k][l.year][dw.setOf[l.target]]
+		default:
+			v += w * m.group[k][l.year][tg.Group]
 		}
 	}
 	return v
@@ -706,18 +735,17 @@ func (dw *decomposer) targetValue(l *link, score [][]float64, group [][][3]float
 // activateViolated adds to the master every inactive target row that the
 // master's current plan violates, and reports whether it added any.
 func (dw *decomposer) activateViolated(res *masterResult) bool {
-	var score [][]float64
-	var group [][][3]float64
+	var m *mix
 	added := false
 	for r := range dw.links {
 		l := &dw.links[r]
 		if l.active || l.kind != linkTarget {
 			continue
 		}
-		if score == nil {
-			score, group = dw.mixMeasures(res)
+		if m == nil {
+			m = dw.mixMeasures(res)
 		}
-		v := dw.targetValue(l, score, group)
+		v := dw.targetValue(l, m)
 		if (l.sense == LessEq && v > l.rhs+activateTol) || (l.sense == GreaterEq && v < l.rhs-activateTol) {
 			l.active = true
 			added = true
@@ -890,13 +918,13 @@ func (dw *decomposer) plan(res *masterResult) *Plan {
 	// Shortfalls are measured on the plan against the targets' own
 	// bounds (readPlan reports those above shortfallFloor).
 	var slacks []slackCol
-	score, group := dw.mixMeasures(res)
+	m := dw.mixMeasures(res)
 	for r := range dw.links {
 		l := &dw.links[r]
 		if l.kind != linkTarget {
 			continue
 		}
-		short := (dw.targetValue(l, score, group) - l.goal) * -slackSign(l)
+		short := (dw.targetValue(l, m) - l.goal) * -slackSign(l)
 		if short > 0 {
 			slacks = append(slacks, slackCol{col: len(x), target: l.target, year: l.year + 1})
 			x = append(x, short)

@@ -22,7 +22,9 @@
 // present values discount year t by (1+r)^-(t-1), so year-1 money is at face
 // value. Yearly caps bind the network and optionally named groups of classes;
 // with carry-over, money unspent in a year can be spent later, which turns
-// the caps into caps on cumulative spend.
+// the caps into caps on cumulative spend. Least spends (MinSpend: money
+// ring-fenced for some classes) are rows of the other sense: the spend of
+// their classes in each year, on its own, at least the amount.
 //
 // Condition is measured on a score from 0 (worst end of the scale) to 100
 // (best end): each class's index values are mapped linearly onto it, so
@@ -30,7 +32,10 @@
 // Network figures weight classes by the weights handed in (replacement value
 // where known). Targets bound, for a class or the network and a range of
 // years, the share of a group (good, fair, poor) from above or below, the
-// average score from below, or hold the end-of-horizon score at today's.
+// average score from below, or hold the end-of-horizon score at today's. A
+// share target of one class may measure a set of its states instead of a
+// group (Target.States: "at most 5% Failed"), so that a class widened into
+// more states maps a condition state onto all of its widened states.
 //
 // Objectives: MaxCondition maximises the mean over the T years of the
 // network score; MinCost minimises the present value of spending. Ties are
@@ -104,9 +109,11 @@
 //
 // where c is the stage objective's coefficient (see Stages) and a_r,t(n)
 // the pair's coefficient in row r: cost × (1+e)^(t-1) / money unit in the
-// budget rows of year t (of every year from t on, with carry-over), the
-// class's weight × expected end-of-year score / 100 or group share in the
-// target rows of year t. A backward dynamic program over years and states,
+// budget and least-spend rows of year t (of every year from t on in the
+// caps, with carry-over), the class's weight × expected end-of-year score /
+// 100, group share or state-set share in the target rows of year t. Each
+// class carries one price per year for each state set its targets name, so
+// classes without state targets price as before. A backward dynamic program over years and states,
 //
 //	V_{T+1}(j) = 0,   V_t(i) = max_a [ r_t(i,a) + Σ_j M_a(i,j)·V_{t+1}(j) ],
 //
@@ -153,8 +160,9 @@
 // more than 1e-10 join. Budget rows are always in.
 //
 // Stages. When doing nothing overspends a budget (routine costs counted
-// against it), a stage 0 first minimises the total spend over the budget
-// rows, each with an excess column of price -1 (its Lagrangian bound is
+// against it) or spends less than a least spend, a stage 0 first minimises
+// the total spend over the caps and under the least spends, each row with
+// an excess column of price -1 (its Lagrangian bound is
 // finite only where every budget price is at most 1): above 1e-9 of the
 // largest cap the plan is infeasible, as the flat model would say;
 // otherwise the pool holds policies that keep the budgets, which the later

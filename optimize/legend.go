@@ -24,7 +24,7 @@ func (b *builder) legend() []string {
 	out = append(out,
 		fmt.Sprintf("money unit: 1 = %s in the scenario's currency (the largest yearly cap, or the dearest treatment of a whole class)", strconv.FormatFloat(b.moneyUnit, 'f', -1, 64)),
 		"column xK_T_I_A: share of class K's total quantity that is in state I (1 = best) at the start of year T and is given action A in year T (0 = do nothing)",
-		"rows: flowK_T_J condition flow of class K into state J at the start of year T; budget_T network cap of year T; groupbudgetG_T cap of budget group G; targetN_T target N at the end of year T",
+		"rows: flowK_T_J condition flow of class K into state J at the start of year T; budget_T network cap of year T; groupbudgetG_T cap of budget group G; minspendM_T least spend M of year T; targetN_T target N at the end of year T",
 		"after this model is solved, a second solve holds its objective within 1e-9 relative and breaks ties (max-condition: least present-value spend; min-cost: best condition)",
 		"when the targets cannot be met this model is infeasible; wearplan then adds a slack to every target row and minimises the total slack first",
 	)
@@ -38,6 +38,9 @@ func (b *builder) legend() []string {
 	}
 	for g, gb := range p.GroupBudgets {
 		out = append(out, fmt.Sprintf("budget group %d: %s", g+1, gb.Name))
+	}
+	for m, ms := range p.MinSpends {
+		out = append(out, fmt.Sprintf("least spend %d: %s", m+1, ms.Name))
 	}
 	for n, t := range p.Targets {
 		out = append(out, fmt.Sprintf("target %d: %s", n+1, t.Label))

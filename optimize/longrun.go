@@ -54,10 +54,11 @@ type longRunBuilder struct {
 //	Σ_a w[k,j,a] = Σ_{i,a} w[k,i,a]·M[k,a](i,j)   (balance, every state j)
 //	Σ_{i,a} w[k,i,a] = 1                         (shares of the class total)
 //
-// with the targets on long-run group shares or scores (their years are
-// ignored; Hold asks for a long-run score no lower than today's), the
-// network budget and the group caps of the first year (start-year prices)
-// as annual caps on Σ w·cost, and the objective of p: MinCost minimises the
+// with the targets on long-run group or state shares or scores (their
+// years are ignored; Hold asks for a long-run score no lower than today's),
+// the network budget and the group caps of the first year (start-year
+// prices) as annual caps on Σ w·cost, the first year's least spends as
+// annual floors on it, and the objective of p: MinCost minimises the
 // annual cost (treatment plus routine), MaxCondition maximises the long-run
 // network score. Ties are broken as in the plan (the other objective
 // second). When the targets cannot all hold under the caps, the least total
@@ -208,6 +209,14 @@ func (b *longRunBuilder) build() *Model {
 		}
 		if e := annual(gb.Classes); len(e) > 0 {
 			b.capRows = append(b.capRows, m.addRow(Row{Name: fmt.Sprintf("groupbudget%d", g+1), Entries: e, Sense: LessEq, RHS: gb.Yearly[0] / b.moneyUnit}))
+		}
+	}
+	for f, ms := range p.MinSpends {
+		if ms.Yearly[0] <= 0 {
+			continue
+		}
+		if e := annual(ms.Classes); len(e) > 0 {
+			m.addRow(Row{Name: fmt.Sprintf("minspend%d", f+1), Entries: e, Sense: GreaterEq, RHS: ms.Yearly[0] / b.moneyUnit})
 		}
 	}
 	// Targets reuse the plan's measures and bounds through a plan builder

@@ -52,7 +52,8 @@ type link struct {
 }
 
 // linkRows builds the linking rows of a problem in a fixed order: network
-// budget rows, group budget rows, then target rows by target and year.
+// budget rows, group budget rows, least-spend rows, then target rows by
+// target and year.
 // Budget rows start active, target rows inactive.
 func (dw *decomposer) linkRows() []link {
 	p := dw.p
@@ -83,6 +84,14 @@ func (dw *decomposer) linkRows() []link {
 			cls = []int{}
 		}
 		caps(fmt.Sprintf("groupbudget%d", g+1), gb.Yearly, cls)
+	}
+	// Least spends: budget rows of the other sense, each year on its own.
+	for m, ms := range p.MinSpends {
+		for t := 0; t < p.Horizon; t++ {
+			if ms.Yearly[t] > 0 {
+				out = append(out, link{kind: linkBudget, name: fmt.Sprintf("minspend%d_%d", m+1, t+1), sense: GreaterEq, rhs: ms.Yearly[t] / dw.moneyUnit, year: t, from: t, cls: ms.Classes, active: true})
+			}
+		}
 	}
 	b := &builder{p: p}
 	for n := range p.Targets {
@@ -167,6 +176,9 @@ func (dw *decomposer) coef(l *link, col *column) float64 {
 		if tg.Kind == MinScore || tg.Kind == Hold {
 			return w * col.score[l.year] / 100
 		}
+		if tg.States != nil {
+			return w * col.set[l.year][dw.setOf[l.target]]
+		}
 		return w * col.group[l.year][tg.Group]
 	}
 	return 0
@@ -230,9 +242,12 @@ func (dw *decomposer) addRowPrice(pr []prices, l *link, pi float64) {
 			if w == 0 {
 				continue
 			}
-			if tg.Kind == MinScore || tg.Kind == Hold {
+			switch {
+			case tg.Kind == MinScore || tg.Kind == Hold:
 				pr[k].score[l.year] -= pi * w / 100
-			} else {
+			case tg.States != nil:
+				pr[k].set[l.year][dw.setOf[l.target]] -= pi * w
+			default:
 				pr[k].group[l.year][tg.Group] -= pi * w
 			}
 		}
@@ -621,12 +636,12 @@ func (dw *decomposer) solvePrimal(st *stage, keep []bool) (*masterResult, error)
 
 // overspend returns, per linking row, how far a master plan's weights
 // overspend each budget row beyond 1e-9 of its cap (nil when none does),
-// with a margin of the same size.
+// with a margin of the same size. Least-spend rows are not caps.
 func (dw *decomposer) overspend(res *masterResult) []float64 {
 	var over []float64
 	for r := range dw.links {
 		l := &dw.links[r]
-		if l.kind != linkBudget || !l.active {
+		if l.kind != linkBudget || !l.active || l.sense != LessEq {
 			continue
 		}
 		v := 0.0

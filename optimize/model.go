@@ -138,6 +138,7 @@ type builder struct {
 	m          Model
 	targetRows [][]targetRow // per target
 	caps       []capRow      // budget rows, in the order written
+	floors     []capRow      // least-spend rows (budget: the MinSpend index)
 }
 
 // capRow is one budget row: which cap (Network or a group index) and the
@@ -208,6 +209,7 @@ func (b *builder) build() *Model {
 	}
 	b.flowRows()
 	b.budgetRows()
+	b.floorRows()
 	b.targetRows = make([][]targetRow, len(p.Targets))
 	for n := range p.Targets {
 		b.addTarget(n)
@@ -306,17 +308,35 @@ func (b *builder) budgetRows() {
 	}
 }
 
+// floorRows writes the least-spend rows: the spend of the MinSpend's
+// classes in year t at least its amount. A zero amount needs no row.
+func (b *builder) floorRows() {
+	for m, ms := range b.p.MinSpends {
+		for t := 0; t < b.p.Horizon; t++ {
+			if ms.Yearly[t] <= 0 {
+				continue
+			}
+			r := b.m.addRow(Row{Name: fmt.Sprintf("minspend%d_%d", m+1, t+1), Entries: b.spendEntries(t, ms.Classes), Sense: GreaterEq, RHS: ms.Yearly[t] / b.moneyUnit})
+			b.floors = append(b.floors, capRow{row: r, budget: m, year: t + 1})
+		}
+	}
+}
+
 // conditionEntries returns, for the end of year t (0-based), the entries of
 // a target's measure: a group share or the score, for one class or the
 // network.
 func (b *builder) conditionEntries(tg *Target, t int) []Entry {
 	var out []Entry
 	add := func(k int, w float64) {
-		for n := range b.lay.pairs[k] {
+		c := &b.p.Classes[k]
+		for n, pr := range b.lay.pairs[k] {
 			var v float64
-			if tg.Kind == MinScore || tg.Kind == Hold {
+			switch {
+			case tg.Kind == MinScore || tg.Kind == Hold:
 				v = b.terms[k].endScore[n] / 100
-			} else {
+			case tg.States != nil:
+				v = tg.endShare(c.Actions[pr.action].Rows[pr.state], c.Group)
+			default:
 				v = b.terms[k].endGroup[n][tg.Group]
 			}
 			if v != 0 {

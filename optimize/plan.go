@@ -354,10 +354,17 @@ func infeasibleOrFailure(p *Problem, r *flatResult) error {
 }
 
 // doNothingFits reports whether leaving everything untreated keeps every
-// budget cap: it costs nothing unless routine costs count against the
-// budget.
+// budget cap and least spend: it costs nothing unless routine costs count
+// against the budget, so a least spend above zero never fits.
 func doNothingFits(p *Problem) bool {
 	if !p.RoutineInBudget {
+		for _, m := range p.MinSpends {
+			for _, v := range m.Yearly {
+				if v > 0 {
+					return false
+				}
+			}
+		}
 		return true
 	}
 	spend := make([][]float64, len(p.Classes)) // [class][year]
@@ -409,6 +416,17 @@ func doNothingFits(p *Problem) bool {
 	for _, g := range p.GroupBudgets {
 		if !fits(g.Yearly, g.Classes) {
 			return false
+		}
+	}
+	for _, m := range p.MinSpends {
+		for t := 0; t < p.Horizon; t++ {
+			s := 0.0
+			for _, k := range m.Classes {
+				s += spend[k][t]
+			}
+			if s < m.Yearly[t]*(1-1e-9)-1e-9 {
+				return false
+			}
 		}
 	}
 	return true

@@ -2,6 +2,7 @@ package optimize
 
 import (
 	"math"
+	"slices"
 )
 
 // dwClass is one class as the decomposition sees it: its applicable
@@ -16,6 +17,11 @@ type dwClass struct {
 	weight float64   // normalised network weight
 	next   [][]sparseEntry
 	years  int
+	// sets are the state sets of the class's state-share targets, and
+	// endSet[n][s] the expected share of set s at the end of the year
+	// for pair n; both empty when no target names states of the class.
+	sets   [][]bool
+	endSet [][]float64
 }
 
 type sparseEntry struct {
@@ -51,11 +57,29 @@ func newDWClass(p *Problem, k int, pairs []pair, terms classTerms, weight float6
 
 func (d *dwClass) states() int { return len(d.init) }
 
+// addSet returns the index of a state set among the class's sets, adding
+// it (with every pair's expected end-of-year share of it) when new.
+func (d *dwClass) addSet(t *Target) int {
+	for s, have := range d.sets {
+		if slices.Equal(have, t.States) {
+			return s
+		}
+	}
+	d.sets = append(d.sets, t.States)
+	if d.endSet == nil {
+		d.endSet = make([][]float64, len(d.pairs))
+	}
+	for n, pr := range d.pairs {
+		d.endSet[n] = append(d.endSet[n], t.endShare(d.c.Actions[pr.action].Rows[pr.state], d.c.Group))
+	}
+	return len(d.sets) - 1
+}
+
 // prices are the per-class, per-year multipliers of the pricing problem's
 // reward: a pair n taken in year t earns
 //
 //	cost[t]·terms.cost[n] + routine[t]·terms.routine[n] + score[t]·terms.endScore[n]
-//	  + Σ_g group[t][g]·terms.endGroup[n][g]
+//	  + Σ_g group[t][g]·terms.endGroup[n][g] + Σ_s set[t][s]·endSet[n][s]
 //
 // (all per share of the class). They collect the objective and the master's
 // dual prices on the linking rows. Routine cost has its own multiplier
@@ -66,10 +90,18 @@ type prices struct {
 	routine []float64
 	score   []float64
 	group   [][3]float64
+	set     [][]float64 // per year, per state set of the class
 }
 
-func newPrices(years int) prices {
-	return prices{cost: make([]float64, years), routine: make([]float64, years), score: make([]float64, years), group: make([][3]float64, years)}
+func newPrices(years, sets int) prices {
+	pr := prices{cost: make([]float64, years), routine: make([]float64, years), score: make([]float64, years), group: make([][3]float64, years)}
+	if sets > 0 {
+		pr.set = make([][]float64, years)
+		for t := range pr.set {
+			pr.set[t] = make([]float64, sets)
+		}
+	}
+	return pr
 }
 
 func (pr *prices) reset() {
@@ -77,6 +109,9 @@ func (pr *prices) reset() {
 	clear(pr.routine)
 	clear(pr.score)
 	clear(pr.group)
+	for _, s := range pr.set {
+		clear(s)
+	}
 }
 
 // policy is a deterministic year-by-year policy of one class: the pair
@@ -100,6 +135,11 @@ func (d *dwClass) price(pr *prices, pol policy, vNext, vCur []float64) float64 {
 			for n := d.first[i]; n < d.first[i+1]; n++ {
 				eg := &d.terms.endGroup[n]
 				r := ct*d.terms.cost[n] + rt*d.terms.routine[n] + st*d.terms.endScore[n] + gt[0]*eg[0] + gt[1]*eg[1] + gt[2]*eg[2]
+				if d.endSet != nil {
+					for s, es := range d.endSet[n] {
+						r += pr.set[t][s] * es
+					}
+				}
 				for _, e := range d.next[n] {
 					r += e.p * vNext[e.state]
 				}
@@ -132,7 +172,8 @@ type column struct {
 	routine []float64
 	score   []float64
 	group   [][3]float64
-	key     uint64 // hash of the policy on the states it reaches
+	set     [][]float64 // per year, the expected share of each state set
+	key     uint64      // hash of the policy on the states it reaches
 }
 
 // walk follows the policy forward from today's shares and calls visit for
@@ -163,6 +204,12 @@ func (d *dwClass) walk(pol policy, visit func(t, i, n int, q float64)) {
 func (d *dwClass) roll(k int, pol policy) *column {
 	ns := d.states()
 	col := &column{class: k, pol: pol, cost: make([]float64, d.years), routine: make([]float64, d.years), score: make([]float64, d.years), group: make([][3]float64, d.years)}
+	if d.sets != nil {
+		col.set = make([][]float64, d.years)
+		for t := range col.set {
+			col.set[t] = make([]float64, len(d.sets))
+		}
+	}
 	h := uint64(14695981039346656037)
 	d.walk(pol, func(t, i, n int, q float64) {
 		col.cost[t] += q * d.terms.cost[n]
@@ -172,6 +219,11 @@ func (d *dwClass) roll(k int, pol policy) *column {
 		col.group[t][0] += q * eg[0]
 		col.group[t][1] += q * eg[1]
 		col.group[t][2] += q * eg[2]
+		if col.set != nil {
+			for s, es := range d.endSet[n] {
+				col.set[t][s] += q * es
+			}
+		}
 		h = (h ^ uint64(t*ns+i)) * 1099511628211
 		h = (h ^ uint64(n)) * 1099511628211
 	})

@@ -95,7 +95,14 @@ type Target struct {
 	Class int
 	Kind  TargetKind
 	Group Group
-	Value float64
+	// States, when not nil, replaces Group in a MaxShare or MinShare
+	// target of one class: the share measured is that of the class's
+	// states marked true (one entry per state of the class). A target on
+	// one named condition state marks that state; a class whose states
+	// are widened (condition × something) marks every widened state of
+	// that condition.
+	States []bool
+	Value  float64
 	// From and To are the first and last year the target applies, 1..Horizon.
 	// Hold ignores them and applies to the last year.
 	From, To int
@@ -109,6 +116,17 @@ type GroupBudget struct {
 	Yearly []float64
 }
 
+// MinSpend is money ring-fenced for some classes: their spend in each year
+// is at least Yearly of that year. Spend is measured as the budget caps
+// measure it (treatment cost, plus routine cost when RoutineInBudget), and
+// each year on its own, with or without carry-over.
+type MinSpend struct {
+	Name    string
+	Classes []int
+	// Yearly is the least nominal spend of each year; zero for none.
+	Yearly []float64
+}
+
 // Problem is a finite-horizon planning problem.
 type Problem struct {
 	Horizon int
@@ -117,6 +135,8 @@ type Problem struct {
 	// +Inf for an uncapped year; nil for no network cap.
 	Budget       []float64
 	GroupBudgets []GroupBudget
+	// MinSpends are yearly floors on the spend of some classes.
+	MinSpends []MinSpend
 	// CarryOver lets money unspent in one year be spent in a later one.
 	CarryOver bool
 	// RoutineInBudget counts routine costs against the budget caps; without
@@ -182,8 +202,82 @@ func (p *Problem) Validate() error {
 		if (t.Kind == MaxShare || t.Kind == MinShare) && (t.Value < 0 || t.Value > 1) {
 			add("target %d (%s): share %g outside [0, 1]", n+1, t.Label, t.Value)
 		}
+		if t.States != nil {
+			if err := p.validateStates(&t); err != nil {
+				add("target %d (%s): %w", n+1, t.Label, err)
+			}
+		}
+	}
+	for _, m := range p.MinSpends {
+		if len(m.Yearly) != p.Horizon {
+			add("least spend %q: %d yearly amounts for a %d-year horizon", m.Name, len(m.Yearly), p.Horizon)
+		}
+		for t, v := range m.Yearly {
+			if math.IsNaN(v) || math.IsInf(v, 0) || v < 0 {
+				add("least spend %q: amount %g in year %d must be a finite number of zero or more", m.Name, v, t+1)
+			}
+		}
+		if len(m.Classes) == 0 {
+			add("least spend %q: no classes", m.Name)
+		}
+		for _, k := range m.Classes {
+			if k < 0 || k >= len(p.Classes) {
+				add("least spend %q: class index %d out of range", m.Name, k)
+			}
+		}
 	}
 	return errors.Join(errs...)
+}
+
+// validateStates checks the state set of a share target.
+func (p *Problem) validateStates(t *Target) error {
+	if t.Kind != MaxShare && t.Kind != MinShare {
+		return errors.New("a set of states goes with a share target only")
+	}
+	if t.Class == Network {
+		return errors.New("a set of states needs a class; the network's classes have scales of their own")
+	}
+	if t.Class < 0 || t.Class >= len(p.Classes) {
+		return nil // reported above
+	}
+	if n := len(p.Classes[t.Class].Initial); len(t.States) != n {
+		return fmt.Errorf("%d state flags for the %d states of class %q", len(t.States), n, p.Classes[t.Class].Name)
+	}
+	for _, in := range t.States {
+		if in {
+			return nil
+		}
+	}
+	return errors.New("the set of states is empty")
+}
+
+// endShare is the share of a pair's year transition row that a share
+// target measures: the target's states, or its group's.
+func (t *Target) endShare(row []float64, group []Group) float64 {
+	s := 0.0
+	for j, pj := range row {
+		if t.States != nil {
+			if t.States[j] {
+				s += pj
+			}
+		} else if group[j] == t.Group {
+			s += pj
+		}
+	}
+	return s
+}
+
+// ShareOf is the share of quantities q (by state of class c) that a share
+// target measures.
+func (t *Target) ShareOf(c *Class, q []float64) float64 {
+	tot := 0.0
+	for _, v := range q {
+		tot += v
+	}
+	if tot == 0 {
+		return 0
+	}
+	return t.endShare(q, c.Group) / tot
 }
 
 func (c *Class) validate() error {

@@ -113,6 +113,9 @@ func checkTargets(t *testing.T, c int, p *Problem, plan *Plan) {
 			if tg.Kind == MinScore || tg.Kind == Hold {
 				return p.Classes[k].ScoreOf(q)
 			}
+			if tg.States != nil {
+				return tg.ShareOf(&p.Classes[k], q)
+			}
 			return p.Classes[k].SharesOf(q)[tg.Group]
 		}
 		if tg.Class != Network {

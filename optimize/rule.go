@@ -26,7 +26,7 @@ import (
 //
 // Without a network budget only the group caps limit the money (classes in
 // no group are then treated in full), so callers use the rule when the
-// problem has a network budget. Targets play no part. The returned Plan's
+// problem has a network budget. Targets and least spends play no part. The returned Plan's
 // Status is Optimal in the sense of "ran"; its ConditionScore, TotalCost and
 // PresentValue are computed as for an optimised plan.
 func WorstFirst(p *Problem) (*Plan, error) {

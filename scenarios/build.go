@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -50,7 +51,37 @@ func build(f *fileScenario, is *issues) *Scenario {
 	buildBudget(sc, f, is)
 	buildTargets(sc, f, is)
 	buildObjective(sc, f, is)
+	buildClassWarnings(sc, f, is)
 	return sc
+}
+
+// buildClassWarnings reads the thresholds of the warnings on what a plan
+// does to each class; keys not given keep DefaultClassWarnings.
+func buildClassWarnings(sc *Scenario, f *fileScenario, is *issues) {
+	sc.ClassWarnings = DefaultClassWarnings
+	cw := f.ClassWarnings
+	if cw == nil {
+		return
+	}
+	if v := cw.PoorShareRise; v != nil {
+		if *v < 0 || *v > 1 {
+			is.add(cw.Lines.of("poor_share_rise"), "class_warnings.poor_share_rise", "%g is outside 0-1; write 10 points as 0.10 (1 turns the warning off)", *v)
+		}
+		sc.ClassWarnings.PoorShareRise = *v
+	}
+	for _, g := range []struct {
+		key string
+		v   *float64
+		to  *float64
+	}{{"worst_state_growth", cw.WorstStateGrowth, &sc.ClassWarnings.WorstStateGrowth}, {"backlog_growth", cw.BacklogGrowth, &sc.ClassWarnings.BacklogGrowth}} {
+		if g.v == nil {
+			continue
+		}
+		if *g.v < 1 {
+			is.add(cw.Lines.of(g.key), "class_warnings."+g.key, "%g: give a factor of 1 or more (2 warns when a figure more than doubles)", *g.v)
+		}
+		*g.to = *g.v
+	}
 }
 
 func rate(is *issues, v *float64, line int, field string) float64 {
@@ -373,6 +404,9 @@ func treatmentFor(ce *catalogueEntry, s *Scale, is *issues) (treatments.Treatmen
 			}
 		case e.Improve != nil:
 			t.Effect = treatments.Effect{Kind: treatments.Improve, Steps: *e.Improve}
+			if *e.Improve < 1 {
+				ok = false // reported by indexTreatments; Validate would say it again
+			}
 		case e.Distribution != nil:
 			t.Effect = treatments.Effect{Kind: treatments.Distribution, Rows: map[int][]float64{}}
 			row := func(sn *stateNumbers, fld string) []float64 {
@@ -427,6 +461,72 @@ func treatmentFor(ce *catalogueEntry, s *Scale, is *issues) (treatments.Treatmen
 		}
 	}
 	return t, ok
+}
+
+// treatmentSanity compares a treatment's year with doing nothing in each
+// state it applies to, by the expected condition score at the end of the
+// year. A treatment that ends the year worse than doing nothing in some
+// state, or no better in any, is almost always a typing mistake (a to: or
+// a distribution pointing down the scale); the plan would never pay for it
+// to improve condition. It returns a note naming the treatment, its states
+// and where it is written, or "".
+func treatmentSanity(c *Class, t *treatments.Treatment, ce *catalogueEntry, is *issues) string {
+	if c.Transition == nil {
+		return ""
+	}
+	acts, err := treatments.Actions(c.Transition, []treatments.Treatment{*t})
+	if err != nil {
+		return ""
+	}
+	score := func(row []float64) float64 {
+		s := 0.0
+		for j, p := range row {
+			s += p * c.Scale.Score(c.Scale.States[j].Value)
+		}
+		return s
+	}
+	var worse, same []string
+	var worst string
+	gap := 0.0
+	for _, i := range t.Applies {
+		d := score(acts[1].Rows[i]) - score(acts[0].Rows[i])
+		name := c.Scale.States[i].Name
+		switch {
+		case d < -1e-9:
+			worse = append(worse, name)
+			if d < gap {
+				gap, worst = d, fmt.Sprintf("from %s the year ends at average index %s, against %s with no work", name, trimNum(c.Scale.Index(score(acts[1].Rows[i]))), trimNum(c.Scale.Index(score(acts[0].Rows[i]))))
+			}
+		case d <= 1e-9:
+			same = append(same, name)
+		}
+	}
+	field := fmt.Sprintf("treatments[%d].effect", ce.index)
+	line := ce.ft.Lines.of("effect")
+	switch {
+	case len(worse) > 0:
+		return is.note(line, field, "treatment %q leaves %s of class %s worse than doing nothing (%s); it costs money and lowers condition: check its effect", t.Name, plural("state", worse), c.Name, worst)
+	case len(same) == len(t.Applies):
+		return is.note(line, field, "treatment %q improves nothing on class %s: in %s the year ends no better than with no work; check its effect and applies_to", t.Name, c.Name, plural("state", same))
+	}
+	return ""
+}
+
+// plural names one or more states: `state "Good"`, `states "Good", "Fair"`.
+func plural(word string, names []string) string {
+	q := make([]string, len(names))
+	for i, n := range names {
+		q[i] = strconv.Quote(n)
+	}
+	if len(q) == 1 {
+		return word + " " + q[0]
+	}
+	return word + "s " + strings.Join(q, ", ")
+}
+
+// trimNum writes an index value with at most two decimals.
+func trimNum(v float64) string {
+	return strconv.FormatFloat(math.Round(v*100)/100, 'f', -1, 64)
 }
 
 func buildClasses(sc *Scenario, f *fileScenario, scales map[string]*Scale, catalogue map[string]*catalogueEntry, is *issues) {
@@ -510,6 +610,9 @@ func buildClasses(sc *Scenario, f *fileScenario, scales map[string]*Scale, catal
 				ce.used = true
 				if t, ok := treatmentFor(ce, c.Scale, is); ok {
 					c.Treatments = append(c.Treatments, t)
+					if note := treatmentSanity(&c, &t, ce, is); note != "" {
+						sc.Notes = append(sc.Notes, note)
+					}
 				}
 			}
 		}
@@ -740,9 +843,185 @@ func buildBudget(sc *Scenario, f *fileScenario, is *issues) {
 		}
 		sc.BudgetGroups = append(sc.BudgetGroups, BudgetGroup{Name: g.Name, Classes: g.Classes, Yearly: yearlyAmounts(g.Yearly, sc.Horizon, field+".yearly", is)})
 	}
-	if b.Yearly == nil && len(b.Groups) == 0 {
-		is.add(b.Lines.of(""), "budget", "give yearly: (the network's yearly budget) or groups:")
+	if b.Yearly == nil && len(b.Groups) == 0 && b.MinYearly == nil {
+		is.add(b.Lines.of(""), "budget", "give yearly: (the network's yearly budget), groups: or min_yearly:")
 	}
+	if b.MinYearly != nil {
+		buildMinSpends(sc, b.MinYearly, is)
+	}
+}
+
+// buildMinSpends reads budget.min_yearly: money ring-fenced for a class or
+// a budget group, one amount for every year or one per year. A least
+// spend above a cap that covers it (the network budget, a budget group
+// holding all its classes), or least spends of classes adding up to more
+// than the network budget, can never be kept and are refused; with
+// carry-over the caps are cumulative, and so are the sums compared.
+func buildMinSpends(sc *Scenario, na *namedAmounts, is *issues) {
+	groupOf := map[string]int{}
+	for g, bg := range sc.BudgetGroups {
+		groupOf[bg.Name] = g
+	}
+	for _, e := range na.Entries {
+		field := "budget.min_yearly." + e.Name
+		k := sc.classIndex(e.Name)
+		g, isGroup := groupOf[e.Name]
+		switch {
+		case k >= 0 && isGroup:
+			is.add(e.Line, field, "%q names both a class and a budget group; rename the group", e.Name)
+			continue
+		case k < 0 && !isGroup:
+			is.add(e.Line, field, "unknown class or budget group %q; name a class (%s) or a budget group (%s)", e.Name, classList(sc), groupList(sc))
+			continue
+		}
+		ms := MinSpend{Name: e.Name, Yearly: yearlyAmounts(&e.Amount, sc.Horizon, field, is)}
+		ms.file, ms.line = is.where(e.Line)
+		if isGroup {
+			ms.Group, ms.Classes = true, sc.BudgetGroups[g].Classes
+		} else {
+			ms.Classes = []string{e.Name}
+		}
+		if y, least, most, ok := aboveSpendable(sc, ms); ok {
+			is.add(e.Line, field, "min_yearly %s in %d is more than giving all of %s its dearest treatment would cost (%s at that year's prices); no plan can spend it", money(least), y, strings.Join(ms.Classes, ", "), money(most))
+		}
+		for _, msg := range ms.aboveCaps(sc) {
+			is.add(e.Line, field, "%s", msg)
+		}
+		sc.MinSpends = append(sc.MinSpends, ms)
+	}
+	if msg := classMinsAboveBudget(sc); msg != "" {
+		is.add(na.Line, "budget.min_yearly", "%s", msg)
+	}
+}
+
+// aboveCaps says which caps of sc a least spend exceeds: the network
+// budget, and the cap of every budget group that holds all its classes.
+func (ms *MinSpend) aboveCaps(sc *Scenario) []string {
+	var out []string
+	if sc.Budget != nil {
+		if y, least, cap, ok := aboveCap(sc, ms.Yearly, sc.Budget); ok {
+			out = append(out, fmt.Sprintf("min_yearly %s in %d is above the network budget %s%s; lower it or raise budget.yearly", money(least), y, money(cap), cumulative(sc)))
+		}
+	}
+	for _, bg := range sc.BudgetGroups {
+		if !containsAll(bg.Classes, ms.Classes) {
+			continue
+		}
+		if y, least, cap, ok := aboveCap(sc, ms.Yearly, bg.Yearly); ok {
+			out = append(out, fmt.Sprintf("min_yearly %s in %d is above the cap %s of budget group %q%s; lower it or raise the group's yearly", money(least), y, money(cap), bg.Name, cumulative(sc)))
+		}
+	}
+	return out
+}
+
+// classMinsAboveBudget says when the least spends of two or more single
+// classes add up to more than the network budget ("" when they do not).
+func classMinsAboveBudget(sc *Scenario) string {
+	sum := make([]float64, sc.Horizon)
+	classes := 0
+	for _, ms := range sc.MinSpends {
+		if ms.Group {
+			continue
+		}
+		classes++
+		for t, v := range ms.Yearly {
+			sum[t] += v
+		}
+	}
+	if sc.Budget == nil || classes < 2 {
+		return ""
+	}
+	if y, least, cap, ok := aboveCap(sc, sum, sc.Budget); ok {
+		return fmt.Sprintf("the classes' min_yearly add up to %s in %d, above the network budget %s%s; lower them or raise budget.yearly", money(least), y, money(cap), cumulative(sc))
+	}
+	return ""
+}
+
+// aboveSpendable returns the first year in which a least spend is more
+// than its classes could spend at most: every unit given the dearest of
+// its class's treatments (and the routine cost, when it counts), at that
+// year's prices.
+func aboveSpendable(sc *Scenario, ms MinSpend) (year int, least, most float64, found bool) {
+	for _, name := range ms.Classes {
+		k := sc.classIndex(name)
+		if k < 0 {
+			return 0, 0, 0, false
+		}
+		c := &sc.Classes[k]
+		dear := 0.0
+		for _, t := range c.Treatments {
+			for _, i := range t.Applies {
+				dear = math.Max(dear, t.Cost[i])
+			}
+		}
+		if sc.RoutineInBudget {
+			for _, r := range c.Routine {
+				dear = math.Max(dear, r)
+			}
+		}
+		most += c.Total() * dear
+	}
+	for t, v := range ms.Yearly {
+		if m := most * math.Pow(1+sc.Escalation, float64(t)); v > m*(1+1e-9) {
+			return sc.Year(t + 1), v, m, true
+		}
+	}
+	return 0, 0, 0, false
+}
+
+// aboveCap returns the first year in which the least spends exceed the
+// caps (both summed from the first year with carry-over), with the two
+// amounts compared.
+func aboveCap(sc *Scenario, least, caps []float64) (year int, l, c float64, found bool) {
+	for t := range least {
+		if t >= len(caps) {
+			break
+		}
+		if sc.CarryOver {
+			l, c = l+least[t], c+caps[t]
+		} else {
+			l, c = least[t], caps[t]
+		}
+		if l > c && !math.IsInf(c, 1) {
+			return sc.Year(t + 1), l, c, true
+		}
+	}
+	return 0, 0, 0, false
+}
+
+func cumulative(sc *Scenario) string {
+	if sc.CarryOver {
+		return " (summed from the first year, as carry_over does)"
+	}
+	return " of that year"
+}
+
+func containsAll(set, of []string) bool {
+	for _, x := range of {
+		if !slices.Contains(set, x) {
+			return false
+		}
+	}
+	return true
+}
+
+func classList(sc *Scenario) string {
+	names := make([]string, len(sc.Classes))
+	for k := range sc.Classes {
+		names[k] = sc.Classes[k].Name
+	}
+	return strings.Join(names, ", ")
+}
+
+func groupList(sc *Scenario) string {
+	if len(sc.BudgetGroups) == 0 {
+		return "none defined"
+	}
+	names := make([]string, len(sc.BudgetGroups))
+	for g := range sc.BudgetGroups {
+		names[g] = sc.BudgetGroups[g].Name
+	}
+	return strings.Join(names, ", ")
 }
 
 func (s *Scenario) classIndex(name string) int {
@@ -790,7 +1069,7 @@ func buildTargets(sc *Scenario, f *fileScenario, is *issues) {
 			t.Confidence = *ft.Confidence
 		}
 		if ft.Hold {
-			if ft.Group != "" || ft.MaxShare != nil || ft.MinShare != nil || ft.MinAverageIndex != nil || ft.FromYear != nil || ft.ToYear != nil {
+			if ft.Group != "" || ft.State != "" || ft.MaxShare != nil || ft.MinShare != nil || ft.MinAverageIndex != nil || ft.FromYear != nil || ft.ToYear != nil {
 				is.add(line, field, "hold: true takes only class; it always compares the last year with today")
 				continue
 			}
@@ -836,11 +1115,6 @@ func buildTargets(sc *Scenario, f *fileScenario, is *issues) {
 		}
 		switch {
 		case ft.MaxShare != nil || ft.MinShare != nil:
-			g := groupByName(ft.Group)
-			if g < 0 {
-				is.add(ft.Lines.of("group"), field+".group", "want good, fair or poor, got %q", ft.Group)
-				continue
-			}
 			v, word, kind := ft.MaxShare, "at most", optimize.MaxShare
 			fld := "max_share"
 			if ft.MinShare != nil {
@@ -850,9 +1124,27 @@ func buildTargets(sc *Scenario, f *fileScenario, is *issues) {
 				is.add(ft.Lines.of(fld), field+"."+fld, "share %g is outside 0-1; write 15%% as 0.15", *v)
 				continue
 			}
-			t.Spec.Kind, t.Spec.Group, t.Spec.Value = kind, g, *v
+			t.Spec.Kind, t.Spec.Value = kind, *v
+			if ft.State != "" {
+				// One named condition state of one class.
+				if !stateTarget(&t, ft, field, scale, is) {
+					continue
+				}
+				t.Label = fmt.Sprintf("%s share in state %s %s %s in %s", who, t.State, word, pct(*v), span)
+				break
+			}
+			g := groupByName(ft.Group)
+			if g < 0 {
+				is.add(ft.Lines.of("group"), field+".group", "want good, fair or poor, got %q", ft.Group)
+				continue
+			}
+			t.Spec.Group = g
 			t.Label = fmt.Sprintf("%s %s share %s %s in %s", who, g, word, pct(*v), span)
 		default:
+			if ft.State != "" {
+				is.add(ft.Lines.of("state"), field+".state", "a state takes max_share or min_share (the share of the class in that state), not min_average_index")
+				continue
+			}
 			if ft.Group != "" {
 				is.add(ft.Lines.of("group"), field+".group", "min_average_index takes no group")
 				continue
@@ -880,6 +1172,30 @@ func buildTargets(sc *Scenario, f *fileScenario, is *issues) {
 		t.Spec.Label = t.Label
 		sc.Targets = append(sc.Targets, t)
 	}
+}
+
+// stateTarget fills a target on the share of one named condition state of
+// one class, recording any problem in is.
+func stateTarget(t *Target, ft *fileTarget, field string, scale *Scale, is *issues) bool {
+	switch {
+	case ft.Group != "":
+		is.add(ft.Lines.of("group"), field+".group", "give group or state, not both")
+		return false
+	case t.Class == "":
+		is.add(ft.Lines.of("state"), field+".state", "a target on a state needs a class (each class has its own scale); name the class instead of all")
+		return false
+	case scale == nil:
+		return false // the class's scale is missing or invalid, which is already reported
+	}
+	i := scale.StateIndex(ft.State)
+	if i < 0 {
+		is.add(ft.Lines.of("state"), field+".state", "unknown state %q on scale %q; states are %s", ft.State, scale.Name, stateList(scale))
+		return false
+	}
+	t.State = scale.States[i].Name
+	t.Spec.States = make([]bool, len(scale.States))
+	t.Spec.States[i] = true
+	return true
 }
 
 // allScalesValid says whether every class has a valid scale.

@@ -131,6 +131,7 @@ func Compare(scs []*Scenario, years YearSpec, opt Options) (*CompareResult, erro
 		}
 	}
 	jobs := make([]func() error, len(scs))
+	classWarnings := make([][]ClassWarning, len(scs))
 	for n, sc := range scs {
 		jobs[n] = func() error {
 			res, err := Plan(sc, opt)
@@ -138,11 +139,19 @@ func Compare(scs []*Scenario, years YearSpec, opt Options) (*CompareResult, erro
 				return fmt.Errorf("%s: %w", sc.Source, err)
 			}
 			r.Scenarios[n] = column(res, chosen[n])
+			classWarnings[n] = res.ClassWarnings
 			return nil
 		}
 	}
 	if err := runParallel(jobs); err != nil {
 		return nil, err
+	}
+	// What each plan does to its classes, scenario by scenario in the
+	// order given.
+	for n, sc := range scs {
+		for _, w := range classWarnings[n] {
+			r.Warnings = append(r.Warnings, sc.Source+": "+w.Text)
+		}
 	}
 	return r, nil
 }

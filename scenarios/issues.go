@@ -57,11 +57,23 @@ type issues struct {
 	seen  map[Issue]bool
 }
 
-func (s *issues) add(line int, field, format string, args ...any) {
-	file := s.file
+// where turns a line of the merged tree into a file and a line in it.
+func (s *issues) where(line int) (string, int) {
 	if n := line / lineBlock; n > 0 && n < len(s.files) {
-		file, line = s.files[n], line%lineBlock
+		return s.files[n], line % lineBlock
 	}
+	return s.file, line
+}
+
+// note formats something a planner should know, but that is no error, the
+// way an issue is written: file, line, field, message.
+func (s *issues) note(line int, field, format string, args ...any) string {
+	file, line := s.where(line)
+	return (&Issue{File: file, Line: line, Field: field, Msg: fmt.Sprintf(format, args...)}).Error()
+}
+
+func (s *issues) add(line int, field, format string, args ...any) {
+	file, line := s.where(line)
 	is := Issue{File: file, Line: line, Field: field, Msg: fmt.Sprintf(format, args...)}
 	if s.seen[is] {
 		// The same problem found again, e.g. a catalogue treatment checked

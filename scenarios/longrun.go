@@ -80,6 +80,9 @@ func LongRun(sc *Scenario, opt Options) (*LongRunResult, error) {
 		return nil, err
 	}
 	if lr.Status == optimize.Infeasible {
+		if err := minSpendInfeasible(sc, p, longRunFeasible); err != nil {
+			return nil, err
+		}
 		return nil, budgetInfeasible(sc, p)
 	}
 	r := &LongRunResult{
@@ -159,11 +162,15 @@ func longRunLabel(t Target) string {
 		who = t.Class
 	}
 	s := t.Spec
+	what := who + " " + s.Group.String() + " share"
+	if t.State != "" {
+		what = who + " share in state " + t.State
+	}
 	switch s.Kind {
 	case optimize.MaxShare:
-		return who + " " + s.Group.String() + " share at most " + pct(s.Value) + " in the long run"
+		return what + " at most " + pct(s.Value) + " in the long run"
 	case optimize.MinShare:
-		return who + " " + s.Group.String() + " share at least " + pct(s.Value) + " in the long run"
+		return what + " at least " + pct(s.Value) + " in the long run"
 	case optimize.Hold:
 		return who + " average condition in the long run no worse than today"
 	}

@@ -44,6 +44,9 @@ type Result struct {
 	// BacklogRules say what each poor state's backlog is valued at.
 	BacklogRules []BacklogRule `json:"backlog_rules,omitempty"`
 	Warnings     []string      `json:"warnings"`
+	// ClassWarnings say what a plan does to classes a council should hear
+	// about (classwarn.go); their texts are among Warnings too.
+	ClassWarnings []ClassWarning `json:"class_warnings,omitempty"`
 	// Funding answers the funding questions of a plan (funding.go).
 	Funding *Funding `json:"funding,omitempty"`
 	// Baseline is the worst-first rule under the same budget, for
@@ -108,6 +111,9 @@ type ClassCondition struct {
 	Backlog          *float64 `json:"backlog,omitempty"`
 	Work             []Work   `json:"work,omitzero"` // [] in plans, absent in forecasts
 	Spend            *float64 `json:"spend,omitempty"`
+	// MinYearly is the money ring-fenced for the class that year
+	// (budget.min_yearly), in plans, when there is any.
+	MinYearly *float64 `json:"min_yearly,omitempty"`
 }
 
 // NetworkCondition is the weighted network condition. AverageIndex is
@@ -146,6 +152,9 @@ type GroupSpend struct {
 	Name   string  `json:"name"`
 	Spend  float64 `json:"spend"`
 	Budget float64 `json:"budget"`
+	// MinYearly is the money ring-fenced for the group that year
+	// (budget.min_yearly), when there is any.
+	MinYearly *float64 `json:"min_yearly,omitempty"`
 }
 
 // TargetOutcome says whether a target holds, its worst year, and any

@@ -71,6 +71,9 @@ func Plan(sc *Scenario, opt Options) (*Result, error) {
 // funding answers and the baseline unless opt.SkipFunding.
 func planResult(sc *Scenario, p *optimize.Problem, plan *optimize.Plan, opt Options) (*Result, error) {
 	if plan.Status == optimize.Infeasible {
+		if err := minSpendInfeasible(sc, p, planFeasible(opt)); err != nil {
+			return nil, err
+		}
 		return nil, budgetInfeasible(sc, p)
 	}
 	r := assemble(sc, p, plan.Condition, plan.Work, plan.Spend)
@@ -88,6 +91,11 @@ func planResult(sc *Scenario, p *optimize.Problem, plan *optimize.Plan, opt Opti
 	}
 	if sc.Objective == optimize.MinCost && len(sc.Targets) == 0 {
 		r.Warnings = append(r.Warnings, "min-cost with no targets: the cheapest plan does nothing; add targets or a budget with max-condition")
+	}
+	addMinYearly(sc, r)
+	r.ClassWarnings = classWarnings(sc, r)
+	for _, w := range r.ClassWarnings {
+		r.Warnings = append(r.Warnings, w.Text)
 	}
 	if !opt.SkipFunding {
 		f := &Funding{}
@@ -255,6 +263,9 @@ func evaluateTargets(sc *Scenario, r *Result) []TargetOutcome {
 			}
 			switch spec.Kind {
 			case optimize.MaxShare, optimize.MinShare:
+				if spec.States != nil {
+					return stateShare(cc.States, spec.States)
+				}
 				sh := net.Shares
 				if cc != nil {
 					sh = cc.Shares
@@ -301,6 +312,21 @@ func evaluateTargets(sc *Scenario, r *Result) []TargetOutcome {
 		out = append(out, o)
 	}
 	return out
+}
+
+// stateShare is the share of the quantities in the states marked in.
+func stateShare(q Quantities, in []bool) float64 {
+	tot, s := 0.0, 0.0
+	for i, sq := range q {
+		tot += sq.Quantity
+		if in[i] {
+			s += sq.Quantity
+		}
+	}
+	if tot == 0 {
+		return 0
+	}
+	return s / tot
 }
 
 func scoreToIndex(sc *Scenario, t Target, score float64) float64 {

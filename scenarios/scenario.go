@@ -127,6 +127,9 @@ type Target struct {
 	Label string
 	// Class is the class name, or "" for the whole network.
 	Class string
+	// State names the condition state a state-share target measures ("" for
+	// targets on groups or the average index).
+	State string
 	Spec  optimize.Target
 	// FromYear and ToYear are calendar years (end-of-year condition).
 	FromYear, ToYear int
@@ -142,6 +145,37 @@ type BudgetGroup struct {
 	Classes []string
 	Yearly  []float64
 }
+
+// MinSpend is money ring-fenced for a class or a budget group
+// (budget.min_yearly): the spend on its classes in each year is at least
+// that year's amount, counted as the caps count it.
+type MinSpend struct {
+	// Name is the class or budget group; Group says which.
+	Name    string
+	Group   bool
+	Classes []string
+	Yearly  []float64
+	// file and line say where it is written, for messages.
+	file string
+	line int
+}
+
+// ClassWarningLimits are the thresholds of the warnings on what a plan
+// does to each class (scenario key class_warnings).
+type ClassWarningLimits struct {
+	// PoorShareRise: a class whose poor share rises by more than this
+	// (share points, 0.10 for 10 points) above today's in some year.
+	PoorShareRise float64
+	// WorstStateGrowth: a class whose share in its worst state grows to
+	// more than this many times today's share in some year.
+	WorstStateGrowth float64
+	// BacklogGrowth: a class whose backlog, at today's prices, grows to
+	// more than this many times today's in some year.
+	BacklogGrowth float64
+}
+
+// DefaultClassWarnings are the thresholds when the scenario gives none.
+var DefaultClassWarnings = ClassWarningLimits{PoorShareRise: 0.10, WorstStateGrowth: 2, BacklogGrowth: 2}
 
 // Weighting says how classes are weighted in network figures.
 type Weighting string
@@ -167,12 +201,17 @@ type Scenario struct {
 	// Budget is the network cap per year; nil for none.
 	Budget       []float64
 	BudgetGroups []BudgetGroup
-	CarryOver    bool
+	// MinSpends are the ring-fenced yearly spends.
+	MinSpends []MinSpend
+	CarryOver bool
 	// RoutineInBudget counts routine costs against the caps.
 	RoutineInBudget bool
 	Targets         []Target
 	Objective       optimize.Objective
 	Weighting       Weighting
+	// ClassWarnings are the thresholds of the warnings on what a plan does
+	// to each class.
+	ClassWarnings ClassWarningLimits
 	// Inputs are the files the scenario was read from, first the scenario
 	// itself, then its bases and any data files, with their digests.
 	Inputs []InputFile
@@ -239,6 +278,13 @@ func (s *Scenario) Problem() (*optimize.Problem, error) {
 			gb.Classes = append(gb.Classes, index[name])
 		}
 		p.GroupBudgets = append(p.GroupBudgets, gb)
+	}
+	for _, m := range s.MinSpends {
+		ms := optimize.MinSpend{Name: m.Name, Yearly: m.Yearly}
+		for _, name := range m.Classes {
+			ms.Classes = append(ms.Classes, index[name])
+		}
+		p.MinSpends = append(p.MinSpends, ms)
 	}
 	for _, t := range s.Targets {
 		p.Targets = append(p.Targets, t.Spec)

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"reflect"
 	"strings"
 	"testing"
 
@@ -452,7 +453,7 @@ targets:
 					got := sc.Targets[n]
 					spec := got.Spec
 					spec.Label = ""
-					if got.Class != w.class || spec != w.spec || got.FromYear != w.from || got.ToYear != w.to {
+					if got.Class != w.class || !reflect.DeepEqual(spec, w.spec) || got.FromYear != w.from || got.ToYear != w.to {
 						t.Errorf("target %d: class %q spec %+v years %d-%d; want class %q spec %+v years %d-%d",
 							n, got.Class, spec, got.FromYear, got.ToYear, w.class, w.spec, w.from, w.to)
 					}

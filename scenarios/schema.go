@@ -25,6 +25,7 @@ type fileScenario struct {
 	Budget         *fileBudget          `yaml:"budget"`
 	Targets        []fileTarget         `yaml:"targets"`
 	Objective      string               `yaml:"objective"`
+	ClassWarnings  *fileClassWarnings   `yaml:"class_warnings"`
 	Lines          lines
 	// source is where the scenario was read from, for the files it names.
 	source inputSource
@@ -94,7 +95,9 @@ type fileBudget struct {
 	CarryOver bool              `yaml:"carry_over"`
 	// IncludesRoutine counts routine costs against the yearly caps.
 	IncludesRoutine bool `yaml:"includes_routine"`
-	Lines           lines
+	// MinYearly is money ring-fenced for classes or budget groups.
+	MinYearly *namedAmounts `yaml:"min_yearly"`
+	Lines     lines
 }
 
 type fileBudgetGroup struct {
@@ -107,6 +110,7 @@ type fileBudgetGroup struct {
 type fileTarget struct {
 	Class           string   `yaml:"class"`
 	Group           string   `yaml:"group"`
+	State           string   `yaml:"state"`
 	MaxShare        *float64 `yaml:"max_share"`
 	MinShare        *float64 `yaml:"min_share"`
 	MinAverageIndex *float64 `yaml:"min_average_index"`
@@ -115,6 +119,48 @@ type fileTarget struct {
 	Hold            bool     `yaml:"hold"`
 	Confidence      *float64 `yaml:"confidence"`
 	Lines           lines
+}
+
+// fileClassWarnings are the thresholds of the warnings on what a plan does
+// to each class (classwarn.go).
+type fileClassWarnings struct {
+	PoorShareRise    *float64 `yaml:"poor_share_rise"`
+	WorstStateGrowth *float64 `yaml:"worst_state_growth"`
+	BacklogGrowth    *float64 `yaml:"backlog_growth"`
+	Lines            lines
+}
+
+// namedAmounts maps names (classes or budget groups) to amounts, in file
+// order, with lines.
+type namedAmounts struct {
+	Entries []namedAmount
+	Line    int
+}
+
+type namedAmount struct {
+	Name   string
+	Amount amounts
+	Line   int
+}
+
+func (na *namedAmounts) decodeNode(d *decoder, n *yaml.Node, path string) {
+	na.Line = n.Line
+	if n.Kind != yaml.MappingNode {
+		d.add(n.Line, path, "want class or budget group names with a yearly amount (e.g. {footpaths: 150000}), got %s", kindName(n))
+		return
+	}
+	seen := map[string]bool{}
+	for _, kl := range mappingKeys(n) {
+		field := joinPath(path, kl.key)
+		if seen[kl.key] {
+			d.add(kl.line, field, "written twice; keep one")
+			continue
+		}
+		seen[kl.key] = true
+		e := namedAmount{Name: kl.key, Line: kl.line}
+		e.Amount.decodeNode(d, resolve(kl.val), field)
+		na.Entries = append(na.Entries, e)
+	}
 }
 
 // amounts is one number for every year, or a list with one per year.

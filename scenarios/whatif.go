@@ -71,10 +71,12 @@ type BudgetStep struct {
 
 // TargetSpec is a target written with the keys of the scenario file
 // (docs/scenario-format.md): {class, group, max_share | min_share}, {class,
-// min_average_index}, or {hold: true}, with optional from_year and to_year.
+// state, max_share | min_share}, {class, min_average_index}, or {class,
+// hold: true}, with optional from_year and to_year.
 type TargetSpec struct {
 	Class           string   `json:"class,omitempty" yaml:"class,omitempty"`
 	Group           string   `json:"group,omitempty" yaml:"group,omitempty"`
+	State           string   `json:"state,omitempty" yaml:"state,omitempty"`
 	MaxShare        *float64 `json:"max_share,omitempty" yaml:"max_share,omitempty"`
 	MinShare        *float64 `json:"min_share,omitempty" yaml:"min_share,omitempty"`
 	MinAverageIndex *float64 `json:"min_average_index,omitempty" yaml:"min_average_index,omitempty"`
@@ -449,7 +451,9 @@ func (e *Editable) describe(sc *Scenario) string {
 
 func sameTargets(a, b []Target) bool {
 	return slices.EqualFunc(a, b, func(x, y Target) bool {
-		return x.Label == y.Label && x.Spec == y.Spec && x.FromYear == y.FromYear && x.ToYear == y.ToYear && x.Confidence == y.Confidence
+		a, b := x.Spec, y.Spec
+		same := a.Label == b.Label && a.Class == b.Class && a.Kind == b.Kind && a.Group == b.Group && slices.Equal(a.States, b.States) && a.Value == b.Value && a.From == b.From && a.To == b.To
+		return same && x.Label == y.Label && x.FromYear == y.FromYear && x.ToYear == y.ToYear && x.Confidence == y.Confidence
 	})
 }
 
@@ -516,6 +520,9 @@ func (o overlayNodes) target(t TargetSpec, field string, is *issues) *yaml.Node 
 	}
 	if t.Group != "" {
 		o.set(m, "group", o.str(t.Group))
+	}
+	if t.State != "" {
+		o.set(m, "state", o.str(t.State))
 	}
 	for _, f := range []struct {
 		key string

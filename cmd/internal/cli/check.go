@@ -2,6 +2,7 @@ package cli
 
 import (
 	"fmt"
+	"slices"
 	"strings"
 
 	"github.com/spf13/cobra"
@@ -17,8 +18,11 @@ func newCheckCmd() *cobra.Command {
 		Long: `Check reads each scenario file strictly and reports every problem at once,
 with its line and field: unknown keys, wrong types, matrices whose rows do not
 sum to 1, moves to a better state without work, unknown states or treatments,
-budgets and targets that make no sense; for inventory CSVs, every bad row
-with its line and column, and a summary of what was read. Nothing is written.`,
+budgets, targets and ring-fenced money that make no sense; for inventory
+CSVs, every bad row with its line and column, and a summary of what was read.
+It lists every target and ring-fenced amount the plan must keep, and notes
+what looks wrong but is allowed (a treatment that leaves a state worse than
+doing nothing). Nothing is written.`,
 		Example: `  # Validate the demo scenario
   wearplan check scenarios/examples/marrowby.yaml`,
 		Args: cobra.MinimumNArgs(1),
@@ -41,10 +45,45 @@ with its line and column, and a summary of what was read. Nothing is written.`,
 				for _, inv := range sc.Inventories {
 					fmt.Fprintf(cmd.OutOrStdout(), "  %s\n", inventorySummary(inv))
 				}
+				for _, line := range guardrails(sc) {
+					fmt.Fprintf(cmd.OutOrStdout(), "  %s\n", line)
+				}
+				for _, note := range sc.Notes {
+					fmt.Fprintf(cmd.OutOrStdout(), "  note: %s\n", note)
+				}
 			}
 			return nil
 		},
 	}
+}
+
+// guardrails lists what the plan must keep: every target, and the money
+// ring-fenced for classes and budget groups.
+func guardrails(sc *scenarios.Scenario) []string {
+	var out []string
+	for _, t := range sc.Targets {
+		out = append(out, "target: "+t.Label)
+	}
+	for _, m := range sc.MinSpends {
+		who := "class " + m.Name
+		if m.Group {
+			who = fmt.Sprintf("budget group %s (%s)", m.Name, strings.Join(m.Classes, ", "))
+		}
+		out = append(out, fmt.Sprintf("ring-fenced: %s at least %s %s a year", who, render.Money(m.Yearly[0]), sc.Currency))
+		if !sameEveryYear(m.Yearly) {
+			out[len(out)-1] = fmt.Sprintf("ring-fenced: %s at least %s to %s %s a year (by year)", who, render.Money(slices.Min(m.Yearly)), render.Money(slices.Max(m.Yearly)), sc.Currency)
+		}
+	}
+	return out
+}
+
+func sameEveryYear(v []float64) bool {
+	for _, x := range v {
+		if x != v[0] {
+			return false
+		}
+	}
+	return true
 }
 
 // inventorySummary says in one line what was read from an inventory CSV.

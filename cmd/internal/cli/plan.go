@@ -118,6 +118,10 @@ different ones.`,
 			if err := out.write(cmd, r); err != nil {
 				return err
 			}
+			if out.format != "table" || out.out != "" {
+				// The tables end with these; other output needs them said.
+				warnClasses(cmd, r)
+			}
 			if r.Status == "targets-not-met" {
 				warnShortfalls(cmd, r)
 				if strict {
@@ -170,6 +174,15 @@ func warnConfidence(cmd *cobra.Command, c *scenarios.Confidence) {
 		if !ct.Reached {
 			fmt.Fprintf(w, "  - %s: met in %s of %d runs, not %s\n", ct.Target, render.RunsMeeting(ct), c.Runs, render.Percent(ct.Confidence))
 		}
+	}
+}
+
+// warnClasses names on standard error each class the plan lets run down
+// or gives no work (scenarios.ClassWarning), when the tables that end with
+// them go elsewhere.
+func warnClasses(cmd *cobra.Command, r *scenarios.Result) {
+	for _, w := range r.ClassWarnings {
+		fmt.Fprintf(cmd.ErrOrStderr(), "warning: %s\n", w.Text)
 	}
 }
 

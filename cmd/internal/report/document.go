@@ -3,6 +3,7 @@ package report
 import (
 	"fmt"
 	"math"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -65,6 +66,10 @@ type runView struct {
 	Spend       *table
 	Work        *table
 	Assumptions *assumptions
+
+	// ClassWarnings say what the plan does to classes a council should
+	// hear about (scenarios.ClassWarning); Warnings holds the other notes.
+	ClassWarnings []string
 }
 
 type assumptions struct {
@@ -153,7 +158,15 @@ func build(rep *Report, withCharts bool) (*document, error) {
 
 func buildRun(id string, run Run, withCharts bool) (runView, error) {
 	r := run.Result
-	rv := runView{ID: id, Name: r.Scenario, Warnings: r.Warnings}
+	rv := runView{ID: id, Name: r.Scenario}
+	for _, w := range r.ClassWarnings {
+		rv.ClassWarnings = append(rv.ClassWarnings, w.Text)
+	}
+	for _, w := range r.Warnings {
+		if !slices.Contains(rv.ClassWarnings, w) {
+			rv.Warnings = append(rv.Warnings, w)
+		}
+	}
 	if run.Scenario != nil {
 		rv.Description = strings.TrimSpace(run.Scenario.Description)
 	}

@@ -42,6 +42,14 @@ func Markdown(w io.Writer, rep *Report) error {
 			m.line("Note: ", mdText(warn))
 			m.blank()
 		}
+		if len(r.ClassWarnings) > 0 {
+			m.line("### What the plan does to each class")
+			m.blank()
+			for _, warn := range r.ClassWarnings {
+				m.line("Warning: ", mdText(warn))
+				m.blank()
+			}
+		}
 		m.line("### Level of service")
 		m.blank()
 		m.table(r.LOS)

@@ -485,6 +485,13 @@ func (wb *workbook) about(rep *Report) error {
 	for _, run := range rep.Runs {
 		lines = append(lines, []any{"Scenario", run.Result.Scenario})
 	}
+	// What each plan does to its classes, first: a reader of the
+	// workbook sees no other page of words.
+	for _, run := range rep.Runs {
+		for _, w := range run.Result.ClassWarnings {
+			lines = append(lines, []any{"Warning", run.Result.Scenario + ": " + w.Text})
+		}
+	}
 	lines = append(lines,
 		[]any{"Caution", scenarios.Caution},
 		[]any{},

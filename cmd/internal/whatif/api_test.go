@@ -16,6 +16,7 @@ import (
 	"strings"
 	"sync"
 	"testing"
+	"testing/fstest"
 	"time"
 
 	"wearplan/scenarios"
@@ -556,4 +557,77 @@ func TestAnswersDoNotDependOnHistory(t *testing.T) {
 	if first.status != 200 || string(first.body) != string(later.body) {
 		t.Errorf("the same request answered differently after other requests (status %d, %d)", first.status, later.status)
 	}
+}
+
+// TestClassWarningsAndStateTargets: the answer carries what the plan does
+// to each class apart from the other notes, with the suggested class
+// targets in the file's keys; posting them back (as the page's "Add this
+// target" does) plans with a target on one named state, which the targets
+// table lists and the same target typed into a file gives on the command
+// line. A class hold and a state target need a class: the network is
+// refused with the field.
+func TestClassWarningsAndStateTargets(t *testing.T) {
+	_, ts := newTestServer(t, Options{}, "marrowby.yaml")
+	a := decodeAnswer(t, postJSON(t, ts, "/api/plan", `{"scenario": 0, "changes": {}}`))
+	var local *classWarningAnswer
+	for i, w := range a.ClassWarnings {
+		if strings.HasPrefix(w.Text, "local-asphalt:") {
+			local = &a.ClassWarnings[i]
+		}
+		for _, n := range a.Warnings {
+			if n == w.Text {
+				t.Errorf("class warning also among the notes: %s", n)
+			}
+		}
+	}
+	if local == nil || len(local.Suggested) != 1 || local.Suggested[0].State != "Failed" || local.Suggested[0].MaxShare == nil {
+		t.Fatalf("no local-asphalt warning with a Failed-state target: %+v", a.ClassWarnings)
+	}
+	body, err := json.Marshal(map[string]any{"scenario": 0, "changes": map[string]any{"targets": []scenarios.TargetSpec{
+		{Class: "all", Group: "poor", MaxShare: ptr(0.15), FromYear: ptrInt(2031)},
+		{Hold: true},
+		{Class: "culverts", Hold: true},
+		local.Suggested[0],
+	}}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	b := decodeAnswer(t, postJSON(t, ts, "/api/plan", string(body)))
+	label := fmt.Sprintf("local-asphalt share in state Failed at most %s%%", strconv.FormatFloat(100**local.Suggested[0].MaxShare, 'f', -1, 64))
+	if !strings.Contains(string(b.Panel.Targets), label) || !strings.Contains(string(b.Panel.Targets), "culverts average condition in 2046 no worse than today") {
+		t.Errorf("targets table lacks %q or the culverts hold:\n%s", label, b.Panel.Targets)
+	}
+	text, err := os.ReadFile(examples + "/marrowby.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	typed := strings.Replace(string(text), "  - {hold: true}\n", "  - {hold: true}\n  - {class: culverts, hold: true}\n  - "+local.Suggested[0].YAML()+"\n", 1)
+	fsys := fstest.MapFS{"typed.yaml": {Data: []byte(typed)}, "marrowby-segments-invented.csv": {Data: mustRead(t, examples+"/marrowby-segments-invented.csv")}}
+	sc, err := scenarios.Load(fsys, "typed.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := scenarios.Plan(sc, scenarios.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if b.Status != res.Status || figureOf(t, b, "Condition score (0-100, average over the years)") != strconv.FormatFloat(res.ConditionScore, 'f', 1, 64) {
+		t.Errorf("page: %s %s; the same targets typed into the file: %s %.1f", b.Status, figureOf(t, b, "Condition score (0-100, average over the years)"), res.Status, res.ConditionScore)
+	}
+	bad := postJSON(t, ts, "/api/plan", `{"scenario": 0, "changes": {"targets": [{"class": "all", "state": "Failed", "max_share": 0.05}]}}`)
+	if bad.status != 422 || !strings.Contains(string(bad.body), "targets[0].state") {
+		t.Errorf("state target on the network: status %d, %s", bad.status, bad.body)
+	}
+}
+
+func ptr(v float64) *float64 { return &v }
+func ptrInt(v int) *int      { return &v }
+
+func mustRead(t *testing.T, path string) []byte {
+	t.Helper()
+	b, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return b
 }

@@ -168,3 +168,90 @@ func TestPageInChromium(t *testing.T) {
 		t.Errorf("console problems: %v", problems)
 	}
 }
+
+// TestClassTargetsInChromium: on the demo's first plan the page warns what
+// the plan does to local asphalt's worst state; clicking that warning's
+// "Add this target" button adds a row to the target editor reading local
+// asphalt, share in a state, Failed, at most the suggested share, and the
+// page plans again with it: the targets table lists the new target. The
+// editor offers a state only for a class.
+func TestClassTargetsInChromium(t *testing.T) {
+	browsertest.Require(t)
+	_, ts := newTestServer(t, Options{}, "marrowby.yaml")
+	events := &browsertest.Events{}
+	events.Reset(func(url string) bool {
+		return strings.HasPrefix(url, ts.URL+"/") || strings.HasPrefix(url, "data:")
+	})
+	ctx := browsertest.Start(t, 1400, 1000, events)
+	ctx, tcancel := context.WithTimeout(ctx, 90*time.Second)
+	defer tcancel()
+	wait := func(n int) {
+		t.Helper()
+		if err := chromedp.Do(ctx, chromedp.WaitVisible(chromedp.CSS(fmt.Sprintf(`body[data-solves="%d"]`, n)))); err != nil {
+			t.Fatalf("waiting for plan %d: %v", n, err)
+		}
+	}
+	if err := chromedp.Do(ctx, chromedp.Navigate(ts.URL+"/")); err != nil {
+		t.Fatal(err)
+	}
+	wait(1)
+	type row struct {
+		Warning string
+		Rows    int
+	}
+	first, err := chromedp.Run(ctx, chromedp.Evaluate[row](`(() => {
+		const li = [...document.querySelectorAll('#class-warnings li')].find((l) => l.textContent.includes('local-asphalt:'));
+		return { Warning: li ? li.textContent : '', Rows: document.querySelectorAll('#targets li').length };
+	})()`))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(first.Warning, "worst state, Failed") || !strings.Contains(first.Warning, "Add this target") {
+		t.Fatalf("local-asphalt warning %q", first.Warning)
+	}
+	if _, err := chromedp.Run(ctx, chromedp.Evaluate[bool](`(() => { [...document.querySelectorAll('#class-warnings li')].find((l) => l.textContent.includes('local-asphalt:')).querySelector('button').click(); return true; })()`)); err != nil {
+		t.Fatal(err)
+	}
+	wait(2)
+	type added struct {
+		Rows                         int
+		Who, Measure, State, Bound   string
+		Value, Targets               string
+		StateOffered, NetworkOffered bool
+	}
+	got, err := chromedp.Run(ctx, chromedp.Evaluate[added](`(() => {
+		const rows = document.querySelectorAll('#targets li');
+		const last = rows[rows.length - 1];
+		const sel = (label) => last.querySelector('[aria-label$="' + label + '"]');
+		const first = rows[0].querySelector('[aria-label$="measure"]');
+		return {
+			Rows: rows.length, Who: sel('applies to').value, Measure: sel('measure').value, State: sel('state').value,
+			Bound: sel('bound').value, Value: sel('value').value, Targets: document.getElementById('targets-table').textContent,
+			StateOffered: !!sel('measure').querySelector('option[value=state]'),
+			NetworkOffered: !!first.querySelector('option[value=state]'),
+		};
+	})()`))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got.Rows != first.Rows+1 || got.Who != "local-asphalt" || got.Measure != "state" || got.State != "Failed" || got.Bound != "max" {
+		t.Errorf("added row: %+v", got)
+	}
+	if v, err := strconv.ParseFloat(got.Value, 64); err != nil || v <= 0 || v > 10 {
+		t.Errorf("added row's share %q, want a percentage", got.Value)
+	}
+	if !strings.Contains(got.Targets, "local-asphalt share in state Failed at most "+got.Value+"%") {
+		t.Errorf("targets table lacks the new target:\n%s", got.Targets)
+	}
+	if !got.StateOffered || got.NetworkOffered {
+		t.Errorf("state offered for a class %v, for the network %v", got.StateOffered, got.NetworkOffered)
+	}
+	shot, err := chromedp.Run(ctx, chromedp.CaptureScreenshot())
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Logf("screenshot: %s", browsertest.SaveScreenshot(t, "what-if-class-targets.png", shot))
+	if _, problems := events.Collected(); len(problems) > 0 {
+		t.Errorf("console problems: %v", problems)
+	}
+}

@@ -288,6 +288,9 @@ type classInfo struct {
 	// Pieces says what the class moves as in the bands when the page sets
 	// no piece size: its segment list's segments or its unit's default.
 	Pieces string `json:"pieces"`
+	// States are the scale's condition states, best first, for targets
+	// on one state.
+	States []string `json:"states"`
 }
 
 func (s *Server) serveScenarios(w http.ResponseWriter, r *http.Request) {
@@ -302,9 +305,13 @@ func (s *Server) serveScenarios(w http.ResponseWriter, r *http.Request) {
 		}
 		for k := range sc.Classes {
 			c := &sc.Classes[k]
-			info.Classes = append(info.Classes, classInfo{Name: c.Name, Unit: c.Unit, Scale: c.Scale.Name,
+			ci := classInfo{Name: c.Name, Unit: c.Unit, Scale: c.Scale.Name,
 				IndexLow: min(c.Scale.Best, c.Scale.Worst), IndexHigh: max(c.Scale.Best, c.Scale.Worst), LowerIsBetter: c.Scale.Best < c.Scale.Worst,
-				Pieces: defaultPieces(c)})
+				Pieces: defaultPieces(c)}
+			for _, st := range c.Scale.States {
+				ci.States = append(ci.States, st.Name)
+			}
+			info.Classes = append(info.Classes, ci)
 		}
 		out[i] = info
 	}

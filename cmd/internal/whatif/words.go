@@ -32,10 +32,19 @@ type planAnswer struct {
 	Funding  []string `json:"funding"`
 	Warnings []string `json:"warnings"`
 	Caution  string   `json:"caution"`
+	// ClassWarnings say what the plan does to classes a council should
+	// hear about, each with the class targets that would stop it (the
+	// page offers to add them); their texts are not among Warnings.
+	ClassWarnings []classWarningAnswer `json:"class_warnings"`
 	// Figures are label and value pairs, formatted, that the page lines
 	// up side by side for kept alternatives.
 	Figures []figure    `json:"figures"`
 	Panel   panelAnswer `json:"panel"`
+}
+
+type classWarningAnswer struct {
+	Text      string                 `json:"text"`
+	Suggested []scenarios.TargetSpec `json:"suggested_targets"`
 }
 
 type figure struct {
@@ -75,11 +84,22 @@ func answer(sc *scenarios.Scenario, r *scenarios.Result, p *report.Panel) *planA
 	a := &planAnswer{
 		Scenario: r.Scenario, Status: r.Status, Objective: r.Objective, Caution: r.Caution,
 		Headline: headline(sc, r), Shortfalls: append(shortfallWords(sc, r), confidenceWords(r)...), Funding: append(fundingWords(r), confidentBudgetWords(r)...),
-		Warnings: r.Warnings, Figures: figures(sc, r),
+		Warnings: []string{}, ClassWarnings: []classWarningAnswer{}, Figures: figures(sc, r),
 		Panel: panelAnswer{Summary: p.Summary, LOS: p.LOS, Targets: p.Targets, Spend: p.Spend, Work: p.Work},
 	}
-	if a.Warnings == nil {
-		a.Warnings = []string{}
+	classText := map[string]bool{}
+	for _, w := range r.ClassWarnings {
+		classText[w.Text] = true
+		cw := classWarningAnswer{Text: w.Text, Suggested: w.Suggested}
+		if cw.Suggested == nil {
+			cw.Suggested = []scenarios.TargetSpec{}
+		}
+		a.ClassWarnings = append(a.ClassWarnings, cw)
+	}
+	for _, w := range r.Warnings {
+		if !classText[w] {
+			a.Warnings = append(a.Warnings, w)
+		}
 	}
 	for _, c := range p.Charts {
 		a.Panel.Charts = append(a.Panel.Charts, chartAnswer{ID: c.ID, Title: c.Title, HTML: c.HTML})

@@ -31,7 +31,7 @@
     info: null, // the chosen scenario (from /api/scenarios)
     steps: [], // {from, to, kind: 'percent' | 'amount', value}
     pieces: {}, // class name -> piece size typed on the page ('' keeps the file's)
-    targets: [], // {who, measure: good|fair|poor|index|hold, bound: max|min, value, from, to, confidence: '' or percent}
+    targets: [], // {who, measure: good|fair|poor|state|index|hold, state, bound: max|min, value, from, to, confidence: '' or percent}
     seq: 0,
     inflight: null,
     timer: 0,
@@ -138,7 +138,8 @@
     if (t.hold) row.measure = 'hold';
     else if (t.min_average_index != null) { row.measure = 'index'; row.value = t.min_average_index; }
     else {
-      row.measure = t.group || 'poor';
+      row.measure = t.state ? 'state' : (t.group || 'poor');
+      if (t.state) row.state = t.state;
       row.bound = t.max_share != null ? 'max' : 'min';
       row.value = round(100 * (t.max_share ?? t.min_share ?? 0));
     }
@@ -151,7 +152,8 @@
     if (row.measure === 'hold') { t.hold = true; return t; }
     if (row.measure === 'index') t.min_average_index = row.value;
     else {
-      t.group = row.measure;
+      if (row.measure === 'state') t.state = row.state;
+      else t.group = row.measure;
       t[row.bound === 'max' ? 'max_share' : 'min_share'] = row.value / 100;
     }
     if (row.from != null) t.from_year = row.from;
@@ -176,11 +178,23 @@
       const measure = el('select', { 'aria-label': n + 'measure' },
         el('option', { value: 'poor', text: 'poor share' }),
         el('option', { value: 'fair', text: 'fair share' }),
-        el('option', { value: 'good', text: 'good share' }),
+        el('option', { value: 'good', text: 'good share' }));
+      const cls = state.info.classes.find((c) => c.name === row.who);
+      // A state belongs to one class's scale: only a class offers it.
+      if (cls) measure.append(el('option', { value: 'state', text: 'share in a state' }));
+      measure.append(
         el('option', { value: 'index', text: 'average index' }),
         el('option', { value: 'hold', text: "today's condition held" }));
       measure.value = row.measure;
       const parts = [who, measure];
+      if (row.measure === 'state') {
+        const st = el('select', { 'aria-label': n + 'state' });
+        for (const name of cls.states) st.append(el('option', { value: name, text: name }));
+        if (!cls.states.includes(row.state)) row.state = cls.states[cls.states.length - 1];
+        st.value = row.state;
+        st.addEventListener('change', () => { row.state = st.value; });
+        parts.push(st);
+      }
       if (row.measure !== 'hold') {
         const scale = scaleOf(row.who);
         if (row.measure === 'index') {
@@ -208,7 +222,11 @@
         parts.push(word('held in'), conf, word('% of runs'));
       }
       const remove = el('button', { type: 'button', class: 'remove', text: '\u00d7', 'aria-label': 'Remove target ' + (i + 1) });
-      who.addEventListener('change', () => { row.who = who.value; drawTargets(); });
+      who.addEventListener('change', () => {
+        row.who = who.value;
+        if (row.measure === 'state' && row.who === 'all') row.measure = 'poor';
+        drawTargets();
+      });
       measure.addEventListener('change', () => {
         const was = row.measure;
         row.measure = measure.value;
@@ -365,6 +383,7 @@
     fill('shortfalls', a.shortfalls);
     fill('funding', a.funding);
     fill('warnings', a.warnings.map((w) => 'Note: ' + w));
+    $('class-warnings').replaceChildren(...a.class_warnings.map(classWarning));
     const charts = a.panel.charts;
     const main = charts.filter((c) => c.id === 'current-chart-network' || c.id === 'current-chart-bands-network' || c.id === 'current-chart-spend');
     const classes = charts.filter((c) => !main.includes(c));
@@ -379,6 +398,22 @@
     state.solves++;
     document.body.dataset.solves = String(state.solves);
     drawCompare();
+  }
+
+  // classWarning shows what the plan does to a class, with a button that
+  // adds the class targets that would stop it and plans again.
+  function classWarning(w) {
+    const li = el('li', { text: 'Warning: ' + w.text });
+    if (w.suggested_targets.length) {
+      const add = el('button', { type: 'button', text: w.suggested_targets.length === 1 ? 'Add this target' : 'Add these targets' });
+      add.addEventListener('click', () => {
+        state.targets.push(...w.suggested_targets.map(targetRow));
+        drawTargets();
+        schedule(0);
+      });
+      li.append(add);
+    }
+    return li;
   }
 
   // ---- kept alternatives -------------------------------------------------
