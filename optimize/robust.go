@@ -96,9 +96,15 @@ func (rb *robustBuilder) rows(s, k, a int) [][]float64 {
 }
 
 // dCol is the column of d[s,k,t,i], the untreated share.
+//
+// Year 1 starts from today's quantities in every scenario, so its untreated
+// shares are scenario 0's for all: a sample's own columns start in year 2.
 func (rb *robustBuilder) dCol(s, k, t, i int) int {
-	if !rb.varies[k] {
+	if !rb.varies[k] || t == 0 {
 		s = 0
+	}
+	if s > 0 {
+		t-- // the sample's columns start with year 2
 	}
 	return rb.dBase[s][k] + t*len(rb.b.p.Classes[k].Initial) + i
 }
@@ -197,6 +203,9 @@ func (rb *robustBuilder) build() *Model {
 			}
 			rb.dBase[s][k] = len(m.Cols)
 			for t := range T {
+				if s > 0 && t == 0 {
+					continue // year 1 is scenario 0's (dCol)
+				}
 				for i := range p.Classes[k].Initial {
 					m.addCol(fmt.Sprintf("d%d_%d_%d_%d", s, k+1, t+1, i+1), 0)
 				}
@@ -226,6 +235,9 @@ func (rb *robustBuilder) flowRows() {
 			tot := c.Total()
 			ns := len(c.Initial)
 			for t := range p.Horizon {
+				if s > 0 && t == 0 {
+					continue // year 1's flow is scenario 0's
+				}
 				byState := make([][]Entry, ns)
 				for i := range ns {
 					byState[i] = append(byState[i], Entry{rb.dCol(s, k, t, i), 1})
@@ -347,9 +359,14 @@ func (rb *robustBuilder) measure(tg *Target, s, t int) []Entry {
 	value := func(k int, row []float64) float64 {
 		v := 0.0
 		for j, pj := range row {
-			if tg.Kind == MinScore || tg.Kind == Hold {
+			switch {
+			case tg.Kind == MinScore || tg.Kind == Hold:
 				v += pj * p.Classes[k].Score[j] / 100
-			} else if p.Classes[k].Group[j] == tg.Group {
+			case tg.States != nil:
+				if tg.States[j] {
+					v += pj
+				}
+			case p.Classes[k].Group[j] == tg.Group:
 				v += pj
 			}
 		}
@@ -493,7 +510,11 @@ func SolveRobust(p *Problem, samples []MatrixSample) (*RobustPlan, error) {
 	stats.Solves = solves
 	holds := true
 	var slacks []robustSlack
-	if errors.Is(err, ErrInfeasible) && len(p.Targets) > 0 {
+	var solverErr *SolverError
+	// lp_solve now and then gives up on a degenerate robust model (an
+	// accuracy failure); the elastic model, always feasible, is then
+	// solved instead, and gives the same plan when every slack is zero.
+	if (errors.Is(err, ErrInfeasible) || errors.As(err, &solverErr)) && len(p.Targets) > 0 {
 		em, cols := rb.elastic()
 		nominal, sampled := make([]float64, len(em.Cols)), make([]float64, len(em.Cols))
 		for _, c := range cols {

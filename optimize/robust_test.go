@@ -48,8 +48,18 @@ func perturbed(rng *rand.Rand, p *Problem, spread float64) MatrixSample {
 func measureOf(p *Problem, cond [][][]float64, tg *Target, y int) float64 {
 	one := func(k int) float64 {
 		q := cond[k][y]
-		if tg.Kind == MinScore || tg.Kind == Hold {
+		switch {
+		case tg.Kind == MinScore || tg.Kind == Hold:
 			return p.Classes[k].ScoreOf(q)
+		case tg.States != nil:
+			in, tot := 0.0, 0.0
+			for i, v := range q {
+				tot += v
+				if tg.States[i] {
+					in += v
+				}
+			}
+			return in / tot
 		}
 		return p.Classes[k].SharesOf(q)[tg.Group]
 	}
@@ -89,12 +99,17 @@ func missed(p *Problem, cond [][][]float64, n int) float64 {
 // each of its samples, checked by forecasting its work program under each
 // sample separately (RollWork) and measuring the targets from the
 // quantities; no sample is asked to treat more than it holds. Random
-// problems with targets (Generate), ten samples each.
+// problems with targets (Generate) and a target on one state, ten samples
+// each.
 func TestRobustPlanHoldsUnderEachSample(t *testing.T) {
 	rng := rand.New(rand.NewPCG(17, 2027))
 	checked := 0
 	for c := range 8 {
 		p := Generate(rng, GenSpec{Classes: 1 + rng.IntN(3), States: 4 + rng.IntN(3), Treatments: 2 + rng.IntN(2), Years: 4 + rng.IntN(5), Targets: true, BudgetShare: 0.3 + 0.3*rng.Float64()})
+		// A target on one named state: at most 15% of class 1 in its worst.
+		worst := make([]bool, len(p.Classes[0].Initial))
+		worst[len(worst)-1] = true
+		p.Targets = append(p.Targets, Target{Label: "class 1 worst state at most 15%", Class: 0, Kind: MaxShare, States: worst, Value: 0.15, From: 2, To: p.Horizon})
 		var samples []MatrixSample
 		for range 10 {
 			samples = append(samples, perturbed(rng, p, 0.15))

@@ -265,7 +265,7 @@ func (s *confidenceSearch) measure(t *trial) error {
 	t.sim = res
 	t.reached = true
 	for i, n := range s.idx {
-		miss := fig.worstMiss(&s.sc.Targets[n], &res.Initial)
+		miss := fig.worstMiss(n, &res.Initial)
 		hits := 0
 		for _, m := range miss {
 			if m <= targetSlack {

@@ -131,3 +131,28 @@ func ExampleDefaultSegmentSize() {
 	// lane-km: pieces of 0.5 (the default for lane-km, a road section of about 250 m of two lanes)
 	// each: pieces of 50 (the default for each, one asset, enlarged so that the class has at most 5,000 pieces)
 }
+
+// A target on one named state is measured on that state's share in every
+// run: on a scale whose poor group is the worst state alone, the state
+// target and the group target are the same measure, so their shares of
+// runs agree exactly, year by year.
+func TestSimulateStateTargetIsMeasuredOnItsState(t *testing.T) {
+	text := scenarioYAML("", []string{classYAML("roads", "{Very good: 400, Good: 300, Fair: 200, Poor: 60, Very poor: 40}", yearsDet)}, "",
+		"budget:\n  yearly: 3000\ntargets:\n  - {class: roads, group: poor, max_share: 0.06}\n  - {class: roads, state: Very poor, max_share: 0.06}\n")
+	text = strings.Replace(text, "fair: [Fair], poor: [Poor, Very poor]", "fair: [Fair, Poor], poor: [Very poor]", 1)
+	r := simulate(t, mustParse(t, text), scenarios.SimulateOptions{Runs: 300, Seed: 5})
+	g, s := r.Targets[0], r.Targets[1]
+	if g.AllYears != s.AllYears || len(g.Years) != len(s.Years) {
+		t.Fatalf("group target %+v, state target %+v", g, s)
+	}
+	between := false
+	for y := range g.Years {
+		if g.Years[y] != s.Years[y] {
+			t.Errorf("%d: group %.3f, state %.3f", g.Years[y].Year, g.Years[y].Probability, s.Years[y].Probability)
+		}
+		between = between || (g.Years[y].Probability > 0 && g.Years[y].Probability < 1)
+	}
+	if !between {
+		t.Errorf("every year's share is 0 or 1; the case does not test the measure: %+v", g.Years)
+	}
+}

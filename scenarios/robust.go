@@ -413,14 +413,33 @@ func robustFigures(sc *Scenario, p *optimize.Problem, name string, plan *optimiz
 	return out
 }
 
+// measureOf is a target's measure on one class's quantities q by state:
+// the score (0-100), the share of the target's states, or of its group.
+func measureOf(c *optimize.Class, tg *optimize.Target, q []float64) float64 {
+	switch {
+	case tg.Kind == optimize.MinScore || tg.Kind == optimize.Hold:
+		return c.ScoreOf(q)
+	case tg.States != nil:
+		in, tot := 0.0, 0.0
+		for i, v := range q {
+			tot += v
+			if tg.States[i] {
+				in += v
+			}
+		}
+		if tot == 0 {
+			return 0
+		}
+		return in / tot
+	}
+	return c.SharesOf(q)[tg.Group]
+}
+
 // targetMeasure is a target's measure at the end of year y (1-based): a
 // group share, or the score (0-100).
 func targetMeasure(p *optimize.Problem, cond [][][]float64, tg *optimize.Target, y int, weights []float64) float64 {
 	one := func(k int) float64 {
-		if tg.Kind == optimize.MinScore || tg.Kind == optimize.Hold {
-			return p.Classes[k].ScoreOf(cond[k][y])
-		}
-		return p.Classes[k].SharesOf(cond[k][y])[tg.Group]
+		return measureOf(&p.Classes[k], tg, cond[k][y])
 	}
 	if tg.Class != optimize.Network {
 		return one(tg.Class)

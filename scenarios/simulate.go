@@ -637,6 +637,10 @@ type figures struct {
 	groupOf   [][]optimize.Group
 	costOf    [][][]float64 // per class, action, state: unit cost
 	numSeries int
+	// stateVals[n][t][run] is the share of target n's class in the
+	// target's states (Target.Spec.States) at the end of year t; nil for
+	// targets on a group or the score.
+	stateVals [][][]float64
 }
 
 func newFigures(sc *Scenario, p *optimize.Problem, runs int, spend bool) *figures {
@@ -645,6 +649,16 @@ func newFigures(sc *Scenario, p *optimize.Problem, runs int, spend bool) *figure
 	f.vals = make([][]float64, f.numSeries)
 	for s := range f.vals {
 		f.vals[s] = make([]float64, runs)
+	}
+	f.stateVals = make([][][]float64, len(sc.Targets))
+	for n, tg := range sc.Targets {
+		if tg.Spec.States == nil {
+			continue
+		}
+		f.stateVals[n] = make([][]float64, sc.Horizon)
+		for t := range f.stateVals[n] {
+			f.stateVals[n][t] = make([]float64, runs)
+		}
 	}
 	for t := range sc.Horizon {
 		f.esc = append(f.esc, math.Pow(1+sc.Escalation, float64(t)))
@@ -668,6 +682,25 @@ func (f *figures) series(k, t, fig int) int { return (k*f.years+t)*figCount + fi
 // record keeps one run's figures. It writes only the run's own slots.
 func (f *figures) record(run int, o *markov.RunOutcome) {
 	K := len(f.sc.Classes)
+	for n, byYear := range f.stateVals {
+		if byYear == nil {
+			continue
+		}
+		spec := &f.sc.Targets[n].Spec
+		for t := range f.years {
+			in, tot := 0.0, 0.0
+			for i, x := range o.Quantity[spec.Class][t+1] {
+				tot += x
+				if spec.States[i] {
+					in += x
+				}
+			}
+			if tot > 0 {
+				in /= tot
+			}
+			byYear[t][run] = in
+		}
+	}
 	for t := range f.years {
 		var net [figCount]float64
 		for k := range K {
@@ -772,20 +805,17 @@ func (f *figures) bands(res *SimulationResult, det *Result) {
 	}
 }
 
-// targetSeries says where a target's measure is kept: the class (or the
-// network, len(classes)) and figure, and the limit it is held to, on the
-// figures' scale (a share, or the 0-100 score).
-func (f *figures) targetSeries(tg *Target, initial *Snapshot) (k, fig int, limit float64) {
+// targetValues returns, for target n, a function giving every run's
+// measure at the end of year t (0-based: a group or state share, or the
+// 0-100 score), and the limit it is held to on the same scale.
+func (f *figures) targetValues(n int, initial *Snapshot) (func(t int) []float64, float64) {
+	tg := &f.sc.Targets[n]
 	spec := tg.Spec
-	k = len(f.sc.Classes)
+	k := len(f.sc.Classes)
 	if tg.Class != "" {
 		k = f.sc.classIndex(tg.Class)
 	}
-	fig = figScore
-	if spec.Kind == optimize.MaxShare || spec.Kind == optimize.MinShare {
-		fig = figGood + int(spec.Group)
-	}
-	limit = spec.Value
+	limit := spec.Value
 	if spec.Kind == optimize.Hold {
 		if k == len(f.sc.Classes) {
 			limit = initial.Network.Score
@@ -793,7 +823,14 @@ func (f *figures) targetSeries(tg *Target, initial *Snapshot) (k, fig int, limit
 			limit = initial.Classes[k].Score
 		}
 	}
-	return k, fig, limit
+	if f.stateVals[n] != nil {
+		return func(t int) []float64 { return f.stateVals[n][t] }, limit
+	}
+	fig := figScore
+	if spec.Kind == optimize.MaxShare || spec.Kind == optimize.MinShare {
+		fig = figGood + int(spec.Group)
+	}
+	return func(t int) []float64 { return f.vals[f.series(k, t, fig)] }, limit
 }
 
 // missBy is how far value v misses a target of the kind with the limit:
@@ -805,11 +842,12 @@ func missBy(kind optimize.TargetKind, v, limit float64) float64 {
 	return limit - v
 }
 
-// worstMiss returns, for each run, the most by which the target misses its
+// worstMiss returns, for each run, the most by which target n misses its
 // limit in any year it covers (a share, or score points): the run meets
 // the target in every year when it is at most targetSlack.
-func (f *figures) worstMiss(tg *Target, initial *Snapshot) []float64 {
-	k, fig, limit := f.targetSeries(tg, initial)
+func (f *figures) worstMiss(n int, initial *Snapshot) []float64 {
+	tg := &f.sc.Targets[n]
+	values, limit := f.targetValues(n, initial)
 	out := make([]float64, len(f.vals[0]))
 	for r := range out {
 		out[r] = math.Inf(-1)
@@ -818,7 +856,7 @@ func (f *figures) worstMiss(tg *Target, initial *Snapshot) []float64 {
 		if year := f.sc.Year(t + 1); year < tg.FromYear || year > tg.ToYear {
 			continue
 		}
-		for r, v := range f.vals[f.series(k, t, fig)] {
+		for r, v := range values(t) {
 			out[r] = math.Max(out[r], missBy(tg.Spec.Kind, v, limit))
 		}
 	}
@@ -832,7 +870,7 @@ func (f *figures) targetChances(det *Result) []TargetChance {
 	out := make([]TargetChance, 0, len(sc.Targets))
 	for n := range sc.Targets {
 		tg := &sc.Targets[n]
-		k, fig, limit := f.targetSeries(tg, &det.Initial)
+		values, limit := f.targetValues(n, &det.Initial)
 		tc := TargetChance{Target: tg.Label, MetByPlan: det.Targets[n].Met}
 		for t := range f.years {
 			year := sc.Year(t + 1)
@@ -840,7 +878,7 @@ func (f *figures) targetChances(det *Result) []TargetChance {
 				continue
 			}
 			hits := 0
-			for _, v := range f.vals[f.series(k, t, fig)] {
+			for _, v := range values(t) {
 				if missBy(tg.Spec.Kind, v, limit) <= targetSlack {
 					hits++
 				}
@@ -848,7 +886,7 @@ func (f *figures) targetChances(det *Result) []TargetChance {
 			tc.Years = append(tc.Years, YearChance{Year: year, Probability: float64(hits) / float64(runs)})
 		}
 		hits := 0
-		for _, m := range f.worstMiss(tg, &det.Initial) {
+		for _, m := range f.worstMiss(n, &det.Initial) {
 			if m <= targetSlack {
 				hits++
 			}

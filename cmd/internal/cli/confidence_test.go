@@ -15,7 +15,7 @@ const small = "../../../testdata/marrowby-small.yaml"
 // TestNoConfidenceSameBytes: a scenario without a confident target gives,
 // byte for byte, what wearplan gave before targets could state a
 // confidence (the files in testdata/no-confidence were written by the
-// build of main before it, commit c0933b6), and the confidence flags change
+// build of main without it, commit fdc9849), and the confidence flags change
 // nothing. When another change alters these outputs on purpose, rewrite
 // the files with go test ./cmd/internal/cli -run NoConfidence -update and
 // check the diff.
