@@ -71,8 +71,14 @@ deps-bench: deps-test
 # One table: wearplan (decomposed and flat) and the peers (glpsol simplex and
 # interior point, clp barrier, the lp_solve CLI) on the same generated
 # models, then a 20-point budget sweep. BENCH_FLAGS="-timeout 30s -reps 5".
+# Then the simulations: 1,000 runs of the trial network (4 classes, about
+# 200,000 units, 15 years) and of the demo with their default pieces, and
+# the what-if page's bands for the demo (200 runs), each with its median
+# wall time and peak resident memory.
 bench: deps-bench
 	go run ./optimize/internal/benchtable $(BENCH_FLAGS)
+	go test -run '^$$' -bench 'SimulateDefaultPieces' -benchtime 5x ./scenarios/
+	go test -run '^$$' -bench 'PlanRequest/bands' -benchtime 10x ./cmd/internal/whatif/
 
 # Go micro-benchmarks (model build, flat and decomposed solves).
 bench-go: deps-test

@@ -8,6 +8,8 @@ import (
 	"runtime"
 	"sync"
 	"sync/atomic"
+
+	"gonum.org/v1/gonum/stat/distuv"
 )
 
 // Lot is a quantity of one class that moves through the condition states as
@@ -89,55 +91,78 @@ func runSource(seed uint64, run int, stream uint64) *rand.PCG {
 	return rand.NewPCG(hi, lo)
 }
 
-// picker draws from a discrete distribution by inverse CDF: outcome to[k]
-// when the uniform number falls below cum[k]. Outcomes with probability 0
-// are left out; a distribution with a single outcome needs no draw.
-type picker struct {
-	to  []int32
-	cum []float64
+// step is one possible outcome of a lot's year: the action it gets and
+// the state it ends the year in, with the running sum of the outcomes'
+// probabilities up to and including this one as a threshold on 53-bit
+// random integers (cut) and its own probability (p).
+type step struct {
+	cut  uint64
+	p    float64
+	a, j int32
 }
 
-func newPicker(p []float64) picker {
-	var pk picker
-	total := 0.0
-	for j, v := range p {
-		if v > 0 {
-			total += v
-			pk.to = append(pk.to, int32(j))
-			pk.cum = append(pk.cum, total)
-		}
-	}
-	// The last outcome takes everything left, so that rounding in the
-	// running sum can never leave a uniform number without an outcome.
-	if n := len(pk.cum); n > 0 {
-		for k := range pk.cum {
-			pk.cum[k] /= total
-		}
-		pk.cum[n-1] = math.Inf(1)
-	}
-	return pk
-}
+// stepPicker draws a lot's year, action and next state at once, from the
+// joint distribution P(a, j) = policy(a)·row_a(j), by inverse CDF: outcome
+// k when a uniform 53-bit integer falls below cut[k]. Outcomes with
+// probability 0 are left out; a year with a single outcome needs no draw.
+// One draw a lot-year instead of two, and the action follows from the same
+// number.
+type stepPicker []step
 
 // uniform returns a float64 in [0, 1) from 53 random bits, as
 // math/rand/v2's Float64 does, without the interface call.
 func uniform(src *rand.PCG) float64 { return float64(src.Uint64()>>11) * 0x1p-53 }
 
-func (pk *picker) draw(src *rand.PCG) int {
-	if len(pk.to) == 1 {
-		return int(pk.to[0])
+func (sp stepPicker) draw(src *rand.PCG) (a, j int32) {
+	if len(sp) == 1 {
+		return sp[0].a, sp[0].j
 	}
-	u := uniform(src)
+	u := src.Uint64() >> 11
 	k := 0
-	for u >= pk.cum[k] {
+	for u >= sp[k].cut {
 		k++
 	}
-	return int(pk.to[k])
+	return sp[k].a, sp[k].j
 }
 
-// simShape is the size of each class, fixed across runs.
+// fillSteps writes the joint outcomes of a policy row pol (by action) and
+// the rows (by action, of the lot's state i) into buf, and returns it.
+func fillSteps(buf stepPicker, pol []float64, rows [][][]float64, i int) stepPicker {
+	buf = buf[:0]
+	total := 0.0
+	for a, pa := range pol {
+		if pa <= 0 {
+			continue
+		}
+		for j, m := range rows[a][i] {
+			if v := pa * m; v > 0 {
+				total += v
+				buf = append(buf, step{p: v, a: int32(a), j: int32(j)})
+			}
+		}
+	}
+	// Normalise; the last outcome takes everything left, so that rounding
+	// in the running sum can never leave a random number without an
+	// outcome.
+	run := 0.0
+	for k := range buf {
+		buf[k].p /= total
+		run += buf[k].p
+		buf[k].cut = uint64(math.Min(run, 1) * 0x1p53)
+	}
+	if n := len(buf); n > 0 {
+		buf[n-1].cut = math.MaxUint64
+	}
+	return buf
+}
+
+// simShape is the size of each class, fixed across runs, and its joint
+// outcome pickers when its rows are the same in every run.
 type simShape struct {
 	states, actions int
-	policy          []picker // [t*states+i]
+	// steps[t*states+i] draws the action and next state of a lot in state
+	// i in year t+1; nil when the class draws its rows in every run.
+	steps []stepPicker
 }
 
 // checkDistribution reports a probability vector that is not one.
@@ -167,7 +192,7 @@ func prepareClass(k int, c *SimClass, years int) (simShape, error) {
 		return simShape{}, fmt.Errorf("class %d: policy has no states", k)
 	}
 	na := len(c.Policy[0][0])
-	sh := simShape{states: ns, actions: na, policy: make([]picker, years*ns)}
+	sh := simShape{states: ns, actions: na}
 	for t, byState := range c.Policy {
 		if len(byState) != ns {
 			return simShape{}, fmt.Errorf("class %d year %d: policy for %d states, want %d", k, t+1, len(byState), ns)
@@ -176,15 +201,29 @@ func prepareClass(k int, c *SimClass, years int) (simShape, error) {
 			if err := checkDistribution(p, na); err != nil {
 				return simShape{}, fmt.Errorf("class %d year %d state %d: action probabilities %v", k, t+1, i+1, err)
 			}
-			sh.policy[t*ns+i] = newPicker(p)
 		}
 	}
 	if c.Draw == nil {
 		if err := sh.checkRows(c.Rows, c.Policy); err != nil {
 			return simShape{}, fmt.Errorf("class %d: %w", k, err)
 		}
+		sh.steps = sh.fillAll(nil, c.Policy, c.Rows)
 	}
 	return sh, nil
+}
+
+// fillAll writes the joint outcome pickers of every year and state into
+// buf (reusing its storage) and returns it.
+func (sh *simShape) fillAll(buf []stepPicker, policy [][][]float64, rows [][][]float64) []stepPicker {
+	if buf == nil {
+		buf = make([]stepPicker, len(policy)*sh.states)
+	}
+	for t, byState := range policy {
+		for i, p := range byState {
+			buf[t*sh.states+i] = fillSteps(buf[t*sh.states+i], p, rows, i)
+		}
+	}
+	return buf
 }
 
 // checkRows verifies one run's rows: the shape, each row a distribution,
@@ -223,15 +262,28 @@ func (sh *simShape) checkRows(rows [][][]float64, policy [][][]float64) error {
 // action a with probability Policy[t][i][a] and then moves to state j with
 // probability Rows[a][i][j]; lots move independently of each other.
 //
+// Lots of one class and the same quantity are exchangeable: only how many
+// of them are in each state matters. Simulate moves them as a cohort of
+// counts: each year the n lots in state i split over the (action, next
+// state) outcomes by one multinomial draw, made as a chain of binomial
+// draws (the k-th outcome takes Binomial(n left, p_k / mass left)), or by n
+// single draws when n is small. The distribution of every run's quantities
+// is the same as moving the lots one by one; the time no longer grows with
+// the number of equal lots, so a class cut into equal lots costs a few
+// draws per state and year whatever its size. Lots of a quantity that
+// fewer than minCohort lots of the class share move one by one.
+//
 // Runs are spread over opt.Workers goroutines. Run r draws its random
 // numbers from its own streams (runSource(opt.Seed, r, ...), one for each
-// class's lots and one for each class's matrix draws), and lots are
-// visited in the order given, so every run's outcome depends only on the
-// seed, the run index and the inputs, never on scheduling. each may be
-// called from several goroutines at once, for different runs and in any
-// order; the outcome it receives is reused after it returns, so it must
-// copy what it keeps (typically into a slot of its own per run). When runs
-// fail, Simulate returns the error of the lowest-numbered one.
+// class's lots and one for each class's matrix draws), and cohorts and lots
+// are visited in a fixed order (by class; cohorts in the order of their
+// first lot, then the other lots in the order given), so every run's
+// outcome depends only on the seed, the run index and the inputs, never on
+// scheduling. each may be called from several goroutines at once, for
+// different runs and in any order; the outcome it receives is reused after
+// it returns, so it must copy what it keeps (typically into a slot of its
+// own per run). When runs fail, Simulate returns the error of the
+// lowest-numbered one.
 func Simulate(classes []SimClass, lots []Lot, opt SimOptions, each func(run int, out *RunOutcome) error) error {
 	if opt.Years < 1 {
 		return fmt.Errorf("simulate: %d years; simulate at least 1", opt.Years)
@@ -259,6 +311,7 @@ func Simulate(classes []SimClass, lots []Lot, opt SimOptions, each func(run int,
 			return fmt.Errorf("simulate: lot %d: quantity %g must be a finite number of zero or more", n+1, l.Quantity)
 		}
 	}
+	groups := groupLots(len(classes), shapes, lots)
 	workers := opt.Workers
 	if workers <= 0 {
 		workers = runtime.GOMAXPROCS(0)
@@ -294,7 +347,7 @@ func Simulate(classes []SimClass, lots []Lot, opt SimOptions, each func(run int,
 				if run >= opt.Runs || failedBefore(run) {
 					return
 				}
-				if err := w.run(classes, lots, opt.Seed, run); err != nil {
+				if err := w.run(classes, groups, opt.Seed, run); err != nil {
 					fail(run, fmt.Errorf("simulate: run %d: %w", run+1, err))
 					continue
 				}
@@ -308,31 +361,83 @@ func Simulate(classes []SimClass, lots []Lot, opt SimOptions, each func(run int,
 	return failErr
 }
 
+// cohort is the lots of one class that share a quantity: Start[i] of them
+// start in state i.
+type cohort struct {
+	quantity float64
+	start    []int
+}
+
+// classLots are one class's lots as the runs move them.
+type classLots struct {
+	cohorts []cohort
+	singles []Lot
+}
+
+// minCohort is the fewest lots that move as a cohort: fewer lots of one
+// size move one by one, which skips the cohort's pass over every state in
+// every year (a list of segments has many sizes shared by a few segments).
+const minCohort = 32
+
+// groupLots puts the lots of each class that share a quantity (bit for
+// bit), when there are at least minCohort of them, into cohorts, in the
+// order of their first lot; the other lots stay single, in the order given.
+func groupLots(classes int, shapes []simShape, lots []Lot) []classLots {
+	type key struct {
+		class int
+		q     uint64
+	}
+	n := map[key]int{}
+	for _, l := range lots {
+		n[key{l.Class, math.Float64bits(l.Quantity)}]++
+	}
+	out := make([]classLots, classes)
+	at := map[key]int{}
+	for _, l := range lots {
+		kk := key{l.Class, math.Float64bits(l.Quantity)}
+		if n[kk] < minCohort {
+			out[l.Class].singles = append(out[l.Class].singles, l)
+			continue
+		}
+		c, ok := at[kk]
+		if !ok {
+			c = len(out[l.Class].cohorts)
+			at[kk] = c
+			out[l.Class].cohorts = append(out[l.Class].cohorts, cohort{quantity: l.Quantity, start: make([]int, shapes[l.Class].states)})
+		}
+		out[l.Class].cohorts[c].start[l.State]++
+	}
+	return out
+}
+
 // simWorker holds one goroutine's buffers, reused run after run.
 type simWorker struct {
 	shapes []simShape
 	years  int
 	out    RunOutcome
-	rows   [][]picker  // [k][a*states+i]
-	srcs   []*rand.PCG // [k]: the lots' stream of the current run
+	steps  [][]stepPicker // [k]: the class's pickers of the current run
+	drawn  [][]stepPicker // [k]: storage for classes that draw their rows
 	// flat views of out.Quantity and out.Treated per class
 	qty     [][]float64 // [k][t*states+i]
 	treated [][]float64 // [k][(t*states+i)*actions+a]
+	// counts of a cohort by state: this year's and next year's
+	cnt, nxt []int
 }
 
 func newSimWorker(classes []SimClass, shapes []simShape, years int) *simWorker {
 	w := &simWorker{shapes: shapes, years: years}
 	nk := len(classes)
 	w.out = RunOutcome{Quantity: make([][][]float64, nk), Treated: make([][][][]float64, nk), Rows: make([][][][]float64, nk)}
-	w.rows = make([][]picker, nk)
-	w.srcs = make([]*rand.PCG, nk)
+	w.steps = make([][]stepPicker, nk)
+	w.drawn = make([][]stepPicker, nk)
 	w.qty = make([][]float64, nk)
 	w.treated = make([][]float64, nk)
+	most := 0
 	for k, sh := range shapes {
 		ns, na := sh.states, sh.actions
+		most = max(most, ns*max(na, ns))
 		w.qty[k] = make([]float64, (years+1)*ns)
 		w.treated[k] = make([]float64, years*ns*na)
-		w.rows[k] = make([]picker, na*ns)
 		w.out.Quantity[k] = make([][]float64, years+1)
 		for t := range w.out.Quantity[k] {
 			w.out.Quantity[k][t] = w.qty[k][t*ns : (t+1)*ns : (t+1)*ns]
@@ -346,15 +451,16 @@ func newSimWorker(classes []SimClass, shapes []simShape, years int) *simWorker {
 			}
 		}
 	}
+	w.cnt, w.nxt = make([]int, most), make([]int, most)
 	return w
 }
 
-func (w *simWorker) run(classes []SimClass, lots []Lot, seed uint64, run int) error {
+func (w *simWorker) run(classes []SimClass, groups []classLots, seed uint64, run int) error {
 	for k := range classes {
 		c := &classes[k]
 		sh := &w.shapes[k]
 		rows := c.Rows
-		w.srcs[k] = runSource(seed, run, lotStream(k))
+		w.steps[k] = sh.steps
 		if c.Draw != nil {
 			var err error
 			if rows, err = c.Draw(rand.New(runSource(seed, run, matrixStream(k)))); err != nil {
@@ -363,35 +469,133 @@ func (w *simWorker) run(classes []SimClass, lots []Lot, seed uint64, run int) er
 			if err := sh.checkRows(rows, c.Policy); err != nil {
 				return fmt.Errorf("class %d: drawn %w", k, err)
 			}
+			w.drawn[k] = sh.fillAll(w.drawn[k], c.Policy, rows)
+			w.steps[k] = w.drawn[k]
 		}
 		w.out.Rows[k] = rows
-		for a, byState := range rows {
-			for i, row := range byState {
-				if row != nil {
-					w.rows[k][a*sh.states+i] = newPicker(row)
-				} else {
-					w.rows[k][a*sh.states+i] = picker{}
-				}
-			}
-		}
 		clear(w.qty[k])
 		clear(w.treated[k])
+		src := runSource(seed, run, lotStream(k))
+		for g := range groups[k].cohorts {
+			w.moveCohort(k, &groups[k].cohorts[g], src)
+		}
+		w.moveSingles(k, groups[k].singles, src)
 	}
-	years := w.years
+	return nil
+}
+
+// moveSingles moves lots one by one: one draw per lot and year (none where
+// the year has a single outcome).
+func (w *simWorker) moveSingles(k int, lots []Lot, src *rand.PCG) {
+	sh := &w.shapes[k]
+	ns, na := sh.states, sh.actions
+	qty, treated, steps := w.qty[k], w.treated[k], w.steps[k]
 	for _, l := range lots {
-		k := l.Class
-		src := w.srcs[k]
-		sh := &w.shapes[k]
-		ns, na := sh.states, sh.actions
-		qty, treated, rows, policy := w.qty[k], w.treated[k], w.rows[k], sh.policy
 		s, q := l.State, l.Quantity
 		qty[s] += q
-		for t := range years {
-			a := policy[t*ns+s].draw(src)
-			treated[(t*ns+s)*na+a] += q
-			s = rows[a*ns+s].draw(src)
+		for t := range w.years {
+			a, j := steps[t*ns+s].draw(src)
+			treated[(t*ns+s)*na+int(a)] += q
+			s = int(j)
 			qty[(t+1)*ns+s] += q
 		}
 	}
-	return nil
+}
+
+// fewLots is the number of lots in one state of a cohort up to which they
+// are drawn one by one: below it single draws are cheaper than a chain of
+// binomial draws.
+const fewLots = 16
+
+// moveCohort moves a cohort by counts: each year, the lots in each state
+// split over the outcomes of that state's picker by a multinomial draw.
+func (w *simWorker) moveCohort(k int, c *cohort, src *rand.PCG) {
+	sh := &w.shapes[k]
+	ns, na := sh.states, sh.actions
+	qty, treated, steps := w.qty[k], w.treated[k], w.steps[k]
+	q := c.quantity
+	cnt, nxt := w.cnt[:ns], w.nxt[:ns]
+	copy(cnt, c.start)
+	for i, n := range cnt {
+		qty[i] += float64(n) * q
+	}
+	for t := range w.years {
+		clear(nxt)
+		for i, n := range cnt {
+			if n == 0 {
+				continue
+			}
+			sp := steps[t*ns+i]
+			base := (t*ns + i) * na
+			switch {
+			case len(sp) == 1:
+				treated[base+int(sp[0].a)] += float64(n) * q
+				nxt[sp[0].j] += n
+			case n <= fewLots:
+				for range n {
+					a, j := sp.draw(src)
+					treated[base+int(a)] += q
+					nxt[j]++
+				}
+			default:
+				left, mass := n, 1.0
+				for m := range sp {
+					st := &sp[m]
+					x := left
+					if m < len(sp)-1 {
+						if pr := st.p / mass; pr < 1 {
+							x = binomial(left, max(pr, 0), src)
+						}
+					}
+					mass -= st.p
+					if x > 0 {
+						treated[base+int(st.a)] += float64(x) * q
+						nxt[st.j] += x
+						left -= x
+					}
+					if left == 0 {
+						break
+					}
+				}
+			}
+		}
+		for j, n := range nxt {
+			if n > 0 {
+				qty[(t+1)*ns+j] += float64(n) * q
+			}
+		}
+		cnt, nxt = nxt, cnt
+	}
+}
+
+// binomial draws from Binomial(n, p). Where the mean of the rarer outcome
+// is small (n·min(p, 1-p) below 30, most cohort draws) it inverts the
+// distribution function, walking up from 0 with the ratio of successive
+// probabilities, P(k+1)/P(k) = (n-k)/(k+1)·p/(1-p): the BINV algorithm of
+// Kachitvichyanukul and Schmeiser (1988), exact, one uniform number and
+// about mean+1 steps. Otherwise it uses gonum's exact rejection sampler.
+func binomial(n int, p float64, src *rand.PCG) int {
+	if p <= 0 || n == 0 {
+		return 0
+	}
+	if p >= 1 {
+		return n
+	}
+	q := min(p, 1-p)
+	if float64(n)*q >= 30 {
+		return int(distuv.Binomial{N: float64(n), P: p, Src: src}.Rand())
+	}
+	r := q / (1 - q)
+	f := math.Exp(float64(n) * math.Log1p(-q)) // P(0)
+	u := uniform(src)
+	k := 0
+	for u > f && k < n {
+		u -= f
+		f *= r * float64(n-k) / float64(k+1)
+		k++
+	}
+	if q != p {
+		return n - k
+	}
+	return k
 }

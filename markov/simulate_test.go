@@ -2,6 +2,7 @@ package markov_test
 
 import (
 	"errors"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"runtime"
@@ -278,44 +279,53 @@ func TestSimulateCentreMatchesDeterministicForecast(t *testing.T) {
 // sqrt(p(1-p)/n) (binomial distribution, textbook fact). The sample
 // variance of R runs is checked against p(1-p)/n to nSE standard errors,
 // sqrt(σ⁴(2/(R-1) + κ/R)) with κ = (1 - 6p(1-p))/(np(1-p)) the binomial's
-// excess kurtosis (textbook facts, from memory).
+// excess kurtosis (textbook facts, from memory). Equal lots move as one
+// cohort of counts: 40 assets exercise the inversion of the binomial
+// distribution function (means below 30), 20,000 the rejection sampler.
 func TestSimulateShareSpreadIsBinomial(t *testing.T) {
 	p, err := markov.FromYearsInState([]float64{3, 3, 4})
 	if err != nil {
 		t.Fatal(err)
 	}
-	const assets, years, runs = 40, 10, 3000
-	lots := make([]markov.Lot, assets)
-	for i := range lots {
-		lots[i] = markov.Lot{Class: 0, State: 0, Quantity: 1}
-	}
-	poor := []int{2, 3} // the two worst states of four
-	shares := make([][]float64, years+1)
-	for y := range shares {
-		shares[y] = make([]float64, runs)
-	}
-	c := markov.SimClass{Policy: doNothing(years, 4, 1), Rows: [][][]float64{p.Rows()}}
-	err = markov.Simulate([]markov.SimClass{c}, lots, markov.SimOptions{Years: years, Runs: runs, Seed: 40}, func(run int, o *markov.RunOutcome) error {
-		for y := range years + 1 {
-			for _, j := range poor {
-				shares[y][run] += o.Quantity[0][y][j] / assets
+	for _, assets := range []int{40, 20000} {
+		t.Run(fmt.Sprintf("%d assets", assets), func(t *testing.T) {
+			const years, runs = 10, 3000
+			lots := make([]markov.Lot, assets)
+			for i := range lots {
+				lots[i] = markov.Lot{Class: 0, State: 0, Quantity: 1}
 			}
-		}
-		return nil
-	})
-	if err != nil {
-		t.Fatal(err)
-	}
-	for y := 2; y <= years; y += 2 {
-		pt, _ := p.Power(y)
-		pr := pt.At(0, 2) + pt.At(0, 3)
-		want := pr * (1 - pr) / assets
-		kurt := (1 - 6*pr*(1-pr)) / (assets * pr * (1 - pr))
-		se := want * math.Sqrt(2.0/(runs-1)+kurt/runs)
-		_, got, _ := sampleMoments(shares[y])
-		if math.Abs(got-want) > nSE*se {
-			t.Errorf("year %d: share sd %.4f, binomial sqrt(p(1-p)/n) = %.4f with p = %.3f (variance tolerance %.2g)", y, math.Sqrt(got), math.Sqrt(want), pr, nSE*se)
-		}
+			poor := []int{2, 3} // the two worst states of four
+			shares := make([][]float64, years+1)
+			for y := range shares {
+				shares[y] = make([]float64, runs)
+			}
+			c := markov.SimClass{Policy: doNothing(years, 4, 1), Rows: [][][]float64{p.Rows()}}
+			err = markov.Simulate([]markov.SimClass{c}, lots, markov.SimOptions{Years: years, Runs: runs, Seed: 40}, func(run int, o *markov.RunOutcome) error {
+				for y := range years + 1 {
+					for _, j := range poor {
+						shares[y][run] += o.Quantity[0][y][j] / float64(assets)
+					}
+				}
+				return nil
+			})
+			if err != nil {
+				t.Fatal(err)
+			}
+			for y := 2; y <= years; y += 2 {
+				pt, _ := p.Power(y)
+				pr := pt.At(0, 2) + pt.At(0, 3)
+				want := pr * (1 - pr) / float64(assets)
+				kurt := (1 - 6*pr*(1-pr)) / (float64(assets) * pr * (1 - pr))
+				se := want * math.Sqrt(2.0/(runs-1)+kurt/runs)
+				mean, got, _ := sampleMoments(shares[y])
+				if math.Abs(got-want) > nSE*se {
+					t.Errorf("year %d: share sd %.4f, binomial sqrt(p(1-p)/n) = %.4f with p = %.3f (variance tolerance %.2g)", y, math.Sqrt(got), math.Sqrt(want), pr, nSE*se)
+				}
+				if math.Abs(mean-pr) > nSE*math.Sqrt(want/runs) {
+					t.Errorf("year %d: mean share %.5f, (P^t) gives %.5f", y, mean, pr)
+				}
+			}
+		})
 	}
 }
 

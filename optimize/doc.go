@@ -215,4 +215,13 @@
 // The long-run (steady-state) LP has one column per class, state and action
 // and no years, a few thousand columns at most: it is solved flat and needs
 // no decomposition.
+//
+// # Robust plans
+//
+// SolveRobust (robust.go, where the model is written out) plans one work
+// program whose targets hold under the problem's own matrices and under
+// each of several sampled matrix sets: the treated quantities are columns
+// shared by every sample, each sample has its own untreated quantities
+// (never negative) and its own copy of the flow and target rows, and the
+// objective is the plan's own under the point estimate. It is solved flat.
 package optimize

@@ -51,9 +51,11 @@ type SimClassInfo struct {
 	// Segments is the number of segments or lots; Quantity their total.
 	Segments int     `json:"segments"`
 	Quantity float64 `json:"quantity"`
-	// LotSize is the size of the lots cut from the quantities (0 when the
-	// segments came from an inventory list).
-	LotSize float64 `json:"lot_size,omitempty"`
+	// LotSize is the size of the pieces cut from the quantities (0 when
+	// the segments came from an inventory list); PieceRule says what chose
+	// it.
+	LotSize   float64 `json:"lot_size,omitempty"`
+	PieceRule string  `json:"piece_rule,omitempty"`
 	// SegmentsFrom says where the segments came from.
 	SegmentsFrom string `json:"segments_from"`
 	// Matrix is how each run got the class's matrix: "as given" or the

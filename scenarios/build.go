@@ -580,6 +580,13 @@ func buildClasses(sc *Scenario, f *fileScenario, scales map[string]*Scale, class
 				withValue++
 			}
 		}
+		if fc.SegmentSize != nil {
+			if v := *fc.SegmentSize; !(v > 0) || math.IsInf(v, 0) {
+				is.add(fc.Lines.of("segment_size"), field+".segment_size", "%s: give the size of the pieces the class is managed in, a positive number in its unit (e.g. 0.5 for half a lane-km)", num(v))
+			} else {
+				c.SegmentSize = v
+			}
+		}
 		if fc.Weight != nil {
 			if *fc.Weight <= 0 {
 				is.add(fc.Lines.of("weight"), field+".weight", "%g must be positive", *fc.Weight)
@@ -1077,6 +1084,17 @@ func buildTargets(sc *Scenario, f *fileScenario, is *issues) {
 			scale = sc.SharedScale()
 		}
 		first, last := sc.StartYear, sc.StartYear+sc.Horizon-1
+		if ft.Confidence != nil {
+			switch c := *ft.Confidence; {
+			case ft.Hold:
+				is.add(ft.Lines.of("confidence"), field+".confidence", "hold: true cannot take a confidence: it is the guard that the plan's expected condition in the last year is no worse than today's; for a level that must hold in a share of runs, give min_average_index with from_year set to the last year and the confidence")
+				continue
+			case !(c > 0 && c < 1):
+				is.add(ft.Lines.of("confidence"), field+".confidence", "%s is outside (0, 1): give the share of simulated runs in which the target must hold, e.g. 0.9 for 90%%", num(c))
+				continue
+			}
+			t.Confidence = *ft.Confidence
+		}
 		if ft.Hold {
 			if ft.Group != "" || ft.State != "" || ft.MaxShare != nil || ft.MinShare != nil || ft.MinAverageIndex != nil || ft.FromYear != nil || ft.ToYear != nil {
 				is.add(line, field, "hold: true takes only class; it always compares the last year with today")

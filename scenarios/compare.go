@@ -35,6 +35,8 @@ type CompareColumn struct {
 	// Funding and Baseline as in the plan.
 	Funding  *Funding  `json:"funding,omitempty"`
 	Baseline *Baseline `json:"baseline,omitempty"`
+	// Confidence as in the plan, when a target states one.
+	Confidence *Confidence `json:"confidence,omitempty"`
 }
 
 // CompareYear is the level of service at the end of one year.
@@ -157,7 +159,7 @@ func Compare(scs []*Scenario, years YearSpec, opt Options) (*CompareResult, erro
 func column(res *Result, years []int) CompareColumn {
 	c := CompareColumn{Scenario: res.Scenario, Source: res.Source, Status: res.Status, Objective: res.Objective, ConditionScore: res.ConditionScore,
 		TotalCost: res.TotalCost, PresentValue: res.PresentValue, RoutineCost: res.RoutineCost, Targets: len(res.Targets),
-		Funding: res.Funding, Baseline: res.Baseline, Shortfalls: []TargetOutcome{}}
+		Funding: res.Funding, Baseline: res.Baseline, Confidence: res.Confidence, Shortfalls: []TargetOutcome{}}
 	for _, t := range res.Targets {
 		if t.Met {
 			c.TargetsMet++

@@ -141,12 +141,21 @@
 // tie, and a state the plan never holds is left untreated (PolicyRule).
 //
 // A class read from a segment list moves segment by segment; otherwise (or
-// when a lot size is given for it) CutLots cuts each class's quantity in
-// each state into lots of a given size (1 unit by default): floor(q/L) lots
-// of L plus one lot of the remainder. The lot size sets the spread:
-// n independent lots with chance p of being poor give a poor share with
-// standard deviation sqrt(p(1-p)/n), so lots should match the pieces that
-// really move together (a deck, a block of road).
+// when a size is given for it: its segment_size, or one for the run)
+// CutLots cuts each class's quantity in each state into pieces of that size
+// or of its unit's default (DefaultSegmentSize: a road section, a deck, one
+// asset; at most MaxDefaultPieces a class): floor(q/L) pieces of L plus one
+// piece of the remainder. The piece size sets the spread: n independent
+// pieces with chance p of being poor give a poor share with standard
+// deviation sqrt(p(1-p)/n), so pieces should match what really moves
+// together; results warn outside FewPieces..ManyPieces.
+//
+// Targets with a confidence (confidence.go): a plan must meet such a target
+// in at least that share of simulated runs; Plan finds it by tightening the
+// target in the LP by a margin, raised by the runs' quantile of misses and
+// then bisected down to the least that reaches the confidence, every plan
+// measured on the same runs. Robust plans (robust.go) hold their targets
+// under sampled fitted matrices at once (optimize.SolveRobust).
 //
 // Each run's figures (group shares, condition score, average index, spend
 // per class and for the network, per year) are kept in the run's own slot;

@@ -60,7 +60,13 @@ type Result struct {
 	// consumption and the renewal ratios.
 	Indicators *Indicators `json:"indicators,omitempty"`
 	Model      *ModelSize  `json:"model,omitempty"`
-	Caution    string      `json:"caution"`
+	// Confidence is how the plan meets the targets that state a
+	// confidence (confidence.go); nil when none does.
+	Confidence *Confidence `json:"confidence,omitempty"`
+	// Robust compares a robust plan (PlanRobust) with the point-estimate
+	// plan under sampled matrices; nil for other plans.
+	Robust  *Robust `json:"robust,omitempty"`
+	Caution string  `json:"caution"`
 	// wide keeps, for classes with a History, the quantities by widened
 	// state at the end of each year (index 0: today), for worklists; nil
 	// for the other classes, and not part of the JSON contract.

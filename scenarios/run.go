@@ -23,6 +23,10 @@ type Options struct {
 	// Warm, when not nil, carries generated policies from one decomposed
 	// run to the next (sweeps, what-if runs): see optimize.Warm.
 	Warm *optimize.Warm
+	// Confidence sets up the search for plans that meet targets with a
+	// stated confidence (confidence.go); it matters only when a target
+	// has one.
+	Confidence ConfidenceOptions
 }
 
 // Forecast rolls today's condition forward with no work done.
@@ -51,8 +55,13 @@ func Forecast(sc *Scenario) (*Result, error) {
 	return r, nil
 }
 
-// Plan optimises the scenario's work program.
+// Plan optimises the scenario's work program. When a target states a
+// confidence, the plan is the one that meets it in that share of simulated
+// runs (planConfident).
 func Plan(sc *Scenario, opt Options) (*Result, error) {
+	if hasConfidence(sc) {
+		return planConfident(sc, opt)
+	}
 	p, err := sc.Problem()
 	if err != nil {
 		return nil, err
@@ -62,6 +71,12 @@ func Plan(sc *Scenario, opt Options) (*Result, error) {
 	if err != nil {
 		return nil, err
 	}
+	return planResult(sc, p, plan, opt)
+}
+
+// planResult turns a solved plan of problem p into the Result, with the
+// funding answers and the baseline unless opt.SkipFunding.
+func planResult(sc *Scenario, p *optimize.Problem, plan *optimize.Plan, opt Options) (*Result, error) {
 	if plan.Status == optimize.Infeasible {
 		if err := minSpendInfeasible(sc, p, planFeasible(opt)); err != nil {
 			return nil, err

@@ -103,6 +103,10 @@ type Class struct {
 	// inventory is written in the scenario); Inventory says what was read.
 	Segments  []Segment
 	Inventory *Inventory
+	// SegmentSize is the size of the pieces a simulation cuts the class
+	// into, in its unit (segment_size); 0 when not given: the segment list's
+	// segments, or DefaultSegmentSize.
+	SegmentSize float64
 	// Evidence is how the matrix was estimated, when it comes from a fit
 	// result; nil for a matrix typed into the scenario. Simulations draw
 	// matrices from it under matrix uncertainty.
@@ -157,6 +161,10 @@ type Target struct {
 	Spec  optimize.Target
 	// FromYear and ToYear are calendar years (end-of-year condition).
 	FromYear, ToYear int
+	// Confidence is the share of simulated runs in which the plan must
+	// meet the target in every year it covers (confidence); 0 when the
+	// plan need only meet it in expectation.
+	Confidence float64
 }
 
 // BudgetGroup caps the yearly spend on some classes.

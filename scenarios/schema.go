@@ -62,6 +62,7 @@ type fileClass struct {
 	AfterWork       *fileAfterWork     `yaml:"after_work"`
 	MinIntervals    *treatmentYears    `yaml:"min_intervals"`
 	LastTreated     *lastTreatedSpec   `yaml:"last_treated"`
+	SegmentSize     *float64           `yaml:"segment_size"`
 	Lines           lines
 }
 
@@ -138,6 +139,7 @@ type fileTarget struct {
 	FromYear        *int     `yaml:"from_year"`
 	ToYear          *int     `yaml:"to_year"`
 	Hold            bool     `yaml:"hold"`
+	Confidence      *float64 `yaml:"confidence"`
 	Lines           lines
 }
 

@@ -119,10 +119,12 @@ type SimulateOptions struct {
 	Solver optimize.Method
 }
 
-// OptionError is a simulation option that cannot be used, with the fix.
+// OptionError is a simulation (or robust plan) option that cannot be used,
+// with the fix.
 type OptionError struct {
 	// Option is the option's name: "runs", "policy", "matrix uncertainty",
-	// "dirichlet prior", "lot size" or "segments".
+	// "dirichlet prior", "lot size" or "segments"; for robust plans
+	// "robust samples" or "robust matrices".
 	Option string
 	Msg    string
 }
@@ -136,16 +138,31 @@ const targetSlack = 1e-6
 // Simulate runs the scenario's plan (or do nothing) through opt.Runs
 // random runs at segment level and returns the uncertainty bands.
 func Simulate(sc *Scenario, opt SimulateOptions) (*SimulationResult, error) {
+	res, _, err := simulate(sc, opt, nil)
+	return res, err
+}
+
+// givenPlan is a plan a simulation follows instead of solving the
+// scenario's: the problem it was solved for (targets may be tightened) and
+// the plan.
+type givenPlan struct {
+	p    *optimize.Problem
+	plan *optimize.Plan
+}
+
+// simulate is Simulate, following given when it is not nil, and returning
+// every run's figures too.
+func simulate(sc *Scenario, opt SimulateOptions, given *givenPlan) (*SimulationResult, *figures, error) {
 	if err := opt.normalise(); err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	if n := (len(sc.Classes) + 1) * sc.Horizon * figCount * opt.Runs; n > maxFigures {
-		return nil, &OptionError{"runs", fmt.Sprintf("%d runs of %d classes over %d years would keep %d MB of figures; use at most %d runs for this scenario",
+		return nil, nil, &OptionError{"runs", fmt.Sprintf("%d runs of %d classes over %d years would keep %d MB of figures; use at most %d runs for this scenario",
 			opt.Runs, len(sc.Classes), sc.Horizon, n*8>>20, maxFigures/((len(sc.Classes)+1)*sc.Horizon*figCount))}
 	}
 	p, err := sc.Problem()
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	res := &SimulationResult{
 		Scenario: sc.Name, Source: sc.Source, Kind: "simulation", Policy: opt.Policy, Currency: sc.Currency,
@@ -156,33 +173,40 @@ func Simulate(sc *Scenario, opt SimulateOptions) (*SimulationResult, error) {
 	segs := opt.Lots
 	from := make([]string, len(sc.Classes))
 	sizes := make([]float64, len(sc.Classes))
+	rules := make([]string, len(sc.Classes))
 	if segs == nil {
 		if segs, err = CutLots(sc, opt.LotSize, opt.ClassLotSize); err != nil {
-			return nil, err
+			return nil, nil, err
 		}
 		for k := range sc.Classes {
 			c := &sc.Classes[k]
-			if segmentsAsLots(c, opt.LotSize, opt.ClassLotSize) {
+			size, segments, why := piecesOf(c, opt.LotSize, opt.ClassLotSize)
+			if segments {
 				from[k] = fmt.Sprintf("the %d segments of the inventory list %s", len(c.Segments), c.Inventory.File)
 				continue
 			}
-			sizes[k] = lotSize(c.Name, opt.LotSize, opt.ClassLotSize)
-			from[k] = fmt.Sprintf("lots of %s %s cut from the quantity in each state (one smaller lot takes any remainder)", num(sizes[k]), c.Unit)
+			sizes[k], rules[k] = size, why
+			from[k] = fmt.Sprintf("pieces of %s %s cut from the quantity in each state (%s; one smaller piece takes any remainder)", num(size), c.Unit, why)
 		}
 	} else {
 		for k := range from {
-			from[k] = "lots given by the caller"
+			from[k] = "pieces given by the caller"
 		}
 	}
 	lots, counts, err := toLots(sc, segs)
 	if err != nil {
-		return nil, err
+		return nil, nil, err
+	}
+	for k := range sc.Classes {
+		if w := pieceWarning(&sc.Classes[k], counts[k]); w != "" {
+			res.Warnings = append(res.Warnings, w)
+		}
 	}
 
 	simClasses := make([]markov.SimClass, len(sc.Classes))
 	samplers := make([]markov.MatrixSampler, len(sc.Classes))
 	if err := chooseSamplers(sc, opt, samplers, res); err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 
 	// The deterministic flow, once the options are known to work: the
@@ -191,12 +215,14 @@ func Simulate(sc *Scenario, opt SimulateOptions) (*SimulationResult, error) {
 	var work [][][][]float64
 	if opt.Policy == PolicyPlan {
 		p.Timeout = opt.Timeout
-		plan, err := optimize.SolveWith(p, optimize.Options{Method: opt.Solver})
-		if err != nil {
-			return nil, err
+		var plan *optimize.Plan
+		if given != nil {
+			p, plan = given.p, given.plan
+		} else if plan, err = optimize.SolveWith(p, optimize.Options{Method: opt.Solver}); err != nil {
+			return nil, nil, err
 		}
 		if plan.Status == optimize.Infeasible {
-			return nil, fmt.Errorf("%s: the budgets cannot be kept even by doing nothing; check the budget lines", sc.Source)
+			return nil, nil, fmt.Errorf("%s: the budgets cannot be kept even by doing nothing; check the budget lines", sc.Source)
 		}
 		det = assemble(sc, p, plan.Condition, plan.Work, plan.Spend)
 		work = plan.Work
@@ -205,7 +231,7 @@ func Simulate(sc *Scenario, opt SimulateOptions) (*SimulationResult, error) {
 	} else {
 		det, err = Forecast(sc)
 		if err != nil {
-			return nil, err
+			return nil, nil, err
 		}
 	}
 	res.Initial = det.Initial
@@ -213,7 +239,7 @@ func Simulate(sc *Scenario, opt SimulateOptions) (*SimulationResult, error) {
 	for k := range sc.Classes {
 		c := &sc.Classes[k]
 		oc := &p.Classes[k]
-		info := SimClassInfo{Class: c.Name, Unit: c.Unit, Segments: counts[k], Quantity: c.Total(), LotSize: sizes[k], SegmentsFrom: from[k], Matrix: "as given"}
+		info := SimClassInfo{Class: c.Name, Unit: c.Unit, Segments: counts[k], Quantity: c.Total(), LotSize: sizes[k], PieceRule: rules[k], SegmentsFrom: from[k], Matrix: "as given"}
 		sim := markov.SimClass{Rows: make([][][]float64, len(oc.Actions))}
 		for a := range oc.Actions {
 			sim.Rows[a] = oc.Actions[a].Rows
@@ -261,14 +287,14 @@ func Simulate(sc *Scenario, opt SimulateOptions) (*SimulationResult, error) {
 			return nil
 		})
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	fig.bands(res, det)
 	res.Targets = fig.targetChances(det)
 	if opt.Runs < fewRuns {
 		res.Warnings = append(res.Warnings, fmt.Sprintf("only %d runs: the 5th and 95th percentiles are rough; use --runs 1000 or more for figures to report", opt.Runs))
 	}
-	return res, nil
+	return res, fig, nil
 }
 
 func (o *SimulateOptions) normalise() error {
@@ -314,29 +340,35 @@ func (o *SimulateOptions) normalise() error {
 	return nil
 }
 
-func lotSize(class string, def float64, per map[string]float64) float64 {
-	if v, ok := per[class]; ok {
-		return v
+// piecesOf says how a simulation cuts a class: into the segments of its
+// segment list (segments true), or into pieces of size, with the reason in
+// words. A size asked for the simulation (per class, then for all classes)
+// comes first, then the class's segment_size, then its segment list, then
+// the default of its unit (DefaultSegmentSize).
+func piecesOf(c *Class, def float64, per map[string]float64) (size float64, segments bool, why string) {
+	if v, ok := per[c.Name]; ok {
+		return v, false, "the size asked for this class in this simulation"
 	}
 	if def > 0 {
-		return def
+		return def, false, "the size asked for every class in this simulation"
 	}
-	return 1
+	if c.SegmentSize > 0 {
+		return c.SegmentSize, false, "the class's segment_size"
+	}
+	if len(c.Segments) > 0 {
+		return 0, true, ""
+	}
+	size, why = DefaultSegmentSize(c.Unit, c.Initial)
+	return size, false, why
 }
 
-// segmentsAsLots says whether a class's inventory segments are simulated
-// as they are: when it has a segment list and no lot size is given for it.
-func segmentsAsLots(c *Class, def float64, per map[string]float64) bool {
-	_, sized := per[c.Name]
-	return len(c.Segments) > 0 && def == 0 && !sized
-}
-
-// CutLots returns the lots of a simulation. A class read from an inventory
-// list moves segment by segment, unless a lot size is given for it. Other
-// classes are cut into lots: with lot size L (def, overridden per class by
-// per; 1 when neither is given), a quantity q becomes floor(q/L) lots of L
-// and, when more than 1e-9·L is left, one lot of the remainder
-// q - floor(q/L)·L. Classes come in order, best state first.
+// CutLots returns the pieces of a simulation. A class read from an
+// inventory list moves segment by segment, unless a size is given for it
+// (def for every class, per for one, or its segment_size). Other classes
+// are cut into pieces of their segment_size or else of their unit's
+// default size (DefaultSegmentSize): with size L, a quantity q becomes
+// floor(q/L) pieces of L and, when more than 1e-9·L is left, one piece of
+// the remainder q - floor(q/L)·L. Classes come in order, best state first.
 func CutLots(sc *Scenario, def float64, per map[string]float64) ([]Lot, error) {
 	for _, name := range sortedKeys(per) {
 		if sc.classIndex(name) < 0 {
@@ -350,21 +382,17 @@ func CutLots(sc *Scenario, def float64, per map[string]float64) ([]Lot, error) {
 	var out []Lot
 	for k := range sc.Classes {
 		c := &sc.Classes[k]
-		if segmentsAsLots(c, def, per) {
+		size, segments, _ := piecesOf(c, def, per)
+		if segments {
 			for _, sg := range c.Segments {
 				out = append(out, Lot{ID: sg.ID, Class: c.Name, State: sg.State, Quantity: sg.Quantity, LastTreated: sg.LastTreated})
 			}
 			continue
 		}
-		size := lotSize(c.Name, def, per)
-		// Count before cutting, so that a lot size far too small for the
+		// Count before cutting, so that a size far too small for the
 		// class fails at once with the numbers to fix it.
-		n := 0.0
-		for _, q := range c.Initial {
-			n += math.Ceil(q/size - 1e-9)
-		}
-		if n+float64(len(out)) > MaxLots {
-			return nil, &OptionError{"lot size", fmt.Sprintf("class %q: %s %s in lots of %s would make %.0f lots; a simulation takes at most %d in all: give a larger lot size for the class, e.g. %s=%s",
+		if n := pieceCount(c.Initial, size); n+len(out) > MaxLots {
+			return nil, &OptionError{"lot size", fmt.Sprintf("class %q: %s %s in pieces of %s would make %d pieces; a simulation takes at most %d in all: give a larger size for the class, e.g. %s=%s",
 				c.Name, num(c.Total()), c.Unit, num(size), n, MaxLots, c.Name, num(suggestLot(c.Total(), MaxLots/10)))}
 		}
 		for _, pc := range c.pieces(sc.StartYear) {
@@ -523,7 +551,7 @@ func describeUncertainty(res *SimulationResult, opt SimulateOptions, counts []in
 	}
 	u := &res.Uncertainty
 	u.Segments, u.Matrix = true, opt.Matrix
-	u.Included = append(u.Included, fmt.Sprintf("segment-level randomness: each of %d segments or lots draws its treatment and its next state at random in every year, independently of the others", total))
+	u.Included = append(u.Included, fmt.Sprintf("piece-level randomness: each of %d pieces (segments of a list, or pieces cut from quantities) draws its treatment and its next state at random in every year, independently of the others", total))
 	if opt.Matrix == MatrixNone {
 		u.Excluded = append(u.Excluded, "matrix uncertainty: every run uses the transition matrices as given, so estimation error in them is not in the bands")
 	} else {
@@ -536,7 +564,7 @@ func describeUncertainty(res *SimulationResult, opt SimulateOptions, counts []in
 		u.Included = append(u.Included, fmt.Sprintf("matrix uncertainty (%s): each run draws the matrices of %s from their sampling distribution", opt.Matrix, strings.Join(names, ", ")))
 	}
 	u.Excluded = append(u.Excluded,
-		"common causes: segments deteriorate independently here, while real ones share weather, traffic, materials and contractors, so real outcomes may spread wider",
+		"common causes: pieces deteriorate independently here, while real assets share weather, traffic, materials and contractors, so real outcomes may spread wider",
 		"uncertainty in costs, budgets and treatment effects")
 	if opt.Policy == PolicyPlan {
 		u.Excluded = append(u.Excluded, "budget discipline: runs follow the plan's shares, so their spend varies around the plan's instead of being held to the budget")
@@ -646,6 +674,10 @@ type figures struct {
 	groupOf   [][]optimize.Group
 	costOf    [][][]float64 // per class, action, state: unit cost
 	numSeries int
+	// stateVals[n][t][run] is the share of target n's class in the
+	// target's states (Target.Spec.States) at the end of year t; nil for
+	// targets on a group or the score.
+	stateVals [][][]float64
 }
 
 func newFigures(sc *Scenario, p *optimize.Problem, runs int, spend bool) *figures {
@@ -654,6 +686,16 @@ func newFigures(sc *Scenario, p *optimize.Problem, runs int, spend bool) *figure
 	f.vals = make([][]float64, f.numSeries)
 	for s := range f.vals {
 		f.vals[s] = make([]float64, runs)
+	}
+	f.stateVals = make([][][]float64, len(sc.Targets))
+	for n, tg := range sc.Targets {
+		if tg.Spec.States == nil {
+			continue
+		}
+		f.stateVals[n] = make([][]float64, sc.Horizon)
+		for t := range f.stateVals[n] {
+			f.stateVals[n][t] = make([]float64, runs)
+		}
 	}
 	for t := range sc.Horizon {
 		f.esc = append(f.esc, math.Pow(1+sc.Escalation, float64(t)))
@@ -677,6 +719,25 @@ func (f *figures) series(k, t, fig int) int { return (k*f.years+t)*figCount + fi
 // record keeps one run's figures. It writes only the run's own slots.
 func (f *figures) record(run int, o *markov.RunOutcome) {
 	K := len(f.sc.Classes)
+	for n, byYear := range f.stateVals {
+		if byYear == nil {
+			continue
+		}
+		spec := &f.sc.Targets[n].Spec
+		for t := range f.years {
+			in, tot := 0.0, 0.0
+			for i, x := range o.Quantity[spec.Class][t+1] {
+				tot += x
+				if spec.States[i] {
+					in += x
+				}
+			}
+			if tot > 0 {
+				in /= tot
+			}
+			byYear[t][run] = in
+		}
+	}
 	for t := range f.years {
 		var net [figCount]float64
 		for k := range K {
@@ -781,60 +842,89 @@ func (f *figures) bands(res *SimulationResult, det *Result) {
 	}
 }
 
+// targetValues returns, for target n, a function giving every run's
+// measure at the end of year t (0-based: a group or state share, or the
+// 0-100 score), and the limit it is held to on the same scale.
+func (f *figures) targetValues(n int, initial *Snapshot) (func(t int) []float64, float64) {
+	tg := &f.sc.Targets[n]
+	spec := tg.Spec
+	k := len(f.sc.Classes)
+	if tg.Class != "" {
+		k = f.sc.classIndex(tg.Class)
+	}
+	limit := spec.Value
+	if spec.Kind == optimize.Hold {
+		if k == len(f.sc.Classes) {
+			limit = initial.Network.Score
+		} else {
+			limit = initial.Classes[k].Score
+		}
+	}
+	if f.stateVals[n] != nil {
+		return func(t int) []float64 { return f.stateVals[n][t] }, limit
+	}
+	fig := figScore
+	if spec.Kind == optimize.MaxShare || spec.Kind == optimize.MinShare {
+		fig = figGood + int(spec.Group)
+	}
+	return func(t int) []float64 { return f.vals[f.series(k, t, fig)] }, limit
+}
+
+// missBy is how far value v misses a target of the kind with the limit:
+// positive when missed, zero or less when met.
+func missBy(kind optimize.TargetKind, v, limit float64) float64 {
+	if kind == optimize.MaxShare {
+		return v - limit
+	}
+	return limit - v
+}
+
+// worstMiss returns, for each run, the most by which target n misses its
+// limit in any year it covers (a share, or score points): the run meets
+// the target in every year when it is at most targetSlack.
+func (f *figures) worstMiss(n int, initial *Snapshot) []float64 {
+	tg := &f.sc.Targets[n]
+	values, limit := f.targetValues(n, initial)
+	out := make([]float64, len(f.vals[0]))
+	for r := range out {
+		out[r] = math.Inf(-1)
+	}
+	for t := range f.years {
+		if year := f.sc.Year(t + 1); year < tg.FromYear || year > tg.ToYear {
+			continue
+		}
+		for r, v := range values(t) {
+			out[r] = math.Max(out[r], missBy(tg.Spec.Kind, v, limit))
+		}
+	}
+	return out
+}
+
 // targetChances measures each target in every run and year it covers.
 func (f *figures) targetChances(det *Result) []TargetChance {
 	sc := f.sc
-	K := len(sc.Classes)
 	runs := len(f.vals[0])
 	out := make([]TargetChance, 0, len(sc.Targets))
-	for n, tg := range sc.Targets {
-		spec := tg.Spec
-		k := K
-		if tg.Class != "" {
-			k = sc.classIndex(tg.Class)
-		}
-		fig := figScore
-		if spec.Kind == optimize.MaxShare || spec.Kind == optimize.MinShare {
-			fig = figGood + int(spec.Group)
-		}
-		limit := spec.Value
-		if spec.Kind == optimize.Hold {
-			if k == K {
-				limit = det.Initial.Network.Score
-			} else {
-				limit = det.Initial.Classes[k].Score
-			}
-		}
-		met := func(v float64) bool {
-			if spec.Kind == optimize.MaxShare {
-				return v-limit <= targetSlack
-			}
-			return limit-v <= targetSlack
-		}
+	for n := range sc.Targets {
+		tg := &sc.Targets[n]
+		values, limit := f.targetValues(n, &det.Initial)
 		tc := TargetChance{Target: tg.Label, MetByPlan: det.Targets[n].Met}
-		always := make([]bool, runs)
-		for r := range always {
-			always[r] = true
-		}
 		for t := range f.years {
 			year := sc.Year(t + 1)
 			if year < tg.FromYear || year > tg.ToYear {
 				continue
 			}
-			xs := f.vals[f.series(k, t, fig)]
 			hits := 0
-			for r, v := range xs {
-				if met(v) {
+			for _, v := range values(t) {
+				if missBy(tg.Spec.Kind, v, limit) <= targetSlack {
 					hits++
-				} else {
-					always[r] = false
 				}
 			}
 			tc.Years = append(tc.Years, YearChance{Year: year, Probability: float64(hits) / float64(runs)})
 		}
 		hits := 0
-		for _, ok := range always {
-			if ok {
+		for _, m := range f.worstMiss(n, &det.Initial) {
+			if m <= targetSlack {
 				hits++
 			}
 		}

@@ -7,7 +7,8 @@ import (
 )
 
 // How sure is the plan for the invented town of Marrowby's local roads and
-// 160 culverts? Each lane-km and each culvert is simulated as one lot; the
+// 160 culverts? Each half lane-km of road (the default piece for lane-km)
+// and each culvert is simulated as one piece; the
 // runs scatter around the plan's deterministic figures. Here the targets
 // have room to spare and hold in every run; a target the plan just meets
 // holds in about half of them (try the demo, scenarios/examples).
@@ -31,13 +32,13 @@ func ExampleSimulate() {
 	}
 	fmt.Println(r.Uncertainty.Included[0])
 	// Output:
-	// 2027 network poor: plan 25.2%, runs 25.3% [24.0% to 26.6%]
-	// 2028 network poor: plan 20.8%, runs 20.7% [19.1% to 22.6%]
-	// 2029 network poor: plan 15.9%, runs 15.9% [14.4% to 17.6%]
-	// 2030 network poor: plan 15.1%, runs 15.0% [13.5% to 16.8%]
-	// 2031 network poor: plan 14.4%, runs 14.3% [12.7% to 16.2%]
+	// 2027 network poor: plan 25.2%, runs 25.3% [24.3% to 26.2%]
+	// 2028 network poor: plan 20.8%, runs 20.8% [19.5% to 22.0%]
+	// 2029 network poor: plan 15.9%, runs 15.9% [14.8% to 17.0%]
+	// 2030 network poor: plan 15.1%, runs 15.1% [13.9% to 16.1%]
+	// 2031 network poor: plan 14.4%, runs 14.4% [13.2% to 15.6%]
 	// network poor share at most 25% in 2029-2031: met by the plan true, in every year in 100% of runs
 	// local-asphalt average index at least 50 in 2028-2031: met by the plan true, in every year in 100% of runs
 	// network average condition in 2031 no worse than today: met by the plan true, in every year in 100% of runs
-	// segment-level randomness: each of 547 segments or lots draws its treatment and its next state at random in every year, independently of the others
+	// piece-level randomness: each of 934 pieces (segments of a list, or pieces cut from quantities) draws its treatment and its next state at random in every year, independently of the others
 }

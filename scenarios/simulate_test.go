@@ -421,7 +421,7 @@ func TestSimulateGivenLots(t *testing.T) {
 	if !bytes.Equal(jsonOf(t, a.Years), jsonOf(t, b.Years)) {
 		t.Errorf("the same lots given as segments changed the bands")
 	}
-	if b.Classes[0].SegmentsFrom != "lots given by the caller" || b.Classes[0].LotSize != 0 {
+	if b.Classes[0].SegmentsFrom != "pieces given by the caller" || b.Classes[0].LotSize != 0 {
 		t.Errorf("segment source %+v", b.Classes[0])
 	}
 	_, err = scenarios.Simulate(sc, scenarios.SimulateOptions{Runs: 30, Lots: segs[1:]})
@@ -524,7 +524,7 @@ func TestSimulateInventorySegments(t *testing.T) {
 			for _, q := range count {
 				lots += int(math.Ceil(q / 2))
 			}
-			if !strings.HasPrefix(c.SegmentsFrom, "lots of 2 each") || c.Segments != lots {
+			if !strings.HasPrefix(c.SegmentsFrom, "pieces of 2 each") || c.Segments != lots {
 				t.Errorf("culverts with a lot size: %d lots from %q, want %d", c.Segments, c.SegmentsFrom, lots)
 			}
 			continue

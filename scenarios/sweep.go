@@ -23,8 +23,12 @@ type SweepResult struct {
 	// TargetsBudget is the least level budget that meets the scenario's
 	// targets; nil without targets or when unreachable.
 	TargetsBudget *float64 `json:"targets_budget"`
-	Warnings      []string `json:"warnings"`
-	Caution       string   `json:"caution"`
+	// ConfidentBudget is the least level budget whose max-condition plan
+	// meets every target with its confidence; only when a target states
+	// one (confidence.go).
+	ConfidentBudget *ConfidentBudget `json:"confident_budget,omitempty"`
+	Warnings        []string         `json:"warnings"`
+	Caution         string           `json:"caution"`
 }
 
 // SweepPoint is one yearly budget's max-condition plan.
@@ -43,6 +47,11 @@ type SweepPoint struct {
 	// TargetsMet counts the targets that hold.
 	TargetsMet int `json:"targets_met"`
 	Targets    int `json:"targets"`
+	// ConfidenceReached says whether the point's plan meets every target
+	// that states a confidence in its share of the runs, and Confidence
+	// what each reached; both only when a target states one.
+	ConfidenceReached *bool             `json:"confidence_reached,omitempty"`
+	Confidence        []ConfidentTarget `json:"confidence,omitempty"`
 }
 
 // sweepChains is the number of warm-started chains a decomposed sweep is
@@ -161,6 +170,15 @@ func Sweep(sc *Scenario, budgets []float64, opt Options) (*SweepResult, error) {
 		}
 		jobs = append(jobs, level(specs, &r.TargetsBudget))
 	}
+	if hasConfidence(sc) {
+		jobs = append(jobs, func() error {
+			s := *sc
+			s.Objective = optimize.MaxCondition
+			var err error
+			r.ConfidentBudget, err = confidentLevelBudget(&s, opt)
+			return err
+		})
+	}
 	if err := runParallel(jobs); err != nil {
 		return nil, err
 	}
@@ -192,6 +210,9 @@ func sweepPoint(sc *Scenario, budget float64, opt Options) (*SweepPoint, error) 
 		if t.Met {
 			pt.TargetsMet++
 		}
+	}
+	if c := res.Confidence; c != nil {
+		pt.ConfidenceReached, pt.Confidence = &c.Reached, c.Targets
 	}
 	return pt, nil
 }

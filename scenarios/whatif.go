@@ -53,6 +53,9 @@ type Changes struct {
 	Targets *[]TargetSpec `json:"targets,omitempty"`
 	// Objective replaces the objective: max-condition or min-cost.
 	Objective string `json:"objective,omitempty"`
+	// SegmentSizes set the size of the pieces a simulation cuts a class
+	// into (segment_size), by class name.
+	SegmentSizes map[string]float64 `json:"segment_sizes,omitempty"`
 }
 
 // BudgetStep changes the network budget of the years FromYear to ToYear
@@ -80,6 +83,7 @@ type TargetSpec struct {
 	FromYear        *int     `json:"from_year,omitempty" yaml:"from_year,omitempty"`
 	ToYear          *int     `json:"to_year,omitempty" yaml:"to_year,omitempty"`
 	Hold            bool     `json:"hold,omitempty" yaml:"hold,omitempty"`
+	Confidence      *float64 `json:"confidence,omitempty" yaml:"confidence,omitempty"`
 }
 
 // Editable is a loaded scenario kept as written: its YAML node tree with
@@ -167,6 +171,14 @@ func (e *Editable) Current() Changes {
 		}
 	}
 	ch.Targets = &targets
+	for k := range sc.Classes {
+		if v := sc.Classes[k].SegmentSize; v > 0 {
+			if ch.SegmentSizes == nil {
+				ch.SegmentSizes = map[string]float64{}
+			}
+			ch.SegmentSizes[sc.Classes[k].Name] = v
+		}
+	}
 	return ch
 }
 
@@ -296,6 +308,27 @@ func (e *Editable) overlay(ch Changes) (*yaml.Node, []string, error) {
 	if ch.Objective != "" {
 		o.set(top, "objective", o.str(ch.Objective))
 	}
+	if len(ch.SegmentSizes) > 0 {
+		// Classes merge item by item on name, so each item sets one key of
+		// one class; an unknown name would add a class, so it is refused.
+		list := o.seq(yaml.Style(0))
+		for _, name := range sortedKeys(ch.SegmentSizes) {
+			if e.Scenario.classIndex(name) < 0 {
+				is.add(at, "segment_sizes."+name, "unknown class %q", name)
+				continue
+			}
+			v := ch.SegmentSizes[name]
+			if bad(v) {
+				is.add(at, "segment_sizes."+name, "want a finite number")
+			}
+			// Block style: the merged class keeps the style of the file.
+			item := o.mapping(yaml.Style(0))
+			o.set(item, "name", o.str(name))
+			o.set(item, "segment_size", o.num(v))
+			list.Content = append(list.Content, item)
+		}
+		o.set(top, "classes", list)
+	}
 	if err := is.err(); err != nil {
 		return nil, nil, err
 	}
@@ -393,6 +426,9 @@ func (e *Editable) describe(sc *Scenario) string {
 		labels := make([]string, len(sc.Targets))
 		for i, t := range sc.Targets {
 			labels[i] = t.Label
+			if t.Confidence > 0 {
+				labels[i] += " with " + pct(t.Confidence) + " confidence"
+			}
 		}
 		text := "none"
 		if len(labels) > 0 {
@@ -402,6 +438,19 @@ func (e *Editable) describe(sc *Scenario) string {
 	}
 	if sc.Objective != base.Objective {
 		parts = append(parts, fmt.Sprintf("objective %s (file: %s)", sc.Objective, base.Objective))
+	}
+	for k := range sc.Classes {
+		c, was := &sc.Classes[k], base.Classes[k].SegmentSize
+		if c.SegmentSize != was {
+			file := "its segment list"
+			if was > 0 {
+				file = num(was) + " " + c.Unit
+			} else if len(c.Segments) == 0 {
+				size, _ := DefaultSegmentSize(c.Unit, c.Initial)
+				file = "default " + num(size) + " " + c.Unit
+			}
+			parts = append(parts, fmt.Sprintf("%s simulated in pieces of %s %s (file: %s)", c.Name, num(c.SegmentSize), c.Unit, file))
+		}
 	}
 	if len(parts) == 0 {
 		return ""
@@ -413,7 +462,7 @@ func sameTargets(a, b []Target) bool {
 	return slices.EqualFunc(a, b, func(x, y Target) bool {
 		a, b := x.Spec, y.Spec
 		same := a.Label == b.Label && a.Class == b.Class && a.Kind == b.Kind && a.Group == b.Group && slices.Equal(a.States, b.States) && a.Value == b.Value && a.From == b.From && a.To == b.To
-		return same && x.Label == y.Label && x.FromYear == y.FromYear && x.ToYear == y.ToYear
+		return same && x.Label == y.Label && x.FromYear == y.FromYear && x.ToYear == y.ToYear && x.Confidence == y.Confidence
 	})
 }
 
@@ -487,7 +536,7 @@ func (o overlayNodes) target(t TargetSpec, field string, is *issues) *yaml.Node 
 	for _, f := range []struct {
 		key string
 		v   *float64
-	}{{"max_share", t.MaxShare}, {"min_share", t.MinShare}, {"min_average_index", t.MinAverageIndex}} {
+	}{{"max_share", t.MaxShare}, {"min_share", t.MinShare}, {"min_average_index", t.MinAverageIndex}, {"confidence", t.Confidence}} {
 		if f.v == nil {
 			continue
 		}

@@ -116,6 +116,9 @@ func TestChangesCheckedLikeTheFile(t *testing.T) {
 		{"index on mixed scales", Changes{Targets: &[]TargetSpec{{Class: "all", MinAverageIndex: ref(60.0)}}},
 			[2]string{"{class: all, group: poor, max_share: 0.15, from_year: 2035}", "{class: all, min_average_index: 60}"}, "targets[0].min_average_index", "different scales"},
 		{"objective", Changes{Objective: "max-score"}, [2]string{"objective: max-condition", "objective: max-score"}, "objective", "unknown objective"},
+		{"confidence as percent", Changes{Targets: &[]TargetSpec{{Class: "all", Group: "poor", MaxShare: ref(0.15), FromYear: ref(2035), Confidence: ref(90.0)}}},
+			[2]string{"{class: all, group: poor, max_share: 0.15, from_year: 2035}", "{class: all, group: poor, max_share: 0.15, from_year: 2035, confidence: 90}"}, "targets[0].confidence", "outside (0, 1)"},
+		{"zero piece size", Changes{SegmentSizes: map[string]float64{"culverts": 0}}, [2]string{"    unit: each\n", "    unit: each\n    segment_size: 0\n"}, "classes[3] (culverts).segment_size", "give the size of the pieces"},
 	}
 	for _, c := range cases {
 		_, err := e.Apply(c.ch)
@@ -259,6 +262,39 @@ func TestWrittenScenarioPlansTheSame(t *testing.T) {
 		if c.file == "marrowby.yaml" && (a.Years[2].Budget == nil || *a.Years[2].Budget != 3825000) {
 			t.Errorf("%s: 2029 budget %v, want 3,825,000", c.file, a.Years[2].Budget)
 		}
+	}
+}
+
+// A piece size set on the page reaches the class, is described, is written
+// into a saved file, and a class the scenario lacks is refused.
+func TestSegmentSizesChange(t *testing.T) {
+	e := loadEditable(t, "marrowby.yaml")
+	ch := Changes{SegmentSizes: map[string]float64{"bridge-decks": 450, "local-asphalt": 0.5}}
+	sc, err := e.Apply(ch)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got := sc.Classes[2].SegmentSize; got != 450 || sc.Classes[1].SegmentSize != 0.5 || sc.Classes[0].SegmentSize != 0 {
+		t.Errorf("segment sizes %v, %v, %v", sc.Classes[0].SegmentSize, sc.Classes[1].SegmentSize, got)
+	}
+	if note := sc.Notes[len(sc.Notes)-1]; !strings.Contains(note, "bridge-decks simulated in pieces of 450 m2 (file: its segment list)") {
+		t.Errorf("note %q", note)
+	}
+	var buf bytes.Buffer
+	if err := e.WriteYAML(&buf, ch); err != nil {
+		t.Fatal(err)
+	}
+	written, err := Load(demoFS(t, "written.yaml", buf.String()), "written.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if written.Classes[2].SegmentSize != 450 || !reflect.DeepEqual(written.Classes[2].Initial, sc.Classes[2].Initial) {
+		t.Errorf("the written file's decks: pieces of %v", written.Classes[2].SegmentSize)
+	}
+	_, err = e.Apply(Changes{SegmentSizes: map[string]float64{"sidewalks": 100}})
+	var ie *InputError
+	if !errors.As(err, &ie) || ie.Issues[0].Field != "segment_sizes.sidewalks" || !strings.Contains(ie.Issues[0].Msg, "unknown class") {
+		t.Errorf("unknown class: %v", err)
 	}
 }
 

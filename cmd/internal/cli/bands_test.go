@@ -201,7 +201,7 @@ func TestWorkbookBandsHoldTheSimulationNumbers(t *testing.T) {
 	for _, r := range about {
 		text.WriteString(strings.Join(r, " ") + "\n")
 	}
-	for _, want := range []string{"30 simulated runs of the plan, seed 3", "segment-level randomness", "matrix uncertainty: every run uses the transition matrices as given", "The bands show how far"} {
+	for _, want := range []string{"30 simulated runs of the plan, seed 3", "piece-level randomness", "matrix uncertainty: every run uses the transition matrices as given", "The bands show how far"} {
 		if !strings.Contains(text.String(), want) {
 			t.Errorf("About sheet lacks %q", want)
 		}

@@ -12,6 +12,7 @@ import (
 func newCompareCmd() *cobra.Command {
 	var out formatOptions
 	var solve solveOptions
+	var conf confidenceOptions
 	var years string
 	cmd := &cobra.Command{
 		Use:   "compare FILE FILE...",
@@ -30,6 +31,9 @@ calendar years, or last.`,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			solveOpt, err := solve.scenarioOptions()
 			if err != nil {
+				return err
+			}
+			if err := conf.apply(&solveOpt); err != nil {
 				return err
 			}
 			if err := out.validate(); err != nil {
@@ -60,6 +64,7 @@ calendar years, or last.`,
 	}
 	out.register(cmd)
 	solve.register(cmd)
+	conf.register(cmd)
 	cmd.Flags().StringVar(&years, "years", "1,5,10,last", "years to show: plan years from 1, calendar years, or last")
 	return cmd
 }

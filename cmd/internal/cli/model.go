@@ -32,14 +32,21 @@ func checkModelPath(path string) error {
 // solves first, in the format the file extension names. It is written
 // before solving, so that a model that is slow or fails in lp_solve can be
 // taken to another solver.
-func writeModel(cmd *cobra.Command, sc *scenarios.Scenario, path string) error {
-	p, err := sc.Problem()
-	if err != nil {
-		return err
-	}
-	m, err := optimize.BuildModel(p)
-	if err != nil {
-		return err
+func writeModel(cmd *cobra.Command, sc *scenarios.Scenario, path string, robust *scenarios.RobustOptions) error {
+	var m *optimize.Model
+	if robust != nil {
+		var err error
+		if m, err = scenarios.RobustModel(sc, *robust); err != nil {
+			return simulateError("", err)
+		}
+	} else {
+		p, err := sc.Problem()
+		if err != nil {
+			return err
+		}
+		if m, err = optimize.BuildModel(p); err != nil {
+			return err
+		}
 	}
 	m.Notes = append([]string{fmt.Sprintf("scenario %q from %s; written by wearplan %s", sc.Name, sc.Source, Version)}, m.Notes...)
 	write := modelWriters[strings.ToLower(filepath.Ext(path))]

@@ -169,6 +169,65 @@ func (o *solveOptions) scenarioOptions() (scenarios.Options, error) {
 	return scenarios.Options{Timeout: o.timeout, Solver: m}, nil
 }
 
+// confidenceOptions are the flags of the search for plans that meet
+// targets with a stated confidence (plan, report, compare, sweep); they
+// matter only when a target states one.
+type confidenceOptions struct {
+	runs int
+	seed uint64
+}
+
+func (o *confidenceOptions) register(cmd *cobra.Command) {
+	f := cmd.Flags()
+	f.IntVar(&o.runs, "confidence-runs", scenarios.DefaultConfidenceRuns, "for targets with a confidence: simulated runs each plan is measured on")
+	f.Uint64Var(&o.seed, "confidence-seed", 1, "for targets with a confidence: random seed of those runs")
+}
+
+// apply checks the flags and sets them in the scenario options.
+func (o *confidenceOptions) apply(opt *scenarios.Options) error {
+	if o.runs < 100 || o.runs > scenarios.MaxRuns {
+		return usageError("--confidence-runs %d: give between 100 and %d (the share of runs meeting a target needs at least 100 to mean much; 1000 is the default)", o.runs, scenarios.MaxRuns)
+	}
+	if o.seed == 0 {
+		return usageError("--confidence-seed 0: give a seed of 1 or more")
+	}
+	opt.Confidence = scenarios.ConfidenceOptions{Runs: o.runs, Seed: o.seed}
+	return nil
+}
+
+// robustOptions are the flags of a robust plan (plan --robust).
+type robustOptions struct {
+	samples int
+	from    string
+	seed    uint64
+}
+
+var robustFlagNames = []string{"robust", "robust-matrices", "robust-seed"}
+
+func (o *robustOptions) register(cmd *cobra.Command) {
+	f := cmd.Flags()
+	f.IntVar(&o.samples, "robust", 0, "plan so that the targets hold under N matrix sets drawn for the classes fitted from inspections, and compare with the ordinary plan")
+	f.StringVar(&o.from, "robust-matrices", scenarios.MatrixBootstrap, "how --robust draws matrices: bootstrap (the fit's replicates) or dirichlet (each row from the posterior of its counts)")
+	f.Uint64Var(&o.seed, "robust-seed", 1, "random seed of the --robust draws")
+}
+
+// changed says whether a robust flag other than --robust was given.
+func (o *robustOptions) changed(cmd *cobra.Command) bool {
+	for _, name := range robustFlagNames[1:] {
+		if cmd.Flags().Changed(name) {
+			return true
+		}
+	}
+	return false
+}
+
+func (o *robustOptions) options(cmd *cobra.Command) (*scenarios.RobustOptions, error) {
+	if !cmd.Flags().Changed("robust") {
+		return nil, usageError("--robust-matrices and --robust-seed need --robust N")
+	}
+	return &scenarios.RobustOptions{Samples: o.samples, From: o.from, Seed: o.seed}, nil
+}
+
 // simulateOptions are the flags that set up a simulation, shared by
 // simulate and report --bands (which adds the bands to the report). The
 // policy is not among them: simulate has --policy, and a report's bands are
@@ -192,6 +251,8 @@ var simulateFlags = map[string]string{
 	"matrix uncertainty": "--matrix-uncertainty",
 	"dirichlet prior":    "--dirichlet-prior",
 	"lot size":           "--lot-size",
+	"robust samples":     "--robust",
+	"robust matrices":    "--robust-matrices",
 }
 
 func (o *simulateOptions) register(cmd *cobra.Command) {
@@ -200,7 +261,7 @@ func (o *simulateOptions) register(cmd *cobra.Command) {
 	f.Uint64Var(&o.seed, "seed", 1, "random seed: the same seed gives the same output")
 	f.StringVar(&o.matrix, "matrix-uncertainty", scenarios.MatrixNone, "draw matrices per run: none, dirichlet (posterior of fitted counts) or bootstrap (fitted replicates)")
 	f.Float64Var(&o.prior, "dirichlet-prior", 0.5, "symmetric Dirichlet prior for --matrix-uncertainty dirichlet: 0.5 (Jeffreys) or 1 (uniform)")
-	f.StringArrayVar(&o.lotSizes, "lot-size", nil, "size of the lots cut from the quantities, in each class's unit: SIZE for all classes or CLASS=SIZE (repeatable; default: the inventory list's segments, else 1)")
+	f.StringArrayVar(&o.lotSizes, "lot-size", nil, "size of the pieces each class moves as, in its unit: SIZE for all classes or CLASS=SIZE (repeatable; default: the class's segment_size, else its segment list's segments, else its unit's default piece, e.g. 0.5 lane-km, 500 m2, 1 each)")
 }
 
 // changed returns the first simulation flag given on the command line, or "".

@@ -19,6 +19,7 @@ var reportFormats = []string{"html", "md", "xlsx"}
 
 func newReportCmd() *cobra.Command {
 	var solve solveOptions
+	var conf confidenceOptions
 	var sim simulateOptions
 	var withBands bool
 	var format, out, date, sweep string
@@ -82,6 +83,9 @@ Bands and Target probabilities. The same seed gives the same report.`,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			solveOpt, err := solve.scenarioOptions()
 			if err != nil {
+				return err
+			}
+			if err := conf.apply(&solveOpt); err != nil {
 				return err
 			}
 			if !slices.Contains(reportFormats, format) {
@@ -190,6 +194,7 @@ Bands and Target probabilities. The same seed gives the same report.`,
 	cmd.Flags().StringVar(&date, "date", "", "report date as YYYY-MM-DD (default today); fix it for reproducible output")
 	cmd.Flags().BoolVar(&withBands, "bands", false, "also simulate each plan and show uncertainty bands and target probabilities (set up with --runs, --seed, --lot-size, --matrix-uncertainty)")
 	solve.register(cmd)
+	conf.register(cmd)
 	sim.register(cmd)
 	return cmd
 }

@@ -16,7 +16,7 @@ func TestSimulateDemoTable(t *testing.T) {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
 	for _, want := range []string{"Simulation of the plan (status optimal), 2027-2046: 20 runs, seed 1",
-		"Included in the bands:", "segment-level randomness", "Not included:", "matrix uncertainty: every run uses the transition matrices as given",
+		"Included in the bands:", "piece-level randomness", "Not included:", "matrix uncertainty: every run uses the transition matrices as given",
 		"median [5th-95th percentile]", "PLAN POOR", "Spend per year", "Targets: share of runs", "network poor share at most 15%",
 		"How runs follow the plan", "Hyndman and Fan (1996) type 7", "only 20 runs", "Planning estimate only"} {
 		if !strings.Contains(out, want) {
@@ -96,7 +96,7 @@ func TestSimulateFlagErrors(t *testing.T) {
 		{[]string{"--lot-size", "trams=2"}, `--lot-size: unknown class "trams"; classes are arterial-asphalt`},
 		{[]string{"--lot-size", "1", "--lot-size", "2"}, "a size for all classes is already given"},
 		{[]string{"--lot-size", "culverts=1", "--lot-size", "culverts=2"}, `class "culverts" is given twice`},
-		{[]string{"--lot-size", "bridge-decks=0.001"}, `--lot-size: class "bridge-decks": 14500 m2 in lots of 0.001 would make 14500000 lots`},
+		{[]string{"--lot-size", "bridge-decks=0.001"}, `--lot-size: class "bridge-decks": 14500 m2 in pieces of 0.001 would make 14500000 pieces`},
 		{[]string{"--table", "work"}, `--table "work": choose one of bands, targets`},
 		{[]string{"--seed", "-3"}, "invalid argument"},
 	}

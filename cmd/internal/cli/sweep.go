@@ -14,6 +14,7 @@ import (
 func newSweepCmd() *cobra.Command {
 	var out formatOptions
 	var solve solveOptions
+	var conf confidenceOptions
 	var budgets string
 	cmd := &cobra.Command{
 		Use:   "sweep FILE --budget FROM:TO:STEP",
@@ -36,6 +37,9 @@ is in budget order and the same on any machine.`,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			solveOpt, err := solve.scenarioOptions()
 			if err != nil {
+				return err
+			}
+			if err := conf.apply(&solveOpt); err != nil {
 				return err
 			}
 			if err := out.validate(); err != nil {
@@ -61,6 +65,7 @@ is in budget order and the same on any machine.`,
 	}
 	out.register(cmd)
 	solve.register(cmd)
+	conf.register(cmd)
 	cmd.Flags().StringVar(&budgets, "budget", "", "yearly budgets: FROM:TO:STEP (e.g. 2e6:6e6:500000) or a list (3e6,4e6,5e6)")
 	return cmd
 }

@@ -200,6 +200,7 @@ func SweepText(w io.Writer, r *scenarios.SweepResult) error {
 		}
 		t.rows = append(t.rows, append(row, fmt.Sprintf("%.1f", p.EndScore), Money(p.TotalCost), Money(p.PresentValue), fmt.Sprintf("%d of %d", p.TargetsMet, p.Targets)))
 	}
+	sweepConfidenceColumn(&t, r)
 	tabulate(ew, t)
 	if r.HoldBudget != nil {
 		ew.printf("\nLeast level yearly budget that holds today's network condition to the last year: %s\n", Money(*r.HoldBudget))
@@ -207,6 +208,7 @@ func SweepText(w io.Writer, r *scenarios.SweepResult) error {
 	if r.TargetsBudget != nil {
 		ew.printf("Least level yearly budget that meets every target: %s\n", Money(*r.TargetsBudget))
 	}
+	sweepConfidenceText(ew, r)
 	for _, warn := range r.Warnings {
 		ew.printf("\nNote: %s\n", warn)
 	}
@@ -267,6 +269,7 @@ func CompareText(w io.Writer, r *scenarios.CompareResult) error {
 		}
 		return fmt.Sprintf("%.2f", c.Baseline.ConditionScore)
 	})
+	compareConfidenceRows(r, row)
 	ew.printf("\nSummary\n")
 	tabulate(ew, t)
 	// Level of service: one block per chosen position, classes then network.

@@ -101,7 +101,7 @@ func SimulationText(w io.Writer, r *scenarios.SimulationResult) error {
 	for _, s := range r.Uncertainty.Excluded {
 		ew.printf("%s\n", bullet(s))
 	}
-	ew.printf("\nSegments\n")
+	ew.printf("\nPieces: each class moves as these pieces, independently of each other\n")
 	tabulate(ew, simClassTable(r))
 
 	ew.printf("\nCondition at the end of each year: median [5th-95th percentile] over %d runs; PLAN is the deterministic %s\n",
@@ -133,11 +133,11 @@ func bullet(s string) string {
 }
 
 func simClassTable(r *scenarios.SimulationResult) table {
-	t := table{header: []string{"CLASS", "SEGMENTS", "QUANTITY", "UNIT", "FROM", "MATRIX"}, right: []bool{false, true, true, false, false, false}}
+	t := table{header: []string{"CLASS", "PIECES", "QUANTITY", "UNIT", "FROM", "MATRIX"}, right: []bool{false, true, true, false, false, false}}
 	for _, c := range r.Classes {
 		from := c.SegmentsFrom
 		if c.LotSize > 0 {
-			from = fmt.Sprintf("lots of %s", Plain(c.LotSize))
+			from = fmt.Sprintf("pieces of %s (%s)", Plain(c.LotSize), c.PieceRule)
 		}
 		t.rows = append(t.rows, []string{c.Class, fmt.Sprint(c.Segments), Quantity(c.Quantity), c.Unit, from, c.Matrix})
 	}

@@ -41,6 +41,8 @@ func Text(w io.Writer, r *scenarios.Result) error {
 	}
 	fundingText(ew, r)
 	indicatorText(ew, r)
+	confidenceText(ew, r)
+	robustText(ew, r)
 	for _, warn := range r.Warnings {
 		ew.printf("\nNote: %s\n", warn)
 	}

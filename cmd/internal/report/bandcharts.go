@@ -95,7 +95,7 @@ func bandWords(sim *scenarios.SimulationResult) string {
 // includedShort names the sources of uncertainty in the bands briefly; the
 // report's bands section says them in full.
 func includedShort(sim *scenarios.SimulationResult) string {
-	s := "segment-level randomness"
+	s := "piece-level randomness"
 	if m := sim.Uncertainty.Matrix; m != "" && m != scenarios.MatrixNone {
 		s += " and matrix uncertainty (" + m + ")"
 	} else {

@@ -41,7 +41,7 @@ func buildBands(id string, sim *scenarios.SimulationResult) *bandsView {
 	}
 	v.Method = append(v.Method, fact{"Percentiles", sim.Percentiles})
 	v.Classes = table{ID: id + "-bands-classes", Caption: "How each class was simulated",
-		Head: []string{"Class", "Segments or lots", "Quantity", "Unit", "Segments from", "Matrix in each run"}, Num: []bool{false, true, true, false, false, false}}
+		Head: []string{"Class", "Pieces", "Quantity", "Unit", "Pieces from", "Matrix in each run"}, Num: []bool{false, true, true, false, false, false}}
 	for _, c := range sim.Classes {
 		v.Classes.add(c.Class, render.Money(float64(c.Segments)), render.Quantity(c.Quantity), c.Unit, c.SegmentsFrom, c.Matrix)
 	}

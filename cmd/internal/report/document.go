@@ -68,6 +68,7 @@ type runView struct {
 	Charts      []chart
 	Targets     *table
 	Funding     *fundingView
+	Confidence  *table
 	Bands       *bandsView
 	Spend       *table
 	ClassSpend  *table
@@ -216,6 +217,7 @@ func buildRun(id string, run Run, withCharts bool) (runView, error) {
 		t := targetTable(id+"-targets", r)
 		rv.Targets = &t
 	}
+	rv.Confidence = confidenceTable(id+"-confidence", r)
 	if run.Simulation != nil {
 		rv.Bands = buildBands(id, run.Simulation)
 	}

@@ -94,6 +94,11 @@ func Markdown(w io.Writer, rep *Report) error {
 				m.table(*f.Targets)
 			}
 		}
+		if r.Confidence != nil {
+			m.line("### Targets with a confidence")
+			m.blank()
+			m.table(*r.Confidence)
+		}
 		if b := r.Bands; b != nil {
 			m.line("### How sure the forecast is")
 			m.blank()

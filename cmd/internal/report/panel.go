@@ -63,6 +63,14 @@ func RunPanel(id string, run Run) (*Panel, error) {
 			return nil, err
 		}
 	}
+	if rv.Confidence != nil {
+		// The what-if page shows the confidence table under the targets.
+		h, err := exec("table", rv.Confidence)
+		if err != nil {
+			return nil, err
+		}
+		p.Targets += h
+	}
 	for _, c := range rv.Charts {
 		h, err := exec("chart", c)
 		if err != nil {

@@ -502,6 +502,54 @@ func TestBandsWhenAskedFor(t *testing.T) {
 	}
 }
 
+// TestPieceSizesReachTheBands: a piece size set on the page cuts the class
+// into pieces of that size in the bands (one deck-sized piece of the whole
+// 14,500 m2 class: a single piece, so the class is all in one state in
+// every run, and a warning says so); a class the scenario lacks is a 422
+// naming the field.
+func TestPieceSizesReachTheBands(t *testing.T) {
+	s, ts := newTestServer(t, Options{})
+	out, _, bad := s.plan(context.Background(), alternative{Changes: scenarios.Changes{SegmentSizes: map[string]float64{"bridge-decks": 14500}}, Bands: true})
+	if bad != nil {
+		t.Fatal(bad)
+	}
+	decks := out.simulation.Classes[2]
+	if decks.Class != "bridge-decks" || decks.Segments != 12 || decks.LotSize != 14500 {
+		// 12: one piece per condition state and years since work (0-4, or
+		// 5 and more: the deck seal's interval) that hold decks today, as
+		// counted from the demo's segment list by hand; pieces never span
+		// either.
+		t.Errorf("decks moved as %d pieces of %g, want 12 of 14500", decks.Segments, decks.LotSize)
+	}
+	if !strings.Contains(strings.Join(out.simulation.Warnings, " "), `class "bridge-decks" moves as 12 pieces, fewer than 20`) {
+		t.Errorf("no warning about too few pieces: %q", out.simulation.Warnings)
+	}
+	r := postJSON(t, ts, "/api/plan", `{"scenario": 0, "changes": {"segment_sizes": {"trams": 5}}, "bands": true}`)
+	if r.status != 422 || !strings.Contains(string(r.body), "segment_sizes.trams") {
+		t.Errorf("unknown class: %d %s", r.status, r.body)
+	}
+}
+
+// TestConfidentTargetOnThePage: a target held in a share of runs comes
+// back with the share of runs reached in the words and the confidence
+// table under the targets; a confidence of 150% is refused with the
+// field, as the file would refuse it.
+func TestConfidentTargetOnThePage(t *testing.T) {
+	_, ts := newTestServer(t, Options{})
+	a := decodeAnswer(t, postJSON(t, ts, "/api/plan", `{"scenario": 0, "changes": {"targets": [{"class": "culverts", "group": "poor", "max_share": 0.4, "confidence": 0.9}]}}`))
+	words := strings.Join(a.Shortfalls, " ")
+	if !strings.Contains(words, "Met with its confidence: culverts poor share at most 40% in 2027-2046 holds in every year in 100.0% (s.e. 0.0) of 1,000 simulated runs") {
+		t.Errorf("words %q", a.Shortfalls)
+	}
+	if !strings.Contains(string(a.Panel.Targets), "Targets with a confidence") {
+		t.Errorf("no confidence table under the targets")
+	}
+	r := postJSON(t, ts, "/api/plan", `{"scenario": 0, "changes": {"targets": [{"class": "all", "group": "poor", "max_share": 0.15, "confidence": 1.5}]}}`)
+	if r.status != 422 || !strings.Contains(string(r.body), `targets[0].confidence`) || !strings.Contains(string(r.body), "outside (0, 1)") {
+		t.Errorf("confidence 1.5: %d %s", r.status, r.body)
+	}
+}
+
 // TestAnswersDoNotDependOnHistory: each request starts from the base
 // plan's policies, not from the requests before it, so the same request
 // gets the same bytes on a fresh server and after other requests.

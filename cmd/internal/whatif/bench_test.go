@@ -10,6 +10,7 @@ import (
 	"time"
 
 	"wearplan/cmd/internal/report"
+	"wearplan/optimize/optimizetest"
 	"wearplan/scenarios"
 )
 
@@ -21,7 +22,11 @@ import (
 //   - slider: the yearly budgets a slider gives, 2 to 7 million in steps of
 //     250,000, in turn (below 4.5 million the targets are not met and the
 //     plan adds the shortfall and funding solves);
-//   - memo: the same request again.
+//   - memo: the same request again;
+//   - bands: the demo with the uncertainty bands ticked (BandRuns runs of
+//     its 2,893 segments, the band charts and rows laid out); the peak
+//     resident memory of the process is reported as MiB-peak and the
+//     processor time per request as cpu-ms/op.
 //
 // Besides the mean it reports the median (ms-median, the figure docs/benchmarks.md
 // records) and the 90th percentile (ms-p90) in milliseconds, and for the
@@ -36,21 +41,28 @@ func BenchmarkPlanRequest(b *testing.B) {
 		name    string
 		budgets []float64 // nil: the file's
 		memo    bool
+		bands   bool
 	}{
-		{"demo", nil, false},
-		{"slider", slider, false},
-		{"memo", nil, true},
+		{"demo", nil, false, false},
+		{"slider", slider, false, false},
+		{"memo", nil, true, false},
+		{"bands", nil, false, true},
 	} {
 		b.Run(c.name, func(b *testing.B) {
 			s, err := New(demoSources(b, "marrowby.yaml"), Options{})
 			if err != nil {
 				b.Fatal(err)
 			}
+			optimizetest.ResetPeakRSS()
+			cpu := optimizetest.CPUSeconds()
 			var times []time.Duration
 			failed := 0
 			i := 0
 			for b.Loop() {
 				body := `{"scenario": 0, "changes": {}}`
+				if c.bands {
+					body = `{"scenario": 0, "changes": {}, "bands": true}`
+				}
 				if c.budgets != nil {
 					body = fmt.Sprintf(`{"scenario": 0, "changes": {"budget_level": %.0f}}`, c.budgets[i%len(c.budgets)])
 				}
@@ -76,6 +88,10 @@ func BenchmarkPlanRequest(b *testing.B) {
 			b.ReportMetric(float64(times[len(times)*9/10].Microseconds())/1000, "ms-p90")
 			if c.budgets != nil {
 				b.ReportMetric(float64(failed), "errors")
+			}
+			if c.bands {
+				b.ReportMetric(optimizetest.PeakRSS(), "MiB-peak")
+				b.ReportMetric((optimizetest.CPUSeconds()-cpu)*1000/float64(len(times)), "cpu-ms/op")
 			}
 		})
 	}

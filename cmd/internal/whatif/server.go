@@ -34,6 +34,7 @@ import (
 	"net"
 	"net/http"
 	"runtime"
+	"strconv"
 	"strings"
 	"time"
 
@@ -284,6 +285,9 @@ type classInfo struct {
 	IndexLow      float64 `json:"index_low"`
 	IndexHigh     float64 `json:"index_high"`
 	LowerIsBetter bool    `json:"lower_is_better"`
+	// Pieces says what the class moves as in the bands when the page sets
+	// no piece size: its segment list's segments or its unit's default.
+	Pieces string `json:"pieces"`
 	// States are the scale's condition states, best first, for targets
 	// on one state.
 	States []string `json:"states"`
@@ -302,7 +306,8 @@ func (s *Server) serveScenarios(w http.ResponseWriter, r *http.Request) {
 		for k := range sc.Classes {
 			c := &sc.Classes[k]
 			ci := classInfo{Name: c.Name, Unit: c.Unit, Scale: strings.TrimPrefix(c.Scale.Name, scenarios.PresetPrefix),
-				IndexLow: min(c.Scale.Best, c.Scale.Worst), IndexHigh: max(c.Scale.Best, c.Scale.Worst), LowerIsBetter: c.Scale.Best < c.Scale.Worst}
+				IndexLow: min(c.Scale.Best, c.Scale.Worst), IndexHigh: max(c.Scale.Best, c.Scale.Worst), LowerIsBetter: c.Scale.Best < c.Scale.Worst,
+				Pieces: defaultPieces(c)}
 			for _, st := range c.Scale.States {
 				ci.States = append(ci.States, st.Name)
 			}
@@ -311,6 +316,17 @@ func (s *Server) serveScenarios(w http.ResponseWriter, r *http.Request) {
 		out[i] = info
 	}
 	writeJSON(w, http.StatusOK, out)
+}
+
+// defaultPieces says what a class moves as in a simulation without a
+// piece size of its own: its segment list's segments, or its unit's
+// default piece.
+func defaultPieces(c *scenarios.Class) string {
+	if len(c.Segments) > 0 {
+		return fmt.Sprintf("%d segments", len(c.Segments))
+	}
+	size, _ := scenarios.DefaultSegmentSize(c.Unit, c.Initial)
+	return fmt.Sprintf("default %s", strconv.FormatFloat(size, 'f', -1, 64))
 }
 
 // budgetRange suggests the budget slider's top and step: twice the

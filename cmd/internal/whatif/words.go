@@ -82,7 +82,7 @@ func encodeAnswer(a *planAnswer) ([]byte, error) {
 func answer(sc *scenarios.Scenario, r *scenarios.Result, p *report.Panel) *planAnswer {
 	a := &planAnswer{
 		Scenario: r.Scenario, Status: r.Status, Objective: r.Objective, Caution: r.Caution,
-		Headline: render.Headline(r), Shortfalls: render.ShortfallWords(r), Funding: render.FundingWords(r),
+		Headline: render.Headline(r), Shortfalls: append(render.ShortfallWords(r), confidenceWords(r)...), Funding: append(render.FundingWords(r), confidentBudgetWords(r)...),
 		Warnings: []string{}, ClassWarnings: []classWarningAnswer{}, Figures: figures(sc, r),
 		Panel: panelAnswer{Summary: p.Summary, LOS: p.LOS, Targets: p.Targets, Spend: p.Spend, Work: p.Work},
 	}

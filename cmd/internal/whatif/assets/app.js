@@ -30,7 +30,8 @@
     scenarios: [],
     info: null, // the chosen scenario (from /api/scenarios)
     steps: [], // {from, to, kind: 'percent' | 'amount', value}
-    targets: [], // {who, measure: good|fair|poor|state|index|hold, state, bound: max|min, value, from, to}
+    pieces: {}, // class name -> piece size typed on the page ('' keeps the file's)
+    targets: [], // {who, measure: good|fair|poor|state|index|hold, state, bound: max|min, value, from, to, confidence: '' or percent}
     seq: 0,
     inflight: null,
     timer: 0,
@@ -78,9 +79,23 @@
     $('escalation').value = String(round((set.cost_escalation || 0) * 100));
     for (const r of document.querySelectorAll('input[name=objective]')) r.checked = r.value === set.objective;
     state.targets = (set.targets || []).map(targetRow);
+    state.pieces = {};
+    for (const c of info.classes) state.pieces[c.name] = String((set.segment_sizes || {})[c.name] ?? '');
     $('alt-name').value = set.name || info.name;
     drawSteps();
     drawTargets();
+    drawPieces();
+  }
+
+  // drawPieces draws one piece-size input per class.
+  function drawPieces() {
+    const list = $('pieces');
+    list.replaceChildren();
+    state.info.classes.forEach((c) => {
+      const value = el('input', { type: 'number', min: '0', step: 'any', inputMode: 'decimal', 'aria-label': c.name + ': piece size', placeholder: c.pieces, value: state.pieces[c.name] });
+      value.addEventListener('change', () => { state.pieces[c.name] = value.value; });
+      list.append(el('li', { 'data-field': 'segment_sizes.' + c.name }, word(c.name), value, word(c.unit)));
+    });
   }
 
   function setLevel(v) {
@@ -118,7 +133,8 @@
 
   // targetRow turns a target as written in the file into a row.
   function targetRow(t) {
-    const row = { who: t.class || 'all', measure: 'poor', bound: 'max', value: 15, from: t.from_year ?? null, to: t.to_year ?? null };
+    const row = { who: t.class || 'all', measure: 'poor', bound: 'max', value: 15, from: t.from_year ?? null, to: t.to_year ?? null,
+      confidence: t.confidence != null ? String(round(100 * t.confidence)) : '' };
     if (t.hold) row.measure = 'hold';
     else if (t.min_average_index != null) { row.measure = 'index'; row.value = t.min_average_index; }
     else {
@@ -142,6 +158,7 @@
     }
     if (row.from != null) t.from_year = row.from;
     if (row.to != null) t.to_year = row.to;
+    if (row.confidence !== '') t.confidence = Number(row.confidence) / 100;
     return t;
   }
 
@@ -198,6 +215,11 @@
         from.addEventListener('change', () => { row.from = from.value === '' ? null : Number(from.value); });
         to.addEventListener('change', () => { row.to = to.value === '' ? null : Number(to.value); });
         parts.push(word('from'), from, word('to'), to);
+        // A confidence: the share of simulated runs in which the target
+        // must hold; empty means the plan need only meet it on average.
+        const conf = el('input', { type: 'number', min: '1', max: '99', step: 'any', inputMode: 'decimal', class: 'confidence', 'aria-label': n + 'confidence in % of simulated runs (empty: on average)', placeholder: 'average', value: row.confidence });
+        conf.addEventListener('change', () => { row.confidence = conf.value; });
+        parts.push(word('held in'), conf, word('% of runs'));
       }
       const remove = el('button', { type: 'button', class: 'remove', text: '\u00d7', 'aria-label': 'Remove target ' + (i + 1) });
       who.addEventListener('change', () => {
@@ -236,6 +258,9 @@
     };
     const level = $('budget-level').value;
     if (level !== '') ch.budget_level = Number(level);
+    const sizes = {};
+    for (const [name, v] of Object.entries(state.pieces)) if (v !== '') sizes[name] = Number(v);
+    if (Object.keys(sizes).length) ch.segment_sizes = sizes;
     return ch;
   }
 
@@ -299,6 +324,8 @@
     if (field.startsWith('cost_escalation')) return 'Cost escalation';
     if (field.startsWith('objective')) return 'Objective';
     if (field.startsWith('name')) return 'Name';
+    m = /^segment_sizes\.(.*)$/.exec(field) || /^classes\[\d+\] \((.*)\)\.segment_size/.exec(field);
+    if (m) return 'Piece size of ' + m[1];
     return field;
   }
 
@@ -309,6 +336,8 @@
     if (field.startsWith('cost_escalation')) return $('escalation');
     if (field.startsWith('name')) return $('alt-name');
     if (field.startsWith('objective')) return $('f-objective');
+    m = /^segment_sizes\.(.*)$/.exec(field) || /^classes\[\d+\] \((.*)\)\.segment_size/.exec(field);
+    if (m) return document.querySelector('[data-field="segment_sizes.' + CSS.escape(m[1]) + '"]');
     return null;
   }
 
@@ -517,7 +546,7 @@
       schedule();
     });
     $('add-target').addEventListener('click', () => {
-      state.targets.push({ who: 'all', measure: 'poor', bound: 'max', value: 15, from: null, to: null });
+      state.targets.push({ who: 'all', measure: 'poor', bound: 'max', value: 15, from: null, to: null, confidence: '' });
       drawTargets();
       schedule();
     });
