@@ -515,3 +515,34 @@ func TestDemoWorklistWithHistoryWithinTolerance(t *testing.T) {
 		}
 	}
 }
+
+// A target on one state of a class planned over widened states (intervals,
+// wear after work) reaches every solve the same way: the sweep's least
+// level budget that meets every target is the one the plan reports (two
+// paths to one figure), and holding the widened states of footways'
+// "Very poor" is what makes the plan at 1.5 million meet it.
+func TestStateTargetOnWidenedClassInSweep(t *testing.T) {
+	sc, err := scenarios.LoadFile("../testdata/thornwick-footways.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	r, err := scenarios.Plan(sc, scenarios.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if r.Funding == nil || r.Funding.LevelBudget == nil {
+		t.Fatalf("plan gives no least level budget: %+v", r.Funding)
+	}
+	sw, err := scenarios.Sweep(sc, []float64{1.5e6}, scenarios.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Both are the optimum of the same LP solved twice: lp_solve's
+	// feasibility tolerance (1e-9 relative) bounds the difference.
+	if sw.TargetsBudget == nil || math.Abs(*sw.TargetsBudget-*r.Funding.LevelBudget) > 1e-6**r.Funding.LevelBudget {
+		t.Errorf("sweep's least level budget %v, plan's %v", sw.TargetsBudget, *r.Funding.LevelBudget)
+	}
+	if sw.Points[0].Status != "optimal" {
+		t.Errorf("at 1.5 million: %s, want every target met", sw.Points[0].Status)
+	}
+}

@@ -346,6 +346,10 @@ func classRenewal(sc *Scenario, k int, opt Options) ([]float64, string, error) {
 	sub := *sc
 	sub.Classes = []Class{c}
 	sub.Budget, sub.BudgetGroups, sub.RoutineInBudget, sub.CarryOver = nil, nil, false, false
+	// Alone and unfunded: money ring-fenced for other classes or groups
+	// does not apply to it, and its own floor is no part of what holding
+	// its condition costs.
+	sub.MinSpends = nil
 	sub.Objective = optimize.MinCost
 	p, err := sub.Problem()
 	if err != nil {

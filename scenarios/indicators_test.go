@@ -3,6 +3,7 @@ package scenarios_test
 import (
 	"fmt"
 	"math"
+	"strings"
 	"testing"
 
 	"wearplan/scenarios"
@@ -178,5 +179,34 @@ treatments:
 	// A forecast does no work: no renewal spend, and no plan to compare with.
 	if in := r.Indicators; in.Network.SustainabilityRatio == nil || *in.Network.SustainabilityRatio != 0 || in.Network.RenewalFundingRatio != nil {
 		t.Errorf("forecast ratios %+v", in.Network.IndicatorRatios)
+	}
+}
+
+// Money ring-fenced for one class is no part of what holding another
+// class's condition costs: with a second class whose spend is held to a
+// floor, the hand-worked class keeps its required renewal of 7,500 a year
+// (worked above) and the plan still answers.
+func TestRequiredRenewalIgnoresOtherClassesFloors(t *testing.T) {
+	text := strings.Replace(twoStateYAML, "budget: {yearly: 5000}", "budget: {yearly: 12000, min_yearly: {hydrants: 8000}}", 1)
+	text = strings.Replace(text, "treatments:\n  - {name: replace", `  - name: hydrants
+    scale: two
+    unit: each
+    inventory: {Sound: 60, Failed: 40}
+    replacement_cost: 400
+    deterioration: {matrix: [[0.9, 0.1], [0, 1]]}
+    treatments: [replace]
+treatments:
+  - {name: replace`, 1)
+	sc, err := scenarios.Parse("floors.yaml", []byte(text))
+	if err != nil {
+		t.Fatal(err)
+	}
+	r, err := scenarios.Plan(sc, scenarios.Options{})
+	if err != nil {
+		t.Fatalf("plan with a floor on another class: %v", err)
+	}
+	req := r.Indicators.Classes[0].Years[0].RequiredRenewal
+	if req == nil || math.Abs(*req-7500) > 1e-6*7500 {
+		t.Errorf("pipes' required renewal in year 1 = %v, want 7500 (worked by hand above)", req)
 	}
 }

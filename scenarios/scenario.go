@@ -297,14 +297,22 @@ func (s *Scenario) Problem() (*optimize.Problem, error) {
 	for _, g := range s.BudgetGroups {
 		gb := optimize.GroupBudget{Name: g.Name, Yearly: g.Yearly}
 		for _, name := range g.Classes {
-			gb.Classes = append(gb.Classes, index[name])
+			k, ok := index[name]
+			if !ok {
+				return nil, fmt.Errorf("budget group %q: class %q is not in the scenario", g.Name, name)
+			}
+			gb.Classes = append(gb.Classes, k)
 		}
 		p.GroupBudgets = append(p.GroupBudgets, gb)
 	}
 	for _, m := range s.MinSpends {
 		ms := optimize.MinSpend{Name: m.Name, Yearly: m.Yearly}
 		for _, name := range m.Classes {
-			ms.Classes = append(ms.Classes, index[name])
+			k, ok := index[name]
+			if !ok {
+				return nil, fmt.Errorf("ring-fenced money %q: class %q is not in the scenario", m.Name, name)
+			}
+			ms.Classes = append(ms.Classes, k)
 		}
 		p.MinSpends = append(p.MinSpends, ms)
 	}

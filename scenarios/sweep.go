@@ -164,11 +164,9 @@ func Sweep(sc *Scenario, budgets []float64, opt Options) (*SweepResult, error) {
 	}
 	jobs = append(jobs, level([]optimize.Target{{Label: "hold", Class: optimize.Network, Kind: optimize.Hold}}, &r.HoldBudget))
 	if len(sc.Targets) > 0 {
-		specs := make([]optimize.Target, len(sc.Targets))
-		for n, t := range sc.Targets {
-			specs[n] = t.Spec
-		}
-		jobs = append(jobs, level(specs, &r.TargetsBudget))
+		// The problem's targets: on widened classes they hold every
+		// widened state of the states they name.
+		jobs = append(jobs, level(p.Targets, &r.TargetsBudget))
 	}
 	if hasConfidence(sc) {
 		jobs = append(jobs, func() error {
