@@ -83,11 +83,40 @@ func SolveLongRun(p *Problem) (*LongRun, error) {
 	primary := objectiveSpec{obj: b.objectiveOf(p.Objective), maximize: p.Objective == MaxCondition}
 	secondary := objectiveSpec{obj: b.objectiveOf(other(p.Objective)), maximize: other(p.Objective) == MaxCondition}
 	lr := &LongRun{Stats: Stats{Rows: len(m.Rows), Cols: len(m.Cols), Nonzeros: m.Nonzeros()}}
-	x, n, err := lexicographic(m, p, []objectiveSpec{primary, secondary})
-	lr.Stats.Solves = n
+	note := func(res *lexResult) {
+		if res != nil {
+			lr.Stats.Solves += res.solves
+			if res.path != "" {
+				lr.Stats.Path = res.path
+			}
+			lr.Stats.TieBreakMissed = lr.Stats.TieBreakMissed || res.partial
+		}
+	}
+	// Every policy has a steady state, so the caps alone can fail only
+	// when routine costs count against them; then an LP that always has
+	// an answer settles it first.
+	var targetRows []int
+	for _, r := range b.targetRows {
+		if r >= 0 {
+			targetRows = append(targetRows, r)
+		}
+	}
+	if p.RoutineInBudget && len(b.capRows) > 0 {
+		excess, res, err := leastExcess(m, p, b.capRows, targetRows)
+		note(res)
+		if err != nil {
+			return nil, err
+		}
+		if excess > infeasibleExcess {
+			lr.Status = Infeasible
+			return lr, nil
+		}
+	}
+	res, err := lexicographic(m, p, []objectiveSpec{primary, secondary}, len(p.Targets) == 0)
+	note(res)
 	if err == nil {
 		lr.Status = Optimal
-		b.read(lr, x)
+		b.read(lr, res.x)
 		return lr, nil
 	}
 	if !errors.Is(err, ErrInfeasible) {
@@ -121,15 +150,12 @@ func SolveLongRun(p *Problem) (*LongRun, error) {
 	pad := func(o []float64) []float64 {
 		return append(append([]float64(nil), o...), make([]float64, len(em.Cols)-len(o))...)
 	}
-	x, n, err = lexicographic(em, p, []objectiveSpec{{obj: slack}, {obj: pad(primary.obj), maximize: primary.maximize}, {obj: pad(secondary.obj), maximize: secondary.maximize}})
-	lr.Stats.Solves += n
-	if errors.Is(err, ErrInfeasible) {
-		lr.Status = Infeasible
-		return lr, nil
-	}
+	res, err = lexicographic(em, p, []objectiveSpec{{obj: slack}, {obj: pad(primary.obj), maximize: primary.maximize}, {obj: pad(secondary.obj), maximize: secondary.maximize}}, true)
+	note(res)
 	if err != nil {
 		return nil, err
 	}
+	x := res.x
 	lr.Status = TargetsNotMet
 	b.read(lr, x)
 	for t, c := range slackOf {

@@ -465,7 +465,7 @@ func (dm *dualMaster) solve() (*masterResult, error) {
 	case golp.TIMEOUT, golp.SUBOPTIMAL:
 		return nil, dw.timeoutError()
 	default:
-		return nil, &SolverError{Status: st.String(), Advice: "lp_solve gave up on the decomposition's master; solve with --solver flat and please report it with the scenario"}
+		return nil, &SolverError{Status: StatusFailed, Advice: "lp_solve gave up on the decomposition's master; solve with --solver flat and please report it with the scenario"}
 	}
 	L, K := len(dw.links), len(dw.classes)
 	v := dm.lp.Variables()
@@ -578,7 +578,7 @@ func (dw *decomposer) solvePrimal(st *stage, keep []bool) (*masterResult, error)
 	for k := 0; k < K; k++ {
 		m.addRow(Row{Name: fmt.Sprintf("convex%d", k+1), Entries: conv[k], Sense: Equal, RHS: 1})
 	}
-	s, err := newLPSolver(m, dw.callTimeout())
+	s, err := newLPSolver(m, dw.callTimeout(), settingsPaths[0])
 	if err != nil {
 		return nil, err
 	}
