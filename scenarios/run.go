@@ -75,18 +75,12 @@ func Plan(sc *Scenario, opt Options) (*Result, error) {
 		r.Warnings = append(r.Warnings, "min-cost with no targets: the cheapest plan does nothing; add targets or a budget with max-condition")
 	}
 	if !opt.SkipFunding {
-		f := &Funding{}
-		if plan.Status == optimize.TargetsNotMet {
-			if err := closingMoney(sc, p, f); err != nil {
-				return nil, err
-			}
+		f, err := funding(sc, p, plan.Status)
+		if err != nil {
+			// The plan stands; only a funding answer is missing.
+			r.Warnings = append(r.Warnings, "a funding answer could not be computed: "+err.Error())
 		}
-		if len(sc.Targets) > 0 && (sc.Objective == optimize.MinCost || plan.Status == optimize.TargetsNotMet) && f.Unreachable == "" {
-			if err := levelBudget(p, f); err != nil {
-				return nil, err
-			}
-		}
-		if f.LevelBudget != nil || f.ExtraTotal != nil || f.Unreachable != "" {
+		if f != nil && (f.LevelBudget != nil || f.ExtraTotal != nil || f.Unreachable != "" || f.HeldBack != "") {
 			r.Funding = f
 		}
 		if err := baseline(p, r); err != nil {

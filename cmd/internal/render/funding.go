@@ -25,11 +25,15 @@ func fundingText(w *errWriter, r *scenarios.Result) {
 	}
 	if f := r.Funding; f != nil {
 		w.printf("\nFunding\n")
+		which := "every target"
+		if f.OtherTargetsOnly {
+			which = "every target that money can meet"
+		}
 		if f.LevelBudget != nil {
-			w.printf("  Least level yearly budget that meets every target: %s %s\n", currency(r), Money(*f.LevelBudget))
+			w.printf("  Least level yearly budget that meets %s: %s %s\n", which, currency(r), Money(*f.LevelBudget))
 		}
 		if len(f.ExtraMoney) > 0 || len(f.ExtraGroups) > 0 {
-			w.printf("  Extra money that would close every shortfall (least present value, on top of the budget):\n")
+			w.printf("  Extra money that would meet %s (least present value, on top of the budget):\n", which)
 			t := table{header: []string{"YEAR", "BUDGET", "EXTRA"}, right: []bool{false, false, true}}
 			for _, ym := range f.ExtraMoney {
 				t.rows = append(t.rows, []string{fmt.Sprint(ym.Year), "network", Money(ym.Amount)})
@@ -42,8 +46,11 @@ func fundingText(w *errWriter, r *scenarios.Result) {
 			tabulate(w, t)
 			w.printf("  In all %s %s, present value %s\n", currency(r), Money(*f.ExtraTotal), Money(*f.ExtraPresentValue))
 		}
+		if f.HeldBack != "" {
+			w.printf("  %s\n", strings.ReplaceAll(wrap(f.HeldBack, 98), "\n", "\n  "))
+		}
 		if f.Unreachable != "" {
-			w.printf("  %s\n", f.Unreachable)
+			w.printf("  %s\n", strings.ReplaceAll(wrap(f.Unreachable, 98), "\n", "\n  "))
 		}
 	}
 	if b := r.Baseline; b != nil {
