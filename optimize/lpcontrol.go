@@ -72,13 +72,14 @@ type lpSettings struct {
 // (geometric scaling with equilibration, dual simplex in phase 1 and
 // primal in phase 2, Devex pricing that switches rule when it sees
 // cycling). The others change what most often goes wrong on degenerate
-// Markov models: scaling (geometric with dynamic update, logarithmic mean
-// and Curtis-Reid), the simplex in each phase, and the pricing rule
-// (Dantzig's largest coefficient, steepest edge, Harris' two-pass ratio
-// test).
+// Markov models: scaling (logarithmic mean, Curtis-Reid, none), the
+// simplex in each phase, and the pricing rule (steepest edge, Dantzig's
+// largest coefficient). Harris' two-pass ratio test (PRICE_HARRISTWOPASS)
+// is left out: with the primal simplex in phase 1 it crashed lp_solve 5.5
+// on a master that had rows added after a solve.
 var settingsPaths = []lpSettings{
 	{name: "default", scaling: 4 + 64 + 128, simplex: 6, pricing: 2 + 32, improve: 6},
-	{name: "primal simplex, logarithmic scaling", scaling: 4 + 16 + 64, simplex: 5, pricing: 2 + 32 + 4096, improve: 6},
+	{name: "primal simplex, logarithmic scaling", scaling: 4 + 16 + 64, simplex: 5, pricing: 2 + 32, improve: 6},
 	{name: "Curtis-Reid scaling, steepest edge", scaling: 7 + 64, simplex: 10, pricing: 3 + 4 + 32, improve: 7},
 	{name: "no scaling, Dantzig pricing", scaling: 0, simplex: 5, pricing: 1 + 32, improve: 7},
 }

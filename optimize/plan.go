@@ -50,8 +50,6 @@ type Stats struct {
 	// TieBreakMissed: no path solved the tie-break objective, and the plan
 	// is optimal in the primary objective only.
 	TieBreakMissed bool
-	// Gap, when a decomposed solve stopped at its iteration cap with no
-	// other method to answer, is above RelativeGap: see Plan.Warnings.
 }
 
 // Plan is an optimised work program.
@@ -77,6 +75,9 @@ type Plan struct {
 	RoutineCost, RoutinePresentValue float64
 	Shortfalls                       []Shortfall
 	Stats                            Stats
+	// Warnings say where the plan may fall short of the optimum (see
+	// SolveWith); empty for a plan proven optimal.
+	Warnings []string
 }
 
 // BuildModel returns the flat LP of the problem with its primary objective,
