@@ -74,15 +74,21 @@ type lpSettings struct {
 // cycling). The others change what most often goes wrong on degenerate
 // Markov models: scaling (logarithmic mean, Curtis-Reid, none), the
 // simplex in each phase, and the pricing rule (steepest edge, Dantzig's
-// largest coefficient). Harris' two-pass ratio test (PRICE_HARRISTWOPASS)
-// is left out: with the primal simplex in phase 1 it crashed lp_solve 5.5
-// on a master that had rows added after a solve.
+// largest coefficient). lp_solve re-solves a model from its last basis
+// only under the defaults (see incremental).
 var settingsPaths = []lpSettings{
 	{name: "default", scaling: 4 + 64 + 128, simplex: 6, pricing: 2 + 32, improve: 6},
 	{name: "primal simplex, logarithmic scaling", scaling: 4 + 16 + 64, simplex: 5, pricing: 2 + 32, improve: 6},
 	{name: "Curtis-Reid scaling, steepest edge", scaling: 7 + 64, simplex: 10, pricing: 3 + 4 + 32, improve: 7},
 	{name: "no scaling, Dantzig pricing", scaling: 0, simplex: 5, pricing: 1 + 32, improve: 7},
 }
+
+// incremental reports whether lp_solve may go on from a solved model's
+// last basis under these settings, after rows were added. Only its
+// defaults may: with the primal simplex in phase 1 it crashed (in its
+// primal simplex loop) on a master re-solved that way, so models under
+// other settings are rebuilt before every solve.
+func (s lpSettings) incremental() bool { return s.name == settingsPaths[0].name }
 
 func (s lpSettings) apply(lp *golp.LP) {
 	C.wp_set_settings(lprecOf(lp), C.int(s.scaling), C.int(s.simplex), C.int(s.pricing), C.int(s.improve))

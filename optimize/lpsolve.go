@@ -487,7 +487,19 @@ func lexicographicOnce(m *Model, timeout time.Duration, objs []objectiveSpec, se
 	}
 	var best []float64
 	var held []heldObjective
+	var holds []Row
 	for n, o := range objs {
+		if n > 0 && !set.incremental() {
+			// Afresh, with the holds so far (see lpSettings.incremental).
+			if s, err = newLPSolver(m, timeout, set); err != nil {
+				return best, n, n, err
+			}
+			for _, h := range holds {
+				if err := s.addRow(h); err != nil {
+					return best, n, n, err
+				}
+			}
+		}
 		s.setObjective(o.obj, o.maximize)
 		x, z, err := s.solve()
 		if err != nil {
@@ -517,8 +529,11 @@ func lexicographicOnce(m *Model, timeout time.Duration, objs []objectiveSpec, se
 		if o.maximize {
 			hold.Sense, hold.RHS = GreaterEq, z-tol
 		}
-		if err := s.addRow(hold); err != nil {
-			return best, n + 1, n + 1, err
+		holds = append(holds, hold)
+		if set.incremental() {
+			if err := s.addRow(hold); err != nil {
+				return best, n + 1, n + 1, err
+			}
 		}
 	}
 	return best, len(objs), len(objs), nil

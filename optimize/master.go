@@ -366,6 +366,8 @@ type dualMaster struct {
 	bound    []bool    // per link: its price is free to move (the row is in the master)
 	synced   bool
 	settings lpSettings
+	// solved: lp_solve has solved this master at least once.
+	solved bool
 	// cuts holds the master's rows as written (scaled), to check answers.
 	cuts []Row
 }
@@ -501,8 +503,14 @@ func (dm *dualMaster) syncBounds() {
 // its primal form.
 func (dm *dualMaster) solve() (*masterResult, error) {
 	dw := dm.dw
+	if dm.solved && !dm.settings.incremental() {
+		// lp_solve 5.5 crashed (in its primal simplex loop) going on from
+		// the last basis under these settings: start afresh.
+		*dm = *newDualMasterWith(dw, dm.st, dm.in, dm.settings)
+	}
 	dm.addPool()
 	dm.syncBounds()
+	dm.solved = true
 	res, err := dm.solveHere()
 	if err == nil || IsTimeout(err) {
 		return res, err
@@ -511,6 +519,7 @@ func (dm *dualMaster) solve() (*masterResult, error) {
 	dw.stats.Restarts++
 	for _, set := range settingsPaths {
 		fresh := newDualMasterWith(dw, dm.st, dm.in, set)
+		fresh.solved = true
 		res, err = fresh.solveHere()
 		if err == nil || IsTimeout(err) {
 			*dm = *fresh
