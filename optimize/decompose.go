@@ -211,6 +211,7 @@ type decomposer struct {
 
 func newDecomposer(p *Problem, o Options) *decomposer {
 	b := newBuilder(p)
+	p = b.p // with the caps that can bind
 	dw := &decomposer{p: p, b: b, weights: b.weights, moneyUnit: b.moneyUnit, maxIter: o.MaxIterations}
 	if dw.maxIter <= 0 {
 		dw.maxIter = DefaultMaxIterations
@@ -230,6 +231,7 @@ func newDecomposer(p *Problem, o Options) *decomposer {
 		dw.classes[k] = newDWClass(p, k, b.lay.pairs[k], b.terms[k], b.weights[k])
 		dw.seen[k] = map[uint64]int{}
 	}
+	dw.shutZeroCaps()
 	dw.links = dw.linkRows()
 	for _, d := range dw.classes {
 		dw.pricingWork += len(d.pairs) * d.years
@@ -264,6 +266,57 @@ var ErrStalled = errors.New("lp_solve stalled on the decomposition's master LP")
 // time.
 func (dw *decomposer) timeoutError() error {
 	return &SolverError{Status: StatusTimeout, Advice: fmt.Sprintf("no optimal plan within the time limit of %s; raise the limit", dw.p.Timeout)}
+}
+
+// shutZeroCaps marks, in each class, the treatments that cost money in a
+// year whose spend a cap holds at zero (a zero yearly cap; with
+// carry-over, caps that sum to zero up to that year): no plan takes them,
+// and a master whose budget rows all read zero made lp_solve stall on its
+// degenerate vertices. Do nothing stays open whatever it costs (with
+// routine costs counted against a zero cap the budgets cannot hold, which
+// stage 0 finds).
+func (dw *decomposer) shutZeroCaps() {
+	p := dw.p
+	zero := func(caps []float64, t int) bool {
+		if !p.CarryOver {
+			return caps[t] == 0
+		}
+		for s := 0; s <= t; s++ {
+			if caps[s] != 0 {
+				return false
+			}
+		}
+		return true
+	}
+	shut := func(k, t int) {
+		d := dw.classes[k]
+		if d.shut == nil {
+			d.shut = make([]bool, d.years*len(d.pairs))
+		}
+		for n, pr := range d.pairs {
+			c := d.terms.cost[n]
+			if p.RoutineInBudget {
+				c += d.terms.routine[n]
+			}
+			if pr.action != 0 && c > 0 {
+				d.shut[t*len(d.pairs)+n] = true
+			}
+		}
+	}
+	for t := 0; t < p.Horizon; t++ {
+		if p.Budget != nil && zero(p.Budget, t) {
+			for k := range dw.classes {
+				shut(k, t)
+			}
+		}
+		for _, g := range p.GroupBudgets {
+			if zero(g.Yearly, t) {
+				for _, k := range g.Classes {
+					shut(k, t)
+				}
+			}
+		}
+	}
 }
 
 // add puts a policy of class k into the pool unless the pool already holds

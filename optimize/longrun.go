@@ -69,6 +69,7 @@ func SolveLongRun(p *Problem) (*LongRun, error) {
 	if err := p.Validate(); err != nil {
 		return nil, err
 	}
+	p = p.bindingCaps()
 	b := &longRunBuilder{p: p, weights: p.Weights(), pairs: make([][]pair, len(p.Classes)), base: make([]int, len(p.Classes)), terms: make([]classTerms, len(p.Classes))}
 	lay := newLayout(p)
 	next := 0
@@ -249,6 +250,14 @@ func (b *longRunBuilder) build() *Model {
 	m.Obj = b.objectiveOf(p.Objective)
 	m.Maximize = p.Objective == MaxCondition
 	return m
+}
+
+// clean reads values within 1e-11 of zero as zero.
+func clean(v float64) float64 {
+	if math.Abs(v) < 1e-11 {
+		return 0
+	}
+	return v
 }
 
 // mergeEntries sums entries of the same column (a state that an action

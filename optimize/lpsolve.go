@@ -273,7 +273,9 @@ func (s *lpSolver) solve() ([]float64, float64, error) {
 		return x, z, nil
 	case golp.INFEASIBLE:
 		return nil, 0, ErrInfeasible
-	case golp.USERABORT:
+	case golp.USERABORT, golp.SUBOPTIMAL:
+		// lp_solve reports a solve stopped by the iteration limit after
+		// phase 1 as sub-optimal.
 		return nil, 0, &SolverError{Status: StatusStalled, Advice: fmt.Sprintf("lp_solve took more than %d simplex iterations", stallIterations(len(s.rows), s.ncols))}
 	case golp.UNBOUNDED:
 		return nil, 0, &SolverError{Status: StatusUnbounded, Advice: "lp_solve called a model with bounded quantities unbounded"}

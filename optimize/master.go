@@ -553,7 +553,9 @@ func (dm *dualMaster) solveHere() (*masterResult, error) {
 			return nil, dw.timeoutError()
 		}
 		return nil, &SolverError{Status: StatusFailed, Advice: "lp_solve reported a time-out with no time limit set"}
-	case golp.USERABORT:
+	case golp.USERABORT, golp.SUBOPTIMAL:
+		// lp_solve reports a solve stopped by the iteration limit after
+		// phase 1 as sub-optimal.
 		return nil, &SolverError{Status: StatusStalled, Advice: fmt.Sprintf("lp_solve took more than %d simplex iterations on the decomposition's master", stallIterations(len(dm.rowOf), dm.nvar))}
 	default:
 		return nil, &SolverError{Status: StatusFailed, Advice: fmt.Sprintf("lp_solve stopped on the decomposition's master with status %s", st)}

@@ -3,7 +3,6 @@ package optimize
 import (
 	"errors"
 	"fmt"
-	"math"
 )
 
 // Status is the outcome of a plan.
@@ -236,90 +235,6 @@ func (b *builder) elastic() (*Model, []slackCol) {
 // share or of a score point on the model's 0-1 scale is far below anything
 // a planner can read, and well above solver noise.
 const shortfallFloor = 1e-7
-
-func clean(v float64) float64 {
-	if math.Abs(v) < 1e-11 {
-		return 0
-	}
-	return v
-}
-
-// readPlan turns column values into quantities, condition and money.
-func (b *builder) readPlan(x []float64, slacks []slackCol) *Plan {
-	p := b.p
-	T := p.Horizon
-	plan := &Plan{
-		Work:      make([][][][]float64, len(p.Classes)),
-		Condition: make([][][]float64, len(p.Classes)),
-		Spend:     make([][]float64, len(p.Classes)),
-		Routine:   make([][]float64, len(p.Classes)),
-	}
-	for k := range p.Classes {
-		c := &p.Classes[k]
-		tot := c.Total()
-		ns, na := len(c.Initial), len(c.Actions)
-		plan.Work[k] = make([][][]float64, T)
-		plan.Condition[k] = make([][]float64, T+1)
-		plan.Condition[k][0] = append([]float64(nil), c.Initial...)
-		plan.Spend[k] = make([]float64, T)
-		plan.Routine[k] = make([]float64, T)
-		for t := 0; t < T; t++ {
-			plan.Work[k][t] = make([][]float64, ns)
-			for i := range plan.Work[k][t] {
-				plan.Work[k][t][i] = make([]float64, na)
-			}
-			end := make([]float64, ns)
-			esc := p.escalation(t)
-			for n, pr := range b.lay.pairs[k] {
-				y := clean(x[b.lay.col(k, t, n)])
-				if y < 0 {
-					y = 0
-				}
-				q := y * tot
-				plan.Work[k][t][pr.state][pr.action] = q
-				a := &c.Actions[pr.action]
-				for j, pj := range a.Rows[pr.state] {
-					end[j] += q * pj
-				}
-				spend := q * a.Cost[pr.state] * esc
-				plan.Spend[k][t] += spend
-				plan.PresentValue += spend * p.discount(t)
-				if pr.action == 0 && c.Routine != nil {
-					r := q * c.Routine[pr.state] * esc
-					plan.Routine[k][t] += r
-					plan.RoutineCost += r
-					plan.RoutinePresentValue += r * p.discount(t)
-				}
-			}
-			plan.Condition[k][t+1] = end
-		}
-	}
-	w := b.weights
-	for t := 1; t <= T; t++ {
-		s := 0.0
-		for k := range p.Classes {
-			s += w[k] * p.Classes[k].ScoreOf(plan.Condition[k][t])
-		}
-		plan.ConditionScore += s / float64(T)
-	}
-	for k := range plan.Spend {
-		for _, v := range plan.Spend[k] {
-			plan.TotalCost += v
-		}
-	}
-	for _, sc := range slacks {
-		v := x[sc.col]
-		if v <= shortfallFloor {
-			continue
-		}
-		tg := p.Targets[sc.target]
-		if tg.Kind == MinScore || tg.Kind == Hold {
-			v *= 100
-		}
-		plan.Shortfalls = append(plan.Shortfalls, Shortfall{Target: sc.target, Year: sc.year, Amount: v})
-	}
-	return plan
-}
 
 // leastExcess is the least total spend over the budget rows (capRows of
 // m), in model money units, of any answer to m without its target rows:

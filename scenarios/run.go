@@ -196,10 +196,11 @@ func assemble(sc *Scenario, p *optimize.Problem, cond [][][]float64, work [][][]
 func workOf(c *Class, oc *optimize.Class, byState [][]float64, escalation float64, t int) []Work {
 	out := []Work{}
 	esc := math.Pow(1+escalation, float64(t))
-	floor := 1e-9 * c.Total()
+	// The plan holds no work below the solver's tolerance (optimize's
+	// readPlan cleans it out), so every positive quantity is reported.
 	for i, byAction := range byState {
 		for a, q := range byAction {
-			if a == 0 || q <= floor {
+			if a == 0 || q <= 0 {
 				continue
 			}
 			act := &oc.Actions[a]
