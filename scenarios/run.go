@@ -61,7 +61,8 @@ func Plan(sc *Scenario, opt Options) (*Result, error) {
 	r := assemble(sc, p, plan.Condition, plan.Work, plan.Spend)
 	addRoutine(sc, r, plan.Routine)
 	r.Kind, r.Status, r.Objective = "plan", string(plan.Status), sc.Objective.String()
-	r.Model = &ModelSize{Solver: plan.Stats.Method, Rows: plan.Stats.Rows, Columns: plan.Stats.Cols, Nonzeros: plan.Stats.Nonzeros, Solves: plan.Stats.Solves, Iterations: plan.Stats.Iterations, Policies: plan.Stats.Columns}
+	r.Model = &ModelSize{Solver: plan.Stats.Method, Rows: plan.Stats.Rows, Columns: plan.Stats.Cols, Nonzeros: plan.Stats.Nonzeros, Solves: plan.Stats.Solves, Iterations: plan.Stats.Iterations, Policies: plan.Stats.Columns, Path: plan.Stats.Path}
+	r.Warnings = append(r.Warnings, plan.Warnings...)
 	for _, s := range plan.Shortfalls {
 		t := &r.Targets[s.Target]
 		amount := s.Amount

@@ -143,6 +143,9 @@ Bands and Target probabilities. The same seed gives the same report.`,
 				}
 				rep.Sweep = &report.Sweep{Scenario: sr.Scenario, Currency: sr.Currency}
 				for _, pt := range sr.Points {
+					if pt.Status == "failed" || pt.Status == "infeasible" {
+						continue // no plan, no score to chart; the sweep command lists it
+					}
 					rep.Sweep.Points = append(rep.Sweep.Points, report.SweepPoint{Budget: pt.Budget, ConditionScore: pt.ConditionScore, Status: pt.Status})
 				}
 			}

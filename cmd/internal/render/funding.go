@@ -173,6 +173,10 @@ func SweepText(w io.Writer, r *scenarios.SweepResult) error {
 	ew.printf("Budget trade-off: each level yearly budget planned with max-condition and the scenario's targets (%s)\n", cur)
 	t := table{header: []string{"YEARLY BUDGET", "STATUS", "SCORE", "END POOR", "END AVG INDEX", "END SCORE", "SPEND", "PRESENT VALUE", "TARGETS MET"}, right: []bool{true, false, true, true, true, true, true, true, true}}
 	for _, p := range r.Points {
+		if p.Status == "failed" || p.Status == "infeasible" {
+			t.rows = append(t.rows, []string{Money(p.Budget), p.Status, "-", "-", "-", "-", "-", "-", "-"})
+			continue
+		}
 		t.rows = append(t.rows, []string{Money(p.Budget), p.Status, fmt.Sprintf("%.2f", p.ConditionScore), Percent(p.EndPoorShare), optIndex(p.EndAverageIndex), fmt.Sprintf("%.1f", p.EndScore), Money(p.TotalCost), Money(p.PresentValue), fmt.Sprintf("%d of %d", p.TargetsMet, p.Targets)})
 	}
 	tabulate(ew, t)
@@ -194,6 +198,10 @@ func SweepText(w io.Writer, r *scenarios.SweepResult) error {
 func SweepCSV(w io.Writer, r *scenarios.SweepResult) error {
 	rows := [][]string{{"yearly_budget", "status", "condition_score", "end_poor_share", "end_average_index", "end_score", "total_cost", "present_value", "targets_met", "targets", "hold_budget", "targets_budget"}}
 	for _, p := range r.Points {
+		if p.Status == "failed" || p.Status == "infeasible" {
+			rows = append(rows, []string{Plain(p.Budget), p.Status, "", "", "", "", "", "", "", "", optPlain(r.HoldBudget), optPlain(r.TargetsBudget)})
+			continue
+		}
 		rows = append(rows, []string{Plain(p.Budget), p.Status, Plain(p.ConditionScore), Plain(p.EndPoorShare), optPlain(p.EndAverageIndex), Plain(p.EndScore), Plain(p.TotalCost), Plain(p.PresentValue), fmt.Sprint(p.TargetsMet), fmt.Sprint(p.Targets), optPlain(r.HoldBudget), optPlain(r.TargetsBudget)})
 	}
 	return writeCSV(w, rows)

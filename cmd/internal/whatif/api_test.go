@@ -251,6 +251,19 @@ func TestLowerBudgetRaisesThePoorShare(t *testing.T) {
 	}
 }
 
+// A budget cut to zero, the commonest what-if, gets a plan: no work, the
+// targets missed, and total spend zero.
+func TestZeroBudgetAnswers(t *testing.T) {
+	_, ts := newTestServer(t, Options{})
+	zero := decodeAnswer(t, postJSON(t, ts, "/api/plan", `{"scenario": 0, "changes": {"budget_level": 0}}`))
+	if zero.Status != "targets-not-met" {
+		t.Errorf("zero budget: status %s", zero.Status)
+	}
+	if got := figureOf(t, zero, "Total spend"); got != "USD 0" {
+		t.Errorf("zero budget spends %s", got)
+	}
+}
+
 func TestBadRequests(t *testing.T) {
 	_, ts := newTestServer(t, Options{})
 	cases := []struct {
