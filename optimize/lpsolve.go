@@ -392,10 +392,10 @@ type lexResult struct {
 // the earlier ones staying at their optimum (within holdTolerance). Each
 // path of solvePaths is tried in turn until one gives answers that pass
 // checkAnswer at every stage, and the final answer is checked once more
-// against m's own rows. On a path that fails after the first objective,
-// the holds are given ten, then a hundred times their tolerance before the
-// next path (the earlier answer meets them, so lp_solve failing there means
-// they left it too little room). lp_solve's "infeasible" for the first
+// against m's own rows. When every path fails, those that failed after the
+// first objective are tried again with the holds given ten, then a hundred
+// times their tolerance (the earlier answer meets them, so lp_solve failing
+// there means they left it too little room). lp_solve's "infeasible" for the first
 // objective is taken at its word unless feasible says the model is known
 // to have a solution (a plan that does nothing, say), when it is one more
 // failed path. The caller's time limit stops the search at once. When
@@ -407,21 +407,26 @@ func lexicographic(m *Model, p *Problem, objs []objectiveSpec, feasible bool) (*
 	var firstErr error
 	var fallback []float64
 	fallbackStages := 0
-	for n, sp := range solvePaths() {
-		mm, perm := m, []int(nil)
-		os := objs
-		if sp.reordered {
-			mm, perm = reorder(m)
-			os = make([]objectiveSpec, len(objs))
-			for i, o := range objs {
-				mo := make([]float64, len(o.obj))
-				for j := range mo {
-					mo[j] = o.obj[perm[j]]
-				}
-				os[i] = objectiveSpec{obj: mo, maximize: o.maximize}
+	paths := solvePaths()
+	later := make([]bool, len(paths)) // the path failed after the first objective
+	for relax := 1.0; relax <= maxHoldRelax; relax *= 10 {
+		for n, sp := range paths {
+			if relax > 1 && !later[n] {
+				continue // the first objective failed: holds play no part
 			}
-		}
-		for relax := 1.0; relax <= maxHoldRelax; relax *= 10 {
+			mm, perm := m, []int(nil)
+			os := objs
+			if sp.reordered {
+				mm, perm = reorder(m)
+				os = make([]objectiveSpec, len(objs))
+				for i, o := range objs {
+					mo := make([]float64, len(o.obj))
+					for j := range mo {
+						mo[j] = o.obj[perm[j]]
+					}
+					os[i] = objectiveSpec{obj: mo, maximize: o.maximize}
+				}
+			}
 			x, stages, solves, err := lexicographicOnce(mm, p.Timeout, os, sp.settings, relax)
 			res.solves += solves
 			if x != nil && perm != nil {
@@ -452,11 +457,9 @@ func lexicographic(m *Model, p *Problem, objs []objectiveSpec, feasible bool) (*
 			if firstErr == nil {
 				firstErr = err
 			}
+			later[n] = stages > 0
 			if stages > fallbackStages && x != nil && violation(m.Rows, x) <= rowTolerance {
 				fallback, fallbackStages = x, stages
-			}
-			if stages == 0 {
-				break // the first objective failed: holds play no part
 			}
 		}
 	}
