@@ -34,8 +34,8 @@ type SweepPoint struct {
 	// Status is the plan's status, or "infeasible" (the budget cannot be
 	// kept even by doing nothing: routine costs count against it) or
 	// "failed" (no plan; Problem says why). Such points carry no figures.
-	Status  string `json:"status"`
-	Problem string `json:"problem,omitempty"`
+	Status         string  `json:"status"`
+	Problem        string  `json:"problem,omitempty"`
 	ConditionScore float64 `json:"condition_score"`
 	// End-of-horizon network figures.
 	EndPoorShare    float64  `json:"end_poor_share"`

@@ -343,4 +343,3 @@ func (g *gen) target(cls []*class, start, years, kind int) obj {
 	}
 	return t
 }
-
