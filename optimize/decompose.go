@@ -537,27 +537,43 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 				continue // the master now holds the warm-up's policies
 			}
 		}
-		if d, ok := dm.(*dualMaster); ok && len(d.rowOf) > dw.masterRowLimit() {
-			dm = newDualMaster(dw, st, dw.recentMask(res))
+		switch d := dm.(type) {
+		case *dualMaster:
+			if len(d.rowOf) > dw.masterRowLimit() {
+				dm = newDualMaster(dw, st, dw.recentMask(res))
+			}
+		case *holdMaster:
+			if d.size() > dw.masterRowLimit() {
+				d.in = dw.recentMask(res)
+			}
 		}
 		scale := dw.gapScale(st, res)
 		added := 0
 		// Price at the smoothed prices first; if that finds no policy
 		// improving the master (a mispricing), price at the master's own.
 		for _, alpha := range []float64{smoothing, 0} {
-			pi := res.pi
+			// The prices: the linking rows' and, in a stage with holds,
+			// the hold rows' (the weights on the held objectives), which
+			// are smoothed alike.
+			pi, w := res.pi, res.holdPrices
 			if center != nil && alpha > 0 {
 				pi = make([]float64, len(res.pi))
 				for r := range pi {
 					pi[r] = alpha*center[r] + (1-alpha)*res.pi[r]
 				}
+				w = make([]float64, len(res.holdPrices))
+				for i := range w {
+					w[i] = alpha*center[len(pi)+i] + (1-alpha)*res.holdPrices[i]
+				}
 			} else if alpha > 0 {
 				continue
 			}
+			st.setWeights(w)
 			bound := pc.price(pi, res)
+			st.setWeights(res.holdPrices)
 			dw.stats.Iterations++
 			if bound < bestBound {
-				bestBound, center = bound, append([]float64(nil), pi...)
+				bestBound, center = bound, append(append([]float64(nil), pi...), w...)
 			}
 			for k := 0; k < K; k++ {
 				col := dw.classes[k].roll(k, pc.pols[k])
@@ -670,10 +686,19 @@ func (hm *holdMaster) solve() (*masterResult, error) {
 	if err != nil {
 		return nil, err
 	}
-	for i := range hm.st.holds {
-		hm.st.holds[i].weight = res.holdPrices[i]
-	}
+	hm.st.setWeights(res.holdPrices)
 	return res, nil
+}
+
+// size is the number of policies in the master.
+func (hm *holdMaster) size() int {
+	n := 0
+	for _, in := range hm.in {
+		if in {
+			n++
+		}
+	}
+	return n
 }
 
 func (hm *holdMaster) include(j int) bool {
@@ -1100,6 +1125,7 @@ func (dw *decomposer) plan(res *masterResult) (*Plan, error) {
 // here.
 func (dw *decomposer) verify(res *masterResult, x []float64, short map[[2]int]float64) error {
 	b := newBuilder(dw.p)
+	b.anonymous = true
 	m := b.build()
 	em, cols := b.elastic()
 	full := make([]float64, len(em.Cols))

@@ -148,3 +148,26 @@ func ModelObjectives(p *Problem, plan *Plan) (primary, secondary, shortfall floa
 	}
 	return score, cost, shortfall
 }
+
+// BestReachableReference is glpsol's best value (on the model's 0-1 scale)
+// of target n's measure at the end of year y (1-based) over every plan of
+// p with no budget caps and no targets.
+func BestReachableReference(t *testing.T, p *Problem, n, y int) float64 {
+	t.Helper()
+	q := *p
+	q.Budget, q.GroupBudgets, q.Targets = nil, nil, nil
+	b := newBuilder(&q)
+	m := b.build()
+	tg := &p.Targets[n]
+	obj := make([]float64, len(m.Cols))
+	for _, e := range b.conditionEntries(tg, y-1) {
+		obj[e.Col] += e.Val
+	}
+	sense, _ := b.targetBound(tg)
+	m.Obj, m.Maximize = obj, sense != LessEq
+	z, ok := GlpsolOptimum(t, m)
+	if !ok {
+		t.Fatal("glpsol found no best reachable value, which always exists")
+	}
+	return z
+}

@@ -283,6 +283,15 @@ func (h *hold) bound(relax float64) float64 {
 // holdRelax is the stage's relax, 1 when unset.
 func (st *stage) holdRelax() float64 { return max(st.relax, 1) }
 
+// setWeights sets the holds' weights (nil or empty: none to set).
+func (st *stage) setWeights(w []float64) {
+	for i := range st.holds {
+		if i < len(w) {
+			st.holds[i].weight = w[i]
+		}
+	}
+}
+
 // weighted reports whether the stage holds earlier optima.
 func (st *stage) weighted() bool { return len(st.holds) > 0 }
 
@@ -794,7 +803,8 @@ func (dw *decomposer) solvePrimal(st *stage, keep []bool) (*masterResult, error)
 		}
 		// A master that holds earlier optima has an answer (the earlier
 		// stage's plan), so "infeasible" is one more failed path there.
-		if x, z, err = s.solve(); err == nil || IsTimeout(err) || (errors.Is(err, ErrInfeasible) && !st.weighted()) {
+		x, z, err = s.solve()
+		if err == nil || IsTimeout(err) || (errors.Is(err, ErrInfeasible) && !st.weighted()) {
 			if err == nil {
 				dw.primalPath = (dw.primalPath + n) % len(settingsPaths)
 			}

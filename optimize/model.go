@@ -138,6 +138,17 @@ type builder struct {
 	m          Model
 	targetRows [][]targetRow // per target
 	caps       []capRow      // budget rows, in the order written
+	// anonymous: build the model without column and row names, for a
+	// check that needs only the numbers (decomposer.verify).
+	anonymous bool
+}
+
+// name formats a column or row name, or returns "" for an anonymous model.
+func (b *builder) name(format string, args ...any) string {
+	if b.anonymous {
+		return ""
+	}
+	return fmt.Sprintf(format, args...)
 }
 
 // capRow is one budget row: which cap (Network or a group index) and the
@@ -309,7 +320,7 @@ func (b *builder) build() *Model {
 	for k := range p.Classes {
 		for t := 0; t < p.Horizon; t++ {
 			for _, pr := range b.lay.pairs[k] {
-				m.addCol(fmt.Sprintf("x%d_%d_%d_%d", k+1, t+1, pr.state+1, pr.action), 0)
+				m.addCol(b.name("x%d_%d_%d_%d", k+1, t+1, pr.state+1, pr.action), 0)
 			}
 		}
 	}
@@ -350,7 +361,7 @@ func (b *builder) flowRows() {
 				if t == 0 {
 					rhs = c.Initial[j] / tot
 				}
-				b.m.addRow(Row{Name: fmt.Sprintf("flow%d_%d_%d", k+1, t+1, j+1), Entries: byState[j], Sense: Equal, RHS: rhs})
+				b.m.addRow(Row{Name: b.name("flow%d_%d_%d", k+1, t+1, j+1), Entries: byState[j], Sense: Equal, RHS: rhs})
 			}
 		}
 	}
@@ -399,7 +410,7 @@ func (b *builder) capRows(name string, budget int, caps []float64, classes []int
 		if math.IsInf(cap, 1) || len(e) == 0 {
 			continue
 		}
-		r := b.m.addRow(Row{Name: fmt.Sprintf("%s_%d", name, t+1), Entries: e, Sense: LessEq, RHS: cap / b.moneyUnit})
+		r := b.m.addRow(Row{Name: b.name("%s_%d", name, t+1), Entries: e, Sense: LessEq, RHS: cap / b.moneyUnit})
 		b.caps = append(b.caps, capRow{row: r, budget: budget, year: t + 1})
 	}
 }
@@ -464,7 +475,7 @@ func (b *builder) addTarget(n int) {
 	}
 	sense, rhs := b.targetBound(tg)
 	for y := from; y <= to; y++ {
-		r := b.m.addRow(Row{Name: fmt.Sprintf("target%d_%d", n+1, y), Entries: b.conditionEntries(tg, y-1), Sense: sense, RHS: rhs})
+		r := b.m.addRow(Row{Name: b.name("target%d_%d", n+1, y), Entries: b.conditionEntries(tg, y-1), Sense: sense, RHS: rhs})
 		b.targetRows[n] = append(b.targetRows[n], targetRow{row: r, year: y})
 	}
 }
