@@ -518,7 +518,8 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 		dm = newDualMaster(dw, st, dw.usedMask())
 	}
 	// The stability centre of the dual smoothing (Wentges, 1997): the
-	// prices with the best Lagrangian bound so far.
+	// prices with the best Lagrangian bound so far, the linking rows'
+	// (one per link) followed by the hold rows' (one per hold).
 	var center []float64
 	bestBound := math.Inf(1)
 	for iter := 1; ; iter++ {
@@ -550,6 +551,10 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 		// steps and policies would only add work.
 		if dw.warmup && st.obj != objExcess && (!dw.warmStarted || iter > 2) {
 			dw.warmup = false
+			// The warm-up moves the linking rows' prices only; a stage
+			// with holds keeps their weights at this master's prices,
+			// which the centre carries.
+			st.setWeights(res.holdPrices)
 			bestBound, center = dw.lagrangeWarmup(pc, res)
 			if center != nil {
 				continue // the master now holds the warm-up's policies
@@ -1011,8 +1016,11 @@ const (
 )
 
 // lagrangeWarmup runs the warm-up from the master result res and returns
-// the best Lagrangian bound it proved with the prices that prove it (nil
-// when no step was possible).
+// the best Lagrangian bound it proved with the prices that prove it, laid
+// out as the stability centre (the linking rows' prices, then the hold
+// rows' weights, which the steps leave at the stage's current weights; nil
+// when no step was possible). With holds the bound stays a bound: any
+// non-negative weight on a hold row relaxes it.
 func (dw *decomposer) lagrangeWarmup(pc *pricer, res *masterResult) (float64, []float64) {
 	K := len(dw.classes)
 	pi := append([]float64(nil), res.pi...)
@@ -1083,6 +1091,12 @@ func (dw *decomposer) lagrangeWarmup(pc *pricer, res *masterResult) (float64, []
 				}
 			}
 		}
+	}
+	if bestPi == nil {
+		return best, nil
+	}
+	for i := range pc.st.holds {
+		bestPi = append(bestPi, pc.st.holds[i].weight)
 	}
 	return best, bestPi
 }
