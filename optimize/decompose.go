@@ -426,7 +426,7 @@ func solveDecomposed(p *Problem, o Options) (*Plan, error) {
 	// Stage 2: the primary objective, keeping the least shortfall.
 	st := &stage{obj: primary, sign: sign(primary)}
 	if elastic {
-		st.holds = []hold{{obj: objSlack, sign: -1, held: -dw.leastShortfall, targetRows: dw.targetLinks()}}
+		st.holds = []hold{{obj: objSlack, sign: -1, held: -dw.leastShortfall}}
 	}
 	res, err := run(st)
 	if err != nil {
@@ -460,17 +460,6 @@ func solveDecomposed(p *Problem, o Options) (*Plan, error) {
 		return nil, err
 	}
 	return plan, capped
-}
-
-// targetLinks counts the target rows.
-func (dw *decomposer) targetLinks() int {
-	n := 0
-	for r := range dw.links {
-		if dw.links[r].kind == linkTarget {
-			n++
-		}
-	}
-	return n
 }
 
 // infeasibleExcess is the least total spend over the budget rows (in model
@@ -536,7 +525,7 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 			center, bestBound = nil, math.Inf(1) // the bound was for tighter holds
 		}
 		dw.stats.Rows, dw.stats.Cols = res.rows, res.cols
-		if st.obj != objExcess && dw.activateViolated(res) {
+		if st.obj != objExcess && dw.activateViolated(st, res) {
 			center, bestBound = nil, math.Inf(1) // the bound was for fewer rows
 			continue
 		}
@@ -923,8 +912,14 @@ func (dw *decomposer) targetValue(l *link, score [][]float64, group [][][3]float
 }
 
 // activateViolated adds to the master every inactive target row that the
-// master's current plan violates, and reports whether it added any.
-func (dw *decomposer) activateViolated(res *masterResult) bool {
+// master's current plan violates, and reports whether it added any. A
+// hard row joins when the plan misses it by more than activateTol; an
+// elastic row (unmet targets) when the plan misses it at all, so that the
+// master's total shortfall is the plan's: a row left out while missed by
+// even 1e-10 would be shortfall the stages that hold the least total
+// shortfall cannot see, and with many target rows that came to 1e-7 of
+// the least shortfall, which a min-cost plan traded for 1e-5 of its cost.
+func (dw *decomposer) activateViolated(st *stage, res *masterResult) bool {
 	var score [][]float64
 	var group [][][3]float64
 	added := false
@@ -937,7 +932,11 @@ func (dw *decomposer) activateViolated(res *masterResult) bool {
 			score, group = dw.mixMeasures(res)
 		}
 		v := dw.targetValue(l, score, group)
-		if (l.sense == LessEq && v > l.rhs+activateTol) || (l.sense == GreaterEq && v < l.rhs-activateTol) {
+		tol := activateTol
+		if dw.elastic(st, l) {
+			tol = 0
+		}
+		if (l.sense == LessEq && v > l.rhs+tol) || (l.sense == GreaterEq && v < l.rhs-tol) {
 			l.active = true
 			added = true
 		}
@@ -1181,9 +1180,7 @@ func (dw *decomposer) verify(res *masterResult, x []float64, short map[[2]int]fl
 	return nil
 }
 
-// activateTol is how far the master's plan may miss a target row that is
-// not in the master before the row is added, on the model's 0-1 scale. A
-// stage that holds the least total shortfall allows it that much more per
-// target row (see hold.bound), since the earlier stage's plan may miss rows
-// that join later by as much.
+// activateTol is how far the master's plan may miss a hard target row
+// that is not in the master before the row is added, on the model's 0-1
+// scale (elastic rows join when missed at all; see activateViolated).
 const activateTol = 1e-10

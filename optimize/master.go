@@ -263,21 +263,14 @@ type hold struct {
 	sign   float64
 	held   float64
 	weight float64
-	// targetRows counts the problem's target rows (for objSlack).
-	targetRows int
 }
 
 // bound is the least value the held objective may take: its optimum less
-// holdTolerance, and for the total shortfall also activateTol for each
-// target row. A target row joins the master only when a plan misses it by
-// more than activateTol, so the earlier stage's plan may miss rows that
-// join later by that much, and must still meet the hold.
+// holdTolerance. For the total shortfall that needs every target row the
+// earlier stage's plan missed to be in its master (see activateViolated),
+// so that its master's shortfall is the plan's.
 func (h *hold) bound(relax float64) float64 {
-	b := h.held - relax*holdTolerance(h.held)
-	if h.obj == objSlack {
-		b -= activateTol * float64(h.targetRows)
-	}
-	return b
+	return h.held - relax*holdTolerance(h.held)
 }
 
 // holdRelax is the stage's relax, 1 when unset.
