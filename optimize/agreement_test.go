@@ -8,6 +8,7 @@ import (
 	"math/rand/v2"
 	"os"
 	"runtime"
+	"slices"
 	"strings"
 	"sync"
 	"testing"
@@ -20,8 +21,14 @@ import (
 
 // generatedCases is the size of the generated agreement set. `make
 // check-long` runs all of them (WEARPLAN_LONG=1); `make test` a fixed
-// sample of every fifth, 60 scenarios.
+// sample of every fifth, 60 scenarios, and the ones in regressions.
 const generatedCases = 300
+
+// regressions are generated scenarios outside the sample that once
+// disagreed with glpsol: 108, a min-cost tie-break whose final re-solve
+// gave up 1.5e-7 of the least shortfall (3.4e-6 of the cost) to lp_solve's
+// tolerance on the hold row.
+var regressions = []int{108}
 
 // generated returns the numbers of the generated scenarios this run
 // checks, and loads scenario n: each is drawn from its own seed, so the
@@ -29,7 +36,7 @@ const generatedCases = 300
 func generated() []int {
 	var out []int
 	for n := 0; n < generatedCases; n++ {
-		if os.Getenv("WEARPLAN_LONG") != "" || n%5 == 0 {
+		if os.Getenv("WEARPLAN_LONG") != "" || n%5 == 0 || slices.Contains(regressions, n) {
 			out = append(out, n)
 		}
 	}

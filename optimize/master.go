@@ -916,6 +916,52 @@ func (dw *decomposer) polish(st *stage, res *masterResult) *masterResult {
 			}
 		}
 	}
+	if !dw.meetsHolds(st, p) {
+		// lp_solve met the rows of this smaller master only to its own
+		// tolerances, which on a hold can be far more than the hold's:
+		// a tie-break polish once came back with 1.5e-7 more than the
+		// least total shortfall, bought for 3.4e-6 of the cost it held.
+		return res
+	}
 	p.pi, p.mu = res.pi, res.mu
 	return p
+}
+
+// meetsHolds checks a master plan against the stage's holds, measured on
+// the plan itself (the total shortfall over every target row, not the
+// master's slack columns): each held objective at least its bound, less
+// one more holdTolerance for the arithmetic of measuring it.
+func (dw *decomposer) meetsHolds(st *stage, res *masterResult) bool {
+	for i := range st.holds {
+		h := &st.holds[i]
+		if dw.heldValue(h, res) < h.bound(st.holdRelax())-holdTolerance(h.held) {
+			return false
+		}
+	}
+	return true
+}
+
+// heldValue is sign × the held objective of a master plan; for the total
+// shortfall, measured on every target row against the target's own bound.
+func (dw *decomposer) heldValue(h *hold, res *masterResult) float64 {
+	v := 0.0
+	if h.obj == objSlack {
+		score, group := dw.mixMeasures(res)
+		for r := range dw.links {
+			l := &dw.links[r]
+			if l.kind != linkTarget {
+				continue
+			}
+			if miss := (dw.targetValue(l, score, group) - l.goal) * -slackSign(l); miss > 0 {
+				v += miss
+			}
+		}
+		return h.sign * v
+	}
+	for j, w := range res.lambda {
+		if w > 0 {
+			v += w * dw.objValue(h.obj, dw.pool[j])
+		}
+	}
+	return h.sign * v
 }
