@@ -20,7 +20,7 @@ $(SUDO) env DEBIAN_FRONTEND=noninteractive apt-get install -y -q --no-install-re
   { $(SUDO) apt-get update -q >/dev/null && $(SUDO) env DEBIAN_FRONTEND=noninteractive apt-get install -y -q --no-install-recommends $(1); }
 endef
 
-.PHONY: demo serve test build deps deps-test deps-bench bench bench-go bench-fit fuzz clean
+.PHONY: demo serve test check-long build deps deps-test deps-bench bench bench-go bench-fit fuzz clean
 
 deps:
 	@dpkg -s liblpsolve55-dev >/dev/null 2>&1 || { echo "installing liblpsolve55-dev"; $(call apt_install,liblpsolve55-dev); }
@@ -64,6 +64,12 @@ fuzz: deps-test
 	  echo "go test -run '^$$' -fuzz '^$$name$$' -fuzztime $${n}x ./scenarios"; \
 	  go test -run '^$$' -fuzz "^$$name\$$" -fuzztime $${n}x ./scenarios || exit 1; \
 	done
+
+# The optimizer's agreement with glpsol on all 300 generated scenarios
+# (make test checks a fixed sample of them), with the load test on the same
+# set: a few minutes on 2 cores.
+check-long: deps-test
+	WEARPLAN_LONG=1 go test -timeout 60m -run 'TestAgreesWithGLPKOnGeneratedScenarios|TestAnswersDoNotDependOnLoad' ./optimize/
 
 deps-bench: deps-test
 	@command -v lp_solve >/dev/null 2>&1 || { echo "installing lp-solve"; $(call apt_install,lp-solve); }

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"runtime"
+	"strings"
 	"sync"
 	"time"
 )
@@ -71,41 +72,92 @@ const autoFlatColumns = 250
 
 // RelativeGap is the proven optimality gap at which the decomposition stops:
 // (bound - value) <= RelativeGap × max(|value|, 1e-6) in model units.
-const RelativeGap = 1e-7
+const RelativeGap = 1e-9
 
 // ErrIterationCap is wrapped by the error of a decomposed solve that
 // reached its iteration cap before proving the gap.
 var ErrIterationCap = errors.New("decomposition iteration cap reached")
 
-// SolveWith plans the problem with the chosen method. With Auto, a
-// decomposition that lp_solve gives up on (a SolverError other than a
-// timeout) is solved again flat.
+// SolveWith plans the problem with the chosen method (Auto: by size; see
+// Chosen). Whatever the method, a solve that gives no checked answer (a
+// solver failure on every path, a stall, the decomposition's iteration
+// cap, a tie-break left unsettled) is tried again by the other method, and
+// the first complete answer is the plan; Stats.Path then says so. When
+// neither method settles it, a plan that one of them did make comes back
+// with a warning that says how far from the optimum it may be: the
+// decomposition's plan proven within its gap when it reached the
+// iteration cap, or a plan optimal in the primary objective whose
+// tie-break was not settled. An error comes back only when neither method
+// makes a plan, or when the caller's time limit ran out.
 func SolveWith(p *Problem, o Options) (*Plan, error) {
 	if err := p.Validate(); err != nil {
 		return nil, err
 	}
-	m := Chosen(p, o.Method)
-	if m == Decomposed {
-		plan, err := solveDecomposed(p, o)
-		var se *SolverError
-		giveUp := errors.Is(err, ErrStalled) || (errors.As(err, &se) && se.Status != "timeout")
-		if err == nil || o.Method == Decomposed || !giveUp {
-			return plan, err
+	first := Chosen(p, o.Method)
+	plan, err := solveBy(first, p, o)
+	if err == nil && !plan.Stats.TieBreakMissed {
+		return plan, nil
+	}
+	if IsTimeout(err) {
+		return nil, err
+	}
+	if err == nil && first == Decomposed && flatColumns(p) > tieBreakFlatColumns {
+		// Optimal in the primary objective; the flat model of a network
+		// this large would take minutes to settle only the tie-break.
+		plan.Warnings = append(plan.Warnings, tieBreakWarning(p))
+		return plan, nil
+	}
+	second := Flat
+	if first == Flat {
+		second = Decomposed
+	}
+	alt, altErr := solveBy(second, p, o)
+	if altErr == nil && !alt.Stats.TieBreakMissed {
+		why := "did not settle the tie-break"
+		if err != nil {
+			why = "stopped: " + err.Error()
 		}
-		// Auto: lp_solve gave up on a master even after the fallbacks, or
-		// stalled on one; the flat model is the other way to the same
-		// optimum.
+		alt.Stats.Path = strings.TrimPrefix(alt.Stats.Path+"; after the "+first.String()+" method "+why, "; ")
+		return alt, nil
+	}
+	for _, c := range []*Plan{plan, alt} {
+		if c == nil {
+			continue
+		}
+		switch {
+		case c.Stats.TieBreakMissed:
+			c.Warnings = append(c.Warnings, tieBreakWarning(p))
+		case c.Stats.Gap > RelativeGap:
+			c.Warnings = append(c.Warnings, fmt.Sprintf("the decomposition stopped at its limit of rounds with this plan proven within %.2g (relative) of the best possible, not %.0g, and the flat model gave no answer", c.Stats.Gap, RelativeGap))
+		default:
+			continue
+		}
+		return c, nil
+	}
+	return nil, err
+}
+
+// tieBreakFlatColumns is the largest flat model SolveWith solves only to
+// settle a tie-break the decomposition left open: the flat model of the
+// benchmark's 4x5x4x20 network (1,140 columns) takes 35 ms, of its
+// 20x7x6x30 network (12,900) 3.8 s.
+const tieBreakFlatColumns = 5000
+
+// tieBreakWarning says that a plan is optimal in the primary objective
+// only.
+func tieBreakWarning(p *Problem) string {
+	return fmt.Sprintf("the solver could not settle the second objective (%s): the plan is optimal in the first (%s), but another plan as good in it may do better in the second", other(p.Objective), p.Objective)
+}
+
+// solveBy plans the problem by one method. A decomposed solve that reached
+// its iteration cap returns its plan with the error.
+func solveBy(m Method, p *Problem, o Options) (*Plan, error) {
+	if m == Decomposed {
+		return solveDecomposed(p, o)
 	}
 	plan, err := Solve(p)
 	if plan != nil {
 		plan.Stats.Method = Flat.String()
-	}
-	if err != nil && o.Method == Auto && m == Flat && isSolverFailure(err) {
-		// Auto: lp_solve failed on the flat model; the decomposition is the
-		// other way to the same optimum.
-		if dplan, derr := solveDecomposed(p, o); derr == nil {
-			return dplan, nil
-		}
 	}
 	return plan, err
 }
@@ -170,6 +222,9 @@ type decomposer struct {
 	// seeded counts the pool's first columns, there before any stage: do
 	// nothing and the Warm's policies.
 	seeded int
+	// primalPath is the settingsPaths index that last solved a primal
+	// master.
+	primalPath int
 	// setOf is, per target, the index of its state set among its class's
 	// sets (dwClass.sets); -1 for targets on groups or scores.
 	setOf []int
@@ -177,6 +232,7 @@ type decomposer struct {
 
 func newDecomposer(p *Problem, o Options) *decomposer {
 	b := newBuilder(p)
+	p = b.p // with the caps that can bind
 	dw := &decomposer{p: p, b: b, weights: b.weights, moneyUnit: b.moneyUnit, maxIter: o.MaxIterations}
 	if dw.maxIter <= 0 {
 		dw.maxIter = DefaultMaxIterations
@@ -203,6 +259,7 @@ func newDecomposer(p *Problem, o Options) *decomposer {
 			dw.setOf[n] = dw.classes[tg.Class].addSet(tg)
 		}
 	}
+	dw.shutZeroCaps()
 	dw.links = dw.linkRows()
 	for _, d := range dw.classes {
 		dw.pricingWork += len(d.pairs) * d.years
@@ -211,41 +268,83 @@ func newDecomposer(p *Problem, o Options) *decomposer {
 }
 
 // callTimeout is what is left of the problem's time limit for one master
-// solve (zero: no limit).
+// solve (zero: no limit). Nothing else here is timed: a master that
+// lp_solve cannot finish is caught by counting its simplex iterations
+// (stallIterations), so that the answer does not depend on the machine's
+// load.
 func (dw *decomposer) callTimeout() time.Duration {
 	if dw.deadline.IsZero() {
-		return masterStallLimit
+		return 0
 	}
-	return min(max(time.Until(dw.deadline), time.Millisecond), masterStallLimit)
+	return max(time.Until(dw.deadline), time.Millisecond)
 }
-
-// masterStallLimit bounds one lp_solve call on a master. A master has a few
-// dozen rows and solves in milliseconds; lp_solve 5.5 with the settings
-// golp leaves it (its scaling cannot be changed) now and then cycles on a
-// degenerate master instead (seen on the demo with unmet targets, where
-// GLPK and CLP solve the same master at once). A call that runs this long
-// has stalled: the decomposition gives up with ErrStalled, and Auto solves
-// the flat model instead. lp_solve counts its limit in whole seconds.
-const masterStallLimit = 2 * time.Second
 
 // isSolverFailure reports an lp_solve failure other than the caller's
 // time limit.
 func isSolverFailure(err error) bool {
 	var se *SolverError
-	return errors.As(err, &se) && se.Status != "timeout"
+	return errors.As(err, &se) && se.Status != StatusTimeout
 }
 
 // ErrStalled is wrapped by the error of a decomposed solve whose master LP
-// lp_solve could not finish within masterStallLimit.
+// lp_solve could not finish on any path within stallIterations.
 var ErrStalled = errors.New("lp_solve stalled on the decomposition's master LP")
 
-// timeoutError says why a master call ran out of time: the caller's limit,
-// or a stall.
+// timeoutError is the error of a master call that ran out of the caller's
+// time.
 func (dw *decomposer) timeoutError() error {
-	if !dw.deadline.IsZero() && !time.Now().Before(dw.deadline) {
-		return &SolverError{Status: "timeout", Advice: fmt.Sprintf("no optimal plan within the time limit of %s; raise the limit", dw.p.Timeout)}
+	return &SolverError{Status: StatusTimeout, Advice: fmt.Sprintf("no optimal plan within the time limit of %s; raise the limit", dw.p.Timeout)}
+}
+
+// shutZeroCaps marks, in each class, the treatments that cost money in a
+// year whose spend a cap holds at zero (a zero yearly cap; with
+// carry-over, caps that sum to zero up to that year): no plan takes them,
+// and a master whose budget rows all read zero made lp_solve stall on its
+// degenerate vertices. Do nothing stays open whatever it costs (with
+// routine costs counted against a zero cap the budgets cannot hold, which
+// stage 0 finds).
+func (dw *decomposer) shutZeroCaps() {
+	p := dw.p
+	zero := func(caps []float64, t int) bool {
+		if !p.CarryOver {
+			return caps[t] == 0
+		}
+		for s := 0; s <= t; s++ {
+			if caps[s] != 0 {
+				return false
+			}
+		}
+		return true
 	}
-	return fmt.Errorf("%w (limit %s a call); solve with --solver flat", ErrStalled, masterStallLimit)
+	shut := func(k, t int) {
+		d := dw.classes[k]
+		if d.shut == nil {
+			d.shut = make([]bool, d.years*len(d.pairs))
+		}
+		for n, pr := range d.pairs {
+			c := d.terms.cost[n]
+			if p.RoutineInBudget {
+				c += d.terms.routine[n]
+			}
+			if pr.action != 0 && c > 0 {
+				d.shut[t*len(d.pairs)+n] = true
+			}
+		}
+	}
+	for t := 0; t < p.Horizon; t++ {
+		if p.Budget != nil && zero(p.Budget, t) {
+			for k := range dw.classes {
+				shut(k, t)
+			}
+		}
+		for _, g := range p.GroupBudgets {
+			if zero(g.Yearly, t) {
+				for _, k := range g.Classes {
+					shut(k, t)
+				}
+			}
+		}
+	}
 }
 
 // add puts a policy of class k into the pool unless the pool already holds
@@ -293,6 +392,8 @@ func solveDecomposed(p *Problem, o Options) (*Plan, error) {
 	if dw.doNothingOverspends() {
 		res, err := dw.generate(&stage{obj: objExcess, sign: 1})
 		if err != nil {
+			// At the cap the least overspend is not known: whether any
+			// plan keeps the budgets is left to the flat model.
 			return nil, err
 		}
 		if -res.z > infeasibleExcess {
@@ -302,10 +403,25 @@ func solveDecomposed(p *Problem, o Options) (*Plan, error) {
 		}
 	}
 
+	// A stage that reaches the iteration cap still ends with a plan that
+	// meets its rows: the later stages go on from it, and the plan comes
+	// back with the cap's error (see SolveWith).
+	var capped error
+	run := func(st *stage) (*masterResult, error) {
+		res, err := dw.generate(st)
+		if errors.Is(err, ErrIterationCap) && res != nil {
+			if capped == nil {
+				capped = err
+			}
+			return res, nil
+		}
+		return res, err
+	}
+
 	// Stage 1, with targets: the least total shortfall.
 	elastic := false
 	if len(p.Targets) > 0 {
-		res, err := dw.generate(&stage{obj: objSlack, sign: 1})
+		res, err := run(&stage{obj: objSlack, sign: 1})
 		if err != nil {
 			return nil, err
 		}
@@ -321,56 +437,40 @@ func solveDecomposed(p *Problem, o Options) (*Plan, error) {
 	// Stage 2: the primary objective, keeping the least shortfall.
 	st := &stage{obj: primary, sign: sign(primary)}
 	if elastic {
-		st.weighted, st.hold, st.holdSign, st.weight, st.held = true, objSlack, -1, firstWeight, -dw.leastShortfall
+		st.holds = []hold{{obj: objSlack, sign: -1, held: -dw.leastShortfall}}
 	}
-	res, err := dw.generate(st)
+	res, err := run(st)
 	if err != nil {
 		return nil, err
 	}
-	if dw.overspend(res) != nil {
-		return nil, &SolverError{Status: "numerical failure", Advice: "lp_solve's answer to the decomposition's master overspends a budget beyond 1e-9; solve with --solver flat"}
-	}
-	if elastic {
-		// Keep each target's shortfall where stage 2's plan put it: relax
-		// every row that plan misses to what it reaches (and a hair more,
-		// so that the plan stays feasible to lp_solve), and drop the
-		// shortfall columns.
-		m := dw.mixMeasures(res)
-		for r := range dw.links {
-			l := &dw.links[r]
-			if l.kind != linkTarget {
-				continue
-			}
-			v := dw.targetValue(l, m)
-			if l.sense == LessEq && v > l.rhs {
-				l.rhs, l.active = v+relaxMargin, true
-			} else if l.sense == GreaterEq && v < l.rhs {
-				l.rhs, l.active = v-relaxMargin, true
-			}
-		}
-		dw.hardTargets = true
-	}
-	// Stage 3: the tie-break, keeping the primary optimum.
+	// Stage 3: the tie-break, keeping the primary optimum (and with unmet
+	// targets the least total shortfall too, as in the flat model's
+	// lexicographic solves).
 	held := 0.0
 	for j, w := range res.lambda {
 		held += w * sign(primary) * dw.objValue(primary, dw.pool[j])
 	}
-	st3 := &stage{obj: secondary, sign: sign(secondary), weighted: true, hold: primary, holdSign: sign(primary), weight: firstWeight, held: held, tieBreak: true}
-	res3, err := dw.generate(st3)
-	if err == nil && dw.overspend(res3) == nil {
+	st3 := &stage{obj: secondary, sign: sign(secondary), holds: append(append([]hold(nil), st.holds...), hold{obj: primary, sign: sign(primary), held: held}), tieBreak: true}
+	res3, err := run(st3)
+	switch {
+	case err == nil:
 		res = res3
-	} else if err != nil && !errors.Is(err, ErrStalled) && !isSolverFailure(err) {
+	case IsTimeout(err):
 		return nil, err
+	default:
+		// lp_solve gave no answer to a tie-break master on any path:
+		// stage 2's plan is optimal in the primary objective, and
+		// SolveWith tries the flat model for the tie-break.
+		dw.stats.TieBreakMissed = true
 	}
-	// Otherwise lp_solve failed on a tie-break master, or met its rows
-	// only to a tolerance that overspends a budget (stage 3 holds the
-	// targets where stage 2 left them, which leaves lp_solve little room):
-	// stage 2's plan is optimal for everything that matters, as in the
-	// flat model's lexicographic solves.
 	if o.Warm != nil {
 		o.Warm.keep(dw)
 	}
-	return dw.plan(res), nil
+	plan, err := dw.plan(res)
+	if err != nil {
+		return nil, err
+	}
+	return plan, capped
 }
 
 // infeasibleExcess is the least total spend over the budget rows (in model
@@ -398,32 +498,6 @@ func (dw *decomposer) doNothingOverspends() bool {
 	return false
 }
 
-// firstWeight and maxWeight bound the weight on a held objective in a
-// lexicographic stage (see doc.go): a stage starts at firstWeight and
-// multiplies it by 100 while its plan gives up more of the held objective
-// than holdTolerance allows.
-const (
-	firstWeight = 1e4
-	maxWeight   = 1e12
-)
-
-// holdKept reports whether the master's plan keeps the held objective of
-// a weighted stage within holdTolerance.
-func (dw *decomposer) holdKept(st *stage, res *masterResult) bool {
-	if st.hold == objSlack {
-		s := 0.0
-		for _, v := range res.slack {
-			s += v
-		}
-		return -s >= st.held-holdTolerance(st.held)
-	}
-	v := 0.0
-	for j, w := range res.lambda {
-		v += w * st.holdSign * dw.objValue(st.hold, dw.pool[j])
-	}
-	return v >= st.held-holdTolerance(st.held)
-}
-
 // generate runs column generation for one stage until the Lagrangian bound
 // proves the master's value optimal within RelativeGap.
 func (dw *decomposer) generate(st *stage) (*masterResult, error) {
@@ -433,10 +507,16 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 		pc.pr[k] = newPrices(dw.p.Horizon, len(dw.classes[k].sets))
 	}
 	// A later stage starts from the policies the earlier stages' plans
-	// use; pricing brings back any other it needs.
-	dm := newDualMaster(dw, st, dw.usedMask())
+	// use; pricing brings back any other it needs. A stage that holds an
+	// earlier optimum solves its master in the primal form with the hold
+	// as a row (see holdMaster).
+	var dm master = newHoldMaster(dw, st)
+	if !st.weighted() {
+		dm = newDualMaster(dw, st, dw.usedMask())
+	}
 	// The stability centre of the dual smoothing (Wentges, 1997): the
-	// prices with the best Lagrangian bound so far.
+	// prices with the best Lagrangian bound so far, the linking rows'
+	// (one per link) followed by the hold rows' (one per hold).
 	var center []float64
 	bestBound := math.Inf(1)
 	for iter := 1; ; iter++ {
@@ -448,8 +528,12 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 		if err != nil {
 			return nil, fmt.Errorf("decomposition master: %w", err)
 		}
+		if hm, ok := dm.(*holdMaster); ok && hm.relaxed {
+			hm.relaxed = false
+			center, bestBound = nil, math.Inf(1) // the bound was for tighter holds
+		}
 		dw.stats.Rows, dw.stats.Cols = res.rows, res.cols
-		if st.obj != objExcess && dw.activateViolated(res) {
+		if st.obj != objExcess && dw.activateViolated(st, res) {
 			center, bestBound = nil, math.Inf(1) // the bound was for fewer rows
 			continue
 		}
@@ -464,32 +548,52 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 		// steps and policies would only add work.
 		if dw.warmup && st.obj != objExcess && (!dw.warmStarted || iter > 2) {
 			dw.warmup = false
+			// The warm-up moves the linking rows' prices only; a stage
+			// with holds keeps their weights at this master's prices,
+			// which the centre carries.
+			st.setWeights(res.holdPrices)
 			bestBound, center = dw.lagrangeWarmup(pc, res)
 			if center != nil {
 				continue // the master now holds the warm-up's policies
 			}
 		}
-		if len(dm.rowOf) > dw.masterRowLimit() {
-			dm = newDualMaster(dw, st, dw.recentMask(res))
+		switch d := dm.(type) {
+		case *dualMaster:
+			if len(d.rowOf) > dw.masterRowLimit() {
+				dm = newDualMaster(dw, st, dw.recentMask(res))
+			}
+		case *holdMaster:
+			if d.size() > dw.masterRowLimit() {
+				d.in = dw.recentMask(res)
+			}
 		}
-		scale := math.Max(math.Abs(res.z), 1e-6)
+		scale := dw.gapScale(st, res)
 		added := 0
 		// Price at the smoothed prices first; if that finds no policy
 		// improving the master (a mispricing), price at the master's own.
 		for _, alpha := range []float64{smoothing, 0} {
-			pi := res.pi
+			// The prices: the linking rows' and, in a stage with holds,
+			// the hold rows' (the weights on the held objectives), which
+			// are smoothed alike.
+			pi, w := res.pi, res.holdPrices
 			if center != nil && alpha > 0 {
 				pi = make([]float64, len(res.pi))
 				for r := range pi {
 					pi[r] = alpha*center[r] + (1-alpha)*res.pi[r]
 				}
+				w = make([]float64, len(res.holdPrices))
+				for i := range w {
+					w[i] = alpha*center[len(pi)+i] + (1-alpha)*res.holdPrices[i]
+				}
 			} else if alpha > 0 {
 				continue
 			}
+			st.setWeights(w)
 			bound := pc.price(pi, res)
+			st.setWeights(res.holdPrices)
 			dw.stats.Iterations++
 			if bound < bestBound {
-				bestBound, center = bound, append([]float64(nil), pi...)
+				bestBound, center = bound, append(append([]float64(nil), pi...), w...)
 			}
 			for k := 0; k < K; k++ {
 				col := dw.classes[k].roll(k, pc.pols[k])
@@ -508,13 +612,6 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 		}
 		gap := bestBound - res.z
 		if gap <= RelativeGap*scale || added == 0 {
-			if st.weighted && st.weight < maxWeight && !dw.holdKept(st, res) {
-				// The weight was too light to keep the earlier optimum.
-				st.weight *= 100
-				dm = newDualMaster(dw, st, dw.usedMask())
-				center, bestBound = nil, math.Inf(1)
-				continue
-			}
 			dw.stats.Gap = math.Max(dw.stats.Gap, math.Max(gap, 0)/scale)
 			if st.obj != objExcess {
 				res = dw.polish(st, res)
@@ -523,9 +620,113 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 			return res, nil
 		}
 		if iter >= dw.maxIter {
-			return nil, fmt.Errorf("%w: after %d rounds the plan is proven within %.2g (relative) of the optimum, not %.0g; solve with --solver flat, or raise optimize.Options.MaxIterations", ErrIterationCap, iter, gap/scale, RelativeGap)
+			// The master's plan meets the stage's rows; it is proven
+			// within gap of the optimum, not within RelativeGap.
+			dw.stats.Gap = math.Max(dw.stats.Gap, math.Max(gap, 0)/scale)
+			if st.obj != objExcess {
+				res = dw.polish(st, res)
+			}
+			dw.markUsed(res)
+			return res, fmt.Errorf("%w: after %d rounds the plan is proven within %.2g (relative) of the optimum, not %.0g", ErrIterationCap, iter, gap/scale, RelativeGap)
 		}
 	}
+}
+
+// gapScale is what a stage's gap is measured against: the value of the
+// stage's own objective (a stage that holds an earlier optimum measures
+// only its own objective; see holdMaster), at least 1e-6 in the model's
+// units.
+func (dw *decomposer) gapScale(st *stage, res *masterResult) float64 {
+	return math.Max(math.Abs(res.z), 1e-6)
+}
+
+// master is the restricted master of a stage: the dual form (dualMaster),
+// which lp_solve re-solves from its last basis as rows are added, or, for
+// a stage that holds an earlier optimum, the primal form with the hold as
+// a row (holdMaster).
+type master interface {
+	solve() (*masterResult, error)
+	// include puts pool column j back into a master that left it out,
+	// and reports whether it did.
+	include(j int) bool
+}
+
+// holdMaster is the restricted master of a stage that holds an earlier
+// stage's optimum: maximise the stage's own objective over every pooled
+// policy subject to the linking rows, the convexity rows and the hold
+// row (held objective at least its optimum less holdTolerance), solved in
+// the primal form from scratch each round. The hold row's price w is the
+// weight the pricing problems put on the held objective, and the
+// Lagrangian bound on the stage's own objective is the bound for the
+// weighted objective less w × the held value (see pricer.price). Holding
+// by a row rather than by a fixed large weight keeps the master's
+// objective at the scale of the stage's own objective, so lp_solve's
+// tolerances do not swamp the tie-break: with a weight of 1e4 on a cost
+// near 8, lp_solve's answers carried errors near 1e-5 in a tie-break near
+// 0.8.
+//
+// Like the dual form it holds a working set of the pool: the policies the
+// earlier stages' plans use, every policy generated since, and any that
+// pricing finds again. A master of the whole pool (861 policies, 94 rows
+// on a 40-class model) made lp_solve cycle where the working set (67)
+// solved at once.
+type holdMaster struct {
+	dw *decomposer
+	st *stage
+	in []bool // per pool column: in this master
+	// relaxed: the last solve relaxed the holds, so bounds found before
+	// were for a smaller problem.
+	relaxed bool
+}
+
+func newHoldMaster(dw *decomposer, st *stage) *holdMaster {
+	hm := &holdMaster{dw: dw, st: st, in: dw.usedMask()}
+	if hm.in == nil {
+		hm.in = make([]bool, len(dw.pool))
+		for j := range hm.in {
+			hm.in[j] = true
+		}
+	}
+	return hm
+}
+
+func (hm *holdMaster) solve() (*masterResult, error) {
+	for len(hm.in) < len(hm.dw.pool) {
+		hm.in = append(hm.in, true)
+	}
+	res, err := hm.dw.solvePrimal(hm.st, hm.in)
+	for err != nil && !IsTimeout(err) && hm.st.holdRelax() < maxHoldRelax {
+		// The earlier stage's plan meets every hold, so the master has an
+		// answer; lp_solve misses it when the holds leave it less room
+		// than its own tolerances. Give them ten times more.
+		hm.st.relax = 10 * hm.st.holdRelax()
+		hm.relaxed = true
+		res, err = hm.dw.solvePrimal(hm.st, hm.in)
+	}
+	if err != nil {
+		return nil, err
+	}
+	hm.st.setWeights(res.holdPrices)
+	return res, nil
+}
+
+// size is the number of policies in the master.
+func (hm *holdMaster) size() int {
+	n := 0
+	for _, in := range hm.in {
+		if in {
+			n++
+		}
+	}
+	return n
+}
+
+func (hm *holdMaster) include(j int) bool {
+	if j >= len(hm.in) || hm.in[j] {
+		return false
+	}
+	hm.in[j] = true
+	return true
 }
 
 // smoothing is the weight of the stability centre in the prices handed to
@@ -605,8 +806,10 @@ func (pc *pricer) price(pi []float64, res *masterResult) float64 {
 	if st.obj != objSlack {
 		dw.addObjective(pc.pr, st.obj, st.sign)
 	}
-	if st.weighted && st.hold != objSlack {
-		dw.addObjective(pc.pr, st.hold, st.weight*st.holdSign)
+	for i := range st.holds {
+		if h := &st.holds[i]; h.obj != objSlack {
+			dw.addObjective(pc.pr, h.obj, h.weight*h.sign)
+		}
 	}
 	bound := 0.0
 	for r := range dw.links {
@@ -618,6 +821,11 @@ func (pc *pricer) price(pi []float64, res *masterResult) float64 {
 	dw.priceAll(pc.pr, pc.pols, pc.vals)
 	for _, v := range pc.vals {
 		bound += v
+	}
+	for i := range st.holds {
+		// The hold rows' part: the bound is on the stage's own objective.
+		h := &st.holds[i]
+		bound -= h.weight * h.bound(st.holdRelax())
 	}
 	return bound + dw.slackBound(st, pi)
 }
@@ -733,8 +941,14 @@ func (dw *decomposer) targetValue(l *link, m *mix) float64 {
 }
 
 // activateViolated adds to the master every inactive target row that the
-// master's current plan violates, and reports whether it added any.
-func (dw *decomposer) activateViolated(res *masterResult) bool {
+// master's current plan violates, and reports whether it added any. A
+// hard row joins when the plan misses it by more than activateTol; an
+// elastic row (unmet targets) when the plan misses it at all, so that the
+// master's total shortfall is the plan's: a row left out while missed by
+// even 1e-10 would be shortfall the stages that hold the least total
+// shortfall cannot see, and with many target rows that came to 1e-7 of
+// the least shortfall, which a min-cost plan traded for 1e-5 of its cost.
+func (dw *decomposer) activateViolated(st *stage, res *masterResult) bool {
 	var m *mix
 	added := false
 	for r := range dw.links {
@@ -746,7 +960,11 @@ func (dw *decomposer) activateViolated(res *masterResult) bool {
 			m = dw.mixMeasures(res)
 		}
 		v := dw.targetValue(l, m)
-		if (l.sense == LessEq && v > l.rhs+activateTol) || (l.sense == GreaterEq && v < l.rhs-activateTol) {
+		tol := activateTol
+		if dw.elastic(st, l) {
+			tol = 0
+		}
+		if (l.sense == LessEq && v > l.rhs+tol) || (l.sense == GreaterEq && v < l.rhs-tol) {
 			l.active = true
 			added = true
 		}
@@ -825,8 +1043,11 @@ const (
 )
 
 // lagrangeWarmup runs the warm-up from the master result res and returns
-// the best Lagrangian bound it proved with the prices that prove it (nil
-// when no step was possible).
+// the best Lagrangian bound it proved with the prices that prove it, laid
+// out as the stability centre (the linking rows' prices, then the hold
+// rows' weights, which the steps leave at the stage's current weights; nil
+// when no step was possible). With holds the bound stays a bound: any
+// non-negative weight on a hold row relaxes it.
 func (dw *decomposer) lagrangeWarmup(pc *pricer, res *masterResult) (float64, []float64) {
 	K := len(dw.classes)
 	pi := append([]float64(nil), res.pi...)
@@ -898,12 +1119,19 @@ func (dw *decomposer) lagrangeWarmup(pc *pricer, res *masterResult) (float64, []
 			}
 		}
 	}
+	if bestPi == nil {
+		return best, nil
+	}
+	for i := range pc.st.holds {
+		bestPi = append(bestPi, pc.st.holds[i].weight)
+	}
 	return best, bestPi
 }
 
 // plan turns the last master's weights into the flat model's column values
-// and reads the plan the flat way.
-func (dw *decomposer) plan(res *masterResult) *Plan {
+// and reads the plan the flat way, after checking those values against
+// every row of the flat model (see verify).
+func (dw *decomposer) plan(res *masterResult) (*Plan, error) {
 	b := dw.b
 	nx := b.structural()
 	x := make([]float64, nx)
@@ -918,17 +1146,22 @@ func (dw *decomposer) plan(res *masterResult) *Plan {
 	// Shortfalls are measured on the plan against the targets' own
 	// bounds (readPlan reports those above shortfallFloor).
 	var slacks []slackCol
+	short := make(map[[2]int]float64) // by target and year (1-based)
 	m := dw.mixMeasures(res)
 	for r := range dw.links {
 		l := &dw.links[r]
 		if l.kind != linkTarget {
 			continue
 		}
-		short := (dw.targetValue(l, m) - l.goal) * -slackSign(l)
-		if short > 0 {
+		v := (dw.targetValue(l, m) - l.goal) * -slackSign(l)
+		if v > 0 {
+			short[[2]int{l.target, l.year + 1}] = v
 			slacks = append(slacks, slackCol{col: len(x), target: l.target, year: l.year + 1})
-			x = append(x, short)
+			x = append(x, v)
 		}
+	}
+	if err := dw.verify(res, x[:nx], short); err != nil {
+		return nil, err
 	}
 	plan := b.readPlan(x, slacks)
 	plan.Status = Optimal
@@ -938,17 +1171,44 @@ func (dw *decomposer) plan(res *masterResult) *Plan {
 	dw.stats.Method = Decomposed.String()
 	dw.stats.Columns = len(dw.pool)
 	plan.Stats = dw.stats
-	return plan
+	return plan, nil
 }
 
-// activateTol is how far the master's plan may miss a target row that is
-// not in the master before the row is added; relaxMargin is what a target
-// row relaxed to stage 2's shortfall allows beyond it (so that stage 2's
-// plan stays feasible to lp_solve). Both are on the model's 0-1 scale and
-// small because, with unmet targets, the primary objective can be steep in
-// the shortfall: with 1e-9 and 1e-10, 45 target rows let stage 3 buy 1e-5
-// of condition with 8e-8 of extra shortfall on a random case.
-const (
-	activateTol = 1e-10
-	relaxMargin = 1e-11
-)
+// verify checks a decomposed plan against the flat model it stands for:
+// the plan's quantities x, with each target row's shortfall (short, by
+// target and 1-based year) in the elastic model's shortfall column, must
+// meet every row of that model within rowTolerance, and the primary
+// objective recomputed from x must equal the master's within
+// objectiveTolerance. The rows are the flat model's own, whatever kinds it
+// holds, so that rows added to the model are checked without more code
+// here.
+func (dw *decomposer) verify(res *masterResult, x []float64, short map[[2]int]float64) error {
+	b := newBuilder(dw.p)
+	b.anonymous = true
+	m := b.build()
+	em, cols := b.elastic()
+	full := make([]float64, len(em.Cols))
+	copy(full, x)
+	for _, c := range cols {
+		full[c.col] = short[[2]int{c.target, c.year}]
+	}
+	if v := violation(em.Rows, full); !(v <= rowTolerance) {
+		return &SolverError{Status: StatusUnverified, Advice: fmt.Sprintf("the decomposition's plan misses a row of the flat model by %.2g (relative), more than the %.0g accepted", v, rowTolerance)}
+	}
+	primary := objKindOf(dw.p.Objective)
+	want := 0.0
+	for j, w := range res.lambda {
+		if w > 0 {
+			want += w * dw.objValue(primary, dw.pool[j])
+		}
+	}
+	if got := m.Value(x); !(math.Abs(got-want) <= objectiveTolerance*math.Max(math.Abs(want), 1e-12)) {
+		return &SolverError{Status: StatusUnverified, Advice: fmt.Sprintf("the decomposition's plan is worth %.12g in the flat model, its master says %.12g", got, want)}
+	}
+	return nil
+}
+
+// activateTol is how far the master's plan may miss a hard target row
+// that is not in the master before the row is added, on the model's 0-1
+// scale (elastic rows join when missed at all; see activateViolated).
+const activateTol = 1e-10

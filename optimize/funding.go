@@ -6,23 +6,218 @@ import (
 	"math"
 )
 
-// ErrUnreachable is returned when no amount of money meets the targets: a
-// target asks for a condition the treatments cannot reach in time (or a
-// budget group's fixed cap holds it back).
+// ErrUnreachable is returned when no amount of money meets the targets:
+// with every budget cap lifted, some target still misses (Reachability
+// says which, in which years, and what is reachable instead).
 var ErrUnreachable = errors.New("no amount of money meets the targets")
+
+// ErrHeldBack is wrapped by the HeldBackError of LevelBudget when enough
+// money meets the targets, but no network budget does while the budget
+// groups keep their caps.
+var ErrHeldBack = errors.New("the budget groups' caps keep the targets out of reach of any network budget")
+
+// HeldBackError names the budget groups whose caps keep the targets out of
+// reach of any network budget: lifting the cap of any one of them (or, when
+// Together is set, of all of them, no single one being enough) lets a
+// network budget meet the targets.
+type HeldBackError struct {
+	Groups   []int
+	Together bool
+}
+
+func (e *HeldBackError) Error() string {
+	return fmt.Sprintf("%v (budget groups %v)", ErrHeldBack, e.Groups)
+}
+
+func (e *HeldBackError) Unwrap() error { return ErrHeldBack }
 
 // roundUpMoney turns an amount found by the solver into whole currency
 // units, rounding up so that the amount fed back stays feasible: lp_solve
-// holds rows (scaled near 1) to 1e-9, so the amount is known to about 1e-9
-// of the money unit, far below one currency unit for any budget under a
-// billion. An amount within 1e-9 relative above a whole number is that
-// number (400.0000001 is 400, not 401). Amounts below 1e-9 of the money
-// unit are solver noise and read as zero.
+// holds rows (scaled near 1) to about 1e-9 (checkAnswer accepts 1e-7), so
+// the amount is known to about 1e-9 of the money unit, far below one
+// currency unit for any budget under a billion. An amount within 1e-9
+// relative above a whole number is that number (400.0000001 is 400, not
+// 401). Amounts below 1e-9 of the money unit are solver noise and read as
+// zero.
 func roundUpMoney(v, unit float64) float64 {
 	if v <= 1e-9*unit {
 		return 0
 	}
 	return math.Ceil(v * (1 - 1e-9))
+}
+
+// uncapped returns a copy of p with no network cap and, unless keepGroups,
+// no group caps: the problem with as much money as it can use.
+func uncapped(p *Problem, keepGroups bool) *Problem {
+	q := *p
+	q.Budget = nil
+	if !keepGroups {
+		q.GroupBudgets = nil
+	}
+	return &q
+}
+
+// leastShortfall is the least total target shortfall (on the model's 0-1
+// scale) of any plan of p, from the elastic model, which always has an
+// answer when the budgets can hold.
+func leastShortfall(p *Problem) (float64, error) {
+	if len(p.Targets) == 0 {
+		return 0, nil
+	}
+	b := newBuilder(p)
+	b.build()
+	em, cols := b.elastic()
+	slack := make([]float64, len(em.Cols))
+	for _, c := range cols {
+		slack[c.col] = 1
+	}
+	em.Obj = slack
+	lr, err := lexicographic(em, p, []objectiveSpec{{obj: slack}}, true)
+	if err != nil {
+		return 0, err
+	}
+	return em.Value(lr.x), nil
+}
+
+// reachable reports whether enough money meets every target of p.
+func reachable(p *Problem) (bool, error) {
+	s, err := leastShortfall(uncapped(p, false))
+	return s <= shortfallFloor, err
+}
+
+// YearReach is the best value of a target's measure that any plan reaches
+// at the end of one year (1-based), whatever the money: a share (0-1) for
+// share targets, a score (0-100) for score targets.
+type YearReach struct {
+	Year int
+	Best float64
+}
+
+// TargetReach is a target that no amount of money meets, with the years it
+// misses and the best value reachable in each of them. A target that can be
+// met on its own but not together with the others has no Years and
+// Together set.
+type TargetReach struct {
+	Target   int
+	Years    []YearReach
+	Together bool
+}
+
+// Reachability lists the targets that no amount of money meets (nil when
+// enough money meets them all). Each target is first tried alone with
+// every cap lifted; for one that misses, each year of its range gets its
+// own LP, the best value of the target's measure reachable that year, and
+// the years where that misses the target are listed. When every target can
+// be met alone but not all together, each target of the least-shortfall
+// plan that misses is listed with Together set.
+func Reachability(p *Problem) ([]TargetReach, error) {
+	if err := p.Validate(); err != nil {
+		return nil, err
+	}
+	q := uncapped(p, false)
+	ok, err := reachable(q)
+	if err != nil || ok {
+		return nil, err
+	}
+	var out []TargetReach
+	for n := range p.Targets {
+		alone := *q
+		alone.Targets = []Target{p.Targets[n]}
+		if ok, err := reachable(&alone); err != nil {
+			return nil, err
+		} else if ok {
+			continue
+		}
+		tr := TargetReach{Target: n}
+		tg := &p.Targets[n]
+		from, to := tg.From, tg.To
+		if tg.Kind == Hold {
+			from, to = p.Horizon, p.Horizon
+		}
+		for y := from; y <= to; y++ {
+			best, err := bestReachable(q, tg, y)
+			if err != nil {
+				return nil, err
+			}
+			if misses(q, tg, best) {
+				if tg.Kind == MinScore || tg.Kind == Hold {
+					best *= 100
+				}
+				tr.Years = append(tr.Years, YearReach{Year: y, Best: best})
+			}
+		}
+		out = append(out, tr)
+	}
+	if out != nil {
+		return out, nil
+	}
+	// Each target alone can be met; together they cannot.
+	plan, err := Solve(q)
+	if err != nil {
+		return nil, err
+	}
+	seen := map[int]bool{}
+	for _, s := range plan.Shortfalls {
+		if !seen[s.Target] {
+			seen[s.Target] = true
+			out = append(out, TargetReach{Target: s.Target, Together: true})
+		}
+	}
+	return out, nil
+}
+
+// bestReachable is the best value (0-1 model scale) of target tg's measure
+// at the end of year y (1-based) over every plan of q (no targets).
+func bestReachable(q *Problem, tg *Target, y int) (float64, error) {
+	r := *q
+	r.Targets = nil
+	b := newBuilder(&r)
+	m := b.build()
+	obj := make([]float64, len(m.Cols))
+	for _, e := range b.conditionEntries(tg, y-1) {
+		obj[e.Col] += e.Val
+	}
+	sense, _ := b.targetBound(tg)
+	m.Obj, m.Maximize = obj, sense != LessEq
+	lr, err := lexicographic(m, &r, []objectiveSpec{{obj: obj, maximize: m.Maximize}}, true)
+	if err != nil {
+		return 0, fmt.Errorf("best reachable value of %s in year %d: %w", tg.Label, y, err)
+	}
+	return m.Value(lr.x), nil
+}
+
+// misses reports whether the best reachable value v (0-1) misses target tg
+// by more than shortfallFloor.
+func misses(q *Problem, tg *Target, v float64) bool {
+	b := &builder{p: q}
+	sense, rhs := b.targetBound(tg)
+	if sense == LessEq {
+		return v > rhs+shortfallFloor
+	}
+	return v < rhs-shortfallFloor
+}
+
+// settle runs a funding LP, whose model has an answer exactly when
+// reachableFn says so: lp_solve's "infeasible", or a failure on every
+// path, is checked against it. It returns ErrUnreachable when reachableFn
+// says no answer exists.
+func settle(m *Model, p *Problem, objs []objectiveSpec, reachableFn func() (bool, error)) (*lexResult, error) {
+	lr, err := lexicographic(m, p, objs, false)
+	if err == nil || IsTimeout(err) {
+		return lr, err
+	}
+	ok, rerr := reachableFn()
+	if rerr != nil {
+		return nil, rerr
+	}
+	if !ok {
+		return nil, ErrUnreachable
+	}
+	if !errors.Is(err, ErrInfeasible) {
+		return nil, err // every path failed on a model that has an answer
+	}
+	// lp_solve called a model with an answer infeasible: the other paths.
+	return lexicographic(m, p, objs, true)
 }
 
 // LevelBudget is the least network budget, one nominal amount for every
@@ -32,14 +227,15 @@ func roundUpMoney(v, unit float64) float64 {
 // (with carry-over: spend up to year t at most t·L), minimising L. With a
 // Hold target alone it answers "what does it take to hold today's
 // condition". Without targets the answer is zero (or the routine cost, when
-// it counts against the budget).
+// it counts against the budget). It returns ErrUnreachable when no amount
+// of money meets the targets, and a *HeldBackError when enough money
+// does but not while the budget groups keep their caps.
 func LevelBudget(p *Problem) (float64, error) {
-	q := *p
-	q.Budget = nil
+	q := uncapped(p, true)
 	if err := q.Validate(); err != nil {
 		return 0, err
 	}
-	b := newBuilder(&q)
+	b := newBuilder(q)
 	m := b.build()
 	level := m.addCol("level", 0)
 	for t := 0; t < q.Horizon; t++ {
@@ -60,14 +256,51 @@ func LevelBudget(p *Problem) (float64, error) {
 	// leaving spend at the level where less would do, which changes nothing
 	// in L but keeps the answer reproducible.
 	pv := append(b.objectiveOf(MinCost), 0)
-	x, _, err := lexicographic(m, &q, []objectiveSpec{{obj: obj}, {obj: pv}})
-	if errors.Is(err, ErrInfeasible) {
-		return 0, ErrUnreachable
+	var heldBack error
+	lr, err := settle(m, q, []objectiveSpec{{obj: obj}, {obj: pv}}, func() (bool, error) {
+		if ok, err := reachable(q); err != nil || !ok {
+			return false, err
+		}
+		// Enough money meets the targets; the group caps may not let it.
+		s, err := leastShortfall(q)
+		if err != nil || s <= shortfallFloor {
+			return err == nil, err
+		}
+		heldBack, err = heldBackBy(q)
+		return false, err
+	})
+	if errors.Is(err, ErrUnreachable) && heldBack != nil {
+		return 0, heldBack
 	}
 	if err != nil {
 		return 0, err
 	}
-	return roundUpMoney(x[level]*b.moneyUnit, b.moneyUnit), nil
+	return roundUpMoney(lr.x[level]*b.moneyUnit, b.moneyUnit), nil
+}
+
+// heldBackBy names the budget groups whose caps keep the targets of q (no
+// network cap) out of reach: each group whose cap, lifted alone, lets the
+// targets be met, or all of them together.
+func heldBackBy(q *Problem) (error, error) {
+	e := &HeldBackError{}
+	for g := range q.GroupBudgets {
+		r := *q
+		r.GroupBudgets = append(append([]GroupBudget(nil), q.GroupBudgets[:g]...), q.GroupBudgets[g+1:]...)
+		s, err := leastShortfall(&r)
+		if err != nil {
+			return nil, err
+		}
+		if s <= shortfallFloor {
+			e.Groups = append(e.Groups, g)
+		}
+	}
+	if e.Groups == nil {
+		e.Together = true
+		for g := range q.GroupBudgets {
+			e.Groups = append(e.Groups, g)
+		}
+	}
+	return e, nil
 }
 
 // Gap is the extra money that would let every target hold: per year
@@ -147,15 +380,12 @@ func ClosingMoney(p *Problem) (*Gap, error) {
 		obj[e.col] = p.discount(e.year - 1)
 	}
 	pv := append(b.objectiveOf(MinCost), make([]float64, len(extras))...)
-	x, _, err := lexicographic(m, p, []objectiveSpec{{obj: obj}, {obj: pv}})
-	if errors.Is(err, ErrInfeasible) {
-		return nil, ErrUnreachable
-	}
+	lr, err := settle(m, p, []objectiveSpec{{obj: obj}, {obj: pv}}, func() (bool, error) { return reachable(p) })
 	if err != nil {
 		return nil, err
 	}
 	for _, e := range extras {
-		v := roundUpMoney(x[e.col]*b.moneyUnit, b.moneyUnit)
+		v := roundUpMoney(lr.x[e.col]*b.moneyUnit, b.moneyUnit)
 		if e.budget == Network {
 			gap.Network[e.year-1] = v
 		} else {

@@ -70,6 +70,7 @@ func SolveLongRun(p *Problem) (*LongRun, error) {
 	if err := p.Validate(); err != nil {
 		return nil, err
 	}
+	p = p.bindingCaps()
 	b := &longRunBuilder{p: p, weights: p.Weights(), pairs: make([][]pair, len(p.Classes)), base: make([]int, len(p.Classes)), terms: make([]classTerms, len(p.Classes))}
 	lay := newLayout(p)
 	next := 0
@@ -84,11 +85,49 @@ func SolveLongRun(p *Problem) (*LongRun, error) {
 	primary := objectiveSpec{obj: b.objectiveOf(p.Objective), maximize: p.Objective == MaxCondition}
 	secondary := objectiveSpec{obj: b.objectiveOf(other(p.Objective)), maximize: other(p.Objective) == MaxCondition}
 	lr := &LongRun{Stats: Stats{Rows: len(m.Rows), Cols: len(m.Cols), Nonzeros: m.Nonzeros()}}
-	x, n, err := lexicographic(m, p, []objectiveSpec{primary, secondary})
-	lr.Stats.Solves = n
+	note := func(res *lexResult) {
+		if res != nil {
+			lr.Stats.Solves += res.solves
+			if res.path != "" {
+				lr.Stats.Path = res.path
+			}
+			lr.Stats.TieBreakMissed = lr.Stats.TieBreakMissed || res.partial
+		}
+	}
+	// Every policy has a steady state, so the caps alone can fail only
+	// when routine costs count against them; then an LP that always has
+	// an answer settles it first.
+	var targetRows []int
+	for _, r := range b.targetRows {
+		if r >= 0 {
+			targetRows = append(targetRows, r)
+		}
+	}
+	if p.RoutineInBudget && len(b.capRows) > 0 {
+		excess, res, err := leastExcess(m, p, b.capRows, targetRows)
+		note(res)
+		if err != nil {
+			return nil, err
+		}
+		if excess > infeasibleExcess {
+			lr.Status = Infeasible
+			return lr, nil
+		}
+	}
+	// Doing nothing keeps the caps here (checked above when routine costs
+	// count), so the model has a plan unless targets or least spends ask
+	// for more: only then may lp_solve's "infeasible" be believed.
+	fits := true
+	for _, ms := range p.MinSpends {
+		if ms.Yearly[0] > 0 {
+			fits = false
+		}
+	}
+	res, err := lexicographic(m, p, []objectiveSpec{primary, secondary}, fits && len(p.Targets) == 0)
+	note(res)
 	if err == nil {
 		lr.Status = Optimal
-		b.read(lr, x)
+		b.read(lr, res.x)
 		return lr, nil
 	}
 	if !errors.Is(err, ErrInfeasible) {
@@ -122,15 +161,16 @@ func SolveLongRun(p *Problem) (*LongRun, error) {
 	pad := func(o []float64) []float64 {
 		return append(append([]float64(nil), o...), make([]float64, len(em.Cols)-len(o))...)
 	}
-	x, n, err = lexicographic(em, p, []objectiveSpec{{obj: slack}, {obj: pad(primary.obj), maximize: primary.maximize}, {obj: pad(secondary.obj), maximize: secondary.maximize}})
-	lr.Stats.Solves += n
+	res, err = lexicographic(em, p, []objectiveSpec{{obj: slack}, {obj: pad(primary.obj), maximize: primary.maximize}, {obj: pad(secondary.obj), maximize: secondary.maximize}}, fits)
+	note(res)
 	if errors.Is(err, ErrInfeasible) {
-		lr.Status = Infeasible
+		lr.Status = Infeasible // a least spend no plan can meet
 		return lr, nil
 	}
 	if err != nil {
 		return nil, err
 	}
+	x := res.x
 	lr.Status = TargetsNotMet
 	b.read(lr, x)
 	for t, c := range slackOf {
@@ -232,6 +272,14 @@ func (b *longRunBuilder) build() *Model {
 	m.Obj = b.objectiveOf(p.Objective)
 	m.Maximize = p.Objective == MaxCondition
 	return m
+}
+
+// clean reads values within 1e-11 of zero as zero.
+func clean(v float64) float64 {
+	if math.Abs(v) < 1e-11 {
+		return 0
+	}
+	return v
 }
 
 // mergeEntries sums entries of the same column (a state that an action

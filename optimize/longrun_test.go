@@ -1,6 +1,7 @@
 package optimize
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -25,7 +26,11 @@ import (
 // as a routine cost of 1e5 a period, over 16 times any other cost, which no
 // least-cost policy can choose (it would make state 3 absorbing at 1e5 a
 // period).
-func machineProblem() *Problem {
+func machineProblem() *Problem { return machineProblemWith(1e5) }
+
+// machineProblemWith is machineProblem with the given cost a period for
+// leaving an inoperable machine as it is.
+func machineProblemWith(penalty float64) *Problem {
 	P, err := markov.NewTransition([][]float64{
 		{0, 7.0 / 8, 1.0 / 16, 1.0 / 16},
 		{0, 3.0 / 4, 1.0 / 8, 1.0 / 8},
@@ -47,7 +52,7 @@ func machineProblem() *Problem {
 		Horizon: 1, Objective: MinCost,
 		Classes: []Class{{
 			Name: "machine", Initial: []float64{1, 0, 0, 0}, Score: []float64{100, 200.0 / 3, 100.0 / 3, 0},
-			Group: []Group{Good, Fair, Fair, Poor}, Weight: 1, Actions: acts, Routine: []float64{0, 1000, 3000, 1e5},
+			Group: []Group{Good, Fair, Fair, Poor}, Weight: 1, Actions: acts, Routine: []float64{0, 1000, 3000, penalty},
 		}},
 	}
 }
@@ -205,5 +210,117 @@ func TestFiniteHorizonFromLongRunCostsTheLongRunCost(t *testing.T) {
 		if math.Abs(got-want) > 1e-6*want {
 			t.Errorf("year %d: cost %.9g, long-run %.9g", y+1, got, want)
 		}
+	}
+}
+
+// machineOptimum is an independent computation of the machine problem's
+// least long-run cost a period: every deterministic policy (an action per
+// state) is enumerated and its cost found from its stationary distribution
+// (policyCost). It returns the cost, the best policy and its relative
+// values h (h of state 0 is 0): g + h(i) = c(i, a(i)) + Σ_j P(i,j) h(j).
+func machineOptimum(t *testing.T, c *Class) (float64, []int, []float64) {
+	t.Helper()
+	best, bestPolicy := math.Inf(1), []int(nil)
+	for _, s1 := range []int{0, 2} {
+		for _, s2 := range []int{0, 1, 2} {
+			for _, s3 := range []int{0, 2} {
+				pol := []int{0, s1, s2, s3}
+				if cost, _ := policyCost(t, c, pol); cost < best-1e-9 {
+					best, bestPolicy = cost, pol
+				}
+			}
+		}
+	}
+	// The relative values solve (I - P) h + g·1 = c with h(0) = 0: unknowns
+	// g, h(1), h(2), h(3).
+	n := len(bestPolicy)
+	a := mat.NewDense(n, n, nil)
+	rhs := mat.NewVecDense(n, nil)
+	for i, act := range bestPolicy {
+		row := c.Actions[act].Rows[i]
+		a.Set(i, 0, 1) // g
+		for j := 1; j < n; j++ {
+			v := -row[j]
+			if i == j {
+				v++
+			}
+			a.Set(i, j, v)
+		}
+		cost := c.Actions[act].Cost[i]
+		if act == 0 {
+			cost += c.Routine[i]
+		}
+		rhs.SetVec(i, cost)
+	}
+	var sol mat.VecDense
+	if err := sol.SolveVec(a, rhs); err != nil {
+		t.Fatal(err)
+	}
+	h := make([]float64, n)
+	for j := 1; j < n; j++ {
+		h[j] = sol.AtVec(j)
+	}
+	if math.Abs(sol.AtVec(0)-best) > 1e-9*best {
+		t.Fatalf("relative values give g = %g, enumeration %g", sol.AtVec(0), best)
+	}
+	return best, bestPolicy, h
+}
+
+// TestMachineMaintenanceWhateverThePenalty: the machine problem's least
+// cost a period is 5000/3 (Hillier and Lieberman, from memory; checked by
+// enumerating every policy) however prohibitive the cost of leaving an
+// inoperable machine: 1e5 to 1e12 a period. A prohibitive cost is a
+// common device for a forbidden state, and must not loosen the answer:
+// the long-run plan and a 10-year min-cost plan both give it within 1e-9
+// relative.
+//
+// The 10-year plan starts 21 machines in the optimal policy's stationary
+// distribution and holds the condition score at the end at least today's,
+// with each state scored by minus its relative value h (scaled onto
+// 0-100). For any plan, the 10-year cost is at least 10·21·g + 21·(π·h -
+// μ·h), where μ is the end distribution (the relative values satisfy
+// g + h(i) <= c(i,a) + Σ_j P(i,j) h(j) for every action, so each year
+// costs at least g plus the drop in h), and the hold says μ·h <= π·h:
+// so no plan costs less than 10·21·g a year, and the stationary policy,
+// which keeps π, costs exactly that. Its yearly average per machine is g.
+func TestMachineMaintenanceWhateverThePenalty(t *testing.T) {
+	const book = 5000.0 / 3
+	for _, penalty := range []float64{1e5, 1e6, 1e8, 1e10, 1e12} {
+		t.Run(fmt.Sprintf("penalty %g", penalty), func(t *testing.T) {
+			p := machineProblemWith(penalty)
+			g, policy, h := machineOptimum(t, &p.Classes[0])
+			if math.Abs(g-book) > 1e-12*book {
+				t.Fatalf("enumeration: best policy %v at %.12g, the book says %.12g", policy, g, book)
+			}
+			lr, err := SolveLongRun(p)
+			if err != nil || lr.Status != Optimal {
+				t.Fatalf("long run: %v %v", lr, err)
+			}
+			if got := lr.AnnualCost(); math.Abs(got-g) > 1e-9*g {
+				t.Errorf("long run: %.12g a period, want %.12g (relative %.2g)", got, g, math.Abs(got-g)/g)
+			}
+
+			_, pi := policyCost(t, &p.Classes[0], policy)
+			q := machineProblemWith(penalty)
+			q.Horizon = 10
+			c := &q.Classes[0]
+			worst := 0.0
+			for _, v := range h {
+				worst = math.Max(worst, v)
+			}
+			for i := range c.Initial {
+				c.Initial[i] = 21 * pi[i]
+				c.Score[i] = 100 * (1 - h[i]/worst)
+			}
+			q.Targets = []Target{{Label: "hold", Class: Network, Kind: Hold}}
+			plan, err := Solve(q)
+			if err != nil || plan.Status != Optimal {
+				t.Fatalf("10-year plan: %v %v", plan, err)
+			}
+			got := (plan.TotalCost + plan.RoutineCost) / (10 * 21)
+			if math.Abs(got-g) > 1e-9*g {
+				t.Errorf("10-year plan: %.12g a machine a year, want %.12g (relative %.2g)", got, g, math.Abs(got-g)/g)
+			}
+		})
 	}
 }

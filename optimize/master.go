@@ -255,40 +255,88 @@ func (dw *decomposer) addRowPrice(pr []prices, l *link, pi float64) {
 }
 
 // stage is one lexicographic stage of a decomposed solve: maximise sign ×
-// obj, plus, when weighted, weight × an earlier stage's objective (hold,
-// signed by holdSign) so that the earlier optimum is kept. See doc.go.
+// obj subject to the earlier stages' objectives (holds) each staying at
+// least its optimum less holdTolerance. See doc.go and holdMaster.
 type stage struct {
-	obj      objKind
-	sign     float64
-	weighted bool
-	hold     objKind
-	holdSign float64
-	weight   float64
-	// held is the earlier stage's optimum (signed: larger is better).
-	held float64
-	// tieBreak marks the last stage: its answer only refines an optimal
-	// plan, so when lp_solve fails on its master the stage is dropped
-	// rather than retried the slow way.
+	obj   objKind
+	sign  float64
+	holds []hold
+	// relax multiplies the holds' tolerance: 1, or more after lp_solve
+	// called a master whose holds were met by the earlier stage's plan
+	// infeasible on every path (see holdMaster).
+	relax float64
+	// tieBreak marks the last stage.
 	tieBreak bool
 }
 
-// colValue is a policy's coefficient in the stage objective.
+// hold is an earlier stage's objective that a stage keeps at its optimum:
+// sign × obj at least held less holdTolerance (for objSlack, minus the
+// total shortfall). weight is the price of its row in the last master:
+// pricing rewards weight × sign × obj on top of the stage's own objective.
+type hold struct {
+	obj    objKind
+	sign   float64
+	held   float64
+	weight float64
+}
+
+// bound is the least value the held objective may take: its optimum less
+// holdTolerance. For the total shortfall that needs every target row the
+// earlier stage's plan missed to be in its master (see activateViolated),
+// so that its master's shortfall is the plan's.
+func (h *hold) bound(relax float64) float64 {
+	return h.held - relax*holdTolerance(h.held)
+}
+
+// holdRelax is the stage's relax, 1 when unset.
+func (st *stage) holdRelax() float64 { return max(st.relax, 1) }
+
+// setWeights sets the holds' weights (nil or empty: none to set).
+func (st *stage) setWeights(w []float64) {
+	for i := range st.holds {
+		if i < len(w) {
+			st.holds[i].weight = w[i]
+		}
+	}
+}
+
+// weighted reports whether the stage holds earlier optima.
+func (st *stage) weighted() bool { return len(st.holds) > 0 }
+
+// colValue is a policy's coefficient in the stage objective that pricing
+// maximises: its own plus each hold's weight times the held objective.
 func (dw *decomposer) colValue(st *stage, col *column) float64 {
-	v := st.sign * dw.objValue(st.obj, col)
-	if st.weighted {
-		v += st.weight * st.holdSign * dw.objValue(st.hold, col)
+	v := dw.ownValue(st, col)
+	for i := range st.holds {
+		h := &st.holds[i]
+		v += h.weight * h.sign * dw.objValue(h.obj, col)
 	}
 	return v
 }
 
-// slackValue is each shortfall's coefficient in the stage objective.
-func (st *stage) slackValue() float64 {
-	v := 0.0
+// ownValue is a policy's coefficient in the stage's own objective (without
+// the held ones).
+func (dw *decomposer) ownValue(st *stage, col *column) float64 {
+	return st.sign * dw.objValue(st.obj, col)
+}
+
+// ownSlackValue is each shortfall's (excess's) coefficient in the stage's
+// own objective.
+func (st *stage) ownSlackValue() float64 {
 	if st.obj == objSlack || st.obj == objExcess {
-		v = -1
+		return -1
 	}
-	if st.weighted && st.hold == objSlack {
-		v -= st.weight
+	return 0
+}
+
+// slackValue is each shortfall's coefficient in the stage objective that
+// pricing maximises (see colValue).
+func (st *stage) slackValue() float64 {
+	v := st.ownSlackValue()
+	for i := range st.holds {
+		if h := &st.holds[i]; h.obj == objSlack {
+			v -= h.weight
+		}
 	}
 	return v
 }
@@ -300,8 +348,11 @@ type masterResult struct {
 	slack  []float64 // per link (zero where the link has no shortfall column)
 	pi     []float64 // per link (zero for inactive links)
 	mu     []float64 // per class
-	rows   int
-	cols   int
+	// holdPrices are the prices of a holdMaster's hold rows (at least
+	// zero), the weights pricing puts on the held objectives.
+	holdPrices []float64
+	rows       int
+	cols       int
 }
 
 // dualMaster is the restricted master of one stage, held and solved as its
@@ -331,6 +382,11 @@ type dualMaster struct {
 	in       []bool    // per considered pool column: it is a row of this master
 	bound    []bool    // per link: its price is free to move (the row is in the master)
 	synced   bool
+	settings lpSettings
+	// solved: lp_solve has solved this master at least once.
+	solved bool
+	// cuts holds the master's rows as written (scaled), to check answers.
+	cuts []Row
 }
 
 const lpInfinity = 1e30
@@ -340,20 +396,22 @@ const lpInfinity = 1e30
 // keep is nil). Leaving out policies no recent plan used keeps the master
 // small: lp_solve's time per solve grows with its rows (see generate).
 func newDualMaster(dw *decomposer, st *stage, keep []bool) *dualMaster {
+	return newDualMasterWith(dw, st, keep, settingsPaths[0])
+}
+
+// newDualMasterWith is newDualMaster with the given lp_solve settings.
+func newDualMasterWith(dw *decomposer, st *stage, keep []bool, set lpSettings) *dualMaster {
 	L, K := len(dw.links), len(dw.classes)
-	dm := &dualMaster{dw: dw, st: st, nvar: L + K, bound: make([]bool, L)}
+	dm := &dualMaster{dw: dw, st: st, nvar: L + K, bound: make([]bool, L), settings: set}
 	dm.lp = golp.NewLP(0, dm.nvar)
 	dm.lp.SetVerboseLevel(golp.NEUTRAL)
-	{
-		for r := range dw.links {
-			l := &dw.links[r]
-			if !dw.elastic(st, l) {
-				continue
-			}
-			dm.lp.AddConstraintSparse([]golp.Entry{{Col: r, Val: slackSign(l)}}, golp.GE, st.slackValue())
-			dm.rowOf = append(dm.rowOf, -1-r)
-			dm.rowScale = append(dm.rowScale, 1)
+	set.apply(dm.lp)
+	for r := range dw.links {
+		l := &dw.links[r]
+		if !dw.elastic(st, l) {
+			continue
 		}
+		dm.addCut(Row{Entries: []Entry{{Col: r, Val: slackSign(l)}}, Sense: GreaterEq, RHS: st.slackValue()}, -1-r, 1)
 	}
 	for ; dm.pooled < min(len(keep), len(dw.pool)); dm.pooled++ {
 		dm.in = append(dm.in, false)
@@ -399,13 +457,13 @@ func (dm *dualMaster) addRow(j int) {
 	dw, L := dm.dw, len(dm.dw.links)
 	dm.in[j] = true
 	col := dw.pool[j]
-	e := make([]golp.Entry, 0, 16)
+	e := make([]Entry, 0, 16)
 	for r := range dw.links {
 		if v := dw.coef(&dw.links[r], col); v != 0 {
-			e = append(e, golp.Entry{Col: r, Val: v})
+			e = append(e, Entry{Col: r, Val: v})
 		}
 	}
-	e = append(e, golp.Entry{Col: L + col.class, Val: 1})
+	e = append(e, Entry{Col: L + col.class, Val: 1})
 	// Each row is scaled so its largest coefficient is 1 (an exact
 	// change: the row's dual, the policy's weight, is scaled back).
 	big := 0.0
@@ -416,7 +474,18 @@ func (dm *dualMaster) addRow(j int) {
 	for i := range e {
 		e[i].Val *= f
 	}
-	dm.lp.AddConstraintSparse(e, golp.GE, f*dw.colValue(dm.st, col))
+	dm.addCut(Row{Entries: e, Sense: GreaterEq, RHS: f * dw.colValue(dm.st, col)}, j, f)
+}
+
+// addCut adds one row of the dual master: a policy's (of pool column j
+// >= 0, scaled by f) or a shortfall's (j = -1-r for link r).
+func (dm *dualMaster) addCut(r Row, j int, f float64) {
+	e := make([]golp.Entry, len(r.Entries))
+	for i, x := range r.Entries {
+		e[i] = golp.Entry{Col: x.Col, Val: x.Val}
+	}
+	dm.lp.AddConstraintSparse(e, golp.GE, r.RHS)
+	dm.cuts = append(dm.cuts, r)
 	dm.rowOf = append(dm.rowOf, j)
 	dm.rowScale = append(dm.rowScale, f)
 }
@@ -445,45 +514,91 @@ func (dm *dualMaster) syncBounds() {
 }
 
 // solve brings the master up to date with the pool and the active links
-// and solves it. When lp_solve gives no answer going on from the last
-// basis, the same master is rebuilt and solved from scratch, and failing
-// that solved in its primal form.
+// and solves it. When lp_solve gives no checked answer going on from the
+// last basis (see read), the same master is rebuilt and solved from
+// scratch with each of settingsPaths in turn, and failing that solved in
+// its primal form.
 func (dm *dualMaster) solve() (*masterResult, error) {
 	dw := dm.dw
+	if dm.solved && !dm.settings.incremental() {
+		// lp_solve 5.5 crashed (in its primal simplex loop) going on from
+		// the last basis under these settings: start afresh.
+		*dm = *newDualMasterWith(dw, dm.st, dm.in, dm.settings)
+	}
 	dm.addPool()
 	dm.syncBounds()
+	dm.solved = true
+	res, err := dm.solveHere()
+	if err == nil || IsTimeout(err) {
+		return res, err
+	}
+	first := err
+	dw.stats.Restarts++
+	for _, set := range settingsPaths {
+		fresh := newDualMasterWith(dw, dm.st, dm.in, set)
+		fresh.solved = true
+		res, err = fresh.solveHere()
+		if err == nil || IsTimeout(err) {
+			*dm = *fresh
+			return res, err
+		}
+	}
+	res, err = dw.solvePrimal(dm.st, nil)
+	if err == nil || IsTimeout(err) {
+		return res, err
+	}
+	var se *SolverError
+	if errors.As(first, &se) && se.Status == StatusStalled {
+		return nil, fmt.Errorf("%w: %v", ErrStalled, first)
+	}
+	return nil, first
+}
+
+// solveHere solves the master as it stands and reads its answer.
+func (dm *dualMaster) solveHere() (*masterResult, error) {
+	dw := dm.dw
 	if t := dw.callTimeout(); t > 0 {
 		dm.lp.SetTimeout(max(int(math.Ceil(t.Seconds())), 1))
 	}
+	setIterationLimit(dm.lp, stallIterations(len(dm.rowOf), dm.nvar))
 	st := dm.lp.Solve()
-	if st != golp.OPTIMAL && st != golp.TIMEOUT {
-		dw.stats.Restarts++
-		fresh := newDualMaster(dw, dm.st, dm.in)
-		if t := dw.callTimeout(); t > 0 {
-			fresh.lp.SetTimeout(max(int(math.Ceil(t.Seconds())), 1))
-		}
-		st = fresh.lp.Solve()
-		*dm = *fresh
-		if st != golp.OPTIMAL && st != golp.TIMEOUT && !dm.st.tieBreak {
-			res, err := dw.solvePrimal(dm.st, nil)
-			if err == nil {
-				return res, nil
-			}
-			var se *SolverError
-			if errors.As(err, &se) && se.Status == "timeout" {
-				return nil, dw.timeoutError()
-			}
-		}
-	}
 	switch st {
-	case golp.OPTIMAL:
-	case golp.TIMEOUT, golp.SUBOPTIMAL:
-		return nil, dw.timeoutError()
+	case golp.OPTIMAL, accuracyError:
+		return dm.read()
+	case golp.TIMEOUT:
+		if !dw.deadline.IsZero() {
+			return nil, dw.timeoutError()
+		}
+		return nil, &SolverError{Status: StatusFailed, Advice: "lp_solve reported a time-out with no time limit set"}
+	case golp.USERABORT, golp.SUBOPTIMAL:
+		// lp_solve reports a solve stopped by the iteration limit after
+		// phase 1 as sub-optimal.
+		return nil, &SolverError{Status: StatusStalled, Advice: fmt.Sprintf("lp_solve took more than %d simplex iterations on the decomposition's master", stallIterations(len(dm.rowOf), dm.nvar))}
 	default:
-		return nil, &SolverError{Status: st.String(), Advice: "lp_solve gave up on the decomposition's master; solve with --solver flat and please report it with the scenario"}
+		return nil, &SolverError{Status: StatusFailed, Advice: fmt.Sprintf("lp_solve stopped on the decomposition's master with status %s", st)}
 	}
+}
+
+// read reads a solved master's answer and checks it: the prices meet every
+// row of the dual master (checkAnswer), the weights read from its duals
+// meet every active linking row, and the weights' value (the primal
+// master's objective) equals the prices' (the dual's) within
+// masterDualityTolerance: an answer that fails is no answer.
+func (dm *dualMaster) read() (*masterResult, error) {
+	dw := dm.dw
 	L, K := len(dw.links), len(dw.classes)
 	v := dm.lp.Variables()
+	obj := make([]float64, dm.nvar)
+	for r := range dw.links {
+		obj[r] = dw.links[r].rhs
+	}
+	for k := 0; k < K; k++ {
+		obj[L+k] = 1
+	}
+	dual, err := checkAnswerFree(dm.cuts, obj, v, dm.lp.Objective(), dm.signs())
+	if err != nil {
+		return nil, err
+	}
 	duals := dm.lp.Duals()
 	// Sizes as the primal master would have them: a row per active link
 	// and per class, a column per policy and shortfall.
@@ -519,20 +634,86 @@ func (dm *dualMaster) solve() (*masterResult, error) {
 			res.lambda[j] /= s
 		}
 	}
+	for k, s := range sum {
+		if !(s > 0) {
+			return nil, &SolverError{Status: StatusUnverified, Advice: fmt.Sprintf("the decomposition's master gave class %d no policy", k+1)}
+		}
+	}
 	res.z = dw.primalValue(dm.st, res)
+	if miss := dw.linkViolation(res); !(miss <= rowTolerance) {
+		return nil, &SolverError{Status: StatusUnverified, Advice: fmt.Sprintf("the decomposition master's weights miss a linking row by %.2g", miss)}
+	}
+	if d := math.Abs(res.z - dual); !(d <= masterDualityTolerance*math.Max(dw.gapScale(dm.st, res), math.Abs(res.z)*1e-3)) {
+		return nil, &SolverError{Status: StatusUnverified, Advice: fmt.Sprintf("the decomposition master's weights are worth %.12g, its prices %.12g", res.z, dual)}
+	}
 	return res, nil
 }
 
-// primalValue is the stage objective of the master's plan.
+// masterDualityTolerance bounds the difference between the values of a
+// master's weights and of its prices, relative to the stage's own
+// objective (see gapScale): a tenth of the gap at which a stage stops, so
+// that a wrong answer cannot end a stage early.
+const masterDualityTolerance = RelativeGap / 10
+
+// signs returns the sign each dual master variable may take: +1 for a
+// price of an at-most row (at least zero), -1 for an at-least row, 0 for
+// a price held at zero or free (a class's μ, an equality row).
+func (dm *dualMaster) signs() []int {
+	out := make([]int, dm.nvar)
+	for r := range dm.dw.links {
+		l := &dm.dw.links[r]
+		switch {
+		case !dm.bound[r]:
+			out[r] = 2 // held at zero
+		case l.sense == LessEq:
+			out[r] = 1
+		case l.sense == GreaterEq:
+			out[r] = -1
+		}
+	}
+	return out
+}
+
+// linkViolation is the largest miss of an active linking row by a master
+// plan's weights and shortfalls, relative to max(1, |rhs|).
+func (dw *decomposer) linkViolation(res *masterResult) float64 {
+	worst := 0.0
+	for r := range dw.links {
+		l := &dw.links[r]
+		if !l.active {
+			continue
+		}
+		lhs := 0.0
+		for j, w := range res.lambda {
+			if w > 0 {
+				lhs += w * dw.coef(l, dw.pool[j])
+			}
+		}
+		lhs += slackSign(l) * res.slack[r]
+		miss := 0.0
+		switch l.sense {
+		case LessEq:
+			miss = lhs - l.rhs
+		case GreaterEq:
+			miss = l.rhs - lhs
+		default:
+			miss = math.Abs(lhs - l.rhs)
+		}
+		worst = math.Max(worst, miss/math.Max(1, math.Abs(l.rhs)))
+	}
+	return worst
+}
+
+// primalValue is the stage's own objective at the master's plan.
 func (dw *decomposer) primalValue(st *stage, res *masterResult) float64 {
 	z := 0.0
 	for j, w := range res.lambda {
 		if w > 0 {
-			z += w * dw.colValue(st, dw.pool[j])
+			z += w * dw.ownValue(st, dw.pool[j])
 		}
 	}
 	for _, s := range res.slack {
-		z += s * st.slackValue()
+		z += s * st.ownSlackValue()
 	}
 	return z
 }
@@ -549,14 +730,14 @@ func (dw *decomposer) solvePrimal(st *stage, keep []bool) (*masterResult, error)
 	for r := range dw.links {
 		slackCol[r] = -1
 		if l := &dw.links[r]; l.active && dw.elastic(st, l) {
-			slackCol[r] = m.addCol(fmt.Sprintf("short_%s", l.name), st.slackValue())
+			slackCol[r] = m.addCol(fmt.Sprintf("short_%s", l.name), st.ownSlackValue())
 		}
 	}
 	colOf := make([]int, len(dw.pool)) // model column of each pool column, -1 when left out
 	for j, col := range dw.pool {
 		colOf[j] = -1
 		if keep == nil || (j < len(keep) && keep[j]) {
-			colOf[j] = m.addCol(fmt.Sprintf("p%d", j), dw.colValue(st, col))
+			colOf[j] = m.addCol(fmt.Sprintf("p%d", j), dw.ownValue(st, col))
 		}
 	}
 	rowOf := make([]int, L)
@@ -593,13 +774,52 @@ func (dw *decomposer) solvePrimal(st *stage, keep []bool) (*masterResult, error)
 	for k := 0; k < K; k++ {
 		m.addRow(Row{Name: fmt.Sprintf("convex%d", k+1), Entries: conv[k], Sense: Equal, RHS: 1})
 	}
-	s, err := newLPSolver(m, dw.callTimeout())
-	if err != nil {
-		return nil, err
+	holdRows := make([]int, len(st.holds))
+	for i := range st.holds {
+		h := &st.holds[i]
+		row := Row{Name: fmt.Sprintf("hold%d", i+1), Sense: GreaterEq, RHS: h.bound(st.holdRelax())}
+		if h.obj == objSlack {
+			for r, c := range slackCol {
+				if c >= 0 && dw.links[r].kind == linkTarget {
+					row.Entries = append(row.Entries, Entry{c, -1})
+				}
+			}
+		} else {
+			for j, col := range dw.pool {
+				if colOf[j] >= 0 {
+					if v := h.sign * dw.objValue(h.obj, col); v != 0 {
+						row.Entries = append(row.Entries, Entry{colOf[j], v})
+					}
+				}
+			}
+		}
+		holdRows[i] = -1
+		if len(row.Entries) > 0 {
+			holdRows[i] = m.addRow(row)
+		}
 	}
-	x, z, err := s.solve()
-	var se *SolverError
-	if errors.As(err, &se) && se.Status == "timeout" {
+	// The settings that last solved a primal master go first: a model
+	// that made lp_solve cycle once tends to again in the next round.
+	var s *lpSolver
+	var x []float64
+	var z float64
+	var err error
+	for n := range settingsPaths {
+		set := settingsPaths[(dw.primalPath+n)%len(settingsPaths)]
+		if s, err = newLPSolver(m, dw.callTimeout(), set); err != nil {
+			return nil, err
+		}
+		// A master that holds earlier optima has an answer (the earlier
+		// stage's plan), so "infeasible" is one more failed path there.
+		x, z, err = s.solve()
+		if err == nil || IsTimeout(err) || (errors.Is(err, ErrInfeasible) && !st.weighted()) {
+			if err == nil {
+				dw.primalPath = (dw.primalPath + n) % len(settingsPaths)
+			}
+			break
+		}
+	}
+	if IsTimeout(err) {
 		return nil, dw.timeoutError()
 	}
 	if err != nil {
@@ -630,6 +850,12 @@ func (dw *decomposer) solvePrimal(st *stage, keep []bool) (*masterResult, error)
 	}
 	for k := 0; k < K; k++ {
 		res.mu[k] = duals[convRow+k]
+	}
+	res.holdPrices = make([]float64, len(st.holds))
+	for i, r := range holdRows {
+		if r >= 0 {
+			res.holdPrices[i] = math.Max(-duals[r], 0)
+		}
 	}
 	return res, nil
 }
@@ -705,6 +931,52 @@ func (dw *decomposer) polish(st *stage, res *masterResult) *masterResult {
 			}
 		}
 	}
+	if !dw.meetsHolds(st, p) {
+		// lp_solve met the rows of this smaller master only to its own
+		// tolerances, which on a hold can be far more than the hold's:
+		// a tie-break polish once came back with 1.5e-7 more than the
+		// least total shortfall, bought for 3.4e-6 of the cost it held.
+		return res
+	}
 	p.pi, p.mu = res.pi, res.mu
 	return p
+}
+
+// meetsHolds checks a master plan against the stage's holds, measured on
+// the plan itself (the total shortfall over every target row, not the
+// master's slack columns): each held objective at least its bound, less
+// one more holdTolerance for the arithmetic of measuring it.
+func (dw *decomposer) meetsHolds(st *stage, res *masterResult) bool {
+	for i := range st.holds {
+		h := &st.holds[i]
+		if dw.heldValue(h, res) < h.bound(st.holdRelax())-holdTolerance(h.held) {
+			return false
+		}
+	}
+	return true
+}
+
+// heldValue is sign × the held objective of a master plan; for the total
+// shortfall, measured on every target row against the target's own bound.
+func (dw *decomposer) heldValue(h *hold, res *masterResult) float64 {
+	v := 0.0
+	if h.obj == objSlack {
+		m := dw.mixMeasures(res)
+		for r := range dw.links {
+			l := &dw.links[r]
+			if l.kind != linkTarget {
+				continue
+			}
+			if miss := (dw.targetValue(l, m) - l.goal) * -slackSign(l); miss > 0 {
+				v += miss
+			}
+		}
+		return h.sign * v
+	}
+	for j, w := range res.lambda {
+		if w > 0 {
+			v += w * dw.objValue(h.obj, dw.pool[j])
+		}
+	}
+	return h.sign * v
 }

@@ -139,6 +139,17 @@ type builder struct {
 	targetRows [][]targetRow // per target
 	caps       []capRow      // budget rows, in the order written
 	floors     []capRow      // least-spend rows (budget: the MinSpend index)
+	// anonymous: build the model without column and row names, for a
+	// check that needs only the numbers (decomposer.verify).
+	anonymous bool
+}
+
+// name formats a column or row name, or returns "" for an anonymous model.
+func (b *builder) name(format string, args ...any) string {
+	if b.anonymous {
+		return ""
+	}
+	return fmt.Sprintf(format, args...)
 }
 
 // capRow is one budget row: which cap (Network or a group index) and the
@@ -154,6 +165,7 @@ type targetRow struct {
 }
 
 func newBuilder(p *Problem) *builder {
+	p = p.bindingCaps()
 	b := &builder{p: p, lay: newLayout(p), weights: p.Weights()}
 	b.terms = make([]classTerms, len(p.Classes))
 	for k := range p.Classes {
@@ -164,9 +176,19 @@ func newBuilder(p *Problem) *builder {
 }
 
 // moneyUnit picks the unit money is measured in inside the model: the
-// largest finite yearly cap, or failing that the cost of treating the
-// largest class with its dearest treatment. Either keeps budget rows near 1.
+// largest finite yearly cap, kept between a thousandth of and the cost of
+// treating the largest class with its dearest treatment (that cost alone
+// without caps). Either keeps budget rows near 1, and the clamp keeps a
+// budget far below the cost of any work (a zero or tiny budget) from
+// making the costs huge in the model's units. Caps too large to bind never
+// reach this (see bindingCaps).
 func moneyUnit(p *Problem, terms []classTerms) float64 {
+	dearest := 0.0
+	for _, t := range terms {
+		for n, c := range t.cost {
+			dearest = math.Max(dearest, math.Max(c, t.routine[n]))
+		}
+	}
 	u := 0.0
 	for _, b := range p.Budget {
 		if !math.IsInf(b, 1) {
@@ -180,18 +202,114 @@ func moneyUnit(p *Problem, terms []classTerms) float64 {
 			}
 		}
 	}
-	if u > 0 {
+	switch {
+	case dearest > 0 && u > 0:
+		return math.Min(math.Max(u, 1e-3*dearest), dearest)
+	case u > 0:
 		return u
-	}
-	for _, t := range terms {
-		for n, c := range t.cost {
-			u = math.Max(u, math.Max(c, t.routine[n]))
-		}
-	}
-	if u > 0 {
-		return u
+	case dearest > 0:
+		return dearest
 	}
 	return 1
+}
+
+// bindingCaps returns p with every cap that no plan can reach lifted (set
+// to +Inf): a cap at least the most that taking the dearest action on
+// every unit of the classes it covers could cost that year (with
+// carry-over: a run of caps to the horizon whose every cumulative sum is at
+// least that much, summed). Such a row never binds, and leaving it out
+// keeps a budget a trillion times the network's value from putting 1e12 on
+// the right-hand side of a row whose terms are near 1. It returns p itself
+// when no cap is lifted.
+func (p *Problem) bindingCaps() *Problem {
+	most := make([][]float64, len(p.Classes)) // [class][year]
+	for k := range p.Classes {
+		c := &p.Classes[k]
+		top := 0.0
+		for i := range c.Initial {
+			for a, act := range c.Actions {
+				if !act.Applies[i] {
+					continue
+				}
+				v := act.Cost[i]
+				if a == 0 && p.RoutineInBudget && c.Routine != nil {
+					v += c.Routine[i]
+				}
+				top = math.Max(top, v)
+			}
+		}
+		most[k] = make([]float64, p.Horizon)
+		for t := range most[k] {
+			most[k][t] = top * c.Total() * p.escalation(t)
+		}
+	}
+	lift := func(caps []float64, classes []int) []float64 {
+		reaches := func(limit, reach float64) bool { return limit >= reach*(1+1e-9)+1e-9 }
+		out := append([]float64(nil), caps...)
+		lifted := false
+		if !p.CarryOver {
+			for t, cp := range caps {
+				reach := 0.0
+				for _, k := range classes {
+					reach += most[k][t]
+				}
+				if !math.IsInf(cp, 1) && reaches(cp, reach) {
+					out[t], lifted = math.Inf(1), true
+				}
+			}
+		} else {
+			// The cumulative rows from year t0 on never bind when each of
+			// them does not: lift every cap from t0.
+			limit, reach := make([]float64, len(caps)), make([]float64, len(caps))
+			for t, cp := range caps {
+				for _, k := range classes {
+					reach[t] += most[k][t]
+				}
+				limit[t] = cp
+				if t > 0 {
+					limit[t] += limit[t-1]
+					reach[t] += reach[t-1]
+				}
+			}
+			t0 := len(caps)
+			for t := len(caps) - 1; t >= 0 && reaches(limit[t], reach[t]); t-- {
+				t0 = t
+			}
+			for t := t0; t < len(caps); t++ {
+				if !math.IsInf(out[t], 1) {
+					out[t], lifted = math.Inf(1), true
+				}
+			}
+		}
+		if !lifted {
+			return nil
+		}
+		return out
+	}
+	all := make([]int, len(p.Classes))
+	for k := range all {
+		all[k] = k
+	}
+	q := *p
+	changed := false
+	if p.Budget != nil {
+		if b := lift(p.Budget, all); b != nil {
+			q.Budget, changed = b, true
+		}
+	}
+	copied := false
+	for g, gb := range p.GroupBudgets {
+		if y := lift(gb.Yearly, gb.Classes); y != nil {
+			if !copied {
+				q.GroupBudgets, copied = append([]GroupBudget(nil), p.GroupBudgets...), true
+			}
+			q.GroupBudgets[g].Yearly, changed = y, true
+		}
+	}
+	if !changed {
+		return p
+	}
+	return &q
 }
 
 // build writes the primary model: columns, flow rows, budget rows, target
@@ -203,7 +321,7 @@ func (b *builder) build() *Model {
 	for k := range p.Classes {
 		for t := 0; t < p.Horizon; t++ {
 			for _, pr := range b.lay.pairs[k] {
-				m.addCol(fmt.Sprintf("x%d_%d_%d_%d", k+1, t+1, pr.state+1, pr.action), 0)
+				m.addCol(b.name("x%d_%d_%d_%d", k+1, t+1, pr.state+1, pr.action), 0)
 			}
 		}
 	}
@@ -245,7 +363,7 @@ func (b *builder) flowRows() {
 				if t == 0 {
 					rhs = c.Initial[j] / tot
 				}
-				b.m.addRow(Row{Name: fmt.Sprintf("flow%d_%d_%d", k+1, t+1, j+1), Entries: byState[j], Sense: Equal, RHS: rhs})
+				b.m.addRow(Row{Name: b.name("flow%d_%d_%d", k+1, t+1, j+1), Entries: byState[j], Sense: Equal, RHS: rhs})
 			}
 		}
 	}
@@ -294,7 +412,7 @@ func (b *builder) capRows(name string, budget int, caps []float64, classes []int
 		if math.IsInf(cap, 1) || len(e) == 0 {
 			continue
 		}
-		r := b.m.addRow(Row{Name: fmt.Sprintf("%s_%d", name, t+1), Entries: e, Sense: LessEq, RHS: cap / b.moneyUnit})
+		r := b.m.addRow(Row{Name: b.name("%s_%d", name, t+1), Entries: e, Sense: LessEq, RHS: cap / b.moneyUnit})
 		b.caps = append(b.caps, capRow{row: r, budget: budget, year: t + 1})
 	}
 }
@@ -316,7 +434,7 @@ func (b *builder) floorRows() {
 			if ms.Yearly[t] <= 0 {
 				continue
 			}
-			r := b.m.addRow(Row{Name: fmt.Sprintf("minspend%d_%d", m+1, t+1), Entries: b.spendEntries(t, ms.Classes), Sense: GreaterEq, RHS: ms.Yearly[t] / b.moneyUnit})
+			r := b.m.addRow(Row{Name: b.name("minspend%d_%d", m+1, t+1), Entries: b.spendEntries(t, ms.Classes), Sense: GreaterEq, RHS: ms.Yearly[t] / b.moneyUnit})
 			b.floors = append(b.floors, capRow{row: r, budget: m, year: t + 1})
 		}
 	}
@@ -377,7 +495,7 @@ func (b *builder) addTarget(n int) {
 	}
 	sense, rhs := b.targetBound(tg)
 	for y := from; y <= to; y++ {
-		r := b.m.addRow(Row{Name: fmt.Sprintf("target%d_%d", n+1, y), Entries: b.conditionEntries(tg, y-1), Sense: sense, RHS: rhs})
+		r := b.m.addRow(Row{Name: b.name("target%d_%d", n+1, y), Entries: b.conditionEntries(tg, y-1), Sense: sense, RHS: rhs})
 		b.targetRows[n] = append(b.targetRows[n], targetRow{row: r, year: y})
 	}
 }

@@ -3,7 +3,6 @@ package optimize
 import (
 	"errors"
 	"fmt"
-	"math"
 )
 
 // Status is the outcome of a plan.
@@ -44,6 +43,12 @@ type Stats struct {
 	// Restarts counts master solves that lp_solve could not finish from
 	// the last basis and that were solved again from scratch.
 	Restarts int
+	// Path names the way lp_solve was run when the first way failed (its
+	// settings, the re-ordered model, the other method); empty otherwise.
+	Path string
+	// TieBreakMissed: no path solved the tie-break objective, and the plan
+	// is optimal in the primary objective only.
+	TieBreakMissed bool
 }
 
 // Plan is an optimised work program.
@@ -69,6 +74,9 @@ type Plan struct {
 	RoutineCost, RoutinePresentValue float64
 	Shortfalls                       []Shortfall
 	Stats                            Stats
+	// Warnings say where the plan may fall short of the optimum (see
+	// SolveWith); empty for a plan proven optimal.
+	Warnings []string
 }
 
 // BuildModel returns the flat LP of the problem with its primary objective,
@@ -122,18 +130,35 @@ func solveFlat(p *Problem) (*flatResult, error) {
 	primary := objectiveSpec{obj: m.Obj, maximize: m.Maximize}
 	secondary := objectiveSpec{obj: b.objectiveOf(other(p.Objective)), maximize: other(p.Objective) == MaxCondition}
 	r := &flatResult{b: b, stats: Stats{Rows: len(m.Rows), Cols: len(m.Cols), Nonzeros: m.Nonzeros()}}
+	fits := doNothingFits(p)
+	if !fits {
+		// Doing nothing overspends a cap (routine costs counted against
+		// it): whether any plan keeps the budgets is settled first, by an
+		// LP that always has an answer, so that lp_solve's "infeasible" is
+		// never taken on trust.
+		excess, lr, err := leastExcess(m, p, b.capRowIndexes(), b.targetRowIndexes())
+		r.note(lr)
+		if err != nil {
+			return nil, err
+		}
+		if excess > infeasibleExcess {
+			r.status = Infeasible
+			return r, nil
+		}
+		fits = true
+	}
 
-	x, solves, err := lexicographic(m, p, []objectiveSpec{primary, secondary})
-	r.stats.Solves = solves
+	// With targets, lp_solve's "infeasible" sends the plan to the elastic
+	// model, which settles it; without, doing nothing is a plan whenever
+	// it keeps the budgets.
+	lr, err := lexicographic(m, p, []objectiveSpec{primary, secondary}, fits && len(p.Targets) == 0)
+	r.note(lr)
 	if err == nil {
-		r.x, r.status = x, Optimal
+		r.x, r.status = lr.x, Optimal
 		return r, nil
 	}
 	if !errors.Is(err, ErrInfeasible) {
 		return nil, err
-	}
-	if len(p.Targets) == 0 {
-		return r, infeasibleOrFailure(p, r)
 	}
 	// Elastic model: a slack on every target row, least total slack first.
 	em, slackCols := b.elastic()
@@ -145,16 +170,36 @@ func solveFlat(p *Problem) (*flatResult, error) {
 		return append(append([]float64(nil), o...), make([]float64, len(slackCols))...)
 	}
 	objs := []objectiveSpec{{obj: slack}, {obj: pad(primary.obj), maximize: primary.maximize}, {obj: pad(secondary.obj), maximize: secondary.maximize}}
-	x, n, err := lexicographic(em, p, objs)
-	r.stats.Solves += n
+	lr, err = lexicographic(em, p, objs, fits)
+	r.note(lr)
 	if errors.Is(err, ErrInfeasible) {
-		return r, infeasibleOrFailure(p, r)
+		r.status = Infeasible
+		return r, nil
 	}
 	if err != nil {
 		return nil, err
 	}
-	r.x, r.slacks, r.status = x, slackCols, TargetsNotMet
+	r.x, r.slacks, r.status = lr.x, slackCols, TargetsNotMet
 	return r, nil
+}
+
+// note adds a lexicographic solve's counts and path to the stats.
+func (r *flatResult) note(lr *lexResult) {
+	r.stats.note(lr)
+}
+
+// note adds a lexicographic solve's counts and path to the stats.
+func (s *Stats) note(lr *lexResult) {
+	if lr == nil {
+		return
+	}
+	s.Solves += lr.solves
+	if lr.path != "" {
+		s.Path = lr.path
+	}
+	if lr.partial {
+		s.TieBreakMissed = true
+	}
 }
 
 func other(o Objective) Objective {
@@ -162,64 +207,6 @@ func other(o Objective) Objective {
 		return MinCost
 	}
 	return MaxCondition
-}
-
-type objectiveSpec struct {
-	obj      []float64
-	maximize bool
-}
-
-// holdTolerance is how much a held objective may give up in later stages:
-// relative 1e-9, absolute 1e-10 near zero (objectives are on 0-1 or in money
-// units near 1).
-func holdTolerance(z float64) float64 { return 1e-9 * math.Max(math.Abs(z), 0.1) }
-
-// lexicographic optimises the objectives in turn, each later one subject to
-// the earlier ones staying at their optimum. It returns the final columns
-// and the number of solver calls.
-func lexicographic(m *Model, p *Problem, objs []objectiveSpec) ([]float64, int, error) {
-	s, err := newLPSolver(m, p.Timeout)
-	if errors.Is(err, errEmptyInfeasible) {
-		return nil, 0, ErrInfeasible
-	}
-	if err != nil {
-		return nil, 0, err
-	}
-	var best []float64
-	for n, o := range objs {
-		s.setObjective(o.obj, o.maximize)
-		x, z, err := s.solve()
-		if err != nil {
-			if n > 0 && !errors.Is(err, ErrInfeasible) && best != nil {
-				// A tie-break stage failed numerically: the earlier stage's
-				// answer is still optimal for everything that matters.
-				return best, n + 1, nil
-			}
-			return nil, n + 1, err
-		}
-		best = x
-		if n == len(objs)-1 {
-			return best, n + 1, nil
-		}
-		var entries []Entry
-		for j, c := range o.obj {
-			if c != 0 {
-				entries = append(entries, Entry{j, c})
-			}
-		}
-		if len(entries) == 0 {
-			continue
-		}
-		tol := holdTolerance(z)
-		hold := Row{Name: fmt.Sprintf("hold%d", n+1), Entries: entries, Sense: LessEq, RHS: z + tol}
-		if o.maximize {
-			hold.Sense, hold.RHS = GreaterEq, z-tol
-		}
-		if err := s.addRow(hold); err != nil {
-			return nil, n + 1, err
-		}
-	}
-	return best, len(objs), nil
 }
 
 type slackCol struct {
@@ -254,103 +241,55 @@ func (b *builder) elastic() (*Model, []slackCol) {
 // a planner can read, and well above solver noise.
 const shortfallFloor = 1e-7
 
-func clean(v float64) float64 {
-	if math.Abs(v) < 1e-11 {
-		return 0
+// leastExcess is the least total spend over the budget rows (capRows of
+// m), in model money units, of any answer to m without its target rows:
+// each budget row gets an excess column, and their sum is minimised. The
+// model always has an answer (take every excess large enough), so its
+// optimum settles whether the budgets can hold without trusting a solver's
+// "infeasible".
+func leastExcess(m *Model, p *Problem, capRows, targetRows []int) (float64, *lexResult, error) {
+	em := &Model{Name: m.Name, Cols: append([]string(nil), m.Cols...), Obj: make([]float64, len(m.Cols))}
+	drop := make([]bool, len(m.Rows))
+	for _, r := range targetRows {
+		drop[r] = true
 	}
-	return v
+	at := make([]int, len(m.Rows)) // each kept row's place in em
+	for i, row := range m.Rows {
+		if !drop[i] {
+			at[i] = len(em.Rows)
+			em.Rows = append(em.Rows, row)
+		}
+	}
+	for _, r := range capRows {
+		row := &em.Rows[at[r]]
+		c := em.addCol("excess_"+row.Name, 1)
+		row.Entries = append(append([]Entry(nil), row.Entries...), Entry{c, -1})
+	}
+	lr, err := lexicographic(em, p, []objectiveSpec{{obj: em.Obj}}, true)
+	if err != nil {
+		return 0, lr, fmt.Errorf("least overspend of the budgets: %w", err)
+	}
+	return em.Value(lr.x), lr, nil
 }
 
-// readPlan turns column values into quantities, condition and money.
-func (b *builder) readPlan(x []float64, slacks []slackCol) *Plan {
-	p := b.p
-	T := p.Horizon
-	plan := &Plan{
-		Work:      make([][][][]float64, len(p.Classes)),
-		Condition: make([][][]float64, len(p.Classes)),
-		Spend:     make([][]float64, len(p.Classes)),
-		Routine:   make([][]float64, len(p.Classes)),
+// capRowIndexes and targetRowIndexes list the model rows of the budgets
+// and of the targets.
+func (b *builder) capRowIndexes() []int {
+	out := make([]int, len(b.caps))
+	for i, cr := range b.caps {
+		out[i] = cr.row
 	}
-	for k := range p.Classes {
-		c := &p.Classes[k]
-		tot := c.Total()
-		ns, na := len(c.Initial), len(c.Actions)
-		plan.Work[k] = make([][][]float64, T)
-		plan.Condition[k] = make([][]float64, T+1)
-		plan.Condition[k][0] = append([]float64(nil), c.Initial...)
-		plan.Spend[k] = make([]float64, T)
-		plan.Routine[k] = make([]float64, T)
-		for t := 0; t < T; t++ {
-			plan.Work[k][t] = make([][]float64, ns)
-			for i := range plan.Work[k][t] {
-				plan.Work[k][t][i] = make([]float64, na)
-			}
-			end := make([]float64, ns)
-			esc := p.escalation(t)
-			for n, pr := range b.lay.pairs[k] {
-				y := clean(x[b.lay.col(k, t, n)])
-				if y < 0 {
-					y = 0
-				}
-				q := y * tot
-				plan.Work[k][t][pr.state][pr.action] = q
-				a := &c.Actions[pr.action]
-				for j, pj := range a.Rows[pr.state] {
-					end[j] += q * pj
-				}
-				spend := q * a.Cost[pr.state] * esc
-				plan.Spend[k][t] += spend
-				plan.PresentValue += spend * p.discount(t)
-				if pr.action == 0 && c.Routine != nil {
-					r := q * c.Routine[pr.state] * esc
-					plan.Routine[k][t] += r
-					plan.RoutineCost += r
-					plan.RoutinePresentValue += r * p.discount(t)
-				}
-			}
-			plan.Condition[k][t+1] = end
-		}
-	}
-	w := b.weights
-	for t := 1; t <= T; t++ {
-		s := 0.0
-		for k := range p.Classes {
-			s += w[k] * p.Classes[k].ScoreOf(plan.Condition[k][t])
-		}
-		plan.ConditionScore += s / float64(T)
-	}
-	for k := range plan.Spend {
-		for _, v := range plan.Spend[k] {
-			plan.TotalCost += v
-		}
-	}
-	for _, sc := range slacks {
-		v := x[sc.col]
-		if v <= shortfallFloor {
-			continue
-		}
-		tg := p.Targets[sc.target]
-		if tg.Kind == MinScore || tg.Kind == Hold {
-			v *= 100
-		}
-		plan.Shortfalls = append(plan.Shortfalls, Shortfall{Target: sc.target, Year: sc.year, Amount: v})
-	}
-	return plan
+	return out
 }
 
-// infeasibleOrFailure settles an infeasibility that lp_solve reported for
-// a model whose only hard rows are flow and budgets (no targets, or the
-// elastic model): it is genuine only when doing nothing overspends a cap
-// (routine costs counted against the budget). Otherwise doing nothing is a
-// feasible plan, and lp_solve has failed numerically (seen on degenerate
-// elastic models); the caller gets a SolverError it can act on (SolveWith
-// tries the other method) instead of a wrong verdict.
-func infeasibleOrFailure(p *Problem, r *flatResult) error {
-	if !doNothingFits(p) {
-		r.status = Infeasible
-		return nil
+func (b *builder) targetRowIndexes() []int {
+	var out []int
+	for _, rows := range b.targetRows {
+		for _, tr := range rows {
+			out = append(out, tr.row)
+		}
 	}
-	return &SolverError{Status: "numerical failure", Advice: "lp_solve called a feasible model infeasible; solve with the other --solver, or report it with the scenario"}
+	return out
 }
 
 // doNothingFits reports whether leaving everything untreated keeps every

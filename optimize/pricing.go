@@ -22,6 +22,10 @@ type dwClass struct {
 	// for pair n; both empty when no target names states of the class.
 	sets   [][]bool
 	endSet [][]float64
+	// shut[t*len(pairs)+n] marks pair n as unavailable in year t: it costs
+	// money that a cap of zero (to that year, with carry-over) forbids
+	// (see decomposer.shutZeroCaps); nil when none is.
+	shut []bool
 }
 
 type sparseEntry struct {
@@ -133,6 +137,9 @@ func (d *dwClass) price(pr *prices, pol policy, vNext, vCur []float64) float64 {
 		for i := 0; i < ns; i++ {
 			best, bestN := math.Inf(-1), -1
 			for n := d.first[i]; n < d.first[i+1]; n++ {
+				if d.shut != nil && d.shut[t*len(d.pairs)+n] {
+					continue
+				}
 				eg := &d.terms.endGroup[n]
 				r := ct*d.terms.cost[n] + rt*d.terms.routine[n] + st*d.terms.endScore[n] + gt[0]*eg[0] + gt[1]*eg[1] + gt[2]*eg[2]
 				if d.endSet != nil {

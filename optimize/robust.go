@@ -506,8 +506,10 @@ func SolveRobust(p *Problem, samples []MatrixSample) (*RobustPlan, error) {
 	primary := objectiveSpec{obj: m.Obj, maximize: m.Maximize}
 	secondary := objectiveSpec{obj: rb.objectiveOf(other(p.Objective)), maximize: other(p.Objective) == MaxCondition}
 	stats := Stats{Rows: len(m.Rows), Cols: len(m.Cols), Nonzeros: m.Nonzeros(), Method: "robust"}
-	x, solves, err := lexicographic(m, p, []objectiveSpec{primary, secondary})
-	stats.Solves = solves
+	// lp_solve's "infeasible" is taken at its word here: the elastic model
+	// below settles plans with targets.
+	lr, err := lexicographic(m, p, []objectiveSpec{primary, secondary}, false)
+	x := robustAnswer(lr, &stats)
 	holds := true
 	var slacks []robustSlack
 	var solverErr *SolverError
@@ -527,8 +529,8 @@ func SolveRobust(p *Problem, samples []MatrixSample) (*RobustPlan, error) {
 		pad := func(o []float64) []float64 {
 			return append(append([]float64(nil), o...), make([]float64, len(cols))...)
 		}
-		x, solves, err = lexicographic(em, p, []objectiveSpec{{obj: nominal}, {obj: sampled}, {obj: pad(primary.obj), maximize: primary.maximize}, {obj: pad(secondary.obj), maximize: secondary.maximize}})
-		stats.Solves += solves
+		lr, err = lexicographic(em, p, []objectiveSpec{{obj: nominal}, {obj: sampled}, {obj: pad(primary.obj), maximize: primary.maximize}, {obj: pad(secondary.obj), maximize: secondary.maximize}}, false)
+		x = robustAnswer(lr, &stats)
 		slacks = cols
 	}
 	if errors.Is(err, ErrInfeasible) {
@@ -742,12 +744,22 @@ func RobustLevelBudget(p *Problem, samples []MatrixSample) (float64, error) {
 	obj := make([]float64, len(m.Cols))
 	obj[level] = 1
 	pv := rb.objectiveOf(MinCost) // the level column is already among m's
-	x, _, err := lexicographic(m, &q, []objectiveSpec{{obj: obj}, {obj: pv}})
+	lr, err := lexicographic(m, &q, []objectiveSpec{{obj: obj}, {obj: pv}}, false)
 	if errors.Is(err, ErrInfeasible) {
 		return 0, ErrUnreachable
 	}
 	if err != nil {
 		return 0, err
 	}
-	return roundUpMoney(x[level]*rb.b.moneyUnit, rb.b.moneyUnit), nil
+	return roundUpMoney(lr.x[level]*rb.b.moneyUnit, rb.b.moneyUnit), nil
+}
+
+// robustAnswer adds a lexicographic solve's counts and path to stats and
+// returns its answer (nil when it gave none).
+func robustAnswer(lr *lexResult, stats *Stats) []float64 {
+	stats.note(lr)
+	if lr == nil {
+		return nil
+	}
+	return lr.x
 }

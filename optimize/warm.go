@@ -72,7 +72,7 @@ func (w *Warm) seed(dw *decomposer) {
 						break
 					}
 				}
-				if n < 0 {
+				if n < 0 || d.shut != nil && d.shut[(idx/ns)*len(d.pairs)+n] {
 					continue policies
 				}
 				pol[idx] = int32(n)

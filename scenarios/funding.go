@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"strconv"
 	"strings"
 
 	"wearplan/optimize"
@@ -22,8 +23,18 @@ type Funding struct {
 	ExtraGroups       []GroupMoney `json:"extra_group_money,omitempty"`
 	ExtraTotal        *float64     `json:"extra_total,omitempty"`
 	ExtraPresentValue *float64     `json:"extra_present_value,omitempty"`
-	// Unreachable explains why no amount of money meets the targets.
-	Unreachable string `json:"unreachable,omitempty"`
+	// Unreachable explains why no amount of money meets the targets,
+	// naming each target that no money meets and what is reachable
+	// instead; UnreachableTargets holds the same as figures.
+	Unreachable        string              `json:"unreachable,omitempty"`
+	UnreachableTargets []UnreachableTarget `json:"unreachable_targets,omitempty"`
+	// OtherTargetsOnly: the level budget and extra money answer for the
+	// targets that money can meet, leaving out UnreachableTargets.
+	OtherTargetsOnly bool `json:"other_targets_only,omitempty"`
+	// HeldBack says which budget groups' caps keep every level network
+	// budget from meeting the targets, although the extra money (which
+	// raises those caps too) meets them.
+	HeldBack string `json:"held_back,omitempty"`
 	// HoldBudget is the least level network budget that holds today's
 	// network condition score to the last year; Targets the extra money
 	// per missed target; Notes say why a figure is left out
@@ -31,6 +42,22 @@ type Funding struct {
 	HoldBudget *float64      `json:"hold_budget,omitempty"`
 	Targets    []TargetMoney `json:"target_money,omitempty"`
 	Notes      []string      `json:"notes,omitempty"`
+}
+
+// UnreachableTarget is a target that no amount of money meets: the years
+// it misses and the best value any plan reaches in each, in the target's
+// own terms (a share 0-1, or an average index on the target's scale).
+// Together marks a target that can be met alone but not with the others.
+type UnreachableTarget struct {
+	Target   string      `json:"target"`
+	Years    []YearValue `json:"years,omitempty"`
+	Together bool        `json:"together,omitempty"`
+}
+
+// YearValue is a value in one year.
+type YearValue struct {
+	Year  int     `json:"year"`
+	Value float64 `json:"value"`
 }
 
 // YearMoney is an amount of money in one year.
@@ -55,28 +82,203 @@ type Baseline struct {
 	Gain float64 `json:"gain"`
 }
 
-const unreachableText = "no amount of money meets the targets: a target asks for a condition the treatments cannot reach by its first year (or a budget group's cap holds it back); relax the target or start it later"
+// unreachableText is the verdict when no amount of money meets the
+// targets; the sentences naming each target follow it.
+const unreachableText = "no amount of money meets the targets"
 
-// levelBudget answers "the least level budget that meets the targets" for
-// a plan result.
-func levelBudget(p *optimize.Problem, f *Funding) error {
-	level, err := optimize.LevelBudget(p)
-	if errors.Is(err, optimize.ErrUnreachable) {
-		f.Unreachable = unreachableText
-		return nil
+// funding answers the funding questions of a plan of p (status given):
+// the extra money that closes the shortfalls (targets not met) and the
+// least level budget (min-cost with targets, or targets not met). Targets
+// that no amount of money meets are named with what is reachable, and the
+// questions are answered for the others. The answers never fail the plan:
+// when a funding LP gives no answer on any path, the error comes back as a
+// warning.
+func funding(sc *Scenario, p *optimize.Problem, status optimize.Status) (*Funding, error) {
+	f := &Funding{}
+	wantExtra := status == optimize.TargetsNotMet
+	wantLevel := len(sc.Targets) > 0 && (sc.Objective == optimize.MinCost || status == optimize.TargetsNotMet)
+	if !wantExtra && !wantLevel {
+		return nil, nil
 	}
-	if err != nil {
+	q := p
+	if status == optimize.TargetsNotMet {
+		reach, err := optimize.Reachability(p)
+		if err != nil {
+			return nil, fmt.Errorf("targets no money meets: %w", err)
+		}
+		if len(reach) > 0 {
+			unreachable(sc, p, reach, f)
+			q = withoutTargets(p, reach)
+			f.OtherTargetsOnly = len(q.Targets) > 0
+			if len(q.Targets) == 0 {
+				return f, nil
+			}
+			// The other targets may be met under the budget already.
+			plan, err := optimize.Solve(q)
+			if err != nil {
+				return f, fmt.Errorf("plan for the other targets: %w", err)
+			}
+			wantExtra = plan.Status == optimize.TargetsNotMet
+			wantLevel = wantLevel && len(q.Targets) > 0
+		}
+	}
+	if wantExtra {
+		if err := closingMoney(sc, q, f); err != nil {
+			return f, err
+		}
+	}
+	if wantLevel && (f.Unreachable == "" || f.OtherTargetsOnly) {
+		if err := levelBudget(sc, q, f); err != nil {
+			return f, err
+		}
+	}
+	return f, nil
+}
+
+// withoutTargets returns p without the targets in reach.
+func withoutTargets(p *optimize.Problem, reach []optimize.TargetReach) *optimize.Problem {
+	drop := map[int]bool{}
+	for _, r := range reach {
+		drop[r.Target] = true
+	}
+	q := *p
+	q.Targets = nil
+	for n, t := range p.Targets {
+		if !drop[n] {
+			q.Targets = append(q.Targets, t)
+		}
+	}
+	return &q
+}
+
+// unreachable fills the unreachable targets of f and the verdict naming
+// them.
+func unreachable(sc *Scenario, p *optimize.Problem, reach []optimize.TargetReach, f *Funding) {
+	var parts, together []string
+	for _, r := range reach {
+		t := sc.Targets[r.Target]
+		u := UnreachableTarget{Target: t.Label, Together: r.Together}
+		if r.Together {
+			together = append(together, t.Label)
+			f.UnreachableTargets = append(f.UnreachableTargets, u)
+			continue
+		}
+		var years []string
+		for _, y := range r.Years {
+			v := y.Best
+			if t.Spec.Kind == optimize.MinScore || t.Spec.Kind == optimize.Hold {
+				v = scoreToIndex(sc, t, y.Best)
+			}
+			u.Years = append(u.Years, YearValue{Year: sc.Year(y.Year), Value: v})
+			years = append(years, fmt.Sprintf("%s in %d", reachValue(sc, t, v), sc.Year(y.Year)))
+		}
+		f.UnreachableTargets = append(f.UnreachableTargets, u)
+		lead, tail := reachWords(sc, t)
+		list := listYears(years)
+		if len(r.Years) == 1 {
+			list = reachValue(sc, t, u.Years[0].Value)
+			tail += " that year"
+		}
+		part := fmt.Sprintf("%s: %s %s%s", t.Label, lead, list, tail)
+		if len(r.Years) > 1 {
+			part = fmt.Sprintf("%s: %s%s %s", t.Label, lead, tail, list)
+		}
+		if t.Spec.Kind == optimize.Hold {
+			part += fmt.Sprintf(" (today %s)", reachValue(sc, t, scoreToIndex(sc, t, p.InitialScore(t.Spec.Class))))
+		}
+		parts = append(parts, part)
+	}
+	msg := unreachableText
+	if len(parts) > 0 {
+		msg += ": " + strings.Join(parts, "; ")
+	}
+	if len(together) > 0 {
+		msg += fmt.Sprintf("; these targets can each be met alone but not together: %s", strings.Join(together, "; "))
+	}
+	f.Unreachable = msg
+}
+
+// listYears joins the values by year, the first four and a count of the
+// rest.
+func listYears(parts []string) string {
+	if len(parts) > 4 {
+		return strings.Join(parts[:4], ", ") + fmt.Sprintf(" and %d more years", len(parts)-4)
+	}
+	return strings.Join(parts, ", ")
+}
+
+// reachWords says what the best reachable value is, in the target's
+// terms: the words before and after the value ("at most 90.2% is
+// reachable", "no plan brings it below 50.6%").
+func reachWords(sc *Scenario, t Target) (string, string) {
+	if t.Spec.Kind == optimize.MaxShare {
+		return "no plan brings it below", ""
+	}
+	if t.Spec.Kind != optimize.MinShare {
+		if s := sc.targetScale(t); s != nil && s.Best < s.Worst {
+			return "no plan brings the average index below", "" // lower is better
+		}
+	}
+	return "at most", " is reachable"
+}
+
+// reachValue writes a best reachable value: a share as a percentage, an
+// index on its scale.
+func reachValue(sc *Scenario, t Target, v float64) string {
+	if t.Spec.Kind == optimize.MaxShare || t.Spec.Kind == optimize.MinShare {
+		return strconv.FormatFloat(100*v, 'f', 1, 64) + "%"
+	}
+	if sc.targetScale(t) == nil {
+		return "a condition score of " + strconv.FormatFloat(v, 'f', 2, 64)
+	}
+	return strconv.FormatFloat(v, 'g', 4, 64)
+}
+
+// levelBudget answers "the least level budget that meets the targets".
+func levelBudget(sc *Scenario, p *optimize.Problem, f *Funding) error {
+	level, err := optimize.LevelBudget(p)
+	var hb *optimize.HeldBackError
+	switch {
+	case errors.As(err, &hb):
+		f.HeldBack = heldBackText(sc, hb)
+		return nil
+	case errors.Is(err, optimize.ErrUnreachable):
+		if f.Unreachable == "" {
+			f.Unreachable = unreachableText
+		}
+		return nil
+	case err != nil:
 		return fmt.Errorf("least level budget: %w", err)
 	}
 	f.LevelBudget = &level
 	return nil
 }
 
+// heldBackText says which budget groups' caps keep every level network
+// budget from meeting the targets, and what would reach them.
+func heldBackText(sc *Scenario, hb *optimize.HeldBackError) string {
+	var names []string
+	for _, g := range hb.Groups {
+		names = append(names, fmt.Sprintf("%q", sc.BudgetGroups[g].Name))
+	}
+	const lead = "no level network budget meets every target"
+	switch {
+	case len(names) == 1:
+		return lead + " while the cap of budget group " + names[0] + " stays as it is; raising that cap as well reaches them"
+	case hb.Together:
+		return lead + " unless the caps of budget groups " + joinAnd(names) + " are all raised as well; raising the network budget alone, or one group's cap, does not reach them"
+	default:
+		return lead + " while the caps of budget groups " + joinAnd(names) + " all stay as they are; raising any one of them as well reaches them"
+	}
+}
+
 // closingMoney fills the extra money that closes every shortfall.
 func closingMoney(sc *Scenario, p *optimize.Problem, f *Funding) error {
 	gap, err := optimize.ClosingMoney(p)
 	if errors.Is(err, optimize.ErrUnreachable) {
-		f.Unreachable = unreachableText
+		if f.Unreachable == "" {
+			f.Unreachable = unreachableText
+		}
 		return nil
 	}
 	if err != nil {

@@ -48,7 +48,7 @@ func fundingDetail(sc *Scenario, p *optimize.Problem, r *Result, f *Funding) err
 		met, missed []int
 		targetGaps  []*optimize.Gap
 		targetErrs  []error
-		needLevel   = len(sc.Targets) > 0 && f.LevelBudget == nil && f.Unreachable == ""
+		needLevel   = len(sc.Targets) > 0 && f.LevelBudget == nil && f.Unreachable == "" && f.HeldBack == ""
 		jobs        []func() error
 	)
 	for i, t := range r.Targets {
@@ -66,7 +66,7 @@ func fundingDetail(sc *Scenario, p *optimize.Problem, r *Result, f *Funding) err
 	})
 	if needLevel {
 		jobs = append(jobs, func() error {
-			levelErr = levelBudget(p, &levelF)
+			levelErr = levelBudget(sc, p, &levelF)
 			return nil
 		})
 	}
@@ -89,7 +89,7 @@ func fundingDetail(sc *Scenario, p *optimize.Problem, r *Result, f *Funding) err
 		return err
 	}
 	switch {
-	case errors.Is(holdErr, optimize.ErrUnreachable) && len(p.GroupBudgets) > 0:
+	case errors.Is(holdErr, optimize.ErrHeldBack), errors.Is(holdErr, optimize.ErrUnreachable) && len(p.GroupBudgets) > 0:
 		f.Notes = append(f.Notes, "no level network budget holds today's network condition to the last year while the budget groups keep their caps: the treatments, or a group's cap, cannot keep it up")
 	case errors.Is(holdErr, optimize.ErrUnreachable):
 		f.Notes = append(f.Notes, "no level budget holds today's network condition to the last year: the treatments cannot keep it up")
@@ -102,7 +102,7 @@ func fundingDetail(sc *Scenario, p *optimize.Problem, r *Result, f *Funding) err
 		if levelErr != nil {
 			return levelErr
 		}
-		f.LevelBudget, f.Unreachable = levelF.LevelBudget, levelF.Unreachable
+		f.LevelBudget, f.Unreachable, f.HeldBack = levelF.LevelBudget, levelF.Unreachable, levelF.HeldBack
 	}
 	for n, i := range missed {
 		tm := TargetMoney{Target: r.Targets[i].Target}

@@ -99,6 +99,9 @@ type ModelSize struct {
 	Solves     int    `json:"solves"`
 	Iterations int    `json:"iterations,omitempty"`
 	Policies   int    `json:"policies,omitempty"`
+	// Path says how the plan was solved when lp_solve's first way gave no
+	// checked answer (other settings, the other method).
+	Path string `json:"path,omitempty"`
 }
 
 // Snapshot is the condition of every class and the network at one time.

@@ -86,7 +86,8 @@ func planResult(sc *Scenario, p *optimize.Problem, plan *optimize.Plan, opt Opti
 	r := assemble(sc, p, plan.Condition, plan.Work, plan.Spend)
 	addRoutine(sc, r, plan.Routine)
 	r.Kind, r.Status, r.Objective = "plan", string(plan.Status), sc.Objective.String()
-	r.Model = &ModelSize{Solver: plan.Stats.Method, Rows: plan.Stats.Rows, Columns: plan.Stats.Cols, Nonzeros: plan.Stats.Nonzeros, Solves: plan.Stats.Solves, Iterations: plan.Stats.Iterations, Policies: plan.Stats.Columns}
+	r.Model = &ModelSize{Solver: plan.Stats.Method, Rows: plan.Stats.Rows, Columns: plan.Stats.Cols, Nonzeros: plan.Stats.Nonzeros, Solves: plan.Stats.Solves, Iterations: plan.Stats.Iterations, Policies: plan.Stats.Columns, Path: plan.Stats.Path}
+	r.Warnings = append(r.Warnings, plan.Warnings...)
 	// The solver's shortfalls replace the ones measured on the condition:
 	// the same figures, from the model's own rows.
 	for i := range r.Targets {
@@ -110,28 +111,30 @@ func planResult(sc *Scenario, p *optimize.Problem, plan *optimize.Plan, opt Opti
 		r.Warnings = append(r.Warnings, w.Text)
 	}
 	if !opt.SkipFunding {
-		f := &Funding{}
-		if plan.Status == optimize.TargetsNotMet {
-			if err := closingMoney(sc, p, f); err != nil {
-				return nil, err
-			}
+		f, err := funding(sc, p, plan.Status)
+		if err != nil {
+			// The plan stands; only a funding answer is missing.
+			r.Warnings = append(r.Warnings, "a funding answer could not be computed: "+err.Error())
 		}
-		if len(sc.Targets) > 0 && (sc.Objective == optimize.MinCost || plan.Status == optimize.TargetsNotMet) && f.Unreachable == "" {
-			if err := levelBudget(p, f); err != nil {
-				return nil, err
-			}
+		if f == nil {
+			f = &Funding{}
 		}
 		// The funding detail and the renewal the indicators compare with
-		// are independent solves: run them side by side.
+		// are independent solves: run them side by side. Neither fails
+		// the plan: a missing answer is a warning.
 		var required [][]float64
 		var notes []string
+		var detailErr error
 		if err := runParallel([]func() error{
-			func() error { return fundingDetail(sc, p, r, f) },
+			func() error { detailErr = fundingDetail(sc, p, r, f); return nil },
 			func() (err error) { required, notes, err = requiredRenewal(sc, opt); return err },
 		}); err != nil {
 			return nil, err
 		}
-		if f.LevelBudget != nil || f.ExtraTotal != nil || f.Unreachable != "" || f.HoldBudget != nil || len(f.Notes) > 0 {
+		if detailErr != nil {
+			r.Warnings = append(r.Warnings, "a funding answer could not be computed: "+detailErr.Error())
+		}
+		if f.LevelBudget != nil || f.ExtraTotal != nil || f.Unreachable != "" || f.HeldBack != "" || f.HoldBudget != nil || len(f.Notes) > 0 {
 			r.Funding = f
 		}
 		if err := baseline(p, r); err != nil {
@@ -257,10 +260,11 @@ func assemble(sc *Scenario, p *optimize.Problem, cond [][][]float64, work [][][]
 func workOf(c *Class, oc *optimize.Class, byState [][]float64, escalation float64, t int) []Work {
 	out := []Work{}
 	esc := math.Pow(1+escalation, float64(t))
-	floor := 1e-9 * c.Total()
+	// The plan holds no work below the solver's tolerance (optimize's
+	// readPlan cleans it out), so every positive quantity is reported.
 	for i, byAction := range byState {
 		for a, q := range byAction {
-			if a == 0 || q <= floor {
+			if a == 0 || q <= 0 {
 				continue
 			}
 			act := &oc.Actions[a]

@@ -31,10 +31,15 @@ type SweepResult struct {
 	Caution         string           `json:"caution"`
 }
 
-// SweepPoint is one yearly budget's max-condition plan.
+// SweepPoint is one yearly budget's max-condition plan: exactly what Plan
+// gives for the scenario with that level budget and max-condition.
 type SweepPoint struct {
-	Budget         float64 `json:"budget"`
+	Budget float64 `json:"budget"`
+	// Status is the plan's status, or "infeasible" (the budget cannot be
+	// kept even by doing nothing: routine costs count against it) or
+	// "failed" (no plan; Problem says why). Such points carry no figures.
 	Status         string  `json:"status"`
+	Problem        string  `json:"problem,omitempty"`
 	ConditionScore float64 `json:"condition_score"`
 	// End-of-horizon network figures.
 	EndPoorShare    float64  `json:"end_poor_share"`
@@ -54,11 +59,19 @@ type SweepPoint struct {
 	Confidence        []ConfidentTarget `json:"confidence,omitempty"`
 }
 
-// sweepChains is the number of warm-started chains a decomposed sweep is
-// cut into: enough to keep a few cores busy, few enough that most points
-// start from a neighbour's policies. It is fixed, not the core count, so
-// that results are the same on every machine.
-const sweepChains = 4
+// The statuses of a sweep point without a plan.
+const (
+	// PointInfeasible: the budget cannot be kept even by doing nothing
+	// (routine costs count against it), or it is below a ring fence.
+	PointInfeasible = "infeasible"
+	// PointFailed: no plan; the point's Problem says why.
+	PointFailed = "failed"
+)
+
+// Planned reports whether the point has a plan, and so figures.
+func (p *SweepPoint) Planned() bool {
+	return p.Status != PointInfeasible && p.Status != PointFailed
+}
 
 // BudgetRange expands FROM:TO:STEP into the budgets FROM, FROM+STEP, ...
 // up to TO (included when reached within a millionth of a step).
@@ -91,8 +104,19 @@ const MaxSweepPoints = 1000
 // nominal amount every year, replacing budget.yearly; budget groups keep
 // their caps) with the max-condition objective and the scenario's targets,
 // and finds the least level budget that holds today's condition and the
-// one that meets the targets. Points are solved in parallel, at most
+// one that meets the targets. Each point is exactly the plan Plan makes
+// for that budget (the same method, solved from scratch, so the answer
+// does not depend on the other points); a budget with no plan is marked
+// and the sweep goes on. Points are solved in parallel, at most
 // runtime.GOMAXPROCS at a time, and returned in the order of budgets.
+//
+// The condition score never falls as the budget rises between points
+// whose plans miss the targets by the same least total shortfall, in
+// particular between points that meet every target (every plan of the
+// smaller budget keeps the larger one): a plan first keeps the least
+// shortfall, then maximises condition, so where more money lets it miss
+// the targets by less, it may spend on closing the shortfall what buys
+// less condition, and the score can fall.
 func Sweep(sc *Scenario, budgets []float64, opt Options) (*SweepResult, error) {
 	if len(budgets) == 0 {
 		return nil, errors.New("sweep: no budgets given")
@@ -102,49 +126,36 @@ func Sweep(sc *Scenario, budgets []float64, opt Options) (*SweepResult, error) {
 			return nil, fmt.Errorf("sweep: budget %g must be a finite amount of zero or more", b)
 		}
 	}
-	r := &SweepResult{Scenario: sc.Name, Source: sc.Source, Kind: "sweep", Currency: sc.Currency, Points: make([]SweepPoint, len(budgets)), Caution: Caution, Warnings: append([]string{}, sc.Notes...)}
-	jobs := make([]func() error, 0, len(budgets)+2)
-	point := func(n int, b float64, o Options) error {
-		pt, err := sweepPoint(sc, b, o)
-		if err != nil {
-			return fmt.Errorf("budget %s: %w", money(b), err)
-		}
-		r.Points[n] = *pt
-		return nil
-	}
 	p, err := sc.Problem()
 	if err != nil {
 		return nil, err
 	}
-	if optimize.Chosen(p, opt.Solver) == optimize.Decomposed {
-		// Decomposed points run in sweepChains chains of neighbouring
-		// budgets, each point starting from the policies of the one
-		// before it in its chain (a warm start), the chains in parallel.
-		// The chains are cut the same way on any machine, so results do
-		// not depend on the core count.
-		chains := min(sweepChains, len(budgets))
-		for c := 0; c < chains; c++ {
-			lo, hi := c*len(budgets)/chains, (c+1)*len(budgets)/chains
-			jobs = append(jobs, func() error {
-				o := opt
-				o.Warm = &optimize.Warm{}
-				if opt.Warm != nil {
-					o.Warm = opt.Warm.Clone()
+	r := &SweepResult{Scenario: sc.Name, Source: sc.Source, Kind: "sweep", Currency: sc.Currency, Points: make([]SweepPoint, len(budgets)), Caution: Caution, Warnings: append([]string{}, sc.Notes...)}
+	opt.Warm = nil // a point must not depend on the others
+	jobs := make([]func() error, 0, len(budgets)+2)
+	pointNotes := make([][]string, len(budgets))
+	for n, b := range budgets {
+		jobs = append(jobs, func() error {
+			pt, notes, err := sweepPoint(sc, b, opt)
+			for _, w := range notes {
+				pointNotes[n] = append(pointNotes[n], fmt.Sprintf("budget %s: %s", money(b), w))
+			}
+			if err != nil {
+				if optimize.IsTimeout(err) {
+					return fmt.Errorf("budget %s: %w", money(b), err)
 				}
-				for n := lo; n < hi; n++ {
-					if err := point(n, budgets[n], o); err != nil {
-						return err
-					}
+				pt = &SweepPoint{Budget: b, Status: PointFailed, Problem: err.Error()}
+				var ie *InputError
+				if errors.As(err, &ie) {
+					pt.Status = PointInfeasible
 				}
-				return nil
-			})
-		}
-	} else {
-		for n, b := range budgets {
-			jobs = append(jobs, func() error { return point(n, b, opt) })
-		}
+			}
+			r.Points[n] = *pt
+			return nil
+		})
 	}
-	level := func(targets []optimize.Target, out **float64) func() error {
+	var holdNote, targetsNote string
+	level := func(targets []optimize.Target, out **float64, note *string) func() error {
 		return func() error {
 			p, err := sc.Problem()
 			if err != nil {
@@ -152,21 +163,26 @@ func Sweep(sc *Scenario, budgets []float64, opt Options) (*SweepResult, error) {
 			}
 			p.Timeout, p.Targets = opt.Timeout, targets
 			v, err := optimize.LevelBudget(p)
-			if errors.Is(err, optimize.ErrUnreachable) {
-				return nil
-			}
-			if err != nil {
+			var hb *optimize.HeldBackError
+			switch {
+			case errors.As(err, &hb):
+				*note = heldBackText(sc, hb)
+			case errors.Is(err, optimize.ErrUnreachable):
+			case optimize.IsTimeout(err):
 				return fmt.Errorf("least level budget: %w", err)
+			case err != nil:
+				*note = "the least level budget could not be computed: " + err.Error()
+			default:
+				*out = &v
 			}
-			*out = &v
 			return nil
 		}
 	}
-	jobs = append(jobs, level([]optimize.Target{{Label: "hold", Class: optimize.Network, Kind: optimize.Hold}}, &r.HoldBudget))
+	jobs = append(jobs, level([]optimize.Target{{Label: "hold", Class: optimize.Network, Kind: optimize.Hold}}, &r.HoldBudget, &holdNote))
 	if len(sc.Targets) > 0 {
 		// The problem's targets: on widened classes they hold every
 		// widened state of the states they name.
-		jobs = append(jobs, level(p.Targets, &r.TargetsBudget))
+		jobs = append(jobs, level(p.Targets, &r.TargetsBudget, &targetsNote))
 	}
 	if hasConfidence(sc) {
 		jobs = append(jobs, func() error {
@@ -180,26 +196,47 @@ func Sweep(sc *Scenario, budgets []float64, opt Options) (*SweepResult, error) {
 	if err := runParallel(jobs); err != nil {
 		return nil, err
 	}
-	if r.HoldBudget == nil {
+	for n, pt := range r.Points {
+		r.Warnings = append(r.Warnings, pointNotes[n]...)
+		if !pt.Planned() {
+			r.Warnings = append(r.Warnings, fmt.Sprintf("budget %s: no plan (%s): %s", money(pt.Budget), pt.Status, pt.Problem))
+		}
+	}
+	switch {
+	case holdNote != "":
+		r.Warnings = append(r.Warnings, "holding today's network condition: "+holdNote)
+	case r.HoldBudget == nil:
 		r.Warnings = append(r.Warnings, "no level budget holds today's network condition: the treatments cannot keep it up")
 	}
-	if len(sc.Targets) > 0 && r.TargetsBudget == nil {
-		r.Warnings = append(r.Warnings, unreachableText)
+	switch {
+	case targetsNote != "":
+		r.Warnings = append(r.Warnings, "meeting the targets: "+targetsNote)
+	case len(sc.Targets) > 0 && r.TargetsBudget == nil:
+		r.Warnings = append(r.Warnings, unreachableText+"; plan the scenario to see which targets and what is reachable")
 	}
 	return r, nil
 }
 
-func sweepPoint(sc *Scenario, budget float64, opt Options) (*SweepPoint, error) {
+// SweepScenario is the scenario a sweep plans at one budget: the same
+// amount every year and the max-condition objective. Plan on it gives the
+// sweep's point.
+func SweepScenario(sc *Scenario, budget float64) *Scenario {
 	s := *sc
 	s.Budget = make([]float64, sc.Horizon)
 	for t := range s.Budget {
 		s.Budget[t] = budget
 	}
 	s.Objective = optimize.MaxCondition
+	return &s
+}
+
+// sweepPoint plans one point; notes are the plan's own warnings (those
+// beyond the scenario's).
+func sweepPoint(sc *Scenario, budget float64, opt Options) (*SweepPoint, []string, error) {
 	opt.SkipFunding = true
-	res, err := Plan(&s, opt)
+	res, err := Plan(SweepScenario(sc, budget), opt)
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	last := res.Years[len(res.Years)-1].Network
 	pt := &SweepPoint{Budget: budget, Status: res.Status, ConditionScore: res.ConditionScore, EndPoorShare: last.Shares.Poor, EndAverageIndex: last.AverageIndex,
@@ -212,7 +249,7 @@ func sweepPoint(sc *Scenario, budget float64, opt Options) (*SweepPoint, error) 
 	if c := res.Confidence; c != nil {
 		pt.ConfidenceReached, pt.Confidence = &c.Reached, c.Targets
 	}
-	return pt, nil
+	return pt, res.Warnings[len(sc.Notes):], nil
 }
 
 // runParallel runs the jobs on at most runtime.GOMAXPROCS goroutines and

@@ -75,7 +75,8 @@ type WorklistCheck struct {
 	Listed    float64 `json:"listed"`
 	Segments  int     `json:"segments"`
 	// Tolerance is how far the listed quantity may be from the plan's: the
-	// largest segment in the state (two for indicative years).
+	// largest segment in the state, or in the class when the state holds
+	// none (two for indicative years).
 	Tolerance   float64 `json:"tolerance"`
 	PlannedCost float64 `json:"planned_cost"`
 	ListedCost  float64 `json:"listed_cost"`
@@ -280,6 +281,15 @@ func (l *classLister) assignYear(w *Worklist, sc *Scenario, cc ClassCondition, t
 	tolerance := 1.0
 	if t > 1 {
 		tolerance = 2
+	}
+	// An indicative year places whole segments on the plan's expected
+	// quantities, so a state the plan puts less than a segment in may hold
+	// none: its tolerance is then the class's largest segment.
+	classLargest := slices.Max(largest)
+	for i := range largest {
+		if largest[i] == 0 {
+			largest[i] = classLargest
+		}
 	}
 	for i := 0; i < l.n; i++ {
 		if len(work[i]) == 0 {

@@ -162,6 +162,9 @@ Bands and Target probabilities. The same seed gives the same report.`,
 				rep.Sweep = &report.Sweep{Scenario: sr.Scenario, Currency: sr.Currency, TargetsBudget: sr.TargetsBudget, HoldBudget: sr.HoldBudget, Notes: sr.Warnings}
 				rep.Sweep.Budget, rep.Sweep.BudgetVaries = scenarioBudget(rep.Runs[0].Scenario)
 				for _, pt := range sr.Points {
+					if !pt.Planned() {
+						continue // no plan, no score to chart; the sweep command lists it
+					}
 					rep.Sweep.Points = append(rep.Sweep.Points, report.SweepPoint{Budget: pt.Budget, ConditionScore: pt.ConditionScore, Status: pt.Status,
 						EndPoorShare: pt.EndPoorShare, TargetsMet: pt.TargetsMet, Targets: pt.Targets})
 				}

@@ -12,6 +12,7 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"wearplan/optimize"
 	"wearplan/scenarios"
 )
 
@@ -79,10 +80,26 @@ func Main(args []string, stdout, stderr io.Writer) int {
 		code = exitInput
 	}
 	fmt.Fprintf(stderr, "wearplan: %v\n", err)
+	if hint := solverHint(err); hint != "" {
+		fmt.Fprintln(stderr, hint)
+	}
 	if code == exitInput && !errors.As(err, &ie) {
 		fmt.Fprintln(stderr, "Run 'wearplan help' or 'wearplan COMMAND --help' for usage and examples.")
 	}
 	return code
+}
+
+// solverHint is the command line's advice on a solver error (the domain's
+// messages name no flags).
+func solverHint(err error) string {
+	var se *optimize.SolverError
+	switch {
+	case optimize.IsTimeout(err):
+		return "Raise the limit with --timeout, or plan fewer years or classes."
+	case errors.As(err, &se), errors.Is(err, optimize.ErrIterationCap), errors.Is(err, optimize.ErrStalled):
+		return "wearplan tried both solvers (--solver flat and --solver decomposed) and lp_solve's other settings; please report the scenario with this message."
+	}
+	return ""
 }
 
 // isCobraUsage recognises cobra's own argument and flag errors.

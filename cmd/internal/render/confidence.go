@@ -96,12 +96,20 @@ func wrapIndent(s string, width int, indent string) string {
 // with the lowest share of runs meeting a confident target at each budget
 // and whether every confidence is reached.
 func sweepConfidenceColumn(t *table, r *scenarios.SweepResult) {
-	if len(r.Points) == 0 || r.Points[0].ConfidenceReached == nil {
+	with := false
+	for _, p := range r.Points {
+		with = with || p.ConfidenceReached != nil
+	}
+	if !with {
 		return
 	}
 	t.header = append(t.header, "CONFIDENCE REACHED (LOWEST SHARE OF RUNS)")
 	t.right = append(t.right, false)
 	for n, p := range r.Points {
+		if p.ConfidenceReached == nil {
+			t.rows[n] = append(t.rows[n], "-")
+			continue
+		}
 		lowest := 1.0
 		for _, ct := range p.Confidence {
 			lowest = min(lowest, ct.Probability)

@@ -186,7 +186,10 @@ func SweepText(w io.Writer, r *scenarios.SweepResult) error {
 	ew.printf("Budget trade-off: each level yearly budget planned with max-condition and the scenario's targets (%s)\n", cur)
 	// The average index exists only when every class shares one scale;
 	// otherwise the column is left out rather than filled with dashes.
-	withIndex := len(r.Points) > 0 && r.Points[0].EndAverageIndex != nil
+	withIndex := false
+	for _, p := range r.Points {
+		withIndex = withIndex || p.EndAverageIndex != nil
+	}
 	t := table{header: []string{"YEARLY BUDGET", "STATUS", "SCORE", "END POOR"}, right: []bool{true, false, true, true}}
 	if withIndex {
 		t.header, t.right = append(t.header, "END AVG INDEX"), append(t.right, true)
@@ -194,6 +197,15 @@ func SweepText(w io.Writer, r *scenarios.SweepResult) error {
 	t.header = append(t.header, "END SCORE", "SPEND", "PRESENT VALUE", "TARGETS MET")
 	t.right = append(t.right, true, true, true, true)
 	for _, p := range r.Points {
+		if !p.Planned() {
+			// No plan at this budget: the notes below say why.
+			row := []string{Money(p.Budget), p.Status, "-", "-"}
+			if withIndex {
+				row = append(row, "-")
+			}
+			t.rows = append(t.rows, append(row, "-", "-", "-", "-"))
+			continue
+		}
 		row := []string{Money(p.Budget), p.Status, fmt.Sprintf("%.2f", p.ConditionScore), Percent(p.EndPoorShare)}
 		if withIndex {
 			row = append(row, optIndex(p.EndAverageIndex))
@@ -222,6 +234,10 @@ func SweepCSV(w io.Writer, r *scenarios.SweepResult) error {
 	r = RoundedSweep(r)
 	rows := [][]string{{"yearly_budget", "status", "condition_score", "end_poor_share", "end_average_index", "end_score", "total_cost", "present_value", "targets_met", "targets", "hold_budget", "targets_budget"}}
 	for _, p := range r.Points {
+		if !p.Planned() {
+			rows = append(rows, []string{Plain(p.Budget), p.Status, "", "", "", "", "", "", "", "", optPlain(r.HoldBudget), optPlain(r.TargetsBudget)})
+			continue
+		}
 		rows = append(rows, []string{Plain(p.Budget), p.Status, Plain(p.ConditionScore), Plain(p.EndPoorShare), optPlain(p.EndAverageIndex), Plain(p.EndScore), Plain(p.TotalCost), Plain(p.PresentValue), fmt.Sprint(p.TargetsMet), fmt.Sprint(p.Targets), optPlain(r.HoldBudget), optPlain(r.TargetsBudget)})
 	}
 	return writeCSV(w, rows)

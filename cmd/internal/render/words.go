@@ -163,19 +163,20 @@ func FundingWords(r *scenarios.Result) []string {
 	out := []string{}
 	last := r.StartYear + r.Horizon - 1
 	if f := r.Funding; f != nil {
-		switch {
-		case f.Unreachable != "" && f.ExtraTotal != nil:
-			// Money on the groups' caps closes the gap where a level
-			// network budget alone cannot: the caps hold it back.
-			out = append(out, "No level network budget alone meets every target: the budget groups' caps hold it back. The extra money below raises the groups' caps too.")
-		case f.Unreachable != "":
+		if f.Unreachable != "" {
 			out = append(out, upperFirst(strings.TrimSuffix(f.Unreachable, "."))+".")
+		}
+		// With targets no money meets, the money answers are for the
+		// others.
+		which := "every target"
+		if f.OtherTargetsOnly {
+			which = "every target that money can meet"
 		}
 		if f.LevelBudget != nil {
 			if TargetsMet(r) < len(r.Targets) {
-				out = append(out, fmt.Sprintf("A level budget of %s a year (the same amount every year) would meet every target.", Amount(r, *f.LevelBudget)))
+				out = append(out, fmt.Sprintf("A level budget of %s a year (the same amount every year) would meet %s.", Amount(r, *f.LevelBudget), which))
 			} else {
-				out = append(out, fmt.Sprintf("The least level budget that meets every target is %s a year (the same amount every year).", Amount(r, *f.LevelBudget)))
+				out = append(out, fmt.Sprintf("The least level budget that meets %s is %s a year (the same amount every year).", which, Amount(r, *f.LevelBudget)))
 			}
 		}
 		if f.ExtraTotal != nil {
@@ -187,7 +188,7 @@ func FundingWords(r *scenarios.Result) []string {
 			if f.LevelBudget != nil {
 				lead = "Or keep this budget and add"
 			}
-			s := fmt.Sprintf("%s %s: the extra money that meets every target at the least present value", lead, strings.Join(parts, ", "))
+			s := fmt.Sprintf("%s %s: the extra money that meets %s at the least present value", lead, strings.Join(parts, ", "), which)
 			switch {
 			case len(parts) > 1 || len(f.ExtraMoney) > 1:
 				s += fmt.Sprintf(" (%s in all, present value %s)", Amount(r, *f.ExtraTotal), Money(*f.ExtraPresentValue))
@@ -195,6 +196,9 @@ func FundingWords(r *scenarios.Result) []string {
 				s += fmt.Sprintf(" (present value %s)", Money(*f.ExtraPresentValue))
 			}
 			out = append(out, s+".")
+		}
+		if f.HeldBack != "" {
+			out = append(out, upperFirst(strings.TrimSuffix(f.HeldBack, "."))+".")
 		}
 		if f.HoldBudget != nil {
 			out = append(out, fmt.Sprintf("A level budget of %s a year holds today's network condition score to the end of %d.", Amount(r, *f.HoldBudget), last))
@@ -219,7 +223,18 @@ func FundingGap(r *scenarios.Result) string {
 	f := r.Funding
 	var s string
 	switch {
-	case f != nil && f.ExtraTotal != nil:
+	case f != nil && f.Unreachable != "" && f.OtherTargetsOnly && (f.ExtraTotal != nil || f.LevelBudget != nil):
+		s = "No amount of money meets every target; meeting the others needs "
+		if f.ExtraTotal != nil {
+			s += fmt.Sprintf("%s more than this budget (present value %s)", Amount(r, *f.ExtraTotal), Money(*f.ExtraPresentValue))
+			if f.LevelBudget != nil {
+				s += ", or "
+			}
+		}
+		if f.LevelBudget != nil {
+			s += fmt.Sprintf("a level budget of %s a year", Amount(r, *f.LevelBudget))
+		}
+	case f != nil && f.ExtraTotal != nil && f.Unreachable == "":
 		s = fmt.Sprintf("Meeting every target needs %s more than this budget (present value %s)", Amount(r, *f.ExtraTotal), Money(*f.ExtraPresentValue))
 		if f.LevelBudget != nil {
 			s += fmt.Sprintf(", or a level budget of %s a year", Amount(r, *f.LevelBudget))

@@ -674,7 +674,7 @@ func buildComparison(rep *Report, withCharts bool) (*comparison, error) {
 		if f := r.Funding; f != nil {
 			if f.LevelBudget != nil {
 				level = render.Money(*f.LevelBudget)
-			} else if f.Unreachable != "" {
+			} else if f.Unreachable != "" || f.HeldBack != "" {
 				level = "no amount"
 			}
 			if f.HoldBudget != nil {

@@ -257,6 +257,61 @@ func TestLowerBudgetRaisesThePoorShare(t *testing.T) {
 	}
 }
 
+// A budget cut to zero, the commonest what-if, gets a plan on both example
+// scenarios, not "planning failed": the do-nothing plan, its targets
+// missed, nothing spent, and the condition of the do-nothing forecast (the
+// Markov chains rolled forward with no work, scenarios.Forecast, which
+// plans nothing). A cut to zero from 2029 on keeps the first two years'
+// money and spends at most that.
+func TestZeroBudgetAnswers(t *testing.T) {
+	s, ts := newTestServer(t, Options{})
+	for n, src := range s.sources {
+		zero := decodeAnswer(t, postJSON(t, ts, "/api/plan", fmt.Sprintf(`{"scenario": %d, "changes": {"budget_level": 0}}`, n)))
+		if zero.Status != "targets-not-met" {
+			t.Errorf("%s, zero budget: status %s", src.Path, zero.Status)
+		}
+		if got := figureOf(t, zero, "Total spend"); got != "USD 0" {
+			t.Errorf("%s: zero budget spends %s", src.Path, got)
+		}
+		none, err := scenarios.Forecast(src.Scenario.Scenario)
+		if err != nil {
+			t.Fatal(err)
+		}
+		last := none.Years[len(none.Years)-1]
+		for _, c := range []struct{ label, want string }{
+			{"Condition score (0-100, average over the years)", score(none.ConditionScore)},
+			{fmt.Sprintf("Network poor share, end of %d", last.Year), render.Percent(last.Network.Shares.Poor)},
+		} {
+			if got := figureOf(t, zero, c.label); got != c.want {
+				t.Errorf("%s, zero budget: %s %s, doing nothing %s", src.Path, c.label, got, c.want)
+			}
+		}
+		cut := decodeAnswer(t, postJSON(t, ts, "/api/plan", fmt.Sprintf(`{"scenario": %d, "changes": {"budget_steps": [{"from_year": 2029, "percent": -100}]}}`, n)))
+		if got := figureOf(t, cut, "Network budget"); !strings.Contains(got, "USD 0 in 2029-") {
+			t.Errorf("%s, cut to zero from 2029: budget %q", src.Path, got)
+		}
+		spent := moneyOf(t, figureOf(t, cut, "Total spend"))
+		var first2 float64
+		for _, b := range src.Scenario.Scenario.Budget[:2] {
+			first2 += b
+		}
+		if spent <= 0 || spent > first2 {
+			t.Errorf("%s, cut to zero from 2029: spends %v, the first two years' budgets are %v", src.Path, spent, first2)
+		}
+	}
+}
+
+// moneyOf reads a formatted amount such as "USD 4,500,000".
+func moneyOf(t testing.TB, s string) float64 {
+	t.Helper()
+	_, amount, _ := strings.Cut(s, " ")
+	v, err := strconv.ParseFloat(strings.ReplaceAll(amount, ",", ""), 64)
+	if err != nil {
+		t.Fatalf("%q is not an amount", s)
+	}
+	return v
+}
+
 func TestBadRequests(t *testing.T) {
 	_, ts := newTestServer(t, Options{})
 	cases := []struct {

@@ -159,7 +159,11 @@ func figures(sc *scenarios.Scenario, r *scenarios.Result) []figure {
 		if f.ExtraPresentValue != nil {
 			extra = cur + render.Money(*f.ExtraPresentValue)
 		}
-		if f.Unreachable != "" {
+		switch {
+		case f.Unreachable != "" && f.OtherTargetsOnly:
+			// The amounts are for the targets money can meet.
+			level, extra = level+" (no amount meets all)", extra+" (no amount meets all)"
+		case f.Unreachable != "":
 			level, extra = "no amount", "no amount"
 		}
 		if f.HoldBudget != nil {
