@@ -12,6 +12,7 @@ import (
 	"slices"
 	"strconv"
 	"strings"
+	"sync"
 	"unicode/utf8"
 
 	"gopkg.in/yaml.v3"
@@ -115,7 +116,8 @@ func load(fsys fs.FS, name string, opt LoadOptions) (*Scenario, *yaml.Node, []st
 	return sc, root, files, nil
 }
 
-var yamlLine = regexp.MustCompile(`line (\d+)`)
+// yamlLine finds the line in a YAML syntax error; compiled on first use.
+var yamlLine = sync.OnceValue(func() *regexp.Regexp { return regexp.MustCompile(`line (\d+)`) })
 
 // parseNode reads YAML text into a node tree, turning syntax errors into an
 // Issue with the line yaml.v3 reports.
@@ -134,7 +136,7 @@ func parseNode(name string, data []byte) (*yaml.Node, error) {
 	if err := dec.Decode(&doc); err != nil {
 		msg := strings.TrimPrefix(err.Error(), "yaml: ")
 		line := 0
-		if m := yamlLine.FindStringSubmatch(msg); m != nil {
+		if m := yamlLine().FindStringSubmatch(msg); m != nil {
 			line, _ = strconv.Atoi(m[1])
 			msg = strings.TrimSpace(strings.TrimPrefix(msg, m[0]+":"))
 		}

@@ -1,6 +1,7 @@
 package cli
 
 import (
+	"bufio"
 	"context"
 	"errors"
 	"fmt"
@@ -209,7 +210,7 @@ func (o *outputs) file(path, flag string, fill func(io.Writer) error) error {
 		return writeError(path, err)
 	}
 	defer o.discard(tmp.Name())
-	if err := fill(tmp); err != nil {
+	if err := fillBuffered(tmp, fill); err != nil {
 		tmp.Close()
 		return writeError(path, err)
 	}
@@ -389,7 +390,7 @@ func (o *outputs) fillOne(path string, fill func(io.Writer) error, old fs.FileIn
 	if err != nil {
 		return err
 	}
-	if err := fill(f); err != nil {
+	if err := fillBuffered(f, fill); err != nil {
 		f.Close()
 		return err
 	}
@@ -398,6 +399,16 @@ func (o *outputs) fillOne(path string, fill func(io.Writer) error, old fs.FileIn
 		return err
 	}
 	return f.Close()
+}
+
+// fillBuffered writes f with fill through a buffer, so that a renderer's
+// rows do not each cost a system call.
+func fillBuffered(f *os.File, fill func(io.Writer) error) error {
+	w := bufio.NewWriterSize(f, outputBuffer)
+	if err := fill(w); err != nil {
+		return err
+	}
+	return w.Flush()
 }
 
 // commitSet moves the files from tmp into dir. Files they replace are

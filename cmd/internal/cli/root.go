@@ -4,6 +4,7 @@
 package cli
 
 import (
+	"bufio"
 	"context"
 	"errors"
 	"fmt"
@@ -56,15 +57,26 @@ func usageError(format string, args ...any) error {
 
 // Main runs the command line and returns the process exit code.
 func Main(args []string, stdout, stderr io.Writer) int {
+	// Standard output is buffered and written when the command ends: a
+	// table, a CSV or a worklist would otherwise cost a system call per
+	// row. Standard error is not, and whatever is buffered goes out before
+	// each message on it, so that a terminal shows both in the order they
+	// were written.
+	out := bufio.NewWriterSize(stdout, outputBuffer)
 	// Messages name files, classes and values from the input: no control
-	// character in them reaches the terminal.
-	stderr = printableText(stderr)
+	// character in them reaches the terminal. The signal watcher runs on
+	// a goroutine of its own and leaves the buffer alone: what it holds
+	// is dropped when a signal stops the run.
 	outs := newOutputs()
-	outs.watchSignals(stderr)
+	outs.watchSignals(printableText(stderr))
+	stderr = printableText(&flushingFirst{first: out, w: stderr})
 	defer outs.unwatch()
-	root := newRoot(stdout, stderr)
+	root := newRoot(out, stderr)
 	root.SetArgs(args)
 	err := root.ExecuteContext(withOutputs(context.Background(), outs))
+	if ferr := out.Flush(); ferr != nil && err == nil {
+		err = &exitError{code: exitFailure, err: fmt.Errorf("cannot write to standard output: %w", ferr)}
+	}
 	if err == nil {
 		return exitOK
 	}
@@ -100,6 +112,32 @@ func solverHint(err error) string {
 		return "wearplan tried both solvers (--solver flat and --solver decomposed) and lp_solve's other settings; please report the scenario with this message."
 	}
 	return ""
+}
+
+// outputBuffer is the size of the buffers in front of standard output and
+// of every file written: large enough that a plan's JSON of a few
+// megabytes takes a few dozen writes.
+const outputBuffer = 64 << 10
+
+// flushingFirst writes what first holds before each write to w.
+type flushingFirst struct {
+	first *bufio.Writer
+	w     io.Writer
+}
+
+func (f *flushingFirst) Write(b []byte) (int, error) {
+	// An error on standard output is reported when the command ends.
+	_ = f.first.Flush()
+	return f.w.Write(b)
+}
+
+// flushOutput writes out what a command has buffered for standard output:
+// for a command that keeps running after it has printed something
+// (serve).
+func flushOutput(cmd *cobra.Command) {
+	if f, ok := cmd.OutOrStdout().(interface{ Flush() error }); ok {
+		_ = f.Flush()
+	}
 }
 
 // isCobraUsage recognises cobra's own argument and flag errors.

@@ -81,6 +81,7 @@ make a choice of scenarios on the page.`,
 			}
 			url := "http://" + net.JoinHostPort(host, strconv.Itoa(ln.Addr().(*net.TCPAddr).Port)) + "/"
 			fmt.Fprintf(cmd.OutOrStdout(), "wearplan what-if page for %d scenario(s): %s\nPress Ctrl-C to stop.\n", len(sources), url)
+			flushOutput(cmd)
 			// The server stops on Ctrl-C itself; it writes no files.
 			outputsOf(cmd).unwatch()
 			ctx, stop := signal.NotifyContext(cmd.Context(), os.Interrupt, syscall.SIGTERM)

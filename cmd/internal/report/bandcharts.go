@@ -235,7 +235,7 @@ func (b *shadedBand) DataRange() (xmin, xmax, ymin, ymax float64) {
 	return b.xs[0], b.xs[len(b.xs)-1], ymin, ymax
 }
 
-var bandEdgeLine = draw.LineStyle{Color: bandEdge, Width: 0.5}
+func bandEdgeLine() draw.LineStyle { return draw.LineStyle{Color: bandEdge(), Width: 0.5} }
 
 func (b *shadedBand) Plot(c draw.Canvas, p *plot.Plot) {
 	trX, trY := p.Transforms(&c)
@@ -252,12 +252,12 @@ func (b *shadedBand) draw(c *draw.Canvas, lo, hi []vg.Point) {
 	for i := len(lo) - 1; i >= 0; i-- {
 		poly = append(poly, lo[i])
 	}
-	c.FillPolygon(bandFill, c.ClipPolygonXY(poly))
+	c.FillPolygon(bandFill(), c.ClipPolygonXY(poly))
 	if lines := hatchLines(lo, hi, hatchSpacing); len(lines) > 0 {
-		c.StrokeLines(bandEdgeLine, c.ClipLinesXY(lines...)...)
+		c.StrokeLines(bandEdgeLine(), c.ClipLinesXY(lines...)...)
 	}
-	c.StrokeLines(bandEdgeLine, c.ClipLinesXY(lo)...)
-	c.StrokeLines(bandEdgeLine, c.ClipLinesXY(hi)...)
+	c.StrokeLines(bandEdgeLine(), c.ClipLinesXY(lo)...)
+	c.StrokeLines(bandEdgeLine(), c.ClipLinesXY(hi)...)
 }
 
 func (b *shadedBand) Thumbnail(c *draw.Canvas) {

@@ -466,7 +466,7 @@ func spendChart(id, title, caption, currency string, firstYear int, spend []floa
 		return chart{}, err
 	}
 	bars.XMin = 1
-	bars.Color = spendInk
+	bars.Color = spendInk()
 	bars.LineStyle.Width = 0
 	p.Add(bars, marks)
 	p.X.Min, p.X.Max = 0.4, float64(len(spend))+0.6

@@ -5,12 +5,17 @@ import (
 	"embed"
 	"html/template"
 	"io"
+	"sync"
 )
 
 //go:embed templates/report.html templates/report.css
 var templates embed.FS
 
-var htmlTemplate = template.Must(template.ParseFS(templates, "templates/report.html"))
+// htmlTemplate is parsed on first use: commands that write no HTML
+// (check, forecast, --version) do not pay for it at start-up.
+var htmlTemplate = sync.OnceValue(func() *template.Template {
+	return template.Must(template.ParseFS(templates, "templates/report.html"))
+})
 
 // HTML writes the report as one self-contained HTML page: inline CSS and
 // inline SVG charts, no scripts, and a content security policy that lets
@@ -32,7 +37,7 @@ func HTML(w io.Writer, rep *Report) error {
 	}{d, template.CSS(css), rep.Details.Version, rep.Details.Date}
 	// Render to memory first so that a template error writes nothing.
 	var buf bytes.Buffer
-	if err := htmlTemplate.Execute(&buf, data); err != nil {
+	if err := htmlTemplate().Execute(&buf, data); err != nil {
 		return err
 	}
 	_, err = buf.WriteTo(w)

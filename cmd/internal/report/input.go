@@ -15,6 +15,7 @@ import (
 	"errors"
 	"fmt"
 	"regexp"
+	"sync"
 
 	"wearplan/scenarios"
 )
@@ -95,7 +96,7 @@ type SweepPoint struct {
 	TargetsMet, Targets int
 }
 
-var datePattern = regexp.MustCompile(`^\d{4}-\d{2}-\d{2}$`)
+var datePattern = sync.OnceValue(func() *regexp.Regexp { return regexp.MustCompile(`^\d{4}-\d{2}-\d{2}$`) })
 
 // validate rejects a report that cannot be drawn.
 func (r *Report) validate() error {
@@ -113,7 +114,7 @@ func (r *Report) validate() error {
 			return fmt.Errorf("report: run %d (%s): %w", i+1, run.Result.Scenario, err)
 		}
 	}
-	if !datePattern.MatchString(r.Details.Date) {
+	if !datePattern().MatchString(r.Details.Date) {
 		return fmt.Errorf("report: date %q is not YYYY-MM-DD", r.Details.Date)
 	}
 	return nil

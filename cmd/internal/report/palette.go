@@ -3,6 +3,7 @@ package report
 import (
 	"image/color"
 	"math"
+	"sync"
 )
 
 // The condition colours are a sequential ramp of our own: light cream for
@@ -122,12 +123,18 @@ func inkOn(fill color.RGBA) color.RGBA {
 }
 
 var (
-	ink      = color.RGBA{26, 26, 26, 255}    // text and budget marks
-	spendInk = lch(60, 14, 250)               // spend bars: a cool grey-blue, apart from the condition ramp
-	gridInk  = color.RGBA{190, 190, 190, 255} // light rules
+	ink     = color.RGBA{26, 26, 26, 255}    // text and budget marks
+	gridInk = color.RGBA{190, 190, 190, 255} // light rules
+)
+
+// The inks derived in LCh are worked out on first use, not at start-up.
+var (
+	// spendInk fills spend bars: a cool grey-blue, apart from the
+	// condition ramp.
+	spendInk = sync.OnceValue(func() color.RGBA { return lch(60, 14, 250) })
 	// Uncertainty bands: a very light neutral fill with mid-grey hatching
 	// and edges, so that a band stays visible where a printer drops light
 	// fills, and never looks like a condition state.
-	bandFill = lch(92, 3, 250)
-	bandEdge = lch(62, 3, 250)
+	bandFill = sync.OnceValue(func() color.RGBA { return lch(92, 3, 250) })
+	bandEdge = sync.OnceValue(func() color.RGBA { return lch(62, 3, 250) })
 )

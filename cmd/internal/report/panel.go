@@ -41,7 +41,7 @@ func RunPanel(id string, run Run) (*Panel, error) {
 	p := &Panel{Warnings: rv.Warnings}
 	exec := func(name string, data any) (template.HTML, error) {
 		var b bytes.Buffer
-		if err := htmlTemplate.ExecuteTemplate(&b, name, data); err != nil {
+		if err := htmlTemplate().ExecuteTemplate(&b, name, data); err != nil {
 			return "", err
 		}
 		return template.HTML(b.String()), nil
@@ -104,7 +104,7 @@ type Colours struct {
 func Palette() Colours {
 	hex := func(c color.RGBA) string { return fmt.Sprintf("#%02x%02x%02x", c.R, c.G, c.B) }
 	r := conditionRamp(3)
-	return Colours{Ink: hex(ink), Spend: hex(spendInk), Grid: hex(gridInk),
+	return Colours{Ink: hex(ink), Spend: hex(spendInk()), Grid: hex(gridInk),
 		Good: hex(r[0]), Fair: hex(r[1]), Poor: hex(r[2]),
 		OnGood: hex(inkOn(r[0])), OnFair: hex(inkOn(r[1])), OnPoor: hex(inkOn(r[2]))}
 }

@@ -10,6 +10,7 @@ import (
 	"regexp"
 	"strconv"
 	"strings"
+	"sync"
 
 	"wearplan/cmd/internal/render"
 	"wearplan/cmd/internal/report"
@@ -226,16 +227,16 @@ func (src *Source) inputs() []report.InputFile {
 	return out
 }
 
-var nonWord = regexp.MustCompile(`[^a-z0-9]+`)
+var nonWord = sync.OnceValue(func() *regexp.Regexp { return regexp.MustCompile(`[^a-z0-9]+`) })
 
 // fileName names a download: the alternative's name, or the scenario
 // file's, made safe for any file system.
 func fileName(path, name string, comparison bool) string {
 	base := strings.TrimSuffix(filepath.Base(path), filepath.Ext(path))
-	if n := strings.Trim(nonWord.ReplaceAllString(strings.ToLower(name), "-"), "-"); n != "" {
+	if n := strings.Trim(nonWord().ReplaceAllString(strings.ToLower(name), "-"), "-"); n != "" {
 		base = n
 	}
-	base = strings.Trim(nonWord.ReplaceAllString(strings.ToLower(base), "-"), "-")
+	base = strings.Trim(nonWord().ReplaceAllString(strings.ToLower(base), "-"), "-")
 	if len(base) > 60 {
 		base = strings.TrimRight(base[:60], "-")
 	}
