@@ -164,7 +164,7 @@ func (t *Transition) TimeToAbsorption(absorbing ...int) (Absorption, error) {
 	}
 	var fund mat.Dense
 	if err := fund.Inverse(iq); err != nil {
-		return Absorption{}, fmt.Errorf("time to absorption: the chain is numerically ill-conditioned (%v)", err)
+		return Absorption{}, fmt.Errorf("time to absorption: the chain is numerically ill-conditioned (%w)", err)
 	}
 	ones := mat.NewVecDense(m, nil)
 	for a := 0; a < m; a++ {

@@ -199,7 +199,7 @@ func prepareClass(k int, c *SimClass, years int) (simShape, error) {
 		}
 		for i, p := range byState {
 			if err := checkDistribution(p, na); err != nil {
-				return simShape{}, fmt.Errorf("class %d year %d state %d: action probabilities %v", k, t+1, i+1, err)
+				return simShape{}, fmt.Errorf("class %d year %d state %d: action probabilities %w", k, t+1, i+1, err)
 			}
 		}
 	}
@@ -241,7 +241,7 @@ func (sh *simShape) checkRows(rows [][][]float64, policy [][][]float64) error {
 				continue
 			}
 			if err := checkDistribution(row, sh.states); err != nil {
-				return fmt.Errorf("action %d state %d: year transition %v", a, i+1, err)
+				return fmt.Errorf("action %d state %d: year transition %w", a, i+1, err)
 			}
 		}
 	}

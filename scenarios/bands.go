@@ -8,11 +8,11 @@ package scenarios
 type SimulationResult struct {
 	Scenario string `json:"scenario"`
 	Source   string `json:"source"`
-	Kind     string `json:"kind"` // "simulation"
+	Kind     Kind   `json:"kind"` // KindSimulation
 	// Policy is what the runs follow: "plan" or "do-nothing"; PlanStatus
 	// is the status of the plan followed.
 	Policy     string `json:"policy"`
-	PlanStatus string `json:"plan_status,omitempty"`
+	PlanStatus Status `json:"plan_status,omitempty"`
 	Currency   string `json:"currency"`
 	StartYear  int    `json:"start_year"`
 	Horizon    int    `json:"horizon"`

@@ -9,7 +9,7 @@ import (
 
 // CompareResult puts the plans of several scenarios side by side.
 type CompareResult struct {
-	Kind      string          `json:"kind"` // "compare"
+	Kind      Kind            `json:"kind"` // KindCompare
 	Currency  string          `json:"currency"`
 	Scenarios []CompareColumn `json:"scenarios"`
 	Warnings  []string        `json:"warnings"`
@@ -20,7 +20,7 @@ type CompareResult struct {
 type CompareColumn struct {
 	Scenario       string   `json:"scenario"`
 	Source         string   `json:"source"`
-	Status         string   `json:"status"`
+	Status         Status   `json:"status"`
 	Objective      string   `json:"objective"`
 	ConditionScore float64  `json:"condition_score"`
 	TotalCost      float64  `json:"total_cost"`
@@ -116,7 +116,7 @@ func IsYearError(err error) bool {
 // Compare plans each scenario (in parallel, results in the order given) and
 // collects the figures a budget meeting compares.
 func Compare(scs []*Scenario, years YearSpec, opt Options) (*CompareResult, error) {
-	r := &CompareResult{Kind: "compare", Scenarios: make([]CompareColumn, len(scs)), Caution: Caution, Warnings: []string{}}
+	r := &CompareResult{Kind: KindCompare, Scenarios: make([]CompareColumn, len(scs)), Caution: Caution, Warnings: []string{}}
 	chosen := make([][]int, len(scs))
 	for n, sc := range scs {
 		ys, err := years.resolve(sc)

@@ -424,7 +424,7 @@ func ForecastRule(sc *Scenario, rule Rule) (*Result, error) {
 	}
 	r := assemble(sc, p, plan.Condition, plan.Work, plan.Spend)
 	addRoutine(sc, r, plan.Routine)
-	r.Kind, r.Status = "forecast", string(WorstFirst)
+	r.Kind, r.Status = KindForecast, FollowsWorstFirst
 	return r, nil
 }
 

@@ -365,7 +365,7 @@ func classRenewal(sc *Scenario, k int, opt Options) ([]float64, string, error) {
 	if err != nil {
 		return nil, "", fmt.Errorf("class %q: the plan that holds today's condition: %w", c.Name, err)
 	}
-	if res.Status != string(optimize.Optimal) {
+	if res.Status != Optimal {
 		return nil, fmt.Sprintf("%s: no renewal funding ratio: no plan keeps the class at today's condition in every year (%s)", c.Name, res.Status), nil
 	}
 	b, _ := indicatorBasis(&c)

@@ -12,8 +12,8 @@ import (
 type LongRunResult struct {
 	Scenario  string `json:"scenario"`
 	Source    string `json:"source"`
-	Kind      string `json:"kind"` // "longrun"
-	Status    string `json:"status"`
+	Kind      Kind   `json:"kind"` // KindLongRun
+	Status    Status `json:"status"`
 	Objective string `json:"objective"`
 	Currency  string `json:"currency"`
 	// Budget is the annual network cap used (the first year's), if any.
@@ -103,7 +103,7 @@ func LongRun(sc *Scenario, opt Options) (*LongRunResult, error) {
 		return nil, budgetInfeasible(sc, p)
 	}
 	r := &LongRunResult{
-		Scenario: sc.Name, Source: sc.Source, Kind: "longrun", Status: string(lr.Status), Objective: sc.Objective.String(),
+		Scenario: sc.Name, Source: sc.Source, Kind: KindLongRun, Status: Status(lr.Status), Objective: sc.Objective.String(),
 		Currency: sc.Currency, Weighting: string(sc.Weighting), Caution: Caution, Warnings: append([]string{}, sc.Notes...),
 		AnnualCost: lr.AnnualCost(), AnnualTreatment: lr.AnnualTreatment, AnnualRoutine: lr.AnnualRoutine,
 	}

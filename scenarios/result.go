@@ -3,6 +3,8 @@ package scenarios
 import (
 	"bytes"
 	"encoding/json"
+
+	"wearplan/optimize"
 )
 
 // Caution is the paragraph every report carries.
@@ -10,14 +12,43 @@ const Caution = "Planning estimate only. These figures come from a network-level
 	"they are not an engineering assessment of any asset. Decisions about specific assets need inspection " +
 	"by qualified people, and local codes, standards and licensed practice govern."
 
+// Kind says what a result is; it is the "kind" field of every JSON
+// output.
+type Kind string
+
+const (
+	KindPlan       Kind = "plan"
+	KindForecast   Kind = "forecast"
+	KindLongRun    Kind = "longrun"
+	KindSweep      Kind = "sweep"
+	KindCompare    Kind = "compare"
+	KindSimulation Kind = "simulation"
+)
+
+// Status is the outcome of a run: for a plan, the solver's (optimize.Status);
+// for a forecast, the rule it follows.
+type Status string
+
+const (
+	// Optimal: every target holds and the objective is optimal.
+	Optimal = Status(optimize.Optimal)
+	// TargetsNotMet: the targets cannot all be met within the budgets; the
+	// plan is the one with the least total shortfall.
+	TargetsNotMet = Status(optimize.TargetsNotMet)
+	// DoNothing: a forecast with no work done.
+	DoNothing Status = "do-nothing"
+	// FollowsWorstFirst: a forecast under the worst-first rule.
+	FollowsWorstFirst = Status(WorstFirst)
+)
+
 // Result is a forecast or plan, year by year, in the shape of the JSON
 // output documented in docs/json.md. Shares are fractions (0-1); money is
 // nominal in the scenario's currency unless a field says present value.
 type Result struct {
 	Scenario  string `json:"scenario"`
 	Source    string `json:"source"`
-	Kind      string `json:"kind"` // "plan" or "forecast"
-	Status    string `json:"status"`
+	Kind      Kind   `json:"kind"` // KindPlan or KindForecast
+	Status    Status `json:"status"`
 	Objective string `json:"objective,omitempty"`
 	Currency  string `json:"currency"`
 	StartYear int    `json:"start_year"`

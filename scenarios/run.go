@@ -51,7 +51,7 @@ func Forecast(sc *Scenario) (*Result, error) {
 	cond = foldCondition(sc, cond)
 	r := assemble(sc, p, cond, nil, nil)
 	addRoutine(sc, r, forecastRoutine(sc, cond))
-	r.Kind, r.Status = "forecast", "do-nothing"
+	r.Kind, r.Status = KindForecast, DoNothing
 	return r, nil
 }
 
@@ -85,7 +85,7 @@ func planResult(sc *Scenario, p *optimize.Problem, plan *optimize.Plan, opt Opti
 	}
 	r := assemble(sc, p, plan.Condition, plan.Work, plan.Spend)
 	addRoutine(sc, r, plan.Routine)
-	r.Kind, r.Status, r.Objective = "plan", string(plan.Status), sc.Objective.String()
+	r.Kind, r.Status, r.Objective = KindPlan, Status(plan.Status), sc.Objective.String()
 	r.Model = &ModelSize{Solver: plan.Stats.Method, Rows: plan.Stats.Rows, Columns: plan.Stats.Cols, Nonzeros: plan.Stats.Nonzeros, Solves: plan.Stats.Solves, Iterations: plan.Stats.Iterations, Policies: plan.Stats.Columns, Path: plan.Stats.Path}
 	r.Warnings = append(r.Warnings, plan.Warnings...)
 	// The solver's shortfalls replace the ones measured on the condition:

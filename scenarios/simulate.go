@@ -165,7 +165,7 @@ func simulate(sc *Scenario, opt SimulateOptions, given *givenPlan) (*SimulationR
 		return nil, nil, err
 	}
 	res := &SimulationResult{
-		Scenario: sc.Name, Source: sc.Source, Kind: "simulation", Policy: opt.Policy, Currency: sc.Currency,
+		Scenario: sc.Name, Source: sc.Source, Kind: KindSimulation, Policy: opt.Policy, Currency: sc.Currency,
 		StartYear: sc.StartYear, Horizon: sc.Horizon, Runs: opt.Runs, Seed: opt.Seed,
 		Percentiles: PercentileMethod, Weighting: string(sc.Weighting), Caution: Caution,
 		Warnings: append([]string{}, sc.Notes...),
@@ -226,7 +226,7 @@ func simulate(sc *Scenario, opt SimulateOptions, given *givenPlan) (*SimulationR
 		}
 		det = assemble(sc, p, plan.Condition, plan.Work, plan.Spend)
 		work = plan.Work
-		res.PlanStatus = string(plan.Status)
+		res.PlanStatus = Status(plan.Status)
 		res.PolicyRule = PolicyRule
 	} else {
 		det, err = Forecast(sc)

@@ -14,7 +14,7 @@ import (
 type SweepResult struct {
 	Scenario string       `json:"scenario"`
 	Source   string       `json:"source"`
-	Kind     string       `json:"kind"` // "sweep"
+	Kind     Kind         `json:"kind"` // KindSweep
 	Currency string       `json:"currency"`
 	Points   []SweepPoint `json:"points"`
 	// HoldBudget is the least level budget that holds today's network
@@ -38,7 +38,7 @@ type SweepPoint struct {
 	// Status is the plan's status, or "infeasible" (the budget cannot be
 	// kept even by doing nothing: routine costs count against it) or
 	// "failed" (no plan; Problem says why). Such points carry no figures.
-	Status         string  `json:"status"`
+	Status         Status  `json:"status"`
 	Problem        string  `json:"problem,omitempty"`
 	ConditionScore float64 `json:"condition_score"`
 	// End-of-horizon network figures.
@@ -63,9 +63,9 @@ type SweepPoint struct {
 const (
 	// PointInfeasible: the budget cannot be kept even by doing nothing
 	// (routine costs count against it), or it is below a ring fence.
-	PointInfeasible = "infeasible"
+	PointInfeasible Status = "infeasible"
 	// PointFailed: no plan; the point's Problem says why.
-	PointFailed = "failed"
+	PointFailed Status = "failed"
 )
 
 // Planned reports whether the point has a plan, and so figures.
@@ -130,7 +130,7 @@ func Sweep(sc *Scenario, budgets []float64, opt Options) (*SweepResult, error) {
 	if err != nil {
 		return nil, err
 	}
-	r := &SweepResult{Scenario: sc.Name, Source: sc.Source, Kind: "sweep", Currency: sc.Currency, Points: make([]SweepPoint, len(budgets)), Caution: Caution, Warnings: append([]string{}, sc.Notes...)}
+	r := &SweepResult{Scenario: sc.Name, Source: sc.Source, Kind: KindSweep, Currency: sc.Currency, Points: make([]SweepPoint, len(budgets)), Caution: Caution, Warnings: append([]string{}, sc.Notes...)}
 	opt.Warm = nil // a point must not depend on the others
 	jobs := make([]func() error, 0, len(budgets)+2)
 	pointNotes := make([][]string, len(budgets))

@@ -18,7 +18,7 @@ const WorklistCaution = "This worklist is indicative: it spreads the network pla
 type Worklist struct {
 	Scenario  string `json:"scenario"`
 	Source    string `json:"source"`
-	Status    string `json:"status"`
+	Status    Status `json:"status"`
 	Currency  string `json:"currency"`
 	StartYear int    `json:"start_year"`
 	// Years is the number of years listed; the first is the plan's own
@@ -109,7 +109,7 @@ func (c WorklistCheck) Within() bool {
 // segment takes the state holding its midpoint. The year's work is then
 // assigned as in year 1.
 func MakeWorklist(sc *Scenario, r *Result, years int) (*Worklist, error) {
-	if r.Kind != "plan" {
+	if r.Kind != KindPlan {
 		return nil, fmt.Errorf("a worklist needs a plan, got a %s", r.Kind)
 	}
 	if years < 1 || years > sc.Horizon || years > len(r.Years) {

@@ -41,7 +41,7 @@ calendar years, or last.`,
 			}
 			ys, err := scenarios.ParseYears(years)
 			if err != nil {
-				return usageError("--years: %v", err)
+				return usageError("--years: %w", err)
 			}
 			var scs []*scenarios.Scenario
 			for _, path := range args {
@@ -73,7 +73,7 @@ calendar years, or last.`,
 // mistake (exit 2); other errors keep their kind.
 func usageIfYears(err error) error {
 	if scenarios.IsYearError(err) {
-		return usageError("--years: %v", err)
+		return usageError("--years: %w", err)
 	}
 	return err
 }

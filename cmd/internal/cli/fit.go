@@ -210,13 +210,13 @@ func (o *fitOptions) readOptions() (scenarios.InspectionOptions, error) {
 	var opt scenarios.InspectionOptions
 	var err error
 	if opt.Delimiter, err = scenarios.ParseDelimiter(o.delimiter); err != nil {
-		return opt, usageError("--delimiter %v", err)
+		return opt, usageError("--delimiter %w", err)
 	}
 	if opt.Decimal, err = scenarios.ParseDecimal(o.decimal); err != nil {
-		return opt, usageError("--decimal %v", err)
+		return opt, usageError("--decimal %w", err)
 	}
 	if opt.DateFormat, err = scenarios.ParseDateFormat(o.dateFormat); err != nil {
-		return opt, usageError("--date-format %v", err)
+		return opt, usageError("--date-format %w", err)
 	}
 	return opt, nil
 }
@@ -341,7 +341,7 @@ func (o *fitOptions) run(cmd *cobra.Command, args []string) error {
 		s, ok := set.Scales[o.scale]
 		if !ok && strings.HasPrefix(o.scale, scenarios.PresetPrefix) {
 			if s, err = scenarios.PresetScale(o.scale); err != nil {
-				return usageError("--scale: %v", err)
+				return usageError("--scale: %w", err)
 			}
 			ok = true
 			if source == "" {

@@ -50,7 +50,7 @@ year's budget buys every year.`,
 				func(w io.Writer) error { return render.LongRunCSV(w, r) }); err != nil {
 				return err
 			}
-			if r.Status == "targets-not-met" {
+			if r.Status == scenarios.TargetsNotMet {
 				cmd.PrintErrln("warning: the targets cannot all hold in the long run within the annual budget; see the targets table")
 			}
 			return nil

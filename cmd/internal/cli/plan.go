@@ -121,7 +121,7 @@ different ones.`,
 				// The tables end with these; other output needs them said.
 				warnClasses(cmd, r)
 			}
-			if r.Status == "targets-not-met" {
+			if r.Status == scenarios.TargetsNotMet {
 				warnShortfalls(cmd, r)
 				if strict {
 					return &exitError{code: exitTargets, err: fmt.Errorf("%s: targets cannot be met within the budget (--strict)", args[0])}

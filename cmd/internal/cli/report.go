@@ -133,7 +133,7 @@ Bands and Target probabilities. The same seed gives the same report.`,
 				if err != nil {
 					return err
 				}
-				if r.Status == "targets-not-met" {
+				if r.Status == scenarios.TargetsNotMet {
 					fmt.Fprintf(cmd.ErrOrStderr(), "%s: ", path)
 					warnShortfalls(cmd, r)
 				}

@@ -172,7 +172,7 @@ Output is a planning estimate, not an engineering assessment of any asset.`,
 	}
 	root.SetOut(stdout)
 	root.SetErr(stderr)
-	root.SetFlagErrorFunc(func(_ *cobra.Command, err error) error { return usageError("%v", err) })
+	root.SetFlagErrorFunc(func(_ *cobra.Command, err error) error { return usageError("%w", err) })
 	root.AddCommand(newCheckCmd(), newForecastCmd(), newPlanCmd(), newLongRunCmd(), newSweepCmd(), newCompareCmd(), newReportCmd(), newFitCmd(), newWorklistCmd(), newSimulateCmd(), newServeCmd())
 	return root
 }

@@ -98,7 +98,7 @@ func parseBudgets(s string) ([]float64, error) {
 		}
 		out, err := scenarios.BudgetRange(v[0], v[1], v[2])
 		if err != nil {
-			return nil, usageError("--budget: %v", err)
+			return nil, usageError("--budget: %w", err)
 		}
 		return out, nil
 	}

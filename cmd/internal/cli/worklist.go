@@ -107,7 +107,7 @@ segment by inspection.`,
 			if err != nil {
 				return err
 			}
-			if r.Status == "targets-not-met" {
+			if r.Status == scenarios.TargetsNotMet {
 				warnShortfalls(cmd, r)
 			}
 			return nil

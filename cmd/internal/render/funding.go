@@ -199,14 +199,14 @@ func SweepText(w io.Writer, r *scenarios.SweepResult) error {
 	for _, p := range r.Points {
 		if !p.Planned() {
 			// No plan at this budget: the notes below say why.
-			row := []string{Money(p.Budget), p.Status, "-", "-"}
+			row := []string{Money(p.Budget), string(p.Status), "-", "-"}
 			if withIndex {
 				row = append(row, "-")
 			}
 			t.rows = append(t.rows, append(row, "-", "-", "-", "-"))
 			continue
 		}
-		row := []string{Money(p.Budget), p.Status, fmt.Sprintf("%.2f", p.ConditionScore), Percent(p.EndPoorShare)}
+		row := []string{Money(p.Budget), string(p.Status), fmt.Sprintf("%.2f", p.ConditionScore), Percent(p.EndPoorShare)}
 		if withIndex {
 			row = append(row, optIndex(p.EndAverageIndex))
 		}
@@ -235,10 +235,10 @@ func SweepCSV(w io.Writer, r *scenarios.SweepResult) error {
 	rows := [][]string{{"yearly_budget", "status", "condition_score", "end_poor_share", "end_average_index", "end_score", "total_cost", "present_value", "targets_met", "targets", "hold_budget", "targets_budget"}}
 	for _, p := range r.Points {
 		if !p.Planned() {
-			rows = append(rows, []string{Plain(p.Budget), p.Status, "", "", "", "", "", "", "", "", optPlain(r.HoldBudget), optPlain(r.TargetsBudget)})
+			rows = append(rows, []string{Plain(p.Budget), string(p.Status), "", "", "", "", "", "", "", "", optPlain(r.HoldBudget), optPlain(r.TargetsBudget)})
 			continue
 		}
-		rows = append(rows, []string{Plain(p.Budget), p.Status, Plain(p.ConditionScore), Plain(p.EndPoorShare), optPlain(p.EndAverageIndex), Plain(p.EndScore), Plain(p.TotalCost), Plain(p.PresentValue), fmt.Sprint(p.TargetsMet), fmt.Sprint(p.Targets), optPlain(r.HoldBudget), optPlain(r.TargetsBudget)})
+		rows = append(rows, []string{Plain(p.Budget), string(p.Status), Plain(p.ConditionScore), Plain(p.EndPoorShare), optPlain(p.EndAverageIndex), Plain(p.EndScore), Plain(p.TotalCost), Plain(p.PresentValue), fmt.Sprint(p.TargetsMet), fmt.Sprint(p.Targets), optPlain(r.HoldBudget), optPlain(r.TargetsBudget)})
 	}
 	return writeCSV(w, rows)
 }
@@ -265,7 +265,7 @@ func CompareText(w io.Writer, r *scenarios.CompareResult) error {
 		}
 		t.rows = append(t.rows, cells)
 	}
-	row("status", func(c scenarios.CompareColumn) string { return c.Status })
+	row("status", func(c scenarios.CompareColumn) string { return string(c.Status) })
 	row("condition score", func(c scenarios.CompareColumn) string { return fmt.Sprintf("%.2f", c.ConditionScore) })
 	row("spend ("+cur+")", func(c scenarios.CompareColumn) string { return Money(c.TotalCost) })
 	row("present value", func(c scenarios.CompareColumn) string { return Money(c.PresentValue) })
@@ -368,9 +368,9 @@ func CompareCSV(w io.Writer, r *scenarios.CompareResult) error {
 		tail := []string{Plain(c.ConditionScore), Plain(c.TotalCost), Plain(c.PresentValue), fmt.Sprint(c.TargetsMet), fmt.Sprint(c.Targets), extra}
 		for _, y := range c.Service {
 			for _, cl := range y.Classes {
-				rows = append(rows, append([]string{c.Scenario, c.Source, c.Status, fmt.Sprint(y.Year), cl.Class, Plain(cl.Shares.Good), Plain(cl.Shares.Fair), Plain(cl.Shares.Poor), Plain(cl.AverageIndex)}, tail...))
+				rows = append(rows, append([]string{c.Scenario, c.Source, string(c.Status), fmt.Sprint(y.Year), cl.Class, Plain(cl.Shares.Good), Plain(cl.Shares.Fair), Plain(cl.Shares.Poor), Plain(cl.AverageIndex)}, tail...))
 			}
-			rows = append(rows, append([]string{c.Scenario, c.Source, c.Status, fmt.Sprint(y.Year), "network", Plain(y.Network.Shares.Good), Plain(y.Network.Shares.Fair), Plain(y.Network.Shares.Poor), optPlain(y.Network.AverageIndex)}, tail...))
+			rows = append(rows, append([]string{c.Scenario, c.Source, string(c.Status), fmt.Sprint(y.Year), "network", Plain(y.Network.Shares.Good), Plain(y.Network.Shares.Fair), Plain(y.Network.Shares.Poor), optPlain(y.Network.AverageIndex)}, tail...))
 		}
 	}
 	return writeCSV(w, rows)

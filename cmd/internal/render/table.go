@@ -16,7 +16,7 @@ import (
 func Text(w io.Writer, r *scenarios.Result) error {
 	ew := &errWriter{w: w}
 	summary(ew, r)
-	if r.Kind == "plan" || r.Status == string(scenarios.WorstFirst) {
+	if r.Kind == scenarios.KindPlan || r.Status == scenarios.FollowsWorstFirst {
 		ew.printf("\nWork program (quantity treated in the year; cost in %s at that year's prices)\n", currency(r))
 		tabulate(ew, workTable(r))
 		ew.printf("\nSpend against budget (%s)\n", currency(r))
@@ -61,12 +61,12 @@ func summary(w *errWriter, r *scenarios.Result) {
 	w.printf("%s\n", r.Scenario)
 	last := r.StartYear + r.Horizon - 1
 	switch r.Kind {
-	case "plan":
+	case scenarios.KindPlan:
 		w.printf("Plan %d-%d: objective %s, status %s\n", r.StartYear, last, r.Objective, r.Status)
 		w.printf("Condition score %.2f (mean network score over the horizon, 0 worst - 100 best); spend %s %s, present value %s at %.1f%% a year\n",
 			r.ConditionScore, currency(r), Money(r.TotalCost), Money(r.PresentValue), 100*r.DiscountRate)
-	case "forecast":
-		if r.Status == string(scenarios.WorstFirst) {
+	case scenarios.KindForecast:
+		if r.Status == scenarios.FollowsWorstFirst {
 			w.printf("Forecast %d-%d with the budget spent worst first (the worst states, each with its cheapest improving treatment)\n", r.StartYear, last)
 			w.printf("Condition score %.2f (mean network score over the horizon, 0 worst - 100 best); spend %s %s\n", r.ConditionScore, currency(r), Money(r.TotalCost))
 			return

@@ -29,7 +29,7 @@ func Headline(r *scenarios.Result) string {
 	scoreText := fmt.Sprintf("condition score %s out of 100 (the network's average over the %s)", strconv.FormatFloat(r.ConditionScore, 'f', 1, 64), years)
 	missed := len(r.Targets) - TargetsMet(r)
 	switch {
-	case r.Kind != "plan":
+	case r.Kind != scenarios.KindPlan:
 		if missed > 0 {
 			return fmt.Sprintf("With no work, %d of %d targets are missed; %s.", missed, len(r.Targets), scoreText)
 		}

@@ -221,10 +221,10 @@ func buildRun(id string, run Run, withCharts bool) (runView, error) {
 	if run.Simulation != nil {
 		rv.Bands = buildBands(id, run.Simulation)
 	}
-	if r.Kind == "plan" || r.Funding != nil || r.RoutineCost != nil {
+	if r.Kind == scenarios.KindPlan || r.Funding != nil || r.RoutineCost != nil {
 		rv.Funding = buildFunding(id+"-funding", r)
 	}
-	if r.Kind == "plan" {
+	if r.Kind == scenarios.KindPlan {
 		s, w := spendTable(id+"-spend", r), workTable(id+"-work", r)
 		rv.Spend, rv.Work = &s, &w
 		cs := classSpendTable(id+"-class-spend", r)
@@ -248,7 +248,7 @@ func summaryFacts(r *scenarios.Result) []fact {
 	last := r.StartYear + r.Horizon - 1
 	cur := currencyOf(r)
 	var fs []fact
-	if r.Kind == "plan" {
+	if r.Kind == scenarios.KindPlan {
 		fs = append(fs,
 			fact{"What this is", fmt.Sprintf("an optimised work program for %d-%d (%d years)", r.StartYear, last, r.Horizon)},
 			fact{"Objective", objectiveWords(r.Objective)},
@@ -258,7 +258,7 @@ func summaryFacts(r *scenarios.Result) []fact {
 		fs = append(fs, fact{"What this is", fmt.Sprintf("a forecast for %d-%d with no work done", r.StartYear, last)})
 	}
 	fs = append(fs, fact{"Condition score", fmt.Sprintf("%.1f out of 100 (network average over the %d years; 100 = every asset at the best end of its scale)", r.ConditionScore, r.Horizon)})
-	if r.Kind == "plan" {
+	if r.Kind == scenarios.KindPlan {
 		fs = append(fs,
 			fact{"Total spend", fmt.Sprintf("%s %s over %d years, at each year's prices", cur, render.Money(r.TotalCost), r.Horizon)},
 			fact{"Present value of spend", fmt.Sprintf("%s %s at a discount rate of %s a year", cur, render.Money(r.PresentValue), percentRate(r.DiscountRate))},
@@ -287,14 +287,14 @@ func objectiveWords(o string) string {
 	return o
 }
 
-func statusWords(s string) string {
+func statusWords(s scenarios.Status) string {
 	switch s {
-	case "optimal":
+	case scenarios.Optimal:
 		return "optimal: every target is met"
-	case "targets-not-met":
+	case scenarios.TargetsNotMet:
 		return "targets not met: no plan within the budget meets every target; this plan keeps the shortfall as small as possible"
 	}
-	return s
+	return string(s)
 }
 
 // percentRate writes a yearly rate given as a fraction (0.035) as a
@@ -667,7 +667,7 @@ func buildComparison(rep *Report, withCharts bool) (*comparison, error) {
 			}
 		}
 		spend, pv := "-", "-"
-		if r.Kind == "plan" {
+		if r.Kind == scenarios.KindPlan {
 			spend, pv = currencyOf(r)+" "+render.Money(r.TotalCost), currencyOf(r)+" "+render.Money(r.PresentValue)
 		}
 		level, hold := "-", "-"
@@ -785,7 +785,7 @@ func buildComparison(rep *Report, withCharts bool) (*comparison, error) {
 		for _, run := range rep.Runs {
 			r := run.Result
 			i := y - r.StartYear
-			if i < 0 || i >= len(r.Years) || r.Kind != "plan" {
+			if i < 0 || i >= len(r.Years) || r.Kind != scenarios.KindPlan {
 				cells = append(cells, "-")
 				continue
 			}
@@ -830,7 +830,7 @@ func buildComparison(rep *Report, withCharts bool) (*comparison, error) {
 		div, word := moneyScale(largest)
 		for i, run := range rep.Runs {
 			r := run.Result
-			if r.Kind != "plan" {
+			if r.Kind != scenarios.KindPlan {
 				continue
 			}
 			s := series{name: label(i)}
@@ -933,7 +933,7 @@ func runCharts(id string, run Run) ([]chart, error) {
 		}
 		out = append(out, ch)
 	}
-	if r.Kind == "plan" {
+	if r.Kind == scenarios.KindPlan {
 		spend := make([]float64, len(r.Years))
 		budget := make([]*float64, len(r.Years))
 		for i, y := range r.Years {
@@ -1011,14 +1011,14 @@ func buildSweep(s *Sweep, withCharts bool) (*sweepView, error) {
 }
 
 // statusWordsShort writes a plan status for a table cell.
-func statusWordsShort(s string) string {
+func statusWordsShort(s scenarios.Status) string {
 	switch s {
-	case "optimal":
+	case scenarios.Optimal:
 		return "every target met"
-	case "targets-not-met":
+	case scenarios.TargetsNotMet:
 		return "targets not met"
 	}
-	return strings.ReplaceAll(s, "-", " ")
+	return strings.ReplaceAll(string(s), "-", " ")
 }
 
 func buildDetails(rep *Report) detailsView {

@@ -89,7 +89,7 @@ type SweepPoint struct {
 	// ConditionScore is the plan's mean network score over the horizon, 0-100.
 	ConditionScore float64
 	// Status is the plan status (optimal, targets-not-met).
-	Status string
+	Status scenarios.Status
 	// EndPoorShare is the network's poor share at the end of the horizon
 	// (0-1); TargetsMet of Targets hold.
 	EndPoorShare        float64
@@ -127,7 +127,7 @@ func checkSimulation(run Run) error {
 	if sim == nil {
 		return nil
 	}
-	if sim.Policy != scenarios.PolicyPlan || r.Kind != "plan" {
+	if sim.Policy != scenarios.PolicyPlan || r.Kind != scenarios.KindPlan {
 		return fmt.Errorf("the bands must come from simulating the plan the report shows (simulation policy %q, result %q)", sim.Policy, r.Kind)
 	}
 	if sim.StartYear != r.StartYear || len(sim.Years) != len(r.Years) || sim.Runs < 1 {

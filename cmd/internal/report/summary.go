@@ -57,7 +57,7 @@ func buildSummary(id string, run Run, withCharts bool) (*summaryView, error) {
 	if len(r.Targets) > 0 {
 		v.Facts = append(v.Facts, fact{"Targets met", fmt.Sprintf("%d of %d", render.TargetsMet(r), len(r.Targets))})
 	}
-	if r.Kind == "plan" {
+	if r.Kind == scenarios.KindPlan {
 		v.Facts = append(v.Facts,
 			fact{"Budget", budgetSummary(r)},
 			fact{"Spend", fmt.Sprintf("%s over %d-%d at each year's prices (present value %s)", render.Amount(r, r.TotalCost), r.StartYear, last, render.Money(r.PresentValue))},

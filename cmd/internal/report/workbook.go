@@ -371,7 +371,7 @@ func spendSheet(rep *Report) sheetData {
 	}
 	for _, run := range rep.Runs {
 		r := run.Result
-		if r.Kind != "plan" {
+		if r.Kind != scenarios.KindPlan {
 			continue
 		}
 		for t, y := range r.Years {

@@ -80,7 +80,7 @@ func (wb *workbook) summary(rep *Report) error {
 				return err
 			}
 		}
-		if r.Kind == "plan" {
+		if r.Kind == scenarios.KindPlan {
 			cur := currencyOf(r)
 			if err := put([]any{"Total spend (" + cur + ")", r.TotalCost}, 0, "", fmtMoney); err != nil {
 				return err
@@ -204,7 +204,7 @@ func classSpendSheet(rep *Report) sheetData {
 	s.cols = append(s.cols, column{"Spend (" + cur + ", that year's prices)", fmtMoney, 16})
 	for _, run := range rep.Runs {
 		r := run.Result
-		if r.Kind != "plan" {
+		if r.Kind != scenarios.KindPlan {
 			continue
 		}
 		group := make([]string, len(r.Initial.Classes))

@@ -164,11 +164,10 @@ func (s *Server) plan(ctx context.Context, alt alternative) (*outcome, source, *
 		return out, from, nil
 	}
 	var ie *scenarios.InputError
-	var se *optimize.SolverError
 	switch {
 	case errors.As(err, &ie):
 		return nil, from, inputProblems(ie)
-	case errors.Is(err, context.DeadlineExceeded), errors.As(err, &se) && se.Status == "timeout":
+	case errors.Is(err, context.DeadlineExceeded), optimize.IsTimeout(err):
 		return nil, from, requestProblem(http.StatusGatewayTimeout, "no plan within the time limit of %s; try again, or start wearplan serve with a longer --timeout", s.opt.Plan.Timeout)
 	case errors.Is(err, context.Canceled):
 		return nil, from, requestProblem(http.StatusServiceUnavailable, "the request was called off (the page sent a newer one, or the server is stopping)")

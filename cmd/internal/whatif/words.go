@@ -20,9 +20,9 @@ import (
 // planAnswer is the answer to /api/plan: the plan in plain words, the
 // figures of a comparison column, and the report's pieces to show.
 type planAnswer struct {
-	Scenario  string `json:"scenario"`
-	Status    string `json:"status"`
-	Objective string `json:"objective"`
+	Scenario  string           `json:"scenario"`
+	Status    scenarios.Status `json:"status"`
+	Objective string           `json:"objective"`
 	// Headline says in one or two sentences what the plan achieves.
 	Headline string `json:"headline"`
 	// Shortfalls says, per target missed, by how much and when.
@@ -120,8 +120,8 @@ func score(v float64) string { return strconv.FormatFloat(v, 'f', 1, 64) }
 func figures(sc *scenarios.Scenario, r *scenarios.Result) []figure {
 	cur := currency(r)
 	status := "every target met"
-	if r.Status != "optimal" {
-		status = strings.ReplaceAll(r.Status, "-", " ")
+	if r.Status != scenarios.Optimal {
+		status = strings.ReplaceAll(string(r.Status), "-", " ")
 	}
 	labels := make([]string, len(sc.Targets))
 	for i, t := range sc.Targets {

@@ -184,7 +184,7 @@ func runWearplan(p *optimize.Problem, method optimize.Method, reps int, timeout 
 		secs := time.Since(start).Seconds()
 		if err != nil {
 			var se *optimize.SolverError
-			if errors.As(err, &se) && se.Status == "timeout" {
+			if errors.As(err, &se) && se.Status == optimize.StatusTimeout {
 				return result{secs: timeout.Seconds(), timeout: true}, stats
 			}
 			return result{failed: err.Error()}, stats
