@@ -75,8 +75,14 @@ type ClassChange struct {
 }
 
 // classWarnings measures a plan's result class by class (see above).
+// peakTie is how much a later year must exceed an earlier one (in share,
+// or relative for the backlog) to be named as the worst year: a share
+// that levels off would otherwise be reported at whichever year its last
+// digits happen to peak, which reads as growth to that year.
+const peakTie = 1e-4
+
 func classWarnings(sc *Scenario, r *Result) []ClassWarning {
-	if r.Kind != "plan" {
+	if r.Kind != KindPlan {
 		return nil // a forecast does no work by definition
 	}
 	lim := sc.ClassWarnings
@@ -96,16 +102,16 @@ func classWarnings(sc *Scenario, r *Result) []ClassWarning {
 			if len(cc.Work) > 0 {
 				w.NoWork = false
 			}
-			if d := cc.Shares.Poor - now.Shares.Poor; d > lim.PoorShareRise+warnTolerance && d > poorBy {
+			if d := cc.Shares.Poor - now.Shares.Poor; d > lim.PoorShareRise+warnTolerance && d > poorBy+peakTie {
 				poorBy, poor = d, &ClassChange{Today: now.Shares.Poor, Year: y.Year, Value: cc.Shares.Poor}
 			}
 			v := stateShare(cc.States, only(len(c.Scale.States), worst))
-			if !poorIsWorst && v > lim.WorstStateGrowth*worstToday+warnTolerance && v > worstStateFloor+warnTolerance && v-worstToday > stateBy {
+			if !poorIsWorst && v > lim.WorstStateGrowth*worstToday+warnTolerance && v > worstStateFloor+warnTolerance && v-worstToday > stateBy+peakTie {
 				stateBy, state = v-worstToday, &ClassChange{State: c.Scale.States[worst].Name, Today: worstToday, Year: y.Year, Value: v}
 			}
 			if cc.Backlog != nil && now.Backlog != nil && *now.Backlog > 0 {
 				b := *cc.Backlog / priceFactor(sc, t+1)
-				if b > lim.BacklogGrowth**now.Backlog*(1+warnTolerance) && b / *now.Backlog > backlogBy {
+				if b > lim.BacklogGrowth**now.Backlog*(1+warnTolerance) && b / *now.Backlog > backlogBy*(1+peakTie) {
 					backlogBy, backlog = b / *now.Backlog, &ClassChange{Today: *now.Backlog, Year: y.Year, Value: b}
 				}
 			}
@@ -171,7 +177,7 @@ func shareDown(v float64) *float64 {
 func classWarningText(sc *Scenario, r *Result, w *ClassWarning, held []string) string {
 	var b strings.Builder
 	b.WriteString(w.Class + ": ")
-	met := r.Status == string(optimize.Optimal) && len(r.Targets) > 0
+	met := r.Status == Optimal && len(r.Targets) > 0
 	if met {
 		b.WriteString("the plan meets its targets, but ")
 	} else {
