@@ -142,7 +142,7 @@
 //
 // (the last sum over the shortfall columns, which are at most 1). The stage
 // stops when the best bound found so far exceeds the master's value z by at
-// most RelativeGap = 1e-7 × max(|z|, 1e-6), or when no new policy prices
+// most RelativeGap = 1e-9 × max(|z|, 1e-6), or when no new policy prices
 // positive; after DefaultMaxIterations rounds it fails with
 // ErrIterationCap and the gap it reached. Prices are smoothed (Wentges,
 // 1997): the pricing problems see 0.7 × the prices of the best bound so far
