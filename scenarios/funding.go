@@ -182,6 +182,9 @@ func unreachable(sc *Scenario, p *optimize.Problem, reach []optimize.TargetReach
 		part := fmt.Sprintf("%s: %s %s%s", t.Label, lead, list, tail)
 		if len(r.Years) > 1 {
 			part = fmt.Sprintf("%s: %s%s %s", t.Label, lead, tail, list)
+			if lead == "at most" {
+				part = fmt.Sprintf("%s: the most that is reachable is %s", t.Label, list)
+			}
 		}
 		if t.Spec.Kind == optimize.Hold {
 			part += fmt.Sprintf(" (today %s)", reachValue(sc, t, scoreToIndex(sc, t, p.InitialScore(t.Spec.Class))))

@@ -110,6 +110,9 @@ func planResult(sc *Scenario, p *optimize.Problem, plan *optimize.Plan, opt Opti
 	for _, w := range r.ClassWarnings {
 		r.Warnings = append(r.Warnings, w.Text)
 	}
+	if w := unspentWarning(sc, r); w != "" {
+		r.Warnings = append(r.Warnings, w)
+	}
 	if !opt.SkipFunding {
 		f, err := funding(sc, p, plan.Status)
 		if err != nil {

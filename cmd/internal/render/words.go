@@ -145,9 +145,14 @@ func ShortfallWords(r *scenarios.Result) []string {
 		}
 		s += " (" + worst + ")"
 		if m := TargetMoney(r, o.Target); m != nil {
-			if m.Total == nil {
+			switch {
+			case m.Total == nil:
 				s += "; no amount of money closes it"
-			} else {
+			case Money(*m.Total) == "0":
+				// The target alone fits the budget: the least total
+				// shortfall gave some of it up for the other targets.
+				s += "; the budget could meet it on its own: the plan misses it to come closer to the other targets it misses (the least total shortfall)"
+			default:
 				s += fmt.Sprintf("; closing it takes %s more than the budget (present value %s)", Amount(r, *m.Total), Money(*m.PresentValue))
 			}
 		}
