@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"runtime"
+	"strings"
 	"sync"
 
 	"wearplan/optimize"
@@ -148,6 +149,7 @@ func Sweep(sc *Scenario, budgets []float64, opt Options) (*SweepResult, error) {
 				var ie *InputError
 				if errors.As(err, &ie) {
 					pt.Status = PointInfeasible
+					pt.Problem = issuesText(ie)
 				}
 			}
 			r.Points[n] = *pt
@@ -202,6 +204,7 @@ func Sweep(sc *Scenario, budgets []float64, opt Options) (*SweepResult, error) {
 			r.Warnings = append(r.Warnings, fmt.Sprintf("budget %s: no plan (%s): %s", money(pt.Budget), pt.Status, pt.Problem))
 		}
 	}
+	r.Warnings = append(r.Warnings, lowerScoreNotes(r.Points)...)
 	switch {
 	case holdNote != "":
 		r.Warnings = append(r.Warnings, "holding today's network condition: "+holdNote)
@@ -276,4 +279,44 @@ func runParallel(jobs []func() error) error {
 		}
 	}
 	return nil
+}
+
+// issuesText is an input error's problems on one line, for a sweep point's
+// note: field and message, without the file (the sweep names it).
+func issuesText(ie *InputError) string {
+	parts := make([]string, len(ie.Issues))
+	for i, is := range ie.Issues {
+		parts[i] = is.Msg
+		if is.Field != "" {
+			parts[i] = is.Field + ": " + is.Msg
+		}
+	}
+	return strings.Join(parts, "; ")
+}
+
+// lowerScoreNotes explains each point that scores less than a point of a
+// smaller budget: more money can only score less when targets are missed,
+// where the plan first keeps the total shortfall least and the work that
+// closes more of it (often done later, for a last year's target) can cost
+// condition in the years between.
+func lowerScoreNotes(points []SweepPoint) []string {
+	var out []string
+	for n, pt := range points {
+		if !pt.Planned() {
+			continue
+		}
+		for _, q := range points[:n] {
+			if !q.Planned() || q.Budget >= pt.Budget || q.ConditionScore <= pt.ConditionScore+0.005 {
+				continue
+			}
+			head := fmt.Sprintf("budget %s scores %.2f, less than %.2f at %s", money(pt.Budget), pt.ConditionScore, q.ConditionScore, money(q.Budget))
+			if pt.Status == TargetsNotMet {
+				out = append(out, fmt.Sprintf("%s: its plan misses targets (%d of %d met), so it first keeps their total shortfall least, and the work that closes more of it costs condition in other years", head, pt.TargetsMet, pt.Targets))
+			} else {
+				out = append(out, fmt.Sprintf("%s: there the plan misses targets (%d of %d met) and puts the money where it buys more condition; meeting them here costs condition", head, q.TargetsMet, q.Targets))
+			}
+			break
+		}
+	}
+	return out
 }

@@ -3,6 +3,7 @@ package scenarios
 import (
 	"encoding/json"
 	"runtime"
+	"slices"
 	"testing"
 )
 
@@ -97,5 +98,27 @@ func TestCompareDemoAlternatives(t *testing.T) {
 	}
 	if _, err := Compare(scs, YearSpec{"30"}, Options{}); err == nil {
 		t.Error("year beyond the horizon accepted")
+	}
+}
+
+// TestLowerScoreNotes: a point is explained when a smaller budget's plan
+// scores more (by more than the table's 0.005 rounding), with the reason
+// that fits whichever of the two misses targets; points without a plan and
+// scores equal to the table's precision get no note.
+func TestLowerScoreNotes(t *testing.T) {
+	pts := []SweepPoint{
+		{Budget: 0, Status: PointInfeasible},
+		{Budget: 1e6, Status: TargetsNotMet, ConditionScore: 60.41, TargetsMet: 1, Targets: 3},
+		{Budget: 2e6, Status: TargetsNotMet, ConditionScore: 59.41, TargetsMet: 1, Targets: 3},
+		{Budget: 3e6, Status: Optimal, ConditionScore: 60.408, TargetsMet: 3, Targets: 3},
+		{Budget: 4e6, Status: Optimal, ConditionScore: 60.2, TargetsMet: 3, Targets: 3},
+	}
+	got := lowerScoreNotes(pts)
+	want := []string{
+		"budget 2,000,000 scores 59.41, less than 60.41 at 1,000,000: its plan misses targets (1 of 3 met), so it first keeps their total shortfall least, and the work that closes more of it costs condition in other years",
+		"budget 4,000,000 scores 60.20, less than 60.41 at 1,000,000: there the plan misses targets (1 of 3 met) and puts the money where it buys more condition; meeting them here costs condition",
+	}
+	if !slices.Equal(got, want) {
+		t.Errorf("notes:\n%q\nwant\n%q", got, want)
 	}
 }

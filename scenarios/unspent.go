@@ -64,8 +64,16 @@ func unspentWarning(sc *Scenario, r *Result) string {
 	if len(years) > 1 {
 		msg += " (" + listYears(amounts) + ")"
 	}
+	// What unspent money could not buy: with targets missed the plan
+	// first keeps the total shortfall least, so work that raises the score
+	// but widens a shortfall is not done (a later year's target may need
+	// the money's work done later).
+	gain := "raise the condition score"
+	if r.Status == TargetsNotMet {
+		gain = "reduce the targets' total shortfall, or raise the condition score without adding to it"
+	}
 	if len(capped) == 0 {
-		return msg + ": no further work the treatments allow (their reach, the years between them) would raise the condition score or reduce a target's shortfall"
+		return msg + ": no further work the treatments allow (their reach, the years between them) would " + gain
 	}
 	var outside []string
 	for _, c := range sc.Classes {
@@ -89,7 +97,7 @@ func unspentWarning(sc *Scenario, r *Result) string {
 	if len(outside) == 0 {
 		return msg + ", and every class is under " + under + "; " + raise + " is what would put the money to work"
 	}
-	return msg + fmt.Sprintf(", and no other work the treatments allow (on %s) would raise the condition score or reduce a target's shortfall; %s is what would put the money to work", joinAnd(outside), raise)
+	return msg + fmt.Sprintf(", and no other work the treatments allow (on %s) would %s; %s is what would put the money to work", joinAnd(outside), gain, raise)
 }
 
 // inGroups reports whether class name is in one of the named budget groups.

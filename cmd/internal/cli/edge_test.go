@@ -79,9 +79,9 @@ func TestHardCasesPlanWithEverySolver(t *testing.T) {
 }
 
 // TestZeroBudgetEveryCommand: a yearly budget of zero (the demo with its
-// budget cut to nothing) gives an answer in plan, sweep, compare and
-// report with each solver setting: a plan that spends nothing and lists no
-// work, and a sweep whose zero point is the same do-nothing plan.
+// budget cut to nothing) gives an answer in plan and sweep with each solver
+// setting, and in compare and report: a plan that spends nothing and lists
+// no work, and a sweep whose zero point is the same do-nothing plan.
 func TestZeroBudgetEveryCommand(t *testing.T) {
 	dir := t.TempDir()
 	for _, f := range []string{"marrowby.yaml", "marrowby-segments-invented.csv"} {
@@ -126,6 +126,12 @@ func TestZeroBudgetEveryCommand(t *testing.T) {
 		// Same figures as the plan's: a sweep point is the plan at that budget.
 		if pt := sw.Points[0]; pt.Status != p.Status || pt.ConditionScore != p.ConditionScore || pt.TotalCost != 0 {
 			t.Errorf("--solver %s: sweep at 0 gives %+v, plan %s %.10g", s, pt, p.Status, p.ConditionScore)
+		}
+		if s != "auto" {
+			// compare and report plan through the same path as plan and
+			// sweep: one solver setting shows they answer, at a third of
+			// the time.
+			continue
 		}
 		if code, _, errs := run(t, "compare", filepath.Join(dir, "marrowby.yaml"), zero, "--solver", s); code != 0 {
 			t.Errorf("--solver %s: compare exit %d: %s", s, code, errs)
