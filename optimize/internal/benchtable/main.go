@@ -140,10 +140,11 @@ func main() {
 		flat, _ := runWearplan(p, optimize.Flat, *reps, *timeout)
 		row := []string{spec.String(), strconv.Itoa(len(m.Cols)), strconv.Itoa(len(m.Rows)), dec.cell(), fmt.Sprintf("%d / %d", stats.Iterations, stats.Solves), fmt.Sprintf("%.0f MiB", dec.peakMiB), flat.cell()}
 		fastest := math.Inf(1)
-		worst := 0.0
+		worst, compared := 0.0, 0
 		agree := func(r result) {
 			if r.haveObj && dec.haveObj {
 				worst = math.Max(worst, math.Abs(r.obj-dec.obj)/math.Max(1, math.Abs(dec.obj)))
+				compared++
 			}
 		}
 		agree(flat)
@@ -159,7 +160,11 @@ func main() {
 		if !math.IsInf(fastest, 1) && dec.failed == "" {
 			ratio = fmt.Sprintf("%.1fx", fastest/dec.secs)
 		}
-		row = append(row, ratio, fmt.Sprintf("within %.0e", math.Max(worst, 1e-12)))
+		agreement := "- (no other optimum)"
+		if compared > 0 {
+			agreement = fmt.Sprintf("within %.0e", math.Max(worst, 1e-12))
+		}
+		row = append(row, ratio, agreement)
 		fmt.Println("| " + strings.Join(row, " | ") + " |")
 	}
 	if *only != "" {
