@@ -25,7 +25,18 @@ endef
 deps:
 	@dpkg -s liblpsolve55-dev >/dev/null 2>&1 || { echo "installing liblpsolve55-dev"; $(call apt_install,liblpsolve55-dev); }
 
-deps-test: deps
+# staticcheck at a pinned version, built from the Go module proxy into
+# bin/tools (ignored by git) on first use.
+STATICCHECK_VERSION := v0.8.2
+STATICCHECK := bin/tools/staticcheck-$(STATICCHECK_VERSION)
+
+$(STATICCHECK):
+	@echo "installing staticcheck $(STATICCHECK_VERSION)"
+	@mkdir -p bin/tools
+	GOBIN=$(CURDIR)/bin/tools go install honnef.co/go/tools/cmd/staticcheck@$(STATICCHECK_VERSION)
+	mv bin/tools/staticcheck $@
+
+deps-test: deps $(STATICCHECK)
 	@command -v glpsol >/dev/null 2>&1 || { echo "installing glpk-utils"; $(call apt_install,glpk-utils); }
 	@command -v clp >/dev/null 2>&1 || { echo "installing coinor-clp"; $(call apt_install,coinor-clp); }
 	@command -v chromium >/dev/null 2>&1 && dpkg -s fonts-liberation >/dev/null 2>&1 || { echo "installing chromium and fonts-liberation"; $(call apt_install,chromium fonts-liberation); }
@@ -46,6 +57,7 @@ serve: build
 # fresh machine); after that it takes a few seconds.
 test: deps-test
 	go vet ./...
+	$(STATICCHECK) ./...
 	go test ./...
 	go test -race -run 'Concurrent|Memo|Serve|TimeLimit' ./cmd/internal/whatif/
 	@$(MAKE) --no-print-directory fuzz FUZZ_SCALE=

@@ -114,7 +114,7 @@ func NewDirichletRows(counts [][]float64, prior float64, allowed [][]bool) (*Dir
 		return nil, errors.New("transition counts: a matrix needs at least 2 states")
 	}
 	if math.IsNaN(prior) || math.IsInf(prior, 0) || prior <= 0 {
-		return nil, fmt.Errorf("Dirichlet prior %g: give a positive number (0.5 is Jeffreys' prior, 1 the uniform prior)", prior)
+		return nil, fmt.Errorf("the Dirichlet prior %g: give a positive number (0.5 is Jeffreys' prior, 1 the uniform prior)", prior)
 	}
 	if allowed == nil {
 		allowed = NoImprovement(n)
@@ -177,7 +177,7 @@ func (d *DirichletRows) Draw(rng *rand.Rand) (*Transition, error) {
 		}
 		// A sum of exactly zero would need every variate to underflow.
 		if !(sum > 0) || math.IsInf(sum, 0) {
-			return nil, fmt.Errorf("Dirichlet draw for row %d underflowed; use a larger prior", i+1)
+			return nil, fmt.Errorf("the Dirichlet draw for row %d underflowed; use a larger prior", i+1)
 		}
 		for k, j := range d.cols[i] {
 			rows[i][j] = x[k] / sum

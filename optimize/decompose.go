@@ -279,13 +279,6 @@ func (dw *decomposer) callTimeout() time.Duration {
 	return max(time.Until(dw.deadline), time.Millisecond)
 }
 
-// isSolverFailure reports an lp_solve failure other than the caller's
-// time limit.
-func isSolverFailure(err error) bool {
-	var se *SolverError
-	return errors.As(err, &se) && se.Status != StatusTimeout
-}
-
 // ErrStalled is wrapped by the error of a decomposed solve whose master LP
 // lp_solve could not finish on any path within stallIterations.
 var ErrStalled = errors.New("lp_solve stalled on the decomposition's master LP")

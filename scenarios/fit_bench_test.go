@@ -26,16 +26,11 @@ var benchRoads = [][]float64{
 	{0, 0, 0, 0, 0, 0, 1},
 }
 
-// writeBenchExport writes a generated export of records inspections of
-// local asphalt segments (PCI values, ISO dates, a work column), ten per
+// writeBenchExportWith writes a generated export of records inspections
+// of local asphalt segments (PCI values, ISO dates, a work column), ten per
 // segment; with mixed, a third of the segments are seen every year, a
 // third every two years and a third every three. Segments found Poor or
-// worse are overlaid with probability 0.2 a year.
-func writeBenchExport(b *testing.B, records int, mixed bool) string {
-	return writeBenchExportWith(b, records, mixed, false)
-}
-
-// writeBenchExportWith writes the export; with covariates, two more
+// worse are overlaid with probability 0.2 a year. With covariates, two more
 // columns, traffic (vehicles a day, fixed per segment) and age (years,
 // growing), and the yearly drop of a segment follows an ordered logit in
 // them instead of benchRoads (invented parameters).

@@ -23,7 +23,7 @@ import (
 // startServe runs `wearplan serve` with args until the returned stop is
 // called; it returns the URL printed and a function that stops the server
 // and returns the command's error and everything it printed.
-func startServe(t *testing.T, args ...string) (string, func() (error, string, string)) {
+func startServe(t *testing.T, args ...string) (string, func() (string, string, error)) {
 	t.Helper()
 	ctx, cancel := context.WithCancel(context.Background())
 	cmd := newRoot(nil, nil)
@@ -49,16 +49,16 @@ func startServe(t *testing.T, args ...string) (string, func() (error, string, st
 		cancel()
 		t.Fatalf("no URL printed: %s %s %v", out.String(), errb.String(), <-done)
 	}
-	return url, func() (error, string, string) {
+	return url, func() (string, string, error) {
 		cancel()
 		rest, _ := io.ReadAll(pr)
 		out.Write(rest)
 		select {
 		case err := <-done:
-			return err, out.String(), errb.String()
+			return out.String(), errb.String(), err
 		case <-time.After(10 * time.Second):
 			t.Fatal("serve did not stop")
-			return nil, "", ""
+			return "", "", nil
 		}
 	}
 }
@@ -77,7 +77,7 @@ func TestServeStartsAndStops(t *testing.T) {
 	if res.StatusCode != 200 || !strings.Contains(string(page), "Marrowby") {
 		t.Errorf("GET %s: %d", url, res.StatusCode)
 	}
-	err, out, errs := stop()
+	out, errs, err := stop()
 	if err != nil || !strings.Contains(out, "stopped") || strings.Contains(errs, "warning") {
 		t.Errorf("stop: %v; out %q; err %q", err, out, errs)
 	}
@@ -85,7 +85,7 @@ func TestServeStartsAndStops(t *testing.T) {
 
 func TestServeWarnsWhenNotLoopback(t *testing.T) {
 	url, stop := startServe(t, demo, "--port", "0", "--addr", "0.0.0.0")
-	err, _, errs := stop()
+	_, errs, err := stop()
 	if err != nil || !strings.Contains(errs, "warning: listening on 0.0.0.0") || !strings.HasPrefix(url, "http://127.0.0.1:") {
 		t.Errorf("%v; URL %s; stderr %q", err, url, errs)
 	}
