@@ -122,16 +122,7 @@ func rowViolation(rows []Row, x []float64) float64 {
 		for _, e := range r.Entries {
 			lhs += e.Val * x[e.Col]
 		}
-		miss := 0.0
-		switch r.Sense {
-		case LessEq:
-			miss = lhs - r.RHS
-		case GreaterEq:
-			miss = r.RHS - lhs
-		default:
-			miss = math.Abs(lhs - r.RHS)
-		}
-		worst = math.Max(worst, miss/math.Max(1, math.Abs(r.RHS)))
+		worst = math.Max(worst, rowMiss(r.Sense, lhs, r.RHS))
 	}
 	return worst
 }
@@ -142,8 +133,14 @@ func checkAnswer(rows []Row, obj, x []float64, z float64) (float64, error) {
 	if len(x) != len(obj) {
 		return 0, &SolverError{Status: StatusUnverified, Advice: fmt.Sprintf("lp_solve returned %d values for %d columns", len(x), len(obj))}
 	}
-	if v := violation(rows, x); !(v <= rowTolerance) {
-		return 0, &SolverError{Status: StatusUnverified, Advice: fmt.Sprintf("lp_solve's answer misses a row by %.2g (relative), more than the %.0g accepted", v, rowTolerance)}
+	return checkObjective(obj, x, z, violation(rows, x))
+}
+
+// checkObjective turns an answer's worst violation and its objective
+// into checkAnswer's verdict.
+func checkObjective(obj, x []float64, z, worst float64) (float64, error) {
+	if !(worst <= rowTolerance) {
+		return 0, &SolverError{Status: StatusUnverified, Advice: fmt.Sprintf("lp_solve's answer misses a row by %.2g (relative), more than the %.0g accepted", worst, rowTolerance)}
 	}
 	got := 0.0
 	for j, c := range obj {
@@ -162,18 +159,22 @@ func checkAnswerFree(rows []Row, obj, x []float64, z float64, signs []int) (floa
 	if len(x) != len(obj) {
 		return 0, &SolverError{Status: StatusUnverified, Advice: fmt.Sprintf("lp_solve returned %d values for %d columns", len(x), len(obj))}
 	}
-	worst := violationFree(rows, x, signs)
-	if !(worst <= rowTolerance) {
-		return 0, &SolverError{Status: StatusUnverified, Advice: fmt.Sprintf("lp_solve's answer misses a row by %.2g (relative), more than the %.0g accepted", worst, rowTolerance)}
+	return checkObjective(obj, x, z, violationFree(rows, x, signs))
+}
+
+// rowMiss is by how much lhs misses a row of the sense and right-hand
+// side, relative to max(1, |rhs|); zero or less when it holds.
+func rowMiss(sense Sense, lhs, rhs float64) float64 {
+	miss := 0.0
+	switch sense {
+	case LessEq:
+		miss = lhs - rhs
+	case GreaterEq:
+		miss = rhs - lhs
+	default:
+		miss = math.Abs(lhs - rhs)
 	}
-	got := 0.0
-	for j, c := range obj {
-		got += c * x[j]
-	}
-	if d := math.Abs(got - z); !(d <= objectiveTolerance*math.Max(math.Abs(got), 1e-12)) {
-		return 0, &SolverError{Status: StatusUnverified, Advice: fmt.Sprintf("lp_solve reported the objective %.12g for an answer worth %.12g", z, got)}
-	}
-	return got, nil
+	return miss / math.Max(1, math.Abs(rhs))
 }
 
 // violationFree is violation with per-column sign rules (see

@@ -690,16 +690,7 @@ func (dw *decomposer) linkViolation(res *masterResult) float64 {
 			}
 		}
 		lhs += slackSign(l) * res.slack[r]
-		miss := 0.0
-		switch l.sense {
-		case LessEq:
-			miss = lhs - l.rhs
-		case GreaterEq:
-			miss = l.rhs - lhs
-		default:
-			miss = math.Abs(lhs - l.rhs)
-		}
-		worst = math.Max(worst, miss/math.Max(1, math.Abs(l.rhs)))
+		worst = math.Max(worst, rowMiss(l.sense, lhs, l.rhs))
 	}
 	return worst
 }

@@ -167,21 +167,30 @@ type namedAmount struct {
 
 func (na *namedAmounts) decodeNode(d *decoder, n *yaml.Node, path string) {
 	na.Line = n.Line
+	eachKey(d, n, path, "want class or budget group names with a yearly amount (e.g. {footpaths: 150000})", "written twice; keep one", func(kl keyLine, field string) {
+		e := namedAmount{Name: kl.key, Line: kl.line}
+		e.Amount.decodeNode(d, resolve(kl.val), field)
+		na.Entries = append(na.Entries, e)
+	})
+}
+
+// eachKey calls fn for each key of the mapping n once, in file order,
+// after refusing a node that is not a mapping (want says what to write)
+// and any key written twice (twice is the message).
+func eachKey(d *decoder, n *yaml.Node, path, want, twice string, fn func(kl keyLine, field string)) {
 	if n.Kind != yaml.MappingNode {
-		d.add(n.Line, path, "want class or budget group names with a yearly amount (e.g. {footpaths: 150000}), got %s", kindName(n))
+		d.add(n.Line, path, "%s, got %s", want, kindName(n))
 		return
 	}
 	seen := map[string]bool{}
 	for _, kl := range mappingKeys(n) {
 		field := joinPath(path, kl.key)
 		if seen[kl.key] {
-			d.add(kl.line, field, "written twice; keep one")
+			d.add(kl.line, field, "%s", twice)
 			continue
 		}
 		seen[kl.key] = true
-		e := namedAmount{Name: kl.key, Line: kl.line}
-		e.Amount.decodeNode(d, resolve(kl.val), field)
-		na.Entries = append(na.Entries, e)
+		fn(kl, field)
 	}
 }
 
@@ -223,22 +232,11 @@ type stateNumber struct {
 
 func (s *stateNumbers) decodeNode(d *decoder, n *yaml.Node, path string) {
 	s.Line = n.Line
-	if n.Kind != yaml.MappingNode {
-		d.add(n.Line, path, "want state names with numbers (e.g. {Good: 120, Fair: 40}), got %s", kindName(n))
-		return
-	}
-	seen := map[string]bool{}
-	for _, kl := range mappingKeys(n) {
-		field := joinPath(path, kl.key)
-		if seen[kl.key] {
-			d.add(kl.line, field, "state written twice; keep one")
-			continue
-		}
-		seen[kl.key] = true
+	eachKey(d, n, path, "want state names with numbers (e.g. {Good: 120, Fair: 40})", "state written twice; keep one", func(kl keyLine, field string) {
 		if f, ok := d.number(resolve(kl.val), field); ok {
 			s.Entries = append(s.Entries, stateNumber{State: kl.key, Value: f, Line: kl.line})
 		}
-	}
+	})
 }
 
 // costSpec is one unit cost for every state, or one per state.
@@ -343,29 +341,18 @@ type treatmentYear struct {
 
 func (ty *treatmentYears) decodeNode(d *decoder, n *yaml.Node, path string) {
 	ty.Line = n.Line
-	if n.Kind != yaml.MappingNode {
-		d.add(n.Line, path, "want treatment names with years (e.g. {crack-seal: 6}), got %s", kindName(n))
-		return
-	}
-	seen := map[string]bool{}
-	for _, kl := range mappingKeys(n) {
-		field := joinPath(path, kl.key)
-		if seen[kl.key] {
-			d.add(kl.line, field, "treatment written twice; keep one")
-			continue
-		}
-		seen[kl.key] = true
+	eachKey(d, n, path, "want treatment names with years (e.g. {crack-seal: 6})", "treatment written twice; keep one", func(kl keyLine, field string) {
 		v := resolve(kl.val)
 		f, ok := d.number(v, field)
 		if !ok {
-			continue
+			return
 		}
 		if f != math.Trunc(f) || math.Abs(f) > 1e9 {
 			d.add(kl.line, field, "want a whole number of years, got %s", v.Value)
-			continue
+			return
 		}
 		ty.Entries = append(ty.Entries, treatmentYear{Treatment: kl.key, Years: int(f), Line: kl.line})
-	}
+	})
 }
 
 // lastTreatedSpec is a class's last_treated: for each year, the share of
@@ -385,22 +372,11 @@ type lastTreatedEntry struct {
 
 func (lt *lastTreatedSpec) decodeNode(d *decoder, n *yaml.Node, path string) {
 	lt.Line = n.Line
-	if n.Kind != yaml.MappingNode {
-		d.add(n.Line, path, "want years with shares (e.g. {2024: 0.1, 2021: {Good: 0.3}}), got %s", kindName(n))
-		return
-	}
-	seen := map[string]bool{}
-	for _, kl := range mappingKeys(n) {
-		field := joinPath(path, kl.key)
-		if seen[kl.key] {
-			d.add(kl.line, field, "year written twice; keep one")
-			continue
-		}
-		seen[kl.key] = true
+	eachKey(d, n, path, "want years with shares (e.g. {2024: 0.1, 2021: {Good: 0.3}})", "year written twice; keep one", func(kl keyLine, field string) {
 		year, err := strconv.Atoi(kl.key)
 		if err != nil {
 			d.add(kl.line, field, "%q is not a year; write the calendar year of the last work, e.g. 2024", kl.key)
-			continue
+			return
 		}
 		e := lastTreatedEntry{Year: year, Line: kl.line}
 		v := resolve(kl.val)
@@ -410,8 +386,8 @@ func (lt *lastTreatedSpec) decodeNode(d *decoder, n *yaml.Node, path string) {
 		} else if f, ok := d.number(v, field); ok {
 			e.Share = &f
 		} else {
-			continue
+			return
 		}
 		lt.Entries = append(lt.Entries, e)
-	}
+	})
 }
