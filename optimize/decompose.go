@@ -88,7 +88,9 @@ var ErrIterationCap = errors.New("decomposition iteration cap reached")
 // decomposition's plan proven within its gap when it reached the
 // iteration cap, or a plan optimal in the primary objective whose
 // tie-break was not settled. An error comes back only when neither method
-// makes a plan, or when the caller's time limit ran out.
+// makes a plan, or when the caller's time limit ran out or p's context
+// (see Problem.WithContext) was cancelled: a stopped solve is never retried
+// by the other method.
 func SolveWith(p *Problem, o Options) (*Plan, error) {
 	if err := p.Validate(); err != nil {
 		return nil, err
@@ -98,7 +100,7 @@ func SolveWith(p *Problem, o Options) (*Plan, error) {
 	if err == nil && !plan.Stats.TieBreakMissed {
 		return plan, nil
 	}
-	if IsTimeout(err) {
+	if halted(err) {
 		return nil, err
 	}
 	if err == nil && first == Decomposed && flatColumns(p) > tieBreakFlatColumns {
@@ -448,7 +450,7 @@ func solveDecomposed(p *Problem, o Options) (*Plan, error) {
 	switch {
 	case err == nil:
 		res = res3
-	case IsTimeout(err):
+	case halted(err):
 		return nil, err
 	default:
 		// lp_solve gave no answer to a tie-break master on any path:
@@ -514,7 +516,10 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 	bestBound := math.Inf(1)
 	for iter := 1; ; iter++ {
 		if !dw.deadline.IsZero() && time.Now().After(dw.deadline) {
-			return nil, &SolverError{Status: "timeout", Advice: fmt.Sprintf("the decomposition did not prove an optimal plan within the time limit of %s; raise the limit", dw.p.Timeout)}
+			return nil, &SolverError{Status: StatusTimeout, Advice: fmt.Sprintf("the decomposition did not prove an optimal plan within the time limit of %s; raise the limit", dw.p.Timeout)}
+		}
+		if err := dw.p.stopped(); err != nil {
+			return nil, err
 		}
 		res, err := dm.solve()
 		dw.stats.Solves++
@@ -688,7 +693,7 @@ func (hm *holdMaster) solve() (*masterResult, error) {
 		hm.in = append(hm.in, true)
 	}
 	res, err := hm.dw.solvePrimal(hm.st, hm.in)
-	for err != nil && !IsTimeout(err) && hm.st.holdRelax() < maxHoldRelax {
+	for err != nil && !halted(err) && hm.st.holdRelax() < maxHoldRelax {
 		// The earlier stage's plan meets every hold, so the master has an
 		// answer; lp_solve misses it when the holds leave it less room
 		// than its own tolerances. Give them ten times more.
@@ -1049,6 +1054,9 @@ func (dw *decomposer) lagrangeWarmup(pc *pricer, res *masterResult) (float64, []
 	best, theta, stale := math.Inf(1), 1.0, 0
 	var bestPi []float64
 	for step := 0; step < warmupSteps; step++ {
+		if dw.p.Context().Err() != nil {
+			break // generate's next round returns the context's error
+		}
 		bound := pc.price(pi, res)
 		dw.stats.Iterations++
 		for k := 0; k < K; k++ {

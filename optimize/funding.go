@@ -203,7 +203,7 @@ func misses(q *Problem, tg *Target, v float64) bool {
 // says no answer exists.
 func settle(m *Model, p *Problem, objs []objectiveSpec, reachableFn func() (bool, error)) (*lexResult, error) {
 	lr, err := lexicographic(m, p, objs, false)
-	if err == nil || IsTimeout(err) {
+	if err == nil || halted(err) {
 		return lr, err
 	}
 	ok, rerr := reachableFn()

@@ -1,6 +1,7 @@
 package optimize
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -95,6 +96,9 @@ type lpSolver struct {
 	lp      *golp.LP
 	ncols   int
 	timeout time.Duration
+	// ctx is checked before each solve: golp cannot interrupt lp_solve
+	// inside one call, so cancellation is seen between calls.
+	ctx context.Context
 	// golp can switch lp_solve to maximising but not back; sign is -1 when
 	// a minimisation is posed to a maximising instance as max -c·x.
 	maxSet bool
@@ -194,8 +198,8 @@ func violationFree(rows []Row, x []float64, signs []int) float64 {
 	return worst
 }
 
-func newLPSolver(m *Model, timeout time.Duration, set lpSettings) (*lpSolver, error) {
-	s := &lpSolver{lp: golp.NewLP(0, len(m.Cols)), ncols: len(m.Cols), timeout: timeout}
+func newLPSolver(ctx context.Context, m *Model, timeout time.Duration, set lpSettings) (*lpSolver, error) {
+	s := &lpSolver{lp: golp.NewLP(0, len(m.Cols)), ncols: len(m.Cols), timeout: timeout, ctx: ctx}
 	s.lp.SetVerboseLevel(golp.NEUTRAL)
 	set.apply(s.lp)
 	for _, r := range m.Rows {
@@ -256,8 +260,13 @@ func (s *lpSolver) setObjective(obj []float64, maximize bool) {
 // checkAnswer). It returns ErrInfeasible for a model lp_solve calls
 // infeasible and a *SolverError for every other outcome without a checked
 // answer; the objective and variables are read only after lp_solve says
-// it has an answer (after a timeout its objective is meaningless).
+// it has an answer (after a timeout its objective is meaningless). A done
+// context stops it before lp_solve is called, with an error that wraps the
+// context's.
 func (s *lpSolver) solve() ([]float64, float64, error) {
+	if err := stoppedBy(s.ctx); err != nil {
+		return nil, 0, err
+	}
 	if s.timeout > 0 {
 		secs := int(math.Ceil(s.timeout.Seconds()))
 		s.lp.SetTimeout(max(secs, 1))
@@ -402,7 +411,8 @@ type lexResult struct {
 // failed path. The caller's time limit stops the search at once. When
 // every path fails, the error is the first path's; when every path failed
 // only after the first objective, the earliest complete answer is
-// returned as partial.
+// returned as partial. A done context (p.Context) stops the search at
+// once too, and its error is returned (see halted): never a partial answer.
 func lexicographic(m *Model, p *Problem, objs []objectiveSpec, feasible bool) (*lexResult, error) {
 	res := &lexResult{}
 	var firstErr error
@@ -428,7 +438,7 @@ func lexicographic(m *Model, p *Problem, objs []objectiveSpec, feasible bool) (*
 					os[i] = objectiveSpec{obj: mo, maximize: o.maximize}
 				}
 			}
-			x, stages, solves, err := lexicographicOnce(mm, p.Timeout, os, sp.settings, relax)
+			x, stages, solves, err := lexicographicOnce(p.Context(), mm, p.Timeout, os, sp.settings, relax)
 			res.solves += solves
 			if x != nil && perm != nil {
 				back := make([]float64, len(x))
@@ -452,7 +462,7 @@ func lexicographic(m *Model, p *Problem, objs []objectiveSpec, feasible bool) (*
 				}
 				return res, nil
 			}
-			if IsTimeout(err) || (errors.Is(err, ErrInfeasible) && stages == 0 && !feasible) {
+			if halted(err) || (errors.Is(err, ErrInfeasible) && stages == 0 && !feasible) {
 				return res, err
 			}
 			if firstErr == nil {
@@ -483,8 +493,8 @@ const maxHoldRelax = 100
 // lexicographicOnce is one path of lexicographic: it returns the answer
 // of the last stage solved (nil before the first), how many stages were
 // solved, the number of solver calls and the error that stopped it.
-func lexicographicOnce(m *Model, timeout time.Duration, objs []objectiveSpec, set lpSettings, relax float64) ([]float64, int, int, error) {
-	s, err := newLPSolver(m, timeout, set)
+func lexicographicOnce(ctx context.Context, m *Model, timeout time.Duration, objs []objectiveSpec, set lpSettings, relax float64) ([]float64, int, int, error) {
+	s, err := newLPSolver(ctx, m, timeout, set)
 	if errors.Is(err, errEmptyInfeasible) {
 		return nil, 0, 0, ErrInfeasible
 	}
@@ -497,7 +507,7 @@ func lexicographicOnce(m *Model, timeout time.Duration, objs []objectiveSpec, se
 	for n, o := range objs {
 		if n > 0 && !set.incremental() {
 			// Afresh, with the holds so far (see lpSettings.incremental).
-			if s, err = newLPSolver(m, timeout, set); err != nil {
+			if s, err = newLPSolver(ctx, m, timeout, set); err != nil {
 				return best, n, n, err
 			}
 			for _, h := range holds {

@@ -529,7 +529,7 @@ func (dm *dualMaster) solve() (*masterResult, error) {
 	dm.syncBounds()
 	dm.solved = true
 	res, err := dm.solveHere()
-	if err == nil || IsTimeout(err) {
+	if err == nil || halted(err) {
 		return res, err
 	}
 	first := err
@@ -538,13 +538,13 @@ func (dm *dualMaster) solve() (*masterResult, error) {
 		fresh := newDualMasterWith(dw, dm.st, dm.in, set)
 		fresh.solved = true
 		res, err = fresh.solveHere()
-		if err == nil || IsTimeout(err) {
+		if err == nil || halted(err) {
 			*dm = *fresh
 			return res, err
 		}
 	}
 	res, err = dw.solvePrimal(dm.st, nil)
-	if err == nil || IsTimeout(err) {
+	if err == nil || halted(err) {
 		return res, err
 	}
 	var se *SolverError
@@ -559,6 +559,9 @@ func (dm *dualMaster) solveHere() (*masterResult, error) {
 	dw := dm.dw
 	if t := dw.callTimeout(); t > 0 {
 		dm.lp.SetTimeout(max(int(math.Ceil(t.Seconds())), 1))
+	}
+	if err := dw.p.stopped(); err != nil {
+		return nil, err // golp cannot interrupt lp_solve once it has started
 	}
 	setIterationLimit(dm.lp, stallIterations(len(dm.rowOf), dm.nvar))
 	st := dm.lp.Solve()
@@ -797,13 +800,13 @@ func (dw *decomposer) solvePrimal(st *stage, keep []bool) (*masterResult, error)
 	var err error
 	for n := range settingsPaths {
 		set := settingsPaths[(dw.primalPath+n)%len(settingsPaths)]
-		if s, err = newLPSolver(m, dw.callTimeout(), set); err != nil {
+		if s, err = newLPSolver(dw.p.Context(), m, dw.callTimeout(), set); err != nil {
 			return nil, err
 		}
 		// A master that holds earlier optima has an answer (the earlier
 		// stage's plan), so "infeasible" is one more failed path there.
 		x, z, err = s.solve()
-		if err == nil || IsTimeout(err) || (errors.Is(err, ErrInfeasible) && !st.weighted()) {
+		if err == nil || halted(err) || (errors.Is(err, ErrInfeasible) && !st.weighted()) {
 			if err == nil {
 				dw.primalPath = (dw.primalPath + n) % len(settingsPaths)
 			}

@@ -1,6 +1,7 @@
 package optimize
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -153,6 +154,61 @@ type Problem struct {
 	Objective       Objective
 	// Timeout bounds each solver call; zero means no limit.
 	Timeout time.Duration
+
+	// ctx is the context of the problem's solves; see WithContext.
+	ctx context.Context
+}
+
+// Context returns the problem's context. To change it, use WithContext.
+//
+// The returned context is always non-nil; it defaults to the background
+// context.
+//
+// Every solve of the problem (SolveWith, Solve, SolveLongRun, SolveRobust,
+// LevelBudget, ClosingMoney, Reachability and the rest) checks the context
+// before each lp_solve call and between the decomposition's rounds, and
+// stops with an error that wraps the context's error once it is done, so
+// that errors.Is(err, context.Canceled) and errors.Is(err,
+// context.DeadlineExceeded) report why. lp_solve, called through golp,
+// cannot be interrupted inside one call: cancellation is seen between
+// calls, so a solve stops at the latest when the call in progress ends.
+// A stopped solve is never taken for a solver failure: no other method or
+// solve path is tried after it.
+func (p *Problem) Context() context.Context {
+	if p.ctx != nil {
+		return p.ctx
+	}
+	return context.Background()
+}
+
+// WithContext returns a shallow copy of p with its context changed to ctx,
+// which must be non-nil. The copy shares p's classes, budgets and targets.
+func (p *Problem) WithContext(ctx context.Context) *Problem {
+	if ctx == nil {
+		panic("optimize: nil context")
+	}
+	q := *p
+	q.ctx = ctx
+	return &q
+}
+
+// stopped returns the error of a solve whose context is done (wrapping the
+// context's error), and nil while it is not.
+func (p *Problem) stopped() error { return stoppedBy(p.Context()) }
+
+// stoppedBy is Problem.stopped for a context on its own.
+func stoppedBy(ctx context.Context) error {
+	if err := ctx.Err(); err != nil {
+		return fmt.Errorf("the solve was stopped before it finished: %w", err)
+	}
+	return nil
+}
+
+// halted reports whether err ends a solve at once, with no other path or
+// method tried: the problem's time limit ran out (IsTimeout) or its
+// context was cancelled or passed its deadline.
+func halted(err error) bool {
+	return IsTimeout(err) || errors.Is(err, context.Canceled) || errors.Is(err, context.DeadlineExceeded)
 }
 
 // Validate reports every inconsistency in the problem.
