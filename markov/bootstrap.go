@@ -1,6 +1,8 @@
 package markov
 
 import (
+	"context"
+	"errors"
 	"math/rand/v2"
 	"runtime"
 	"slices"
@@ -99,7 +101,9 @@ type Bootstrap struct {
 // fit. Replicate r draws from its own generator seeded with (seed, r), so
 // the result does not depend on how many processors share the work: the
 // same sample and seed give the same replicates. fit must be safe for
-// concurrent use.
+// concurrent use. A fit error that wraps context.Canceled or
+// context.DeadlineExceeded stops the bootstrap: no further resample is
+// drawn, and those not drawn count neither as replicates nor as failed.
 func BootstrapAssets(s *Sample, reps int, seed uint64, fit func(*Counts) (*Transition, error)) Bootstrap {
 	units := s.Units()
 	if reps <= 0 || units == 0 {
@@ -110,6 +114,7 @@ func BootstrapAssets(s *Sample, reps int, seed uint64, fit func(*Counts) (*Trans
 	results := make([]*Transition, reps)
 	errs := make([]error, reps)
 	var next atomic.Int64
+	var stop atomic.Bool
 	workers := min(runtime.GOMAXPROCS(0), reps)
 	var wg sync.WaitGroup
 	for range workers {
@@ -118,7 +123,7 @@ func BootstrapAssets(s *Sample, reps int, seed uint64, fit func(*Counts) (*Trans
 			drawn := make([]int32, units)
 			for {
 				r := int(next.Add(1) - 1)
-				if r >= reps {
+				if r >= reps || stop.Load() {
 					return
 				}
 				rng := rand.New(rand.NewPCG(seed, uint64(r)))
@@ -144,12 +149,18 @@ func BootstrapAssets(s *Sample, reps int, seed uint64, fit func(*Counts) (*Trans
 				// look like data: fit functions only read cells, and an
 				// empty block contributes nothing to either estimator.
 				results[r], errs[r] = fit(c)
+				if errors.Is(errs[r], context.Canceled) || errors.Is(errs[r], context.DeadlineExceeded) {
+					stop.Store(true)
+				}
 			}
 		})
 	}
 	wg.Wait()
 	var out Bootstrap
 	for r := range reps {
+		if results[r] == nil && errs[r] == nil {
+			continue // not drawn: the bootstrap was stopped
+		}
 		if errs[r] != nil {
 			out.Failed++
 			if out.FirstError == nil {

@@ -4,48 +4,16 @@ import (
 	"context"
 	"errors"
 	"math/rand/v2"
-	"sync"
-	"sync/atomic"
 	"testing"
 	"time"
+
+	"wearplan/optimize/optimizetest"
 )
 
-// countdownCtx is a context that is cancelled by being looked at: its Err
-// (and Done) turn to context.Canceled after they have been polled left
-// times. Every lp_solve call of a solve is preceded by one poll, so the
-// polls that see it cancelled bound the solver calls tried after the
-// cancellation. It keeps the context package's contract: once Done is
-// closed, Err returns the same non-nil error on every call.
-type countdownCtx struct {
-	context.Context
-	left   atomic.Int64
-	polls  atomic.Int64 // every poll
-	after  atomic.Int64 // polls that saw it cancelled
-	done   chan struct{}
-	closed sync.Once
-}
-
-func newCountdown(left int64) *countdownCtx {
-	c := &countdownCtx{Context: context.Background(), done: make(chan struct{})}
-	c.left.Store(left)
-	return c
-}
-
-func (c *countdownCtx) Err() error {
-	c.polls.Add(1)
-	if c.left.Add(-1) < 0 {
-		c.after.Add(1)
-		c.closed.Do(func() { close(c.done) })
-		return context.Canceled
-	}
-	return nil
-}
-
-func (c *countdownCtx) Done() <-chan struct{} {
-	c.Err()
-	return c.done
-}
-
+// Every lp_solve call of a solve is preceded by one poll of its context,
+// so the polls that find it cancelled (optimizetest.CountdownContext)
+// bound the solver calls tried after the cancellation.
+//
 // maxPollsAfterCancel bounds how often a stopped solve may look at its
 // context after seeing it cancelled: once where it stops, once more in the
 // decomposition (its warm-up gives way to the round's check). A solve
@@ -73,11 +41,11 @@ func TestSolveContext(t *testing.T) {
 	for _, s := range solves {
 		t.Run(s.name, func(t *testing.T) {
 			// How often an uncancelled solve polls its context.
-			full := newCountdown(1 << 40)
+			full := optimizetest.NewCountdownContext(1 << 40)
 			if _, err := s.solve(p.WithContext(full)); err != nil {
 				t.Fatalf("uncancelled solve: %v", err)
 			}
-			n := full.polls.Load()
+			n := full.Polls()
 			if n < 2 {
 				t.Fatalf("the solve polled its context %d times; want one poll per lp_solve call", n)
 			}
@@ -85,7 +53,7 @@ func TestSolveContext(t *testing.T) {
 			// the last lp_solve call (the decomposition's warm-up polls
 			// too), and a solve that has finished its work may return it.
 			for _, left := range []int64{0, 1, n / 2} {
-				ctx := newCountdown(left)
+				ctx := optimizetest.NewCountdownContext(left)
 				start := time.Now()
 				got, err := s.solve(p.WithContext(ctx))
 				if !errors.Is(err, context.Canceled) {
@@ -108,7 +76,7 @@ func TestSolveContext(t *testing.T) {
 						t.Errorf("cancelled after %d polls: got a budget %g", left, v)
 					}
 				}
-				if a := ctx.after.Load(); a > maxPollsAfterCancel {
+				if a := ctx.PollsAfter(); a > maxPollsAfterCancel {
 					t.Errorf("cancelled after %d polls: %d more polls after the cancellation, want at most %d", left, a, maxPollsAfterCancel)
 				}
 				// A hang, not a speed target.

@@ -1,6 +1,7 @@
 package scenarios
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"strconv"
@@ -116,6 +117,20 @@ func IsYearError(err error) bool {
 // Compare plans each scenario (in parallel, results in the order given) and
 // collects the figures a budget meeting compares.
 func Compare(scs []*Scenario, years YearSpec, opt Options) (*CompareResult, error) {
+	return CompareContext(context.Background(), scs, years, opt)
+}
+
+// CompareContext is Compare with a context: once ctx is done no further
+// scenario is started, the plans under way stop between solver calls, and
+// it returns an error wrapping ctx.Err(), and no result.
+func CompareContext(ctx context.Context, scs []*Scenario, years YearSpec, opt Options) (*CompareResult, error) {
+	opt.ctx = ctx
+	r, err := compare(scs, years, opt)
+	return finish(ctx, r, err)
+}
+
+// compare is Compare under opt's context.
+func compare(scs []*Scenario, years YearSpec, opt Options) (*CompareResult, error) {
 	r := &CompareResult{Kind: KindCompare, Scenarios: make([]CompareColumn, len(scs)), Caution: Caution, Warnings: []string{}}
 	chosen := make([][]int, len(scs))
 	for n, sc := range scs {
@@ -134,7 +149,7 @@ func Compare(scs []*Scenario, years YearSpec, opt Options) (*CompareResult, erro
 	classWarnings := make([][]ClassWarning, len(scs))
 	for n, sc := range scs {
 		jobs[n] = func() error {
-			res, err := Plan(sc, opt)
+			res, err := plan(sc, opt)
 			if err != nil {
 				return fmt.Errorf("%s: %w", sc.Source, err)
 			}
@@ -143,7 +158,7 @@ func Compare(scs []*Scenario, years YearSpec, opt Options) (*CompareResult, erro
 			return nil
 		}
 	}
-	if err := runParallel(jobs); err != nil {
+	if err := runParallel(opt.context(), jobs); err != nil {
 		return nil, err
 	}
 	// What each plan does to its classes, scenario by scenario in the

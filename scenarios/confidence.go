@@ -197,7 +197,7 @@ type confidenceSearch struct {
 func newConfidenceSearch(sc *Scenario, opt Options, solve func(p *optimize.Problem) (*optimize.Plan, float64, error)) *confidenceSearch {
 	co := opt.Confidence.normalised()
 	s := &confidenceSearch{sc: sc, solve: solve,
-		sim: SimulateOptions{Runs: co.Runs, Seed: co.Seed, Matrix: confidenceMatrix(sc), Timeout: opt.Timeout, Solver: opt.Solver}}
+		sim: SimulateOptions{Runs: co.Runs, Seed: co.Seed, Matrix: confidenceMatrix(sc), Timeout: opt.Timeout, Solver: opt.Solver, ctx: opt.ctx}}
 	for n, t := range sc.Targets {
 		if t.Confidence <= 0 {
 			continue
@@ -232,6 +232,7 @@ func (s *confidenceSearch) plan(margins []float64) (*trial, error) {
 	if err != nil {
 		return nil, err
 	}
+	p = p.WithContext(orBackground(s.sim.ctx))
 	for i, n := range s.idx {
 		tg := &p.Targets[n]
 		if tg.Kind == optimize.MaxShare {

@@ -1,6 +1,7 @@
 package scenarios
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -72,6 +73,10 @@ type FitOptions struct {
 	Covariates []string
 	Link       string
 	At         []CovariateValues
+
+	// ctx is the context of one call (FitContext sets it on its copy);
+	// nil means context.Background().
+	ctx context.Context
 }
 
 // CovariateValues are values of one covariate at which to evaluate a
@@ -359,6 +364,23 @@ func fitIssue(is *issues, line int, class, format string, args ...any) {
 // together in an *InputError naming the file and, where there is one, a
 // line.
 func Fit(ins *Inspections, opt FitOptions) (*FitResult, error) {
+	return FitContext(context.Background(), ins, opt)
+}
+
+// FitContext is Fit with a context: once ctx is done no further class,
+// family or bootstrap resample is fitted (the fit under way finishes), and
+// it returns an error wrapping ctx.Err(), and no result.
+func FitContext(ctx context.Context, ins *Inspections, opt FitOptions) (*FitResult, error) {
+	opt.ctx = ctx
+	r, err := fit(ins, opt)
+	return finish(ctx, r, err)
+}
+
+// fit is Fit under opt's context.
+func fit(ins *Inspections, opt FitOptions) (*FitResult, error) {
+	if err := stopped(orBackground(opt.ctx)); err != nil {
+		return nil, err
+	}
 	if !slices.Contains(FitMethods(), opt.Method) {
 		return nil, fmt.Errorf("unknown method %q; use %s", opt.Method, strings.Join(FitMethods(), ", "))
 	}
@@ -487,6 +509,10 @@ type groupFit struct {
 // fitClass fits one class, or one family of a class (who names it in
 // messages: "roads" or "roads, family heavy (traffic)").
 func fitClass(c *InspectionClass, who string, opt FitOptions, is *issues) (*FitClass, *groupFit, bool) {
+	ctx := orBackground(opt.ctx)
+	if ctx.Err() != nil {
+		return nil, nil, false // Fit returns the context's error
+	}
 	n := len(c.Scale.States)
 	s := markov.Structure{OneStep: opt.OneStep || opt.Method == MethodYearsInState, Improvement: opt.KeepImprovements}
 	sample, readings, prep, err := markov.Prepare(c.Histories, n, s)
@@ -585,6 +611,11 @@ func fitClass(c *InspectionClass, who string, opt FitOptions, is *issues) (*FitC
 	var reps []*markov.Transition
 	if fitted && opt.Bootstrap > 0 {
 		fitFn := func(cn *markov.Counts) (*markov.Transition, error) {
+			// Checked between resamples: drawing one is cheap beside
+			// fitting it, and Fit returns the context's error.
+			if err := stopped(ctx); err != nil {
+				return nil, err
+			}
 			if opt.Method == MethodCounting {
 				return markov.CountingMLE(cn, s)
 			}

@@ -85,7 +85,7 @@ func fundingDetail(sc *Scenario, p *optimize.Problem, r *Result, f *Funding) err
 			return nil
 		})
 	}
-	if err := runParallel(jobs); err != nil {
+	if err := runParallel(p.Context(), jobs); err != nil {
 		return err
 	}
 	switch {

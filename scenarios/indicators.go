@@ -326,7 +326,7 @@ func requiredRenewal(sc *Scenario, opt Options) ([][]float64, []string, error) {
 			return err
 		}
 	}
-	if err := runParallel(jobs); err != nil {
+	if err := runParallel(opt.context(), jobs); err != nil {
 		return nil, nil, err
 	}
 	var notes []string
@@ -351,7 +351,7 @@ func classRenewal(sc *Scenario, k int, opt Options) ([]float64, string, error) {
 	// its condition costs.
 	sub.MinSpends = nil
 	sub.Objective = optimize.MinCost
-	p, err := sub.Problem()
+	p, err := opt.problem(&sub)
 	if err != nil {
 		return nil, "", err
 	}
@@ -361,7 +361,7 @@ func classRenewal(sc *Scenario, k int, opt Options) ([]float64, string, error) {
 	label := c.Name + " condition score at least today's in every year"
 	sub.Targets = []Target{{Label: label, Class: c.Name, FromYear: sc.Year(1), ToYear: sc.Year(sc.Horizon),
 		Spec: optimize.Target{Label: label, Class: 0, Kind: optimize.MinScore, Value: today - holdSlack, From: 1, To: sc.Horizon}}}
-	res, err := Plan(&sub, Options{Timeout: opt.Timeout, Solver: opt.Solver, SkipFunding: true})
+	res, err := plan(&sub, Options{Timeout: opt.Timeout, Solver: opt.Solver, SkipFunding: true, ctx: opt.ctx})
 	if err != nil {
 		return nil, "", fmt.Errorf("class %q: the plan that holds today's condition: %w", c.Name, err)
 	}

@@ -1,6 +1,7 @@
 package scenarios
 
 import (
+	"context"
 	"math"
 
 	"wearplan/optimize"
@@ -87,7 +88,21 @@ type LongRunTarget struct {
 // the scenario's objective, targets with their years ignored, and the first
 // year's caps as annual caps.
 func LongRun(sc *Scenario, opt Options) (*LongRunResult, error) {
-	p, err := sc.Problem()
+	return LongRunContext(context.Background(), sc, opt)
+}
+
+// LongRunContext is LongRun with a context: once ctx is done the solve
+// stops between solver calls and it returns an error wrapping ctx.Err(),
+// and no result.
+func LongRunContext(ctx context.Context, sc *Scenario, opt Options) (*LongRunResult, error) {
+	opt.ctx = ctx
+	r, err := longRun(sc, opt)
+	return finish(ctx, r, err)
+}
+
+// longRun is LongRun under opt's context.
+func longRun(sc *Scenario, opt Options) (*LongRunResult, error) {
+	p, err := opt.problem(sc)
 	if err != nil {
 		return nil, err
 	}

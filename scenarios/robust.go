@@ -1,6 +1,7 @@
 package scenarios
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -224,6 +225,20 @@ func drawSamples(sc *Scenario, ro RobustOptions) ([]optimize.MatrixSample, []str
 // with the point-estimate plan under the same samples. The result is the
 // robust plan, with its condition under the point estimate, and Robust.
 func PlanRobust(sc *Scenario, ro RobustOptions, opt Options) (*Result, error) {
+	return PlanRobustContext(context.Background(), sc, ro, opt)
+}
+
+// PlanRobustContext is PlanRobust with a context: once ctx is done the
+// solves stop between solver calls and it returns an error wrapping
+// ctx.Err(), and no result.
+func PlanRobustContext(ctx context.Context, sc *Scenario, ro RobustOptions, opt Options) (*Result, error) {
+	opt.ctx = ctx
+	r, err := planRobust(sc, ro, opt)
+	return finish(ctx, r, err)
+}
+
+// planRobust is PlanRobust under opt's context.
+func planRobust(sc *Scenario, ro RobustOptions, opt Options) (*Result, error) {
 	if err := ro.normalise(); err != nil {
 		return nil, err
 	}
@@ -234,7 +249,7 @@ func PlanRobust(sc *Scenario, ro RobustOptions, opt Options) (*Result, error) {
 	if err != nil {
 		return nil, err
 	}
-	p, err := sc.Problem()
+	p, err := opt.problem(sc)
 	if err != nil {
 		return nil, err
 	}

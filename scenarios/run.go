@@ -1,6 +1,7 @@
 package scenarios
 
 import (
+	"context"
 	"fmt"
 	"math"
 	"time"
@@ -27,6 +28,10 @@ type Options struct {
 	// stated confidence (confidence.go); it matters only when a target
 	// has one.
 	Confidence ConfidenceOptions
+
+	// ctx is the context of one call (PlanContext and the rest set it on
+	// their copy); nil means context.Background().
+	ctx context.Context
 }
 
 // Forecast rolls today's condition forward with no work done.
@@ -59,10 +64,27 @@ func Forecast(sc *Scenario) (*Result, error) {
 // confidence, the plan is the one that meets it in that share of simulated
 // runs (planConfident).
 func Plan(sc *Scenario, opt Options) (*Result, error) {
+	return PlanContext(context.Background(), sc, opt)
+}
+
+// PlanContext is Plan with a context: once ctx is done the plan stops
+// between solver calls and returns an error wrapping ctx.Err(), and no
+// result.
+func PlanContext(ctx context.Context, sc *Scenario, opt Options) (*Result, error) {
+	opt.ctx = ctx
+	r, err := plan(sc, opt)
+	return finish(ctx, r, err)
+}
+
+// plan is Plan under opt's context.
+func plan(sc *Scenario, opt Options) (*Result, error) {
+	if err := stopped(opt.context()); err != nil {
+		return nil, err
+	}
 	if hasConfidence(sc) {
 		return planConfident(sc, opt)
 	}
-	p, err := sc.Problem()
+	p, err := opt.problem(sc)
 	if err != nil {
 		return nil, err
 	}
@@ -128,7 +150,7 @@ func planResult(sc *Scenario, p *optimize.Problem, plan *optimize.Plan, opt Opti
 		var required [][]float64
 		var notes []string
 		var detailErr error
-		if err := runParallel([]func() error{
+		if err := runParallel(opt.context(), []func() error{
 			func() error { detailErr = fundingDetail(sc, p, r, f); return nil },
 			func() (err error) { required, notes, err = requiredRenewal(sc, opt); return err },
 		}); err != nil {
@@ -139,6 +161,9 @@ func planResult(sc *Scenario, p *optimize.Problem, plan *optimize.Plan, opt Opti
 		}
 		if f.LevelBudget != nil || f.ExtraTotal != nil || f.Unreachable != "" || f.HeldBack != "" || f.HoldBudget != nil || len(f.Notes) > 0 {
 			r.Funding = f
+		}
+		if err := stopped(opt.context()); err != nil {
+			return nil, err // a funding answer cut short is no answer
 		}
 		if err := baseline(p, r); err != nil {
 			return nil, err

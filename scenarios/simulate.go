@@ -1,6 +1,7 @@
 package scenarios
 
 import (
+	"context"
 	"fmt"
 	"math"
 	"math/rand/v2"
@@ -117,6 +118,10 @@ type SimulateOptions struct {
 	// Solver picks how the plan is solved (optimize.Auto by default); both
 	// methods reach the same optimum.
 	Solver optimize.Method
+
+	// ctx is the context of one call (SimulateContext sets it on its
+	// copy); nil means context.Background().
+	ctx context.Context
 }
 
 // OptionError is a simulation (or robust plan) option that cannot be used,
@@ -138,8 +143,16 @@ const targetSlack = 1e-6
 // Simulate runs the scenario's plan (or do nothing) through opt.Runs
 // random runs at segment level and returns the uncertainty bands.
 func Simulate(sc *Scenario, opt SimulateOptions) (*SimulationResult, error) {
+	return SimulateContext(context.Background(), sc, opt)
+}
+
+// SimulateContext is Simulate with a context: once ctx is done the plan's
+// solve stops between solver calls, no further run starts (the runs under
+// way finish), and it returns an error wrapping ctx.Err(), and no result.
+func SimulateContext(ctx context.Context, sc *Scenario, opt SimulateOptions) (*SimulationResult, error) {
+	opt.ctx = ctx
 	res, _, err := simulate(sc, opt, nil)
-	return res, err
+	return finish(ctx, res, err)
 }
 
 // givenPlan is a plan a simulation follows instead of solving the
@@ -160,10 +173,15 @@ func simulate(sc *Scenario, opt SimulateOptions, given *givenPlan) (*SimulationR
 		return nil, nil, &OptionError{"runs", fmt.Sprintf("%d runs of %d classes over %d years would keep %d MB of figures; use at most %d runs for this scenario",
 			opt.Runs, len(sc.Classes), sc.Horizon, n*8>>20, maxFigures/((len(sc.Classes)+1)*sc.Horizon*figCount))}
 	}
+	ctx := orBackground(opt.ctx)
+	if err := stopped(ctx); err != nil {
+		return nil, nil, err
+	}
 	p, err := sc.Problem()
 	if err != nil {
 		return nil, nil, err
 	}
+	p = p.WithContext(ctx)
 	res := &SimulationResult{
 		Scenario: sc.Name, Source: sc.Source, Kind: KindSimulation, Policy: opt.Policy, Currency: sc.Currency,
 		StartYear: sc.StartYear, Horizon: sc.Horizon, Runs: opt.Runs, Seed: opt.Seed,
@@ -283,6 +301,12 @@ func simulate(sc *Scenario, opt SimulateOptions, given *givenPlan) (*SimulationR
 	fig := newFigures(sc, p, opt.Runs, work != nil)
 	err = markov.Simulate(simClasses, lots, markov.SimOptions{Years: sc.Horizon, Runs: opt.Runs, Seed: opt.Seed, Workers: opt.Workers},
 		func(run int, o *markov.RunOutcome) error {
+			// A failed run stops markov.Simulate from starting later
+			// ones: the context's error stops the simulation after the
+			// runs under way.
+			if err := stopped(ctx); err != nil {
+				return err
+			}
 			fig.record(run, o)
 			return nil
 		})

@@ -1,6 +1,7 @@
 package scenarios
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -119,6 +120,20 @@ const MaxSweepPoints = 1000
 // the targets by less, it may spend on closing the shortfall what buys
 // less condition, and the score can fall.
 func Sweep(sc *Scenario, budgets []float64, opt Options) (*SweepResult, error) {
+	return SweepContext(context.Background(), sc, budgets, opt)
+}
+
+// SweepContext is Sweep with a context: once ctx is done no further point
+// is started, the points being planned stop between solver calls, and it
+// returns an error wrapping ctx.Err(), and no result.
+func SweepContext(ctx context.Context, sc *Scenario, budgets []float64, opt Options) (*SweepResult, error) {
+	opt.ctx = ctx
+	r, err := sweep(sc, budgets, opt)
+	return finish(ctx, r, err)
+}
+
+// sweep is Sweep under opt's context.
+func sweep(sc *Scenario, budgets []float64, opt Options) (*SweepResult, error) {
 	if len(budgets) == 0 {
 		return nil, errors.New("sweep: no budgets given")
 	}
@@ -127,7 +142,7 @@ func Sweep(sc *Scenario, budgets []float64, opt Options) (*SweepResult, error) {
 			return nil, fmt.Errorf("sweep: budget %g must be a finite amount of zero or more", b)
 		}
 	}
-	p, err := sc.Problem()
+	p, err := opt.problem(sc)
 	if err != nil {
 		return nil, err
 	}
@@ -142,7 +157,7 @@ func Sweep(sc *Scenario, budgets []float64, opt Options) (*SweepResult, error) {
 				pointNotes[n] = append(pointNotes[n], fmt.Sprintf("budget %s: %s", money(b), w))
 			}
 			if err != nil {
-				if optimize.IsTimeout(err) {
+				if halted(err) {
 					return fmt.Errorf("budget %s: %w", money(b), err)
 				}
 				pt = &SweepPoint{Budget: b, Status: PointFailed, Problem: err.Error()}
@@ -159,7 +174,7 @@ func Sweep(sc *Scenario, budgets []float64, opt Options) (*SweepResult, error) {
 	var holdNote, targetsNote string
 	level := func(targets []optimize.Target, out **float64, note *string) func() error {
 		return func() error {
-			p, err := sc.Problem()
+			p, err := opt.problem(sc)
 			if err != nil {
 				return err
 			}
@@ -170,7 +185,7 @@ func Sweep(sc *Scenario, budgets []float64, opt Options) (*SweepResult, error) {
 			case errors.As(err, &hb):
 				*note = heldBackText(sc, hb)
 			case errors.Is(err, optimize.ErrUnreachable):
-			case optimize.IsTimeout(err):
+			case halted(err):
 				return fmt.Errorf("least level budget: %w", err)
 			case err != nil:
 				*note = "the least level budget could not be computed: " + err.Error()
@@ -195,7 +210,7 @@ func Sweep(sc *Scenario, budgets []float64, opt Options) (*SweepResult, error) {
 			return err
 		})
 	}
-	if err := runParallel(jobs); err != nil {
+	if err := runParallel(opt.context(), jobs); err != nil {
 		return nil, err
 	}
 	for n, pt := range r.Points {
@@ -237,7 +252,7 @@ func SweepScenario(sc *Scenario, budget float64) *Scenario {
 // beyond the scenario's).
 func sweepPoint(sc *Scenario, budget float64, opt Options) (*SweepPoint, []string, error) {
 	opt.SkipFunding = true
-	res, err := Plan(SweepScenario(sc, budget), opt)
+	res, err := plan(SweepScenario(sc, budget), opt)
 	if err != nil {
 		return nil, nil, err
 	}
@@ -256,16 +271,24 @@ func sweepPoint(sc *Scenario, budget float64, opt Options) (*SweepPoint, []strin
 }
 
 // runParallel runs the jobs on at most runtime.GOMAXPROCS goroutines and
-// returns the error of the first job (in job order) that failed. Jobs write
+// returns the error of the first job (in job order) that failed. Once ctx
+// is done it starts no more jobs; each job left out fails with the
+// context's error. Jobs write
 // their results into their own slots, so the outcome does not depend on
 // the number of cores or on which job finishes first.
-func runParallel(jobs []func() error) error {
+func runParallel(ctx context.Context, jobs []func() error) error {
 	errs := make([]error, len(jobs))
 	sem := make(chan struct{}, max(runtime.GOMAXPROCS(0), 1))
 	var wg sync.WaitGroup
 	for n, job := range jobs {
+		select {
+		case sem <- struct{}{}:
+		case <-ctx.Done():
+		}
+		if errs[n] = stopped(ctx); errs[n] != nil {
+			continue
+		}
 		wg.Add(1)
-		sem <- struct{}{}
 		go func() {
 			defer wg.Done()
 			defer func() { <-sem }()
