@@ -52,7 +52,7 @@ calendar years, or last.`,
 				sc.Source = path
 				scs = append(scs, sc)
 			}
-			r, err := scenarios.Compare(scs, ys, solveOpt)
+			r, err := scenarios.CompareContext(cmd.Context(), scs, ys, solveOpt)
 			if err != nil {
 				return usageIfYears(err)
 			}

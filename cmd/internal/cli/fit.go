@@ -1,6 +1,7 @@
 package cli
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"io"
@@ -375,7 +376,7 @@ func (o *fitOptions) run(cmd *cobra.Command, args []string) error {
 	} else {
 		read.Columns, read.ScaleFor, read.Only, read.SkipBadRows = cols, scaleFor, o.classes, o.skipBadRows
 		read.By, read.Covariates = o.by, o.covariates
-		res, err = o.fitFile(args[0], read, opt)
+		res, err = o.fitFile(cmd.Context(), args[0], read, opt)
 	}
 	if err != nil {
 		return err
@@ -397,7 +398,7 @@ func (o *fitOptions) run(cmd *cobra.Command, args []string) error {
 	return nil
 }
 
-func (o *fitOptions) fitFile(path string, read scenarios.InspectionOptions, opt scenarios.FitOptions) (*scenarios.FitResult, error) {
+func (o *fitOptions) fitFile(ctx context.Context, path string, read scenarios.InspectionOptions, opt scenarios.FitOptions) (*scenarios.FitResult, error) {
 	ins, err := scenarios.ReadInspectionsFile(path, read)
 	if err != nil && !inContent(err) {
 		return nil, err
@@ -414,7 +415,7 @@ func (o *fitOptions) fitFile(path string, read scenarios.InspectionOptions, opt 
 			return nil, &scenarios.InputError{Issues: []*scenarios.Issue{{File: path, Field: "class", Msg: fmt.Sprintf("--class %s: no inspections of that class in the file", c)}}}
 		}
 	}
-	return scenarios.Fit(ins, opt)
+	return scenarios.FitContext(ctx, ins, opt)
 }
 
 func (o *fitOptions) write(cmd *cobra.Command, r *scenarios.FitResult) error {

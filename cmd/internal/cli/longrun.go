@@ -40,7 +40,7 @@ year's budget buys every year.`,
 			if err != nil {
 				return err
 			}
-			r, err := scenarios.LongRun(sc, solveOpt)
+			r, err := scenarios.LongRunContext(cmd.Context(), sc, solveOpt)
 			if err != nil {
 				return err
 			}

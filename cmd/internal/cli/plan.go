@@ -106,10 +106,10 @@ different ones.`,
 			}
 			var r *scenarios.Result
 			if ro != nil {
-				r, err = scenarios.PlanRobust(sc, *ro, opt)
+				r, err = scenarios.PlanRobustContext(cmd.Context(), sc, *ro, opt)
 				err = simulateError("", err)
 			} else {
-				r, err = scenarios.Plan(sc, opt)
+				r, err = scenarios.PlanContext(cmd.Context(), sc, opt)
 			}
 			if err != nil {
 				return err

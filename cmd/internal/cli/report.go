@@ -129,7 +129,7 @@ Bands and Target probabilities. The same seed gives the same report.`,
 				if err != nil {
 					return err
 				}
-				r, err := scenarios.Plan(sc, solveOpt)
+				r, err := scenarios.PlanContext(cmd.Context(), sc, solveOpt)
 				if err != nil {
 					return err
 				}
@@ -143,7 +143,7 @@ Bands and Target probabilities. The same seed gives the same report.`,
 					if len(args) > 1 {
 						prefix = path
 					}
-					if run.Simulation, err = scenarios.Simulate(sc, simOpt); err != nil {
+					if run.Simulation, err = scenarios.SimulateContext(cmd.Context(), sc, simOpt); err != nil {
 						return simulateError(prefix, err)
 					}
 				}
@@ -155,7 +155,7 @@ Bands and Target probabilities. The same seed gives the same report.`,
 				}
 			}
 			if sweepBudgets != nil {
-				sr, err := scenarios.Sweep(rep.Runs[0].Scenario, sweepBudgets, solveOpt)
+				sr, err := scenarios.SweepContext(cmd.Context(), rep.Runs[0].Scenario, sweepBudgets, solveOpt)
 				if err != nil {
 					return err
 				}

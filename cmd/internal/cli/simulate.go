@@ -68,7 +68,7 @@ The same seed gives the same output, byte for byte, on any number of cores.`,
 			if err != nil {
 				return err
 			}
-			r, err := scenarios.Simulate(sc, opt)
+			r, err := scenarios.SimulateContext(cmd.Context(), sc, opt)
 			if err != nil {
 				return simulateError("", err)
 			}

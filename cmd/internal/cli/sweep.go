@@ -53,7 +53,7 @@ is in budget order and the same on any machine.`,
 			if err != nil {
 				return err
 			}
-			r, err := scenarios.Sweep(sc, list, solveOpt)
+			r, err := scenarios.SweepContext(cmd.Context(), sc, list, solveOpt)
 			if err != nil {
 				return err
 			}

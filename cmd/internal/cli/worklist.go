@@ -78,7 +78,7 @@ segment by inspection.`,
 			if format == "geojson" && !geometry {
 				return usageError("%s: the inventory has no geometry (a wkt column, or lon and lat columns), so there is nothing to map; use --format csv and join on segment_id", args[0])
 			}
-			r, err := scenarios.Plan(sc, solveOpt)
+			r, err := scenarios.PlanContext(cmd.Context(), sc, solveOpt)
 			if err != nil {
 				return err
 			}

@@ -8,6 +8,8 @@ import (
 	"sync/atomic"
 	"testing"
 	"time"
+
+	"wearplan/optimize/optimizetest"
 )
 
 func TestMemoSharesOneComputation(t *testing.T) {
@@ -122,5 +124,29 @@ func TestMemoForgetsTheOldest(t *testing.T) {
 	}
 	if _, ok := m.entries["bad"]; ok {
 		t.Error("an error was remembered")
+	}
+}
+
+// A solve whose requests have all gone (its context cancelled, here at the
+// poll half way through an uncancelled solve's polls of its context, by
+// optimizetest.CountdownContext rather than timing) stops between solver
+// calls and simulated runs with the context's error, the cancellation
+// contract of the Go standard library's context package, instead of
+// planning on for nobody.
+func TestSolveStopsWhenCalledOff(t *testing.T) {
+	s, err := New(demoSources(t, "marrowby.yaml"), Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	src := &s.sources[0]
+	ch := src.Scenario.Current()
+	full := optimizetest.NewCountdownContext(1 << 40)
+	if _, err := s.solve(full, src, ch, true); err != nil {
+		t.Fatal(err)
+	}
+	mid := optimizetest.NewCountdownContext(full.Polls() / 2)
+	out, err := s.solve(mid, src, ch, true)
+	if !errors.Is(err, context.Canceled) || out != nil {
+		t.Errorf("called off at poll %d of %d: %v, %v; want no outcome and context.Canceled", full.Polls()/2+1, full.Polls(), out, err)
 	}
 }

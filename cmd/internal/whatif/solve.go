@@ -182,8 +182,11 @@ func (s *Server) plan(ctx context.Context, alt alternative) (*outcome, source, *
 const BandRuns = 200
 
 // solve applies the changes and plans, holding one of the MaxSolves slots.
-// ctx only stops a solve that has not started: lp_solve cannot be
-// interrupted, and scenarios.Options.Timeout bounds each of its runs.
+// ctx ends when every request waiting for the answer has gone (a closed
+// tab, a newer request from the page): the plan and the bands' simulation
+// then stop between solver calls and runs (scenarios.PlanContext and
+// SimulateContext). One lp_solve call under way cannot be interrupted;
+// scenarios.Options.Timeout bounds each.
 func (s *Server) solve(ctx context.Context, src *Source, ch scenarios.Changes, bands bool) (*outcome, error) {
 	select {
 	case s.sem <- struct{}{}:
@@ -203,9 +206,11 @@ func (s *Server) solve(ctx context.Context, src *Source, ch scenarios.Changes, b
 	if src.warm != nil {
 		opt.Warm = src.warm.Clone()
 	}
-	res, err := scenarios.Plan(sc, opt)
+	res, err := scenarios.PlanContext(ctx, sc, opt)
 	if err != nil {
-		s.log.Printf("%s: %v", src.Path, err)
+		if ctx.Err() == nil { // a request called off is no failure to log
+			s.log.Printf("%s: %v", src.Path, err)
+		}
 		return nil, err
 	}
 	run := report.Run{Scenario: sc, Result: res}
@@ -213,8 +218,10 @@ func (s *Server) solve(ctx context.Context, src *Source, ch scenarios.Changes, b
 		// The bands of the plan shown: the simulation plans the same
 		// scenario with the same options.
 		so := scenarios.SimulateOptions{Runs: BandRuns, Seed: 1, Timeout: opt.Timeout, Solver: opt.Solver}
-		if run.Simulation, err = scenarios.Simulate(sc, so); err != nil {
-			s.log.Printf("%s: bands: %v", src.Path, err)
+		if run.Simulation, err = scenarios.SimulateContext(ctx, sc, so); err != nil {
+			if ctx.Err() == nil {
+				s.log.Printf("%s: bands: %v", src.Path, err)
+			}
 			return nil, err
 		}
 	}
