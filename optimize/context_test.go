@@ -45,6 +45,13 @@ func TestSolveContext(t *testing.T) {
 			if _, err := s.solve(p.WithContext(full)); err != nil {
 				t.Fatalf("uncancelled solve: %v", err)
 			}
+			// A deadline already passed: the error says so
+			// (context.DeadlineExceeded), not the solver's time limit.
+			dctx, dcancel := context.WithDeadline(context.Background(), time.Unix(0, 0))
+			defer dcancel()
+			if _, err := s.solve(p.WithContext(dctx)); !errors.Is(err, context.DeadlineExceeded) || IsTimeout(err) {
+				t.Errorf("past deadline: err = %v, want one wrapping context.DeadlineExceeded", err)
+			}
 			n := full.Polls()
 			if n < 2 {
 				t.Fatalf("the solve polled its context %d times; want one poll per lp_solve call", n)
