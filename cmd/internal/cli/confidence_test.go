@@ -2,10 +2,11 @@ package cli
 
 import (
 	"flag"
-	"os"
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"wearplan/cmd/internal/goldentest"
 )
 
 var update = flag.Bool("update", false, "rewrite the golden files of testdata/no-confidence from this build")
@@ -35,19 +36,7 @@ func TestNoConfidenceSameBytes(t *testing.T) {
 			if code != 0 {
 				t.Fatalf("exit %d: %s", code, errs)
 			}
-			path := filepath.Join("testdata", "no-confidence", c.file)
-			if *update {
-				if err := os.WriteFile(path, []byte(out), 0o644); err != nil {
-					t.Fatal(err)
-				}
-			}
-			want, err := os.ReadFile(path)
-			if err != nil {
-				t.Fatal(err)
-			}
-			if out != string(want) {
-				t.Errorf("output differs from %s", path)
-			}
+			goldentest.Compare(t, filepath.Join("testdata", "no-confidence", c.file), []byte(out), *update, "go test ./cmd/internal/cli -run NoConfidence -update")
 			_, again, _ := run(t, append(c.args, "--confidence-runs", "250", "--confidence-seed", "9")...)
 			if again != out {
 				t.Errorf("the confidence flags changed the output of a scenario without a confident target")

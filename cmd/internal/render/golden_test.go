@@ -3,10 +3,10 @@ package render_test
 import (
 	"bytes"
 	"flag"
-	"os"
 	"path/filepath"
 	"testing"
 
+	"wearplan/cmd/internal/goldentest"
 	"wearplan/cmd/internal/render"
 	"wearplan/scenarios"
 )
@@ -17,25 +17,11 @@ var update = flag.Bool("update", false, "rewrite the golden files of the rendere
 // assets, routine costs, targets the budget cannot meet).
 const keswold = "../../../testdata/keswold-utility.yaml"
 
-// golden compares got with testdata/golden/name, or rewrites the file with
-// -update. A renderer's output changes only on purpose: the diff of the
-// golden file is the review.
+// golden compares got with testdata/golden/name, or rewrites it with
+// -update.
 func golden(t *testing.T, name string, got []byte) {
 	t.Helper()
-	path := filepath.Join("testdata", "golden", name)
-	if *update {
-		if err := os.WriteFile(path, got, 0o644); err != nil {
-			t.Fatal(err)
-		}
-		return
-	}
-	want, err := os.ReadFile(path)
-	if err != nil {
-		t.Fatalf("%v (run with -update to write it)", err)
-	}
-	if !bytes.Equal(got, want) {
-		t.Errorf("%s differs from the golden file; if the change is meant, run go test ./cmd/internal/render -run Golden -update and review the diff.\n--- got (first 2000 bytes) ---\n%.2000s", name, got)
-	}
+	goldentest.Compare(t, filepath.Join("testdata", "golden", name), got, *update, "go test ./cmd/internal/render -run Golden -update")
 }
 
 func TestGoldenRenderers(t *testing.T) {

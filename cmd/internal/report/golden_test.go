@@ -5,12 +5,12 @@ import (
 	"crypto/sha256"
 	"flag"
 	"fmt"
-	"os"
 	"path/filepath"
 	"regexp"
 	"strings"
 	"testing"
 
+	"wearplan/cmd/internal/goldentest"
 	"wearplan/scenarios"
 )
 
@@ -21,23 +21,10 @@ var update = flag.Bool("update", false, "rewrite the golden files of the reports
 const keswold = "../../../testdata/keswold-utility.yaml"
 
 // golden compares got with testdata/golden/name, or rewrites it with
-// -update: the diff of a golden file is the review of a report's change.
+// -update.
 func golden(t *testing.T, name string, got []byte) {
 	t.Helper()
-	path := filepath.Join("testdata", "golden", name)
-	if *update {
-		if err := os.WriteFile(path, got, 0o644); err != nil {
-			t.Fatal(err)
-		}
-		return
-	}
-	want, err := os.ReadFile(path)
-	if err != nil {
-		t.Fatalf("%v (run with -update to write it)", err)
-	}
-	if !bytes.Equal(got, want) {
-		t.Errorf("%s differs from the golden file; if the change is meant, run go test ./cmd/internal/report -run Golden -update and review the diff", name)
-	}
+	goldentest.Compare(t, filepath.Join("testdata", "golden", name), got, *update, "go test ./cmd/internal/report -run Golden -update")
 }
 
 var svgElement = regexp.MustCompile(`(?s)<svg .*?</svg>`)
