@@ -594,6 +594,33 @@ func (wb *workbook) about(rep *Report) error {
 	return f.SetColWidth(SheetAbout, "C", "D", 12)
 }
 
+// putRow writes vals from the first column of row, in style (0: none)
+// with each cell's number format from formats ("" keeps the style's).
+func (wb *workbook) putRow(sheet string, row int, vals []any, style int, formats []string) error {
+	f := wb.f
+	if err := setRow(f, sheet, 1, row, vals); err != nil {
+		return err
+	}
+	if style != 0 && len(vals) > 0 {
+		if err := f.SetCellStyle(sheet, cell(1, row), cell(len(vals), row), style); err != nil {
+			return err
+		}
+	}
+	for i, fm := range formats {
+		if fm == "" {
+			continue
+		}
+		id, err := wb.style(fm)
+		if err != nil {
+			return err
+		}
+		if err := f.SetCellStyle(sheet, cell(i+1, row), cell(i+1, row), id); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
 // inputs writes the assumptions of every run as blocks, each with a bold
 // title and header row.
 func (wb *workbook) inputs(rep *Report) error {
@@ -607,25 +634,8 @@ func (wb *workbook) inputs(rep *Report) error {
 	}
 	row := 1
 	put := func(vals []any, style int, formats []string) error {
-		if err := setRow(f, SheetInputs, 1, row, vals); err != nil {
+		if err := wb.putRow(SheetInputs, row, vals, style, formats); err != nil {
 			return err
-		}
-		if style != 0 && len(vals) > 0 {
-			if err := f.SetCellStyle(SheetInputs, cell(1, row), cell(len(vals), row), style); err != nil {
-				return err
-			}
-		}
-		for i, fm := range formats {
-			if fm == "" {
-				continue
-			}
-			id, err := wb.style(fm)
-			if err != nil {
-				return err
-			}
-			if err := f.SetCellStyle(SheetInputs, cell(i+1, row), cell(i+1, row), id); err != nil {
-				return err
-			}
 		}
 		row++
 		return nil

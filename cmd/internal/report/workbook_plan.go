@@ -31,25 +31,8 @@ func (wb *workbook) summary(rep *Report) error {
 	}
 	row := 1
 	put := func(vals []any, style int, formats ...string) error {
-		if err := setRow(f, sheet, 1, row, vals); err != nil {
+		if err := wb.putRow(sheet, row, vals, style, formats); err != nil {
 			return err
-		}
-		if style != 0 {
-			if err := f.SetCellStyle(sheet, cell(1, row), cell(len(vals), row), style); err != nil {
-				return err
-			}
-		}
-		for i, fm := range formats {
-			if fm == "" {
-				continue
-			}
-			id, err := wb.style(fm)
-			if err != nil {
-				return err
-			}
-			if err := f.SetCellStyle(sheet, cell(i+1, row), cell(i+1, row), id); err != nil {
-				return err
-			}
 		}
 		row++
 		return nil
