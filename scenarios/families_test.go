@@ -123,14 +123,7 @@ start_year: 2027
 horizon: 5
 scales:
   five:
-    states:
-      - {name: Very good, min: 80, max: 100, value: 90}
-      - {name: Good, min: 60, max: 80, value: 70}
-      - {name: Fair, min: 40, max: 60, value: 50}
-      - {name: Poor, min: 20, max: 40, value: 30}
-      - {name: Very poor, min: 0, max: 20, value: 10}
-    groups: {good: [Very good, Good], fair: [Fair], poor: [Poor, Very poor]}
-classes:
+` + fiveBands + `classes:
   - name: roads
     scale: five
     unit: lane-km

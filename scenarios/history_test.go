@@ -20,6 +20,17 @@ import (
 // the invented village of Fenwick Hollow, checked against computations
 // written out here.
 
+// threeStates is the scenarios' written three-state scale, with the
+// scales key.
+const threeStates = `scales:
+  three:
+    states:
+      - {name: Good, min: 70, max: 100, value: 85}
+      - {name: Fair, min: 40, max: 70, value: 55}
+      - {name: Poor, min: 0, max: 40, value: 20}
+    groups: {good: [Good], fair: [Fair], poor: [Poor]}
+`
+
 // sealScenario is a preservation seal that holds the state for its year
 // (like the demo's crack seal: distribution to the same state, no ageing in
 // its year), an overlay, and routine costs that grow as lanes wear
@@ -30,14 +41,7 @@ name: Fenwick Hollow lanes (invented example)
 start_year: 2027
 horizon: 15
 currency: USD
-scales:
-  three:
-    states:
-      - {name: Good, min: 70, max: 100, value: 85}
-      - {name: Fair, min: 40, max: 70, value: 55}
-      - {name: Poor, min: 0, max: 40, value: 20}
-    groups: {good: [Good], fair: [Fair], poor: [Poor]}
-classes:
+` + threeStates + `classes:
   - name: lanes
     scale: three
     unit: lane-km
@@ -248,14 +252,7 @@ name: Fenwick Hollow footways (invented example)
 start_year: 2027
 horizon: 4
 currency: USD
-scales:
-  three:
-    states:
-      - {name: Good, min: 70, max: 100, value: 85}
-      - {name: Fair, min: 40, max: 70, value: 55}
-      - {name: Poor, min: 0, max: 40, value: 20}
-    groups: {good: [Good], fair: [Fair], poor: [Poor]}
-classes:
+` + threeStates + `classes:
   - name: footways
     scale: three
     unit: km

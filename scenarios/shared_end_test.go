@@ -10,6 +10,17 @@ import (
 	"wearplan/scenarios"
 )
 
+// fiveBands is a written five-state scale on 0-100 whose ranges share
+// their ends, indented to sit under a scale's name.
+const fiveBands = `    states:
+      - {name: Very good, min: 80, max: 100, value: 90}
+      - {name: Good, min: 60, max: 80, value: 70}
+      - {name: Fair, min: 40, max: 60, value: 50}
+      - {name: Poor, min: 20, max: 40, value: 30}
+      - {name: Very poor, min: 0, max: 20, value: 10}
+    groups: {good: [Very good, Good], fair: [Fair], poor: [Poor, Very poor]}
+`
+
 // sharedEndScenario has a written five-state scale whose ranges share
 // their ends (80-100, 60-80, ...) and a segment list with a row on each
 // shared end (invented Marrowby footpaths).
@@ -18,14 +29,7 @@ start_year: 2027
 horizon: 5
 scales:
   bands:
-    states:
-      - {name: Very good, min: 80, max: 100, value: 90}
-      - {name: Good, min: 60, max: 80, value: 70}
-      - {name: Fair, min: 40, max: 60, value: 50}
-      - {name: Poor, min: 20, max: 40, value: 30}
-      - {name: Very poor, min: 0, max: 20, value: 10}
-    groups: {good: [Very good, Good], fair: [Fair], poor: [Poor, Very poor]}
-classes:
+` + fiveBands + `classes:
   - name: footpaths
     scale: bands
     unit: m2
