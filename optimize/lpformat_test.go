@@ -6,24 +6,16 @@ import (
 	"math"
 	"math/rand/v2"
 	"os"
-	"path/filepath"
 	"strings"
 	"testing"
 
 	"wearplan/optimize/optimizetest"
 )
 
+// writeLPFile writes m in LP format in a temporary folder.
 func writeLPFile(t *testing.T, m *Model, name string) string {
 	t.Helper()
-	var buf bytes.Buffer
-	if err := WriteLP(&buf, m); err != nil {
-		t.Fatal(err)
-	}
-	path := filepath.Join(t.TempDir(), name+".lp")
-	if err := os.WriteFile(path, buf.Bytes(), 0o644); err != nil {
-		t.Fatal(err)
-	}
-	return path
+	return writeModelAs(t, m, name+".lp", WriteLP)
 }
 
 // TestLPFormatSmallModelByHand: the two-product example of Hillier and

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"io"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -18,13 +19,21 @@ import (
 	"wearplan/optimize/optimizetest"
 )
 
+// writeModel writes m as a free MPS file in a temporary folder.
 func writeModel(t *testing.T, m *Model, name string) string {
 	t.Helper()
+	return writeModelAs(t, m, name+".mps", WriteMPS)
+}
+
+// writeModelAs writes m with write (WriteMPS, WriteLP) to a file named
+// name in a temporary folder and returns its path.
+func writeModelAs(t *testing.T, m *Model, name string, write func(io.Writer, *Model) error) string {
+	t.Helper()
 	var buf bytes.Buffer
-	if err := WriteMPS(&buf, m); err != nil {
+	if err := write(&buf, m); err != nil {
 		t.Fatal(err)
 	}
-	path := filepath.Join(t.TempDir(), name+".mps")
+	path := filepath.Join(t.TempDir(), name)
 	if err := os.WriteFile(path, buf.Bytes(), 0o644); err != nil {
 		t.Fatal(err)
 	}
