@@ -445,22 +445,8 @@ type indicatorsJSON struct {
 // ratios and Remaining life sheets hold the JSON's figures, number for
 // number, for the invented utility.
 func TestWorkbookIndicatorsAreTheJSONs(t *testing.T) {
-	code, js, errs := run(t, "plan", keswold, "--format", "json")
-	if code != 0 {
-		t.Fatalf("plan: exit %d: %s", code, errs)
-	}
 	var plan indicatorsJSON
-	if err := json.Unmarshal([]byte(js), &plan); err != nil {
-		t.Fatal(err)
-	}
-	path := filepath.Join(t.TempDir(), "keswold.xlsx")
-	if code, _, errs := run(t, "report", keswold, "--format", "xlsx", "--date", "2027-01-15", "--out", path); code != 0 {
-		t.Fatalf("xlsx: exit %d: %s", code, errs)
-	}
-	x, err := excelize.OpenFile(path)
-	if err != nil {
-		t.Fatal(err)
-	}
+	x := planAndWorkbook(t, keswold, &plan)
 	defer x.Close()
 	rows := func(sheet string) [][]string {
 		rs, err := x.GetRows(sheet, excelize.Options{RawCellValue: true})

@@ -170,22 +170,8 @@ type networkJSON struct {
 // equal to the figure of `plan --format json`, that no figure is missing
 // or extra, and that header rows are frozen.
 func TestWorkbookHoldsTheJSONNumbers(t *testing.T) {
-	code, js, errs := run(t, "plan", demo, "--format", "json")
-	if code != 0 {
-		t.Fatalf("plan: exit %d: %s", code, errs)
-	}
 	var plan planJSON
-	if err := json.Unmarshal([]byte(js), &plan); err != nil {
-		t.Fatal(err)
-	}
-	path := filepath.Join(t.TempDir(), "demo.xlsx")
-	if code, _, errs := run(t, "report", demo, "--format", "xlsx", "--date", "2027-01-15", "--out", path); code != 0 {
-		t.Fatalf("report: exit %d: %s", code, errs)
-	}
-	f, err := excelize.OpenFile(path)
-	if err != nil {
-		t.Fatal(err)
-	}
+	f := planAndWorkbook(t, demo, &plan)
 	defer f.Close()
 	wantSheets := []string{report.SheetAbout, report.SheetSummary, report.SheetWork, report.SheetCondition, report.SheetService, report.SheetSpend, report.SheetClassSpend,
 		report.SheetFunding, report.SheetTargets, report.SheetIndicators, report.SheetRatios, report.SheetLife, report.SheetInputs}
@@ -342,4 +328,26 @@ func TestOutputFilesAreReadable(t *testing.T) {
 			t.Errorf("%s: mode %v, want -rw-r--r--", args[len(args)-1], st.Mode().Perm())
 		}
 	}
+}
+
+// planAndWorkbook decodes `plan --format json` of the scenario into plan
+// and opens the workbook `report --format xlsx` writes for it.
+func planAndWorkbook(t *testing.T, scenario string, plan any) *excelize.File {
+	t.Helper()
+	code, js, errs := run(t, "plan", scenario, "--format", "json")
+	if code != 0 {
+		t.Fatalf("plan: exit %d: %s", code, errs)
+	}
+	if err := json.Unmarshal([]byte(js), plan); err != nil {
+		t.Fatal(err)
+	}
+	path := filepath.Join(t.TempDir(), "plan.xlsx")
+	if code, _, errs := run(t, "report", scenario, "--format", "xlsx", "--date", "2027-01-15", "--out", path); code != 0 {
+		t.Fatalf("report: exit %d: %s", code, errs)
+	}
+	f, err := excelize.OpenFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return f
 }
