@@ -97,18 +97,7 @@ func TestLongRunMachineMaintenance(t *testing.T) {
 	// 1000·5/7 + 4000·2/21 + 6000·2/21 = 35000/21 ≈ 1666.67 a period.
 	// Checked here by enumerating every deterministic policy (policy
 	// enumeration, the book's first method) with policyCost.
-	c := &p.Classes[0]
-	best, bestPolicy := math.Inf(1), []int(nil)
-	for _, s1 := range []int{0, 2} {
-		for _, s2 := range []int{0, 1, 2} {
-			for _, s3 := range []int{0, 2} {
-				pol := []int{0, s1, s2, s3}
-				if cost, _ := policyCost(t, c, pol); cost < best-1e-9 {
-					best, bestPolicy = cost, pol
-				}
-			}
-		}
-	}
+	best, bestPolicy, _ := machineOptimum(t, &p.Classes[0])
 	const book = 35000.0 / 21
 	if math.Abs(best-book) > 1e-9*book || bestPolicy[1] != 0 || bestPolicy[2] != 1 || bestPolicy[3] != 2 {
 		t.Fatalf("enumeration: best policy %v at %g, book says [0 0 1 2] at %g", bestPolicy, best, book)

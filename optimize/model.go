@@ -385,16 +385,23 @@ func (b *builder) spendEntries(t int, classes []int) []Entry {
 			}
 		}
 	}
-	if classes == nil {
-		for k := range b.p.Classes {
-			add(k)
-		}
-	} else {
-		for _, k := range classes {
-			add(k)
-		}
+	for _, k := range b.p.classesOf(classes) {
+		add(k)
 	}
 	return out
+}
+
+// classesOf is classes, or every class's index when classes is nil (a
+// network cap or target rather than a group's).
+func (p *Problem) classesOf(classes []int) []int {
+	if classes != nil {
+		return classes
+	}
+	all := make([]int, len(p.Classes))
+	for k := range all {
+		all[k] = k
+	}
+	return all
 }
 
 func (b *builder) capRows(name string, budget int, caps []float64, classes []int) {

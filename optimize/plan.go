@@ -328,14 +328,8 @@ func doNothingFits(p *Problem) bool {
 		cum, capSum := 0.0, 0.0
 		for t := 0; t < p.Horizon; t++ {
 			s := 0.0
-			if classes == nil {
-				for k := range p.Classes {
-					s += spend[k][t]
-				}
-			} else {
-				for _, k := range classes {
-					s += spend[k][t]
-				}
+			for _, k := range p.classesOf(classes) {
+				s += spend[k][t]
 			}
 			cum += s
 			capSum += caps[t]

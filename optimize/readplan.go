@@ -205,14 +205,8 @@ func budgetSpend(p *Problem, plan *Plan, t int, classes []int) float64 {
 			}
 		}
 	}
-	if classes == nil {
-		for k := range p.Classes {
-			each(k)
-		}
-	} else {
-		for _, k := range classes {
-			each(k)
-		}
+	for _, k := range p.classesOf(classes) {
+		each(k)
 	}
 	return s
 }
@@ -236,13 +230,7 @@ func (s *spendTracker) keepCaps(b *builder, plan *Plan, t int) {
 			continue
 		}
 		target -= 1e-12 * math.Abs(target) // so that rounding cannot tip it over
-		classes := cp.classes
-		if classes == nil {
-			classes = make([]int, len(p.Classes))
-			for k := range classes {
-				classes[k] = k
-			}
-		}
+		classes := p.classesOf(cp.classes)
 		if free := withoutLeastSpend(p, classes); len(free) > 0 && cutSlope(p, plan, t, free) >= spend-target {
 			classes = free
 		}

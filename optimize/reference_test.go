@@ -3,9 +3,9 @@ package optimize
 import (
 	"bytes"
 	"fmt"
+	"io"
 	"math"
 	"math/rand/v2"
-	"io"
 	"os"
 	"os/exec"
 	"path/filepath"

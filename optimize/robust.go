@@ -297,14 +297,8 @@ func (rb *robustBuilder) spendEntries(s, t int, classes []int) []Entry {
 			}
 		}
 	}
-	if classes == nil {
-		for k := range p.Classes {
-			add(k)
-		}
-	} else {
-		for _, k := range classes {
-			add(k)
-		}
+	for _, k := range p.classesOf(classes) {
+		add(k)
 	}
 	return out
 }
