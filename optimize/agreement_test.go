@@ -55,6 +55,23 @@ func generatedScenario(t *testing.T, n int) *scenarios.Scenario {
 
 // relative compares two objectives in the model's units relative to their
 // own size (not to 1): an objective near zero must agree near zero.
+// agreesWithReference checks the plan's least shortfall, primary and
+// tie-break objectives against glpsol's (ref) within 1e-6 relative (1e-12
+// absolute near zero), and returns the primary and tie-break values.
+func agreesWithReference(t *testing.T, who string, p *optimize.Problem, plan *optimize.Plan, ref optimize.Reference) (float64, float64) {
+	t.Helper()
+	prim, sec, short := optimize.ModelObjectives(p, plan)
+	for _, c := range []struct {
+		what     string
+		got, ref float64
+	}{{"least shortfall", short, ref.Shortfall}, {"primary objective", prim, ref.Primary}, {"tie-break objective", sec, ref.Secondary}} {
+		if r := relative(c.got, c.ref); r > 1e-6 && math.Abs(c.got-c.ref) > 1e-12 {
+			t.Errorf("%s: %s %.12g, glpsol %.12g (relative %.2g)", who, c.what, c.got, c.ref, r)
+		}
+	}
+	return prim, sec
+}
+
 func relative(a, b float64) float64 {
 	d := math.Abs(a - b)
 	if d == 0 {
@@ -97,15 +114,7 @@ func TestAgreesWithGLPKOnGeneratedScenarios(t *testing.T) {
 				if plan.Status == optimize.Infeasible {
 					continue
 				}
-				prim, sec, short := optimize.ModelObjectives(p, plan)
-				for _, c := range []struct {
-					what     string
-					got, ref float64
-				}{{"least shortfall", short, ref.Shortfall}, {"primary objective", prim, ref.Primary}, {"tie-break objective", sec, ref.Secondary}} {
-					if r := relative(c.got, c.ref); r > 1e-6 && math.Abs(c.got-c.ref) > 1e-12 {
-						t.Errorf("%s (%s): %s %.12g, glpsol %.12g (relative %.2g)", m, plan.Stats.Method, c.what, c.got, c.ref, r)
-					}
-				}
+				agreesWithReference(t, fmt.Sprintf("%s (%s)", m, plan.Stats.Method), p, plan, ref)
 				for _, w := range plan.Warnings {
 					t.Errorf("%s: warning %q on a scenario glpsol solves", m, w)
 				}
@@ -210,15 +219,7 @@ func TestHardCasesAgreeWithGLPK(t *testing.T) {
 				if plan.Status != ref.Status {
 					t.Fatalf("%s: status %s, glpsol %s", m, plan.Status, ref.Status)
 				}
-				prim, sec, short := optimize.ModelObjectives(p, plan)
-				for _, c := range []struct {
-					what     string
-					got, ref float64
-				}{{"least shortfall", short, ref.Shortfall}, {"primary objective", prim, ref.Primary}, {"tie-break objective", sec, ref.Secondary}} {
-					if r := relative(c.got, c.ref); r > 1e-6 && math.Abs(c.got-c.ref) > 1e-12 {
-						t.Errorf("%s: %s %.12g, glpsol %.12g (relative %.2g)", m, c.what, c.got, c.ref, r)
-					}
-				}
+				prim, sec := agreesWithReference(t, m.String(), p, plan, ref)
 				t.Logf("%s (%s): %s, primary %.10g, tie-break %.10g, path %q", m, plan.Stats.Method, plan.Status, prim, sec, plan.Stats.Path)
 			}
 		})
