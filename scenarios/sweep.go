@@ -305,14 +305,11 @@ func runParallel(ctx context.Context, jobs []func() error) error {
 }
 
 // issuesText is an input error's problems on one line, for a sweep point's
-// note: field and message, without the file (the sweep names it).
+// note.
 func issuesText(ie *InputError) string {
 	parts := make([]string, len(ie.Issues))
 	for i, is := range ie.Issues {
-		parts[i] = is.Msg
-		if is.Field != "" {
-			parts[i] = is.Field + ": " + is.Msg
-		}
+		parts[i] = is.Error()
 	}
 	return strings.Join(parts, "; ")
 }
