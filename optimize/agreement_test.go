@@ -53,8 +53,6 @@ func generatedScenario(t *testing.T, n int) *scenarios.Scenario {
 	return sc
 }
 
-// relative compares two objectives in the model's units relative to their
-// own size (not to 1): an objective near zero must agree near zero.
 // agreesWithReference checks the plan's least shortfall, primary and
 // tie-break objectives against glpsol's (ref) within 1e-6 relative (1e-12
 // absolute near zero), and returns the primary and tie-break values.
@@ -72,6 +70,8 @@ func agreesWithReference(t *testing.T, who string, p *optimize.Problem, plan *op
 	return prim, sec
 }
 
+// relative compares two objectives in the model's units relative to their
+// own size (not to 1): an objective near zero must agree near zero.
 func relative(a, b float64) float64 {
 	d := math.Abs(a - b)
 	if d == 0 {
