@@ -101,8 +101,9 @@ func TestAgreesWithGLPKOnGeneratedScenarios(t *testing.T) {
 			}
 			ref := optimize.ReferenceAnswer(t, p)
 			statuses[ref.Status]++
-			for _, m := range []optimize.Method{optimize.Auto, optimize.Flat, optimize.Decomposed} {
-				plan, err := optimize.SolveWith(p, optimize.Options{Method: m})
+			for _, set := range solverSettings() {
+				m := set.name
+				plan, err := optimize.SolveWith(p, set.o)
 				if err != nil {
 					t.Fatalf("%s: %v", m, err)
 				}
@@ -124,6 +125,25 @@ func TestAgreesWithGLPKOnGeneratedScenarios(t *testing.T) {
 	t.Logf("statuses: %v", statuses)
 	if statuses[optimize.Optimal] < len(generated())/4 || statuses[optimize.TargetsNotMet] < len(generated())/10 || statuses[optimize.Infeasible] < 1 {
 		t.Errorf("statuses %v: the generator no longer covers optimal plans, unmet targets and budgets that cannot hold", statuses)
+	}
+}
+
+// solverSettings are the settings the agreement checks run: the automatic
+// choice, the flat LP, the decomposition, and the decomposition with its
+// master kept alive in lp_solve (which the solver uses only on networks
+// larger than these, so it is forced here).
+func solverSettings() []struct {
+	name string
+	o    optimize.Options
+} {
+	return []struct {
+		name string
+		o    optimize.Options
+	}{
+		{"auto", optimize.Options{Method: optimize.Auto}},
+		{"flat", optimize.Options{Method: optimize.Flat}},
+		{"decomposed", optimize.Options{Method: optimize.Decomposed}},
+		{"decomposed, live master", optimize.LiveMaster(optimize.Options{Method: optimize.Decomposed})},
 	}
 }
 
@@ -211,15 +231,16 @@ func TestHardCasesAgreeWithGLPK(t *testing.T) {
 				t.Fatal(err)
 			}
 			ref := optimize.ReferenceAnswer(t, p)
-			for _, m := range []optimize.Method{optimize.Auto, optimize.Flat, optimize.Decomposed} {
-				plan, err := optimize.SolveWith(p, optimize.Options{Method: m})
+			for _, set := range solverSettings() {
+				m := set.name
+				plan, err := optimize.SolveWith(p, set.o)
 				if err != nil {
 					t.Fatalf("%s: %v", m, err)
 				}
 				if plan.Status != ref.Status {
 					t.Fatalf("%s: status %s, glpsol %s", m, plan.Status, ref.Status)
 				}
-				prim, sec := agreesWithReference(t, m.String(), p, plan, ref)
+				prim, sec := agreesWithReference(t, m, p, plan, ref)
 				t.Logf("%s (%s): %s, primary %.10g, tie-break %.10g, path %q", m, plan.Stats.Method, plan.Status, prim, sec, plan.Stats.Path)
 			}
 		})

@@ -76,3 +76,35 @@ func BenchmarkSolveDecomposed(b *testing.B) {
 		})
 	}
 }
+
+// BenchmarkMasterForm compares the decomposition's two masters, the dual
+// form (re-solved from its last basis as rows are added) and the live
+// primal form (colMaster), on networks either side of liveMasterMinWork,
+// with targets (so hold and target rows enter the masters).
+func BenchmarkMasterForm(b *testing.B) {
+	for _, spec := range []GenSpec{
+		{Classes: 4, States: 5, Treatments: 4, Years: 20, Targets: true, BudgetShare: 0.15},
+		{Classes: 10, States: 6, Treatments: 5, Years: 20, Targets: true, BudgetShare: 0.15},
+		{Classes: 20, States: 7, Treatments: 6, Years: 30, Targets: true, BudgetShare: 0.15},
+	} {
+		p := Generate(rand.New(rand.NewPCG(1, 1)), spec)
+		work := newDecomposer(p, Options{}).pricingWork
+		for _, form := range []masterForm{masterDual, masterLive} {
+			name := "dual"
+			if form == masterLive {
+				name = "live"
+			}
+			b.Run(spec.String()+"/"+name, func(b *testing.B) {
+				var plan *Plan
+				for b.Loop() {
+					var err error
+					if plan, err = SolveWith(p, Options{Method: Decomposed, master: form}); err != nil {
+						b.Fatal(err)
+					}
+				}
+				b.ReportMetric(float64(work), "rewards/round")
+				b.ReportMetric(float64(plan.Stats.Solves), "solves")
+			})
+		}
+	}
+}

@@ -57,7 +57,20 @@ type Options struct {
 	// MaxIterations caps the column-generation rounds of each stage of a
 	// decomposed solve; zero means DefaultMaxIterations.
 	MaxIterations int
+	// master chooses the decomposition's master form instead of the
+	// network's size: tests and benchmarks use it to check and time
+	// either form on any network.
+	master masterForm
 }
+
+// masterForm is the form of the decomposition's restricted master.
+type masterForm int
+
+const (
+	masterBySize masterForm = iota // live above liveMasterMinWork, else dual
+	masterDual                     // dualMaster (holdMaster with holds)
+	masterLive                     // colMaster
+)
 
 // DefaultMaxIterations caps the rounds of one decomposition stage.
 const DefaultMaxIterations = 2000
@@ -230,6 +243,12 @@ type decomposer struct {
 	// setOf is, per target, the index of its state set among its class's
 	// sets (dwClass.sets); -1 for targets on groups or scores.
 	setOf []int
+	// live: the stages keep their masters alive in lp_solve (colMaster).
+	live bool
+	// extras are master columns no pricing problem makes (money added to
+	// budget rows, for the funding questions); only a live master holds
+	// them.
+	extras []extra
 }
 
 func newDecomposer(p *Problem, o Options) *decomposer {
@@ -266,6 +285,7 @@ func newDecomposer(p *Problem, o Options) *decomposer {
 	for _, d := range dw.classes {
 		dw.pricingWork += len(d.pairs) * d.years
 	}
+	dw.live = o.master == masterLive || (o.master == masterBySize && dw.pricingWork > liveMasterMinWork)
 	return dw
 }
 
@@ -360,6 +380,29 @@ func (dw *decomposer) addColumn(col *column) bool {
 
 func solveDecomposed(p *Problem, o Options) (*Plan, error) {
 	dw := newDecomposer(p, o)
+	dw.seed(o)
+	res, capped, err := dw.stages(o, objKindOf(p.Objective), objKindOf(other(p.Objective)))
+	if errors.Is(err, errBudgetsCannotHold) {
+		dw.stats.Method = Decomposed.String()
+		dw.stats.Columns = len(dw.pool)
+		return &Plan{Status: Infeasible, Stats: dw.stats}, nil
+	}
+	if err != nil {
+		return nil, err
+	}
+	plan, err := dw.plan(res)
+	if err != nil {
+		return nil, err
+	}
+	return plan, capped
+}
+
+// errBudgetsCannotHold: no plan keeps the budget rows (stage 0 of stages).
+var errBudgetsCannotHold = errors.New("no plan keeps the budgets")
+
+// seed fills the pool with each class's do nothing and, from a Warm, its
+// policies.
+func (dw *decomposer) seed(o Options) {
 	for k, d := range dw.classes {
 		dw.add(k, d.doNothing())
 	}
@@ -368,15 +411,23 @@ func solveDecomposed(p *Problem, o Options) (*Plan, error) {
 		dw.warmStarted = true
 	}
 	dw.seeded = len(dw.pool)
-	dw.warmup = dw.pricingWork <= warmupMaxWork
+	dw.warmup = (dw.pricingWork <= warmupMaxWork || dw.live) && len(dw.extras) == 0
+}
+
+// stages runs the lexicographic stages of a decomposed solve, primary
+// then secondary, and returns the last stage's master answer. A stage that
+// reached the iteration cap still ends with a plan that meets its rows:
+// the later stages go on from it, and the answer comes back with the
+// cap's error as capped (see SolveWith). It returns errBudgetsCannotHold
+// when no plan keeps the budget rows.
+func (dw *decomposer) stages(o Options, primary, secondary objKind) (res *masterResult, capped error, err error) {
+	p := dw.p
 	sign := func(k objKind) float64 {
 		if k == objCondition {
 			return 1
 		}
 		return -1
 	}
-	primary := objKindOf(p.Objective)
-	secondary := objKindOf(other(p.Objective))
 
 	// Stage 0, when doing nothing overspends a budget (routine costs
 	// counted against it) or spends less than a least spend: the least
@@ -389,19 +440,13 @@ func solveDecomposed(p *Problem, o Options) (*Plan, error) {
 		if err != nil {
 			// At the cap the least overspend is not known: whether any
 			// plan keeps the budgets is left to the flat model.
-			return nil, err
+			return nil, nil, err
 		}
 		if -res.z > infeasibleExcess {
-			dw.stats.Method = Decomposed.String()
-			dw.stats.Columns = len(dw.pool)
-			return &Plan{Status: Infeasible, Stats: dw.stats}, nil
+			return nil, nil, errBudgetsCannotHold
 		}
 	}
 
-	// A stage that reaches the iteration cap still ends with a plan that
-	// meets its rows: the later stages go on from it, and the plan comes
-	// back with the cap's error (see SolveWith).
-	var capped error
 	run := func(st *stage) (*masterResult, error) {
 		res, err := dw.generate(st)
 		if errors.Is(err, ErrIterationCap) && res != nil {
@@ -418,7 +463,7 @@ func solveDecomposed(p *Problem, o Options) (*Plan, error) {
 	if len(p.Targets) > 0 {
 		res, err := run(&stage{obj: objSlack, sign: 1})
 		if err != nil {
-			return nil, err
+			return nil, nil, err
 		}
 		short := -res.z
 		if short <= 1e-12 {
@@ -429,29 +474,29 @@ func solveDecomposed(p *Problem, o Options) (*Plan, error) {
 			dw.leastShortfall = short
 		}
 	}
+	if elastic && len(dw.extras) > 0 {
+		return nil, nil, errFundingShort
+	}
 	// Stage 2: the primary objective, keeping the least shortfall.
 	st := &stage{obj: primary, sign: sign(primary)}
 	if elastic {
 		st.holds = []hold{{obj: objSlack, sign: -1, held: -dw.leastShortfall}}
 	}
-	res, err := run(st)
+	res, err = run(st)
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	// Stage 3: the tie-break, keeping the primary optimum (and with unmet
 	// targets the least total shortfall too, as in the flat model's
 	// lexicographic solves).
-	held := 0.0
-	for j, w := range res.lambda {
-		held += w * sign(primary) * dw.objValue(primary, dw.pool[j])
-	}
-	st3 := &stage{obj: secondary, sign: sign(secondary), holds: append(append([]hold(nil), st.holds...), hold{obj: primary, sign: sign(primary), held: held}), tieBreak: true}
+	held := dw.heldValue(&hold{obj: primary, sign: 1}, res)
+	st3 := &stage{obj: secondary, sign: sign(secondary), holds: append(append([]hold(nil), st.holds...), hold{obj: primary, sign: sign(primary), held: sign(primary) * held}), tieBreak: true}
 	res3, err := run(st3)
 	switch {
 	case err == nil:
 		res = res3
 	case halted(err):
-		return nil, err
+		return nil, nil, err
 	default:
 		// lp_solve gave no answer to a tie-break master on any path:
 		// stage 2's plan is optimal in the primary objective, and
@@ -461,11 +506,7 @@ func solveDecomposed(p *Problem, o Options) (*Plan, error) {
 	if o.Warm != nil {
 		o.Warm.keep(dw)
 	}
-	plan, err := dw.plan(res)
-	if err != nil {
-		return nil, err
-	}
-	return plan, capped
+	return res, capped, nil
 }
 
 // infeasibleExcess is the least total spend over the budget rows (in model
@@ -479,7 +520,7 @@ const infeasibleExcess = 1e-9
 func (dw *decomposer) doNothingOverspends() bool {
 	for r := range dw.links {
 		l := &dw.links[r]
-		if l.kind != linkBudget || (l.sense == LessEq && !dw.p.RoutineInBudget) {
+		if l.kind != linkBudget || (l.sense == LessEq && (!dw.p.RoutineInBudget || l.funded)) {
 			continue
 		}
 		v := 0.0
@@ -506,7 +547,10 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 	// earlier optimum solves its master in the primal form with the hold
 	// as a row (see holdMaster).
 	var dm master = newHoldMaster(dw, st)
-	if !st.weighted() {
+	switch {
+	case dw.live:
+		dm = newColMaster(dw, st, dw.usedMask())
+	case !st.weighted():
 		dm = newDualMaster(dw, st, dw.usedMask())
 	}
 	// The stability centre of the dual smoothing (Wentges, 1997): the
@@ -526,9 +570,17 @@ func (dw *decomposer) generate(st *stage) (*masterResult, error) {
 		if err != nil {
 			return nil, fmt.Errorf("decomposition master: %w", err)
 		}
-		if hm, ok := dm.(*holdMaster); ok && hm.relaxed {
-			hm.relaxed = false
-			center, bestBound = nil, math.Inf(1) // the bound was for tighter holds
+		switch m := dm.(type) {
+		case *holdMaster:
+			if m.relaxed {
+				m.relaxed = false
+				center, bestBound = nil, math.Inf(1) // the bound was for tighter holds
+			}
+		case *colMaster:
+			if m.relaxed {
+				m.relaxed = false
+				center, bestBound = nil, math.Inf(1)
+			}
 		}
 		dw.stats.Rows, dw.stats.Cols = res.rows, res.cols
 		if st.obj != objExcess && dw.activateViolated(st, res) {
@@ -825,7 +877,26 @@ func (pc *pricer) price(pi []float64, res *masterResult) float64 {
 		h := &st.holds[i]
 		bound -= h.weight * h.bound(st.holdRelax())
 	}
-	return bound + dw.slackBound(st, pi)
+	return bound + dw.slackBound(st, pi) + dw.extraBound(st, pi)
+}
+
+// extraBound is the extra columns' part of the Lagrangian bound: an extra
+// column priced above zero has no limit (it is unbounded above), so the
+// bound is infinite at such prices.
+func (dw *decomposer) extraBound(st *stage, pi []float64) float64 {
+	for i, e := range dw.extras {
+		rc := dw.extraOwnValue(st, i)
+		for h := range st.holds {
+			rc += st.holds[h].weight * dw.extraHeldValue(&st.holds[h], i)
+		}
+		for _, t := range e.terms {
+			rc -= pi[t.link] * t.val
+		}
+		if rc > 1e-12 {
+			return math.Inf(1)
+		}
+	}
+	return 0
 }
 
 // reducedCost is a policy's reduced cost at the master's prices.
@@ -1037,7 +1108,12 @@ const (
 	warmupMaxWork = 5000
 	warmupSteps   = 100
 	warmupKeep    = 30
-	warmupTarget  = 0.3
+	// warmupKeepLarge is warmupKeep on networks past warmupMaxWork (those
+	// with a live master): their masters grow by a policy per class per
+	// kept step, and the last ten steps' policies served as well as the
+	// last thirty.
+	warmupKeepLarge = 10
+	warmupTarget    = 0.3
 )
 
 // lagrangeWarmup runs the warm-up from the master result res and returns
@@ -1053,6 +1129,10 @@ func (dw *decomposer) lagrangeWarmup(pc *pricer, res *masterResult) (float64, []
 	cols := make([]*column, K)
 	best, theta, stale := math.Inf(1), 1.0, 0
 	var bestPi []float64
+	keep := warmupKeep
+	if dw.pricingWork > warmupMaxWork {
+		keep = warmupKeepLarge
+	}
 	for step := 0; step < warmupSteps; step++ {
 		if dw.p.Context().Err() != nil {
 			break // generate's next round returns the context's error
@@ -1061,7 +1141,7 @@ func (dw *decomposer) lagrangeWarmup(pc *pricer, res *masterResult) (float64, []
 		dw.stats.Iterations++
 		for k := 0; k < K; k++ {
 			cols[k] = dw.classes[k].roll(k, pc.pols[k])
-			if step >= warmupSteps-warmupKeep {
+			if step >= warmupSteps-keep {
 				dw.addColumn(cols[k])
 			}
 		}

@@ -64,6 +64,12 @@ func leastShortfall(p *Problem) (float64, error) {
 	if len(p.Targets) == 0 {
 		return 0, nil
 	}
+	if flatColumns(p) > fundingFlatColumns {
+		s, err := leastShortfallDecomposed(p)
+		if err == nil || halted(err) {
+			return s, err
+		}
+	}
 	b := newBuilder(p)
 	b.build()
 	em, cols := b.elastic()
@@ -237,18 +243,17 @@ func LevelBudget(p *Problem) (float64, error) {
 	}
 	b := newBuilder(q)
 	m := b.build()
-	level := m.addCol("level", 0)
-	for t := 0; t < q.Horizon; t++ {
-		var e []Entry
-		if q.CarryOver {
-			for s := 0; s <= t; s++ {
-				e = append(e, b.spendEntries(s, nil)...)
+	level := addLevelRows(b, m)
+	if flatColumns(q) > fundingFlatColumns {
+		x, err := levelBudgetDecomposed(q, b, m, level)
+		if err == nil || halted(err) {
+			if err != nil {
+				return 0, err
 			}
-			e = append(e, Entry{level, -float64(t + 1)})
-		} else {
-			e = append(b.spendEntries(t, nil), Entry{level, -1})
+			return roundUpMoney(x[level]*b.moneyUnit, b.moneyUnit), nil
 		}
-		m.addRow(Row{Name: fmt.Sprintf("level_%d", t+1), Entries: e, Sense: LessEq, RHS: 0})
+		// Targets out of reach, or no checked answer: the flat model
+		// below says which, and why.
 	}
 	obj := make([]float64, len(m.Cols))
 	obj[level] = 1
@@ -276,6 +281,27 @@ func LevelBudget(p *Problem) (float64, error) {
 		return 0, err
 	}
 	return roundUpMoney(lr.x[level]*b.moneyUnit, b.moneyUnit), nil
+}
+
+// addLevelRows adds to m, built by b, the level column L and the rows that
+// hold spend at most L each year (with carry-over, spend up to year t at
+// most t·L), and returns L's column.
+func addLevelRows(b *builder, m *Model) int {
+	q := b.p
+	level := m.addCol("level", 0)
+	for t := 0; t < q.Horizon; t++ {
+		var e []Entry
+		if q.CarryOver {
+			for s := 0; s <= t; s++ {
+				e = append(e, b.spendEntries(s, nil)...)
+			}
+			e = append(e, Entry{level, -float64(t + 1)})
+		} else {
+			e = append(b.spendEntries(t, nil), Entry{level, -1})
+		}
+		m.addRow(Row{Name: fmt.Sprintf("level_%d", t+1), Entries: e, Sense: LessEq, RHS: 0})
+	}
+	return level
 }
 
 // heldBackBy names the budget groups whose caps keep the targets of q (no
@@ -328,6 +354,40 @@ func (g *Gap) Total() float64 {
 	return s
 }
 
+// extraMoney is a column of ClosingMoney's model: money added to the cap
+// of budget (Network or a group) in year (1-based).
+type extraMoney struct{ col, budget, year int }
+
+// addExtraMoney adds to m, built by b, a column of extra money for every
+// capped budget and year, entering that year's cap row and, with
+// carry-over, every later one.
+func addExtraMoney(b *builder, m *Model) []extraMoney {
+	var extras []extraMoney
+	colOf := map[[2]int]int{}
+	for _, cr := range b.caps {
+		key := [2]int{cr.budget, cr.year}
+		if _, ok := colOf[key]; !ok {
+			c := m.addCol(fmt.Sprintf("extra%d_%d", cr.budget+2, cr.year), 0)
+			colOf[key] = c
+			extras = append(extras, extraMoney{c, cr.budget, cr.year})
+		}
+	}
+	for _, cr := range b.caps {
+		r := &m.Rows[cr.row]
+		r.Entries = append([]Entry(nil), r.Entries...)
+		first := cr.year
+		if b.p.CarryOver {
+			first = 1
+		}
+		for y := first; y <= cr.year; y++ {
+			if c, ok := colOf[[2]int{cr.budget, y}]; ok {
+				r.Entries = append(r.Entries, Entry{c, -1})
+			}
+		}
+	}
+	return extras
+}
+
 // ClosingMoney finds the extra money, year by year, that closes every
 // target's shortfall at the least present value: the plan's model with a
 // non-negative column e added to each cap (e in year s raises the cap of
@@ -351,41 +411,32 @@ func ClosingMoney(p *Problem) (*Gap, error) {
 	for g := range gap.Groups {
 		gap.Groups[g] = make([]float64, p.Horizon)
 	}
-	type extraCol struct{ col, budget, year int }
-	var extras []extraCol
-	colOf := map[[2]int]int{}
-	for _, cr := range b.caps {
-		key := [2]int{cr.budget, cr.year}
-		if _, ok := colOf[key]; !ok {
-			c := m.addCol(fmt.Sprintf("extra%d_%d", cr.budget+2, cr.year), 0)
-			colOf[key] = c
-			extras = append(extras, extraCol{c, cr.budget, cr.year})
+	extras := addExtraMoney(b, m)
+	var x []float64
+	if flatColumns(p) > fundingFlatColumns {
+		var err error
+		x, err = closingMoneyDecomposed(p, b, m, extras)
+		if halted(err) {
+			return nil, err
+		}
+		if err != nil {
+			x = nil // the flat model below says why
 		}
 	}
-	for _, cr := range b.caps {
-		r := &m.Rows[cr.row]
-		r.Entries = append([]Entry(nil), r.Entries...)
-		first := cr.year
-		if p.CarryOver {
-			first = 1
+	if x == nil {
+		obj := make([]float64, len(m.Cols))
+		for _, e := range extras {
+			obj[e.col] = p.discount(e.year - 1)
 		}
-		for y := first; y <= cr.year; y++ {
-			if c, ok := colOf[[2]int{cr.budget, y}]; ok {
-				r.Entries = append(r.Entries, Entry{c, -1})
-			}
+		pv := append(b.objectiveOf(MinCost), make([]float64, len(extras))...)
+		lr, err := settle(m, p, []objectiveSpec{{obj: obj}, {obj: pv}}, func() (bool, error) { return reachable(p) })
+		if err != nil {
+			return nil, err
 		}
-	}
-	obj := make([]float64, len(m.Cols))
-	for _, e := range extras {
-		obj[e.col] = p.discount(e.year - 1)
-	}
-	pv := append(b.objectiveOf(MinCost), make([]float64, len(extras))...)
-	lr, err := settle(m, p, []objectiveSpec{{obj: obj}, {obj: pv}}, func() (bool, error) { return reachable(p) })
-	if err != nil {
-		return nil, err
+		x = lr.x
 	}
 	for _, e := range extras {
-		v := roundUpMoney(lr.x[e.col]*b.moneyUnit, b.moneyUnit)
+		v := roundUpMoney(x[e.col]*b.moneyUnit, b.moneyUnit)
 		if e.budget == Network {
 			gap.Network[e.year-1] = v
 		} else {

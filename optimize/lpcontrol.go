@@ -30,6 +30,26 @@ static void wp_set_settings(lprec *lp, int scaling, int simplex, int pricing, in
 static long long wp_total_iter(lprec *lp) { return (long long)get_total_iter(lp); }
 static int wp_get_scaling(lprec *lp) { return get_scaling(lp); }
 static int wp_rows(lprec *lp) { return get_Nrows(lp); }
+static int wp_columns(lprec *lp) { return get_Ncolumns(lp); }
+
+// The live master (colmaster.go) grows its model between solves: rows and
+// columns added to a solved model keep lp_solve's basis, so the next solve
+// goes on from it. count may be zero (an empty row).
+static int wp_add_row(lprec *lp, int count, double *vals, int *cols, int sense, double rhs) {
+	double zero = 0;
+	int first = 1;
+	if (count == 0) {
+		// lp_solve reads the arrays even for an empty row.
+		return add_constraintex(lp, 0, &zero, &first, sense, rhs);
+	}
+	return add_constraintex(lp, count, vals, cols, sense, rhs);
+}
+static int wp_add_column(lprec *lp, int count, double *vals, int *rows) {
+	return add_columnex(lp, count, vals, rows);
+}
+static int wp_set_rh(lprec *lp, int row, double v) { return set_rh(lp, row, v); }
+static int wp_get_basis(lprec *lp, int *basis) { return get_basis(lp, basis, TRUE); }
+static int wp_set_basis(lprec *lp, int *basis) { return set_basis(lp, basis, TRUE); }
 */
 import "C"
 
@@ -106,3 +126,54 @@ func (s lpSettings) apply(lp *golp.LP) {
 // TestLprecOf.
 func scalingOf(lp *golp.LP) int { return int(C.wp_get_scaling(lprecOf(lp))) }
 func rowsOf(lp *golp.LP) int    { return int(C.wp_rows(lprecOf(lp))) }
+
+// addRow adds a row over the given 0-based columns; it may be empty.
+func addRow(lp *golp.LP, cols []int32, vals []float64, sense golp.ConstraintType, rhs float64) bool {
+	var vp *C.double
+	var cp *C.int
+	if len(cols) > 0 {
+		cc := make([]C.int, len(cols))
+		for i, c := range cols {
+			cc[i] = C.int(c + 1)
+		}
+		vp, cp = (*C.double)(unsafe.Pointer(&vals[0])), &cc[0]
+	}
+	return C.wp_add_row(lprecOf(lp), C.int(len(cols)), vp, cp, C.int(sense), C.double(rhs)) != 0
+}
+
+// addColumn adds a column with the given entries; rows are lp_solve's
+// (0 is the objective, 1 the first row).
+func addColumn(lp *golp.LP, rows []int32, vals []float64) bool {
+	if len(rows) == 0 {
+		return C.wp_add_column(lprecOf(lp), 0, nil, nil) != 0
+	}
+	rr := make([]C.int, len(rows))
+	for i, r := range rows {
+		rr[i] = C.int(r)
+	}
+	return C.wp_add_column(lprecOf(lp), C.int(len(rows)), (*C.double)(unsafe.Pointer(&vals[0])), &rr[0]) != 0
+}
+
+// setRHS sets the right-hand side of 0-based row r.
+func setRHS(lp *golp.LP, r int, v float64) { C.wp_set_rh(lprecOf(lp), C.int(r+1), C.double(v)) }
+
+// columnsOf is lp_solve's column count.
+func columnsOf(lp *golp.LP) int { return int(C.wp_columns(lprecOf(lp))) }
+
+// basisOf returns lp_solve's last basis in its own layout (element 0
+// unused; then the basic variables, then the others; variable i is row i
+// for 1 <= i <= rows and column i-rows after; negative: at its lower
+// bound).
+func basisOf(lp *golp.LP) []int32 {
+	b := make([]int32, 1+rowsOf(lp)+columnsOf(lp))
+	if C.wp_get_basis(lprecOf(lp), (*C.int)(unsafe.Pointer(&b[0]))) == 0 {
+		return nil
+	}
+	return b
+}
+
+// setBasis hands lp_solve a starting basis in basisOf's layout; it
+// reports whether lp_solve accepted it.
+func setBasis(lp *golp.LP, b []int32) bool {
+	return C.wp_set_basis(lprecOf(lp), (*C.int)(unsafe.Pointer(&b[0]))) != 0
+}

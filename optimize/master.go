@@ -24,6 +24,7 @@ const (
 	objCost                     // present value of spend, money units
 	objSlack                    // total target shortfall
 	objExcess                   // total spend over the budget rows (budget feasibility)
+	objFunding                  // money added to the budget rows (extra columns; see extra)
 )
 
 func objKindOf(o Objective) objKind {
@@ -49,6 +50,23 @@ type link struct {
 	// goal is the target's own bound; rhs may be relaxed from it by the
 	// least shortfall once targets are known to be out of reach.
 	goal float64
+	// budget is the cap a budget row holds: Network, a group's index, or
+	// leastSpendBudget.
+	budget int
+	// funded: an extra column (money added) enters the row.
+	funded bool
+}
+
+// leastSpendBudget is link.budget for a least-spend row.
+const leastSpendBudget = -2
+
+// extra is a column of the master that no pricing problem makes: money
+// added to budget rows, for the funding questions (fundingdw.go). It is
+// non-negative and unbounded, costs cost in objFunding and enters the
+// linking rows of terms.
+type extra struct {
+	cost  float64
+	terms []linkTerm
 }
 
 // linkRows builds the linking rows of a problem in a fixed order: network
@@ -58,7 +76,7 @@ type link struct {
 func (dw *decomposer) linkRows() []link {
 	p := dw.p
 	var out []link
-	caps := func(name string, yearly []float64, cls []int) {
+	caps := func(name string, budget int, yearly []float64, cls []int) {
 		cum := 0.0
 		for t := 0; t < p.Horizon; t++ {
 			c, from := yearly[t], t
@@ -72,24 +90,24 @@ func (dw *decomposer) linkRows() []link {
 			if cls != nil && len(cls) == 0 {
 				continue
 			}
-			out = append(out, link{kind: linkBudget, name: fmt.Sprintf("%s_%d", name, t+1), sense: LessEq, rhs: c / dw.moneyUnit, year: t, from: from, cls: cls, active: true})
+			out = append(out, link{kind: linkBudget, name: fmt.Sprintf("%s_%d", name, t+1), sense: LessEq, rhs: c / dw.moneyUnit, year: t, from: from, cls: cls, active: true, budget: budget})
 		}
 	}
 	if p.Budget != nil {
-		caps("budget", p.Budget, nil)
+		caps("budget", Network, p.Budget, nil)
 	}
 	for g, gb := range p.GroupBudgets {
 		cls := gb.Classes
 		if cls == nil {
 			cls = []int{}
 		}
-		caps(fmt.Sprintf("groupbudget%d", g+1), gb.Yearly, cls)
+		caps(fmt.Sprintf("groupbudget%d", g+1), g, gb.Yearly, cls)
 	}
 	// Least spends: budget rows of the other sense, each year on its own.
 	for m, ms := range p.MinSpends {
 		for t := 0; t < p.Horizon; t++ {
 			if ms.Yearly[t] > 0 {
-				out = append(out, link{kind: linkBudget, name: fmt.Sprintf("minspend%d_%d", m+1, t+1), sense: GreaterEq, rhs: ms.Yearly[t] / dw.moneyUnit, year: t, from: t, cls: ms.Classes, active: true})
+				out = append(out, link{kind: linkBudget, name: fmt.Sprintf("minspend%d_%d", m+1, t+1), sense: GreaterEq, rhs: ms.Yearly[t] / dw.moneyUnit, year: t, from: t, cls: ms.Classes, active: true, budget: leastSpendBudget})
 			}
 		}
 	}
@@ -348,6 +366,7 @@ type masterResult struct {
 	slack  []float64 // per link (zero where the link has no shortfall column)
 	pi     []float64 // per link (zero for inactive links)
 	mu     []float64 // per class
+	extra  []float64 // per extra column (dw.extras)
 	// holdPrices are the prices of a holdMaster's hold rows (at least
 	// zero), the weights pricing puts on the held objectives.
 	holdPrices []float64
@@ -693,6 +712,11 @@ func (dw *decomposer) linkViolation(res *masterResult) float64 {
 			}
 		}
 		lhs += slackSign(l) * res.slack[r]
+		if l.funded {
+			for i := range dw.extras {
+				lhs += res.extra[i] * dw.extraCoef(i, r)
+			}
+		}
 		worst = math.Max(worst, rowMiss(l.sense, lhs, l.rhs))
 	}
 	return worst
@@ -709,7 +733,37 @@ func (dw *decomposer) primalValue(st *stage, res *masterResult) float64 {
 	for _, s := range res.slack {
 		z += s * st.ownSlackValue()
 	}
+	for i, v := range res.extra {
+		z += v * dw.extraOwnValue(st, i)
+	}
 	return z
+}
+
+// extraCoef is extra column i's coefficient in link r.
+func (dw *decomposer) extraCoef(i, r int) float64 {
+	for _, t := range dw.extras[i].terms {
+		if t.link == r {
+			return t.val
+		}
+	}
+	return 0
+}
+
+// extraOwnValue is extra column i's coefficient in the stage's own
+// objective.
+func (dw *decomposer) extraOwnValue(st *stage, i int) float64 {
+	if st.obj == objFunding {
+		return st.sign * dw.extras[i].cost
+	}
+	return 0
+}
+
+// extraHeldValue is extra column i's coefficient in hold h's row.
+func (dw *decomposer) extraHeldValue(h *hold, i int) float64 {
+	if h.obj == objFunding {
+		return h.sign * dw.extras[i].cost
+	}
+	return 0
 }
 
 // solvePrimal solves the restricted master of a stage in its primal form,
@@ -889,6 +943,15 @@ func (dw *decomposer) overspend(res *masterResult) []float64 {
 // columns gives weights that meet them to its feasibility tolerance. The
 // polished plan replaces the master's only when it is as good.
 func (dw *decomposer) polish(st *stage, res *masterResult) *masterResult {
+	if len(dw.extras) > 0 {
+		// The primal form below knows no extra columns; a master with
+		// them is a live one, whose weights are a primal simplex answer.
+		return res
+	}
+	if dw.live && dw.overspend(res) == nil && dw.meetsHolds(st, res) {
+		// The live master's weights are a primal simplex answer already.
+		return res
+	}
 	keep := make([]bool, len(res.lambda))
 	for j, w := range res.lambda {
 		keep[j] = w > 0
@@ -970,6 +1033,11 @@ func (dw *decomposer) heldValue(h *hold, res *masterResult) float64 {
 	for j, w := range res.lambda {
 		if w > 0 {
 			v += w * dw.objValue(h.obj, dw.pool[j])
+		}
+	}
+	if h.obj == objFunding {
+		for i, e := range res.extra {
+			v += e * dw.extras[i].cost
 		}
 	}
 	return h.sign * v
