@@ -208,6 +208,43 @@
 // comes back. Each later stage starts from the policies the earlier stages'
 // plans use.
 //
+// The live master. On networks whose pricing round evaluates more than
+// 10,000 (year, state, treatment) rewards, the dual form's refactorisation
+// of a basis the size of the pool made the master, not pricing, the bulk of
+// a solve (187 s at 1,000 classes). There the master is kept in its primal
+// form, alive in lp_solve from round to round through a small cgo call on
+// the same library (add_columnex: golp cannot add columns): one row per
+// active linking row, class and hold, one column per policy in the working
+// set, shortfall and extra money; new policies enter as columns at zero
+// and newly violated target rows as rows, so the last basis stays a basis
+// and lp_solve goes on from it. Past three policy columns per row the
+// working set is cut to the policies the basis holds or the plan uses and
+// those of the last three rounds, and the rebuilt master is handed the old
+// basis (get_basis and set_basis, renumbered), so the cut costs no
+// simplex iterations. Every answer is checked: the weights against every
+// row, the prices against every column's reduced cost (at most 1e-8 of
+// its largest term) and the two values against each other (within the
+// stopping gap); an answer that fails is solved again from scratch under
+// each of lp_solve's other settings. The live master starts with mean
+// scaling: under lp_solve's default geometric scaling, masters with
+// target rows gave answers these checks rejected. Hold rows are rows of
+// this master, as in the primal fallback; the Lagrangian warm-up runs on
+// these networks too (keeping the last 10 steps' policies), since a
+// pricing round is cheap beside the rounds it saves.
+//
+// Funding questions. The least level budget (LevelBudget) and the extra
+// money that closes the targets (ClosingMoney) are one LP each: the plan's
+// model plus money columns in the budget rows (the level L in every
+// year's row, or extra money per cap and year). Past 5,000 flat columns
+// they are solved by the same decomposition, the money columns being
+// columns of the live master that no pricing problem makes (an unbounded
+// column priced above zero makes the Lagrangian bound infinite, so such
+// prices prove nothing): stages (1) least total shortfall, which must be
+// zero, (2) least money, (3) least present value of spend with the money
+// held. The answer is checked against every row of the flat funding model
+// before it is used; when the targets cannot all be met, the flat model
+// says which and why.
+//
 // A Warm carries the policies that the final plans used from one solve to
 // the next (sweeps, what-if runs); they are re-rolled under the new data, so
 // a Warm changes the work, not the optimum.
