@@ -1,6 +1,7 @@
 package optimize
 
 import (
+	"fmt"
 	"math/rand/v2"
 	"testing"
 
@@ -79,10 +80,11 @@ func BenchmarkSolveDecomposed(b *testing.B) {
 
 // BenchmarkMasterForm compares the decomposition's two masters, the dual
 // form (re-solved from its last basis as rows are added) and the live
-// primal form (colMaster), on networks either side of liveMasterMinWork,
-// with targets (so hold and target rows enter the masters).
+// primal form (colMaster), on networks of several sizes, most with
+// targets (so hold and target rows enter the masters).
 func BenchmarkMasterForm(b *testing.B) {
 	for _, spec := range []GenSpec{
+		{Classes: 4, States: 5, Treatments: 4, Years: 20, BudgetShare: 0.15},
 		{Classes: 4, States: 5, Treatments: 4, Years: 20, Targets: true, BudgetShare: 0.15},
 		{Classes: 10, States: 6, Treatments: 5, Years: 20, Targets: true, BudgetShare: 0.15},
 		{Classes: 20, States: 7, Treatments: 6, Years: 30, Targets: true, BudgetShare: 0.15},
@@ -94,7 +96,7 @@ func BenchmarkMasterForm(b *testing.B) {
 			if form == masterLive {
 				name = "live"
 			}
-			b.Run(spec.String()+"/"+name, func(b *testing.B) {
+			b.Run(fmt.Sprintf("%s/targets=%v/%s", spec, spec.Targets, name), func(b *testing.B) {
 				var plan *Plan
 				for b.Loop() {
 					var err error
