@@ -321,3 +321,23 @@ func TestDecomposedMatchesGLPKOnLargeModel(t *testing.T) {
 	}
 	t.Logf("decomposed %.12g, glpsol (%s) %.12g: %d rounds, %d policies", got, kind, want, plan.Stats.Iterations, plan.Stats.Columns)
 }
+
+// TestNoFlatFallbackPastItsSize: a decomposition stopped by its iteration
+// cap on a network whose flat model lp_solve cannot finish in a minute
+// (60x10x8x40, 70,720 columns; docs/benchmarks.md) returns its own plan
+// with a warning of the gap it proved, without trying the flat model (a
+// flat try would take minutes; this test would time out).
+func TestNoFlatFallbackPastItsSize(t *testing.T) {
+	p := Generate(rand.New(rand.NewPCG(1, 1)), GenSpec{Classes: 60, States: 10, Treatments: 8, Years: 40, BudgetShare: 0.15})
+	if flatColumns(p) <= flatFallbackColumns {
+		t.Fatalf("%d flat columns: the flat model would be tried", flatColumns(p))
+	}
+	plan, err := SolveWith(p, Options{Method: Decomposed, MaxIterations: 3})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if plan.Stats.Method != Decomposed.String() || !(plan.Stats.Gap > RelativeGap) || len(plan.Warnings) != 1 {
+		t.Fatalf("method %s, gap %.2g, warnings %q: want the decomposition's capped plan with one warning", plan.Stats.Method, plan.Stats.Gap, plan.Warnings)
+	}
+	t.Log(plan.Warnings[0])
+}
