@@ -7,6 +7,8 @@ import (
 	"io"
 	"math"
 	"slices"
+	"strings"
+	"unicode"
 
 	"wearplan/optimize"
 )
@@ -23,6 +25,7 @@ import (
 // state and its year's rows written as the distribution after treatment
 // (ages_same_year false: the rows already hold the year's wear), so that
 // the scenario's actions are p's whatever effects they were drawn from.
+// Classes are written under their own names where they can be (writtenClassNames).
 // Classes with the same scores and groups share a scale whose state values
 // are the scores. What the format cannot say the same way (widened states,
 // routine costs, budget groups, ring-fenced money, targets on single
@@ -51,10 +54,11 @@ func WriteProblem(w io.Writer, p *optimize.Problem, name string) error {
 	}
 	var scales []*optimize.Class // the first class of each scale
 	scaleOf := make([]string, len(p.Classes))
+	names := writtenClassNames(p)
 	for k := range p.Classes {
 		c := &p.Classes[k]
 		if err := checkWritable(c); err != nil {
-			return fmt.Errorf("write problem: class %q: %w", c.Name, err)
+			return fmt.Errorf("write problem: class %q: %w", names[k], err)
 		}
 		at := slices.IndexFunc(scales, func(o *optimize.Class) bool {
 			return slices.Equal(o.Score, c.Score) && slices.Equal(o.Group, c.Group)
@@ -69,7 +73,7 @@ func WriteProblem(w io.Writer, p *optimize.Problem, name string) error {
 	for k := range p.Classes {
 		c := &p.Classes[k]
 		states := problemStateNames(len(c.Initial))
-		pc := problemClass{Name: c.Name, Scale: scaleOf[k], Unit: "each", Inventory: map[string]float64{}, Weight: c.Weight}
+		pc := problemClass{Name: names[k], Scale: scaleOf[k], Unit: "each", Inventory: map[string]float64{}, Weight: c.Weight}
 		for i, q := range c.Initial {
 			if q != 0 {
 				pc.Inventory[states[i]] = q
@@ -84,7 +88,7 @@ func WriteProblem(w io.Writer, p *optimize.Problem, name string) error {
 			}
 		}
 		for _, a := range c.Actions[1:] {
-			t := problemTreatment{Name: c.Name + "/" + a.Name, Cost: map[string]float64{}, Effect: problemEffect{Distribution: map[string]map[string]float64{}}}
+			t := problemTreatment{Name: names[k] + "/" + a.Name, Cost: map[string]float64{}, Effect: problemEffect{Distribution: map[string]map[string]float64{}}}
 			for i, ok := range a.Applies {
 				if !ok {
 					continue
@@ -120,7 +124,7 @@ func WriteProblem(w io.Writer, p *optimize.Problem, name string) error {
 	for n, tg := range p.Targets {
 		t := problemTarget{Class: "all"}
 		if tg.Class != optimize.Network {
-			t.Class = p.Classes[tg.Class].Name
+			t.Class = names[tg.Class]
 		}
 		from, to := start+tg.From-1, start+tg.To-1
 		switch tg.Kind {
@@ -146,7 +150,7 @@ func WriteProblem(w io.Writer, p *optimize.Problem, name string) error {
 		}
 		f.Targets = append(f.Targets, t)
 	}
-	b, err := json.MarshalIndent(f, "", " ")
+	b, err := json.Marshal(f) // compact: a state-wide network stays well inside the 8 MiB a scenario may take
 	if err != nil {
 		return fmt.Errorf("write problem: %w", err)
 	}
@@ -154,6 +158,31 @@ func WriteProblem(w io.Writer, p *optimize.Problem, name string) error {
 		return fmt.Errorf("write problem: %w", err)
 	}
 	return nil
+}
+
+// writtenClassNames returns the names the classes are written under: their own
+// when each is printable, unique and not "all" (which targets read as the
+// network), else class1, class2, ... for all of them (Generate names
+// classes by letters from k on, which run into control characters past
+// 21 classes).
+func writtenClassNames(p *optimize.Problem) []string {
+	names := make([]string, len(p.Classes))
+	seen := map[string]bool{}
+	own := true
+	for k := range p.Classes {
+		name := p.Classes[k].Name
+		names[k] = name
+		if name == "" || name == "all" || seen[name] || strings.IndexFunc(name, func(r rune) bool { return !unicode.IsPrint(r) || r == '/' }) >= 0 {
+			own = false
+		}
+		seen[name] = true
+	}
+	if !own {
+		for k := range names {
+			names[k] = fmt.Sprintf("class%d", k+1)
+		}
+	}
+	return names
 }
 
 // checkWritable says why class c cannot be written as a scenario class.
