@@ -62,7 +62,7 @@ type run struct {
 	secs    float64
 	timeout bool
 	failed  string
-	peakMiB float64 // resident-set high-water mark (wait4's ru_maxrss)
+	peakMiB float64 // resident-set high-water mark (GNU time's %M); NaN when not measured
 	out     []byte  // standard output, when kept
 }
 
@@ -100,6 +100,13 @@ func (r runs) cell(limit time.Duration) string {
 	return fmtSecs(r.min()) + " / " + fmtSecs(r.median())
 }
 
+func fmtPeak(mib float64) string {
+	if math.IsNaN(mib) {
+		return "?"
+	}
+	return fmt.Sprintf("%.0f MiB", mib)
+}
+
 func fmtSecs(s float64) string {
 	switch {
 	case s < 0.1:
@@ -110,23 +117,50 @@ func fmtSecs(s float64) string {
 	return fmt.Sprintf("%.0f s", s)
 }
 
-// runProcess runs name with args and a time limit, standard output
-// discarded unless keep, and measures its wall time and peak resident set.
+// gnuTime is GNU time, which measures each process's peak memory: the
+// ru_maxrss that wait4 returns to this program would not do, since Go
+// starts a child sharing this process's memory until exec and Linux
+// counts that memory in the child's high-water mark (a child of a
+// 300 MiB benchtable reports at least 300 MiB).
+const gnuTime = "/usr/bin/time"
+
+// runProcess runs name with args under GNU time with a time limit,
+// standard output discarded unless keep, and measures its wall time and
+// peak resident set. Past the limit the process group is interrupted, as
+// Ctrl-C would (wearplan then exits at once and GNU time still reports
+// the peak), and killed 5 s later if anything is left.
 func runProcess(limit time.Duration, keep bool, name string, args ...string) run {
 	ctx, cancel := context.WithTimeout(context.Background(), limit)
 	defer cancel()
-	cmd := exec.CommandContext(ctx, name, args...)
+	peakFile, err := os.CreateTemp("", "benchtable-peak")
+	if err != nil {
+		return run{failed: shorten(err.Error())}
+	}
+	peakFile.Close()
+	defer os.Remove(peakFile.Name())
+	cmd := exec.CommandContext(ctx, gnuTime, append([]string{"-f", "%M", "-o", peakFile.Name(), name}, args...)...)
+	cmd.SysProcAttr = &syscall.SysProcAttr{Setpgid: true}
+	cmd.Cancel = func() error {
+		group := -cmd.Process.Pid
+		time.AfterFunc(5*time.Second, func() { _ = syscall.Kill(group, syscall.SIGKILL) })
+		return syscall.Kill(group, syscall.SIGINT)
+	}
 	var stdout, stderr bytes.Buffer
 	if keep {
 		cmd.Stdout = &stdout
 	}
 	cmd.Stderr = &stderr
 	start := time.Now()
-	err := cmd.Run()
-	r := run{secs: time.Since(start).Seconds()}
-	if cmd.ProcessState != nil {
-		if ru, ok := cmd.ProcessState.SysUsage().(*syscall.Rusage); ok {
-			r.peakMiB = float64(ru.Maxrss) / 1024 // KiB on Linux
+	err = cmd.Run()
+	r := run{secs: time.Since(start).Seconds(), peakMiB: math.NaN()}
+	if b, rerr := os.ReadFile(peakFile.Name()); rerr == nil {
+		// "%M" is the last line; GNU time puts a line about a non-zero
+		// exit status or a signal before it.
+		lines := strings.Fields(strings.TrimSpace(string(b)))
+		if len(lines) > 0 {
+			if kib, perr := strconv.ParseFloat(lines[len(lines)-1], 64); perr == nil {
+				r.peakMiB = kib / 1024
+			}
 		}
 	}
 	switch {
@@ -210,6 +244,9 @@ func main() {
 		fatal(err)
 	}
 	defer os.RemoveAll(dir)
+	if _, err := os.Stat(gnuTime); err != nil {
+		fatal(fmt.Errorf("%s (GNU time, Debian package time) measures each process's peak memory: %w", gnuTime, err))
+	}
 	if err := build(*bin); err != nil {
 		fatal(err)
 	}
@@ -277,7 +314,7 @@ func (b *bench) exportModel(file string) (string, error) {
 // table prints the main table: the whole `plan` process, the in-process
 // solve and the peers on each model.
 func (b *bench) table(only string) {
-	fmt.Printf("Generated models, seed 1 (Generate: binding yearly budget, max-condition, no targets; -catalogue: GenSpec.Catalogue, every class with its own treatment copies, one shared scale, a binding level budget and network poor-share target), each written as a scenario file. `plan`: the whole `%s plan --format json FILE >/dev/null` process, fastest / median of %d runs; in process: optimize.SolveWith (auto) on the scenario's problem, fastest of %d. Peers: the MPS from `plan --write-model`, whole processes (run %d times when under 2 s, else once), limit %s. Peak = resident-set high-water mark of the process (wait4).\n\n", b.bin, b.reps, b.reps, b.reps, b.limit)
+	fmt.Printf("Generated models, seed 1 (Generate: binding yearly budget, max-condition, no targets; -catalogue: GenSpec.Catalogue, every class with its own treatment copies, one shared scale, a binding level budget and network poor-share target), each written as a scenario file. `plan`: the whole `%s plan --format json FILE >/dev/null` process, fastest / median of %d runs; in process: optimize.SolveWith (auto) on the scenario's problem, fastest of %d. Peers: the MPS from `plan --write-model`, whole processes (run %d times when under 2 s, else once), limit %s. Peak = resident-set high-water mark of the process (GNU time's %%M).\n\n", b.bin, b.reps, b.reps, b.reps, b.limit)
 	header := []string{"model (C x S x T x Y)", "flat cols", "flat rows", "`plan` whole process", "peak", "in-process solve", "rounds / master solves"}
 	for _, pr := range peers {
 		header = append(header, pr.name)
@@ -313,7 +350,7 @@ func (b *bench) row(spec optimize.GenSpec, width int) []string {
 	row = append(row, strconv.Itoa(len(m.Cols)), strconv.Itoa(len(m.Rows)))
 
 	whole := repeat(b.reps, b.limit, b.bin, "plan", "--format", "json", "--timeout", b.limit.String(), file)
-	row = append(row, whole.cell(b.limit), fmt.Sprintf("%.0f MiB", whole.peakMiB))
+	row = append(row, whole.cell(b.limit), fmtPeak(whole.peakMiB))
 
 	inproc, stats, obj, haveObj := b.solveInProcess(q)
 	row = append(row, inproc.cell(b.limit), fmt.Sprintf("%d / %d", stats.Iterations, stats.Solves))
@@ -471,7 +508,7 @@ func (b *bench) sweep() {
 	}
 	limit := 2 * b.limit
 	r := runProcess(limit, true, b.bin, "sweep", file, "--budget", strings.Join(list, ","), "--format", "json", "--timeout", limit.String())
-	result := fmtSecs(r.secs) + fmt.Sprintf(", peak %.0f MiB", r.peakMiB)
+	result := fmtSecs(r.secs) + ", peak " + fmtPeak(r.peakMiB)
 	switch {
 	case r.timeout:
 		result = "> " + fmtSecs(limit.Seconds()) + " (did not finish)"
