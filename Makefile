@@ -83,8 +83,10 @@ fuzz: deps-test
 check-long: deps-test
 	WEARPLAN_LONG=1 go test -timeout 60m -run 'TestAgreesWithGLPKOnGeneratedScenarios|TestAnswersDoNotDependOnLoad' ./optimize/
 
+# GNU time measures each benchmarked process's peak memory (benchtable).
 deps-bench: deps-test
 	@command -v lp_solve >/dev/null 2>&1 || { echo "installing lp-solve"; $(call apt_install,lp-solve); }
+	@[ -x /usr/bin/time ] || { echo "installing time"; $(call apt_install,time); }
 
 # One table of whole processes, as a user times wearplan: each generated
 # model (20x7x6x30 and 60x10x8x40, from optimize.Generate and from its
@@ -113,7 +115,7 @@ bench: deps-bench
 # BENCH_SCALE_FLAGS="-big" adds 500 classes, "-catalogue" uses the catalogue
 # generator, "-seeds 3" fewer seeds. 15-30 minutes on 2 cores, longer while
 # the largest sizes run to the limit.
-bench-scale: deps-test
+bench-scale: deps-bench
 	go run ./optimize/internal/benchtable -scale $(BENCH_SCALE_FLAGS)
 
 # Go micro-benchmarks (model build, flat and decomposed solves).

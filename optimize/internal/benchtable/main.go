@@ -239,17 +239,17 @@ func main() {
 			*limit = 120 * time.Second
 		}
 	}
-	dir, err := os.MkdirTemp("", "wearplan-bench")
-	if err != nil {
-		fatal(err)
-	}
-	defer os.RemoveAll(dir)
 	if _, err := os.Stat(gnuTime); err != nil {
 		fatal(fmt.Errorf("%s (GNU time, Debian package time) measures each process's peak memory: %w", gnuTime, err))
 	}
 	if err := build(*bin); err != nil {
 		fatal(err)
 	}
+	dir, err := os.MkdirTemp("", "wearplan-bench")
+	if err != nil {
+		fatal(err)
+	}
+	defer os.RemoveAll(dir)
 	b := &bench{dir: dir, bin: *bin, limit: *limit, reps: max(*reps, 1)}
 	fmt.Printf("wearplan benchmark, %s, %d cores (GOMAXPROCS %d), load average at start %s\n", time.Now().UTC().Format("2006-01-02 15:04 UTC"), runtime.NumCPU(), runtime.GOMAXPROCS(0), loadAvg())
 	switch {
@@ -269,9 +269,9 @@ func main() {
 // build builds the wearplan binary once, as `make build` does (the
 // Makefile's cgo settings come through the environment).
 func build(bin string) error {
-	goTool, err := exec.LookPath("go")
+	goTool, err := exec.LookPath("go") // the Makefile puts /usr/local/go/bin on the path
 	if err != nil {
-		goTool = filepath.Join(runtime.GOROOT(), "bin", "go")
+		return fmt.Errorf("building %s: %w", bin, err)
 	}
 	out, err := exec.Command(goTool, "build", "-o", bin, "./cmd/wearplan").CombinedOutput()
 	if err != nil {
