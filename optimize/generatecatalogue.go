@@ -121,7 +121,7 @@ func generateCatalogue(rng *rand.Rand, s GenSpec) *Problem {
 	}
 	// The money: what rebuilding all quantity that falls into poor states
 	// costs a year once today's backlog is cleared (the mean of the years
-	// after the first), cut to 70-90% of it: the budget cannot hold every
+	// after the first), cut to 20-30% of it: the budget cannot hold every
 	// class, and the poor share rises unless the money goes to it.
 	full := rebuildPoorPlan(p, math.Inf(1))
 	mean := 0.0
@@ -136,7 +136,9 @@ func generateCatalogue(rng *rand.Rand, s GenSpec) *Problem {
 	rulePoor, idlePoor := leastPoorPlan(p, level)
 	// The window is the first half of the horizon from year 2, where a
 	// plan for the best mean condition is still working through today's
-	// backlog and one that spends on poor states first is not.
+	// backlog and one that spends on poor states first is not. The plan
+	// leastPoorPlan follows pays its work within the budget at the same
+	// prices as the model (escalated), so it meets the target.
 	from := min(2, p.Horizon)
 	to := max(from, (p.Horizon+1)/2)
 	worstRule, worstIdle := 0.0, 0.0
