@@ -95,9 +95,9 @@ deps-bench: deps-test
 # of 3 runs and peak memory, beside the solve in process; the peers (glpsol
 # simplex and interior point, clp barrier, the lp_solve CLI) on the MPS that
 # `plan --write-model` exports, each process with a 60 s limit. Then a
-# 50-budget `sweep` of 60x10x8x40 as one process (120 s limit), its lowest,
-# middle and highest points checked against glpsol --interior. About 10
-# minutes on 2 cores. BENCH_FLAGS="-timeout 30s -reps 5".
+# 50-budget `sweep` of 20x7x6x30 and of 60x10x8x40, each as one process
+# (120 s limit), its lowest, middle and highest points checked against
+# glpsol --interior. About 8 minutes on 2 cores. BENCH_FLAGS="-timeout 30s -reps 5".
 # Then the simulations: 1,000 runs of the trial network (4 classes, about
 # 200,000 units, 15 years) and of the demo with their default pieces, and
 # the what-if page's bands for the demo (200 runs), each with its median

@@ -54,8 +54,6 @@ var models = []optimize.GenSpec{
 	{Classes: 60, States: 10, Treatments: 8, Years: 40, Catalogue: true},
 }
 
-// sweepModel is the model of the budget sweep row.
-var sweepModel = models[2]
 
 // run is one process's outcome.
 type run struct {
@@ -226,6 +224,7 @@ func main() {
 	limit := flag.Duration("timeout", 0, "time limit of every process and in-process solve (default 60s; 120s with -scale)")
 	reps := flag.Int("reps", 3, "whole-process runs of wearplan per model (fastest and median reported)")
 	sweepOnly := flag.Bool("sweep-only", false, "time only the 50-budget sweep")
+	sweepOf := flag.String("sweep-models", "20x7x6x30,60x10x8x40", "comma-separated models the 50-budget sweep plans (the table's)")
 	only := flag.String("models", "", "comma-separated models to time (e.g. 60x10x8x40,60x10x8x40-catalogue); all by default, then the sweep")
 	scale := flag.Bool("scale", false, "plan networks past state-wide (50 to 1,000 classes) instead, and fit the growth")
 	big := flag.Bool("big", false, "with -scale: also 500 classes")
@@ -256,11 +255,11 @@ func main() {
 	case *scale:
 		b.scale(*big, *seeds, *catalogue)
 	case *sweepOnly:
-		b.sweep()
+		b.sweeps(*sweepOf)
 	default:
 		b.table(*only)
 		if *only == "" {
-			b.sweep()
+			b.sweeps(*sweepOf)
 		}
 	}
 	fmt.Printf("\nload average at end %s\n", loadAvg())
@@ -314,7 +313,7 @@ func (b *bench) exportModel(file string) (string, error) {
 // table prints the main table: the whole `plan` process, the in-process
 // solve and the peers on each model.
 func (b *bench) table(only string) {
-	fmt.Printf("Generated models, seed 1 (Generate: binding yearly budget, max-condition, no targets; -catalogue: GenSpec.Catalogue, every class with its own treatment copies, one shared scale, a binding level budget and network poor-share target), each written as a scenario file. `plan`: the whole `%s plan --format json FILE >/dev/null` process, fastest / median of %d runs; in process: optimize.SolveWith (auto) on the scenario's problem, fastest of %d. Peers: the MPS from `plan --write-model`, whole processes (run %d times when under 2 s, else once), limit %s. Peak = resident-set high-water mark of the process (GNU time's %%M).\n\n", b.bin, b.reps, b.reps, b.reps, b.limit)
+	fmt.Printf("Generated models, seed 1 (Generate: binding yearly budget, max-condition, no targets; -catalogue: GenSpec.Catalogue, every class with its own treatment copies, one shared scale, a binding level budget and network poor-share target), each written as a scenario file. `plan`: the whole `%s plan --format json FILE >/dev/null` process, fastest / median of %d runs; in process: optimize.SolveWith (auto) on the scenario's problem, fastest / median of %d. Peers: the MPS from `plan --write-model`, whole processes (run %d times when under 2 s, else once), limit %s. Peak = resident-set high-water mark of the process (GNU time's %%M).\n\n", b.bin, b.reps, b.reps, b.reps, b.limit)
 	header := []string{"model (C x S x T x Y)", "flat cols", "flat rows", "`plan` whole process", "peak", "in-process solve", "rounds / master solves"}
 	for _, pr := range peers {
 		header = append(header, pr.name)
@@ -484,11 +483,23 @@ func lpSolveObjective(out []byte, _ string) (float64, error) {
 // sweepPoints is the number of budgets of the sweep row.
 const sweepPoints = 50
 
+func (b *bench) sweeps(models string) {
+	for _, m := range strings.Split(models, ",") {
+		b.sweep(m)
+	}
+}
+
 // sweep times `wearplan sweep` over 50 level budgets from half to one and
-// a half times the sweep model's mean yearly budget, as one process with
+// a half times the model's mean yearly budget, as one process with
 // the time limit, and checks the optima of the lowest, middle and highest
 // budgets against glpsol's interior point on each budget's exported model.
-func (b *bench) sweep() {
+func (b *bench) sweep(model string) {
+	i := slices.IndexFunc(models, func(s optimize.GenSpec) bool { return s.String() == model })
+	if i < 0 {
+		fmt.Printf("\n%d-budget sweep: no model %q\n", sweepPoints, model)
+		return
+	}
+	sweepModel := models[i]
 	p := optimize.Generate(rand.New(rand.NewPCG(1, 1)), sweepModel)
 	mean := 0.0
 	for _, v := range p.Budget {
