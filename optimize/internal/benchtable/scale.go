@@ -22,7 +22,7 @@ func (b *bench) scale(big bool, seeds int, catalogue bool) {
 	if catalogue {
 		gen = "the catalogue generator (GenSpec.Catalogue: every class with its own treatment copies, binding level budget and network poor-share target)"
 	}
-	fmt.Printf("Whole `%s plan --format json FILE >/dev/null` processes on models from %s, seeds 1-%d, one run each with a limit of %s (a run past it is killed and shows as \"> %s\"; a run that exits with an error as \"failed\"). Peak = the process's resident-set high-water mark (GNU time's %%M).\n\n", b.bin, gen, seeds, b.limit, fmtSecs(b.limit.Seconds()))
+	fmt.Printf("Whole `%s plan --format json FILE >/dev/null` processes on models from %s, seeds 1-%d, one run each with a limit of %s (a run past it is stopped and shows as \"> %s\"; a run that exits with an error as \"failed\"). Peak = the process's resident-set high-water mark (GNU time's %%M).\n\n", b.bin, gen, seeds, b.limit, fmtSecs(b.limit.Seconds()))
 	classes := []int{50, 100, 200, 1000}
 	if big {
 		classes = []int{50, 100, 200, 500, 1000}
