@@ -20,7 +20,7 @@ $(SUDO) env DEBIAN_FRONTEND=noninteractive apt-get install -y -q --no-install-re
   { $(SUDO) apt-get update -q >/dev/null && $(SUDO) env DEBIAN_FRONTEND=noninteractive apt-get install -y -q --no-install-recommends $(1); }
 endef
 
-.PHONY: demo serve test check-long build deps deps-test deps-bench bench bench-go bench-fit fuzz clean
+.PHONY: demo serve test check-long build deps deps-test deps-bench bench bench-scale bench-go bench-fit fuzz clean
 
 deps:
 	@dpkg -s liblpsolve55-dev >/dev/null 2>&1 || { echo "installing liblpsolve55-dev"; $(call apt_install,liblpsolve55-dev); }
@@ -83,12 +83,21 @@ fuzz: deps-test
 check-long: deps-test
 	WEARPLAN_LONG=1 go test -timeout 60m -run 'TestAgreesWithGLPKOnGeneratedScenarios|TestAnswersDoNotDependOnLoad' ./optimize/
 
+# GNU time measures each benchmarked process's peak memory (benchtable).
 deps-bench: deps-test
 	@command -v lp_solve >/dev/null 2>&1 || { echo "installing lp-solve"; $(call apt_install,lp-solve); }
+	@[ -x /usr/bin/time ] || { echo "installing time"; $(call apt_install,time); }
 
-# One table: wearplan (decomposed and flat) and the peers (glpsol simplex and
-# interior point, clp barrier, the lp_solve CLI) on the same generated
-# models, then a 20-point budget sweep. BENCH_FLAGS="-timeout 30s -reps 5".
+# One table of whole processes, as a user times wearplan: each generated
+# model (20x7x6x30 and 60x10x8x40, from optimize.Generate and from its
+# catalogue shape, GenSpec.Catalogue) written as a scenario file and planned
+# by bin/wearplan (built once) with `plan --format json`, fastest and median
+# of 3 runs and peak memory, beside the solve in process; the peers (glpsol
+# simplex and interior point, clp barrier, the lp_solve CLI) on the MPS that
+# `plan --write-model` exports, each process with a 60 s limit. Then a
+# 50-budget `sweep` of 20x7x6x30 and of 60x10x8x40, each as one process
+# (120 s limit), its lowest, middle and highest points checked against
+# glpsol --interior. About 8 minutes on 2 cores. BENCH_FLAGS="-timeout 30s -reps 5".
 # Then the simulations: 1,000 runs of the trial network (4 classes, about
 # 200,000 units, 15 years) and of the demo with their default pieces, and
 # the what-if page's bands for the demo (200 runs), each with its median
@@ -97,6 +106,17 @@ bench: deps-bench
 	go run ./optimize/internal/benchtable $(BENCH_FLAGS)
 	go test -run '^$$' -bench 'SimulateDefaultPieces' -benchtime 5x ./scenarios/
 	go test -run '^$$' -bench 'PlanRequest/bands' -benchtime 10x ./cmd/internal/whatif/
+
+# Past state-wide: whole `plan` processes on 50, 100, 200 and 1,000 classes
+# x 10 states x 8 treatments x 40 years, and on 100 classes with 6 and 14
+# states and 20 and 80 years, 5 seeds each, one run per seed with a 120 s
+# limit (a run past it shows as "> 120 s"); then the growth exponents in
+# classes, states and years (least squares on the logarithms).
+# BENCH_SCALE_FLAGS="-big" adds 500 classes, "-catalogue" uses the catalogue
+# generator, "-seeds 3" fewer seeds. 15-30 minutes on 2 cores, longer while
+# the largest sizes run to the limit.
+bench-scale: deps-bench
+	go run ./optimize/internal/benchtable -scale $(BENCH_SCALE_FLAGS)
 
 # Go micro-benchmarks (model build, flat and decomposed solves).
 bench-go: deps-test

@@ -26,12 +26,25 @@ type GenSpec struct {
 	// today's quantity is past the interval. The rest of the problem is
 	// drawn as without it.
 	Interval int
+	// Catalogue draws a model shaped as planners write scenarios instead
+	// (generateCatalogue): one shared scale; a catalogue of Treatments
+	// treatment types of which every class has its own copy, with its own
+	// unit costs and effects, over wide overlapping bands of states; wear
+	// from expected years in each state; weights by replacement value; a
+	// level yearly budget and a network poor-share target, both set from
+	// simple plans so that the model is feasible and both bind. Targets,
+	// BudgetShare and Interval are not used. Generate draws nothing
+	// differently when it is false.
+	Catalogue bool
 }
 
 func (s GenSpec) String() string {
 	out := fmt.Sprintf("%dx%dx%dx%d", s.Classes, s.States, s.Treatments, s.Years)
 	if s.Interval > 0 {
 		out += fmt.Sprintf("-interval%d", s.Interval)
+	}
+	if s.Catalogue {
+		out += "-catalogue"
 	}
 	return out
 }
@@ -102,6 +115,9 @@ func randomTreatments(rng *rand.Rand, n, nt int) []treatments.Treatment {
 // half of the network once, so that they bind. The same rng state gives the
 // same problem.
 func Generate(rng *rand.Rand, s GenSpec) *Problem {
+	if s.Catalogue {
+		return generateCatalogue(rng, s)
+	}
 	p := &Problem{Horizon: s.Years, Escalation: 0.03 * rng.Float64(), DiscountRate: 0.05 * rng.Float64()}
 	if rng.IntN(2) == 0 {
 		p.Objective = MinCost
