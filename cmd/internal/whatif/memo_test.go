@@ -141,11 +141,13 @@ func TestSolveStopsWhenCalledOff(t *testing.T) {
 	src := &s.sources[0]
 	ch := src.Scenario.Current()
 	full := optimizetest.NewCountdownContext(1 << 40)
-	if _, err := s.solve(full, src, ch, true); err != nil {
+	if _, err := s.solve(full, 0, ch, true); err != nil {
 		t.Fatal(err)
 	}
+	// The same solve again, without the funding answers kept by the first.
+	s.kept = newKeptAnswers(1)
 	mid := optimizetest.NewCountdownContext(full.Polls() / 2)
-	out, err := s.solve(mid, src, ch, true)
+	out, err := s.solve(mid, 0, ch, true)
 	if !errors.Is(err, context.Canceled) || out != nil {
 		t.Errorf("called off at poll %d of %d: %v, %v; want no outcome and context.Canceled", full.Polls()/2+1, full.Polls(), out, err)
 	}

@@ -17,7 +17,8 @@
 // report, or several into a comparison report.
 //
 // The server holds no state that requests change except a bounded memo of
-// recent plans (solve.go), guarded by a mutex; identical requests share one
+// recent plans and one of the funding answers that do not depend on the
+// budget (solve.go), each guarded by a mutex; identical requests share one
 // solve. It reads no file after start-up.
 package whatif
 
@@ -97,6 +98,7 @@ type Server struct {
 	log     *log.Logger
 	sem     chan struct{}
 	memo    *memo
+	kept    *keptAnswers
 	index   []byte
 	palette []byte
 	icon    []byte
@@ -130,6 +132,7 @@ func New(sources []Source, opt Options) (*Server, error) {
 		log:     log.New(logw, "wearplan serve: ", log.LstdFlags),
 		sem:     make(chan struct{}, opt.MaxSolves),
 		memo:    newMemo(opt.MemoSize),
+		kept:    newKeptAnswers(opt.MemoSize),
 		palette: []byte(report.PaletteCSS()),
 		icon:    iconSVG(report.Palette()),
 	}
