@@ -88,7 +88,8 @@ func (m *memo) get(ctx context.Context, key string, compute func(context.Context
 // getStaged is get for a computation in two stages: when early is not nil
 // and the answer is not in the memo, it is called with the computation's
 // early outcome as soon as there is one (not at all when the computation
-// ends without one), before getStaged waits for the whole.
+// ends without one), before getStaged waits for the whole. A computation
+// started for a request without early is asked for no early outcome.
 func (m *memo) getStaged(ctx context.Context, key string, compute computeFunc, early func(*outcome, source)) (*outcome, source, error) {
 	m.mu.Lock()
 	if el, ok := m.entries[key]; ok {
@@ -101,11 +102,15 @@ func (m *memo) getStaged(ctx context.Context, key string, compute computeFunc, e
 		fctx, cancel := context.WithCancel(context.Background())
 		f = &flight{done: make(chan struct{}), first: make(chan struct{}), cancel: cancel}
 		m.inflight[key] = f
-		go func() {
-			out, err := compute(fctx, func(o *outcome) {
+		var publish func(*outcome)
+		if early != nil {
+			publish = func(o *outcome) {
 				f.early = o
 				close(f.first)
-			})
+			}
+		}
+		go func() {
+			out, err := compute(fctx, publish)
 			m.mu.Lock()
 			if m.inflight[key] == f {
 				delete(m.inflight, key)
