@@ -359,8 +359,8 @@ const ndjson = "application/x-ndjson"
 // A request that accepts application/x-ndjson (the page's) gets the answer
 // in parts, one JSON object a line, so that the plan shows while its
 // funding answers (several LPs each) are worked out: first {"part":
-// "plan", "answer": ...}, the plan without them, when it was solved for
-// this request; then {"part": "whole", "answer": ...}, the answer a plain
+// "plan", "answer": ...}, the plan without them, when its solve was
+// started by a request in parts; then {"part": "whole", "answer": ...}, the answer a plain
 // request gets, or {"part": "whole", "error": ..., "issues": ...} when the
 // funding answers fail after the plan was sent. Problems found before any
 // part is sent are answered as for a plain request.
