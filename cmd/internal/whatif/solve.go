@@ -272,7 +272,7 @@ const BandRuns = 200
 // solve applies the changes and plans, holding one of the MaxSolves slots.
 // ctx ends when every request waiting for the answer has gone (a closed
 // tab, a newer request from the page): the plan and the bands' simulation
-// then stop between solver calls and runs (scenarios.PlanContext and
+// then stop between solver calls and runs (scenarios.PlanStaged and
 // SimulateContext). One lp_solve call under way cannot be interrupted;
 // scenarios.Options.Timeout bounds each.
 func (s *Server) solve(ctx context.Context, id int, ch scenarios.Changes, bands bool) (*outcome, error) {
@@ -283,7 +283,7 @@ func (s *Server) solve(ctx context.Context, id int, ch scenarios.Changes, bands 
 // without its funding answers (scenarios.PlanStaged) as soon as it is laid
 // out, then completes it. The funding answers that do not depend on the
 // network's budget are kept between the plans of a scenario and changes
-// that differ only in the budget (budgetFree).
+// that differ only in the budget (keptAnswers).
 func (s *Server) solveStaged(ctx context.Context, id int, ch scenarios.Changes, bands bool, early func(*outcome)) (*outcome, error) {
 	src := &s.sources[id]
 	select {
