@@ -315,7 +315,7 @@
     state.inflight = ctl;
     setStatus('Planning\u2026', 'busy');
     const started = performance.now();
-    let res, body, whole = false;
+    let res, body, whole = false, planMs = 0;
     try {
       res = await post('/api/plan', request, ctl.signal, 'application/x-ndjson');
       if (!res.ok || !(res.headers.get('Content-Type') || '').startsWith('application/x-ndjson')) {
@@ -324,7 +324,8 @@
         await readParts(res, (p) => {
           if (seq !== state.seq) return;
           if (p.part === 'plan') {
-            showPlan(p.answer, request, res.headers, performance.now() - started, false);
+            planMs = performance.now() - started;
+            showPlan(p.answer, request, res.headers, planMs, false);
             return;
           }
           whole = true;
@@ -333,7 +334,7 @@
             setStatus('The plan is shown, but its funding answers failed: see the problems below.', 'failed');
             return;
           }
-          showPlan(p.answer, request, res.headers, performance.now() - started, true);
+          showPlan(p.answer, request, res.headers, performance.now() - started, true, planMs);
         });
         if (seq !== state.seq) return;
         state.inflight = null;
@@ -420,14 +421,16 @@
   }
 
   // showPlan shows an answer: the plan alone (whole false; its funding
-  // answers follow) or the whole answer.
-  function showPlan(a, request, headers, ms, whole) {
+  // answers follow) or the whole answer, ms after the request (planMs
+  // after it the plan alone, when it came first).
+  function showPlan(a, request, headers, ms, whole, planMs) {
     clearProblems();
     $('results').classList.remove('stale');
     const from = headers.get('X-Wearplan-From');
     const took = headers.get('X-Wearplan-Solve-Ms');
     if (!whole) setStatus('Planned in ' + took + ' ms on the server; shown after ' + Math.round(ms) + ' ms. Working out the funding answers\u2026', 'busy');
     else if (from === 'memo') setStatus('Planned before; shown from memory (' + Math.round(ms) + ' ms).', '');
+    else if (planMs) setStatus('Planned in ' + took + ' ms on the server; shown after ' + Math.round(planMs) + ' ms, the funding answers after ' + Math.round(ms) + ' ms.', '');
     else setStatus('Planned in ' + took + ' ms on the server; shown after ' + Math.round(ms) + ' ms, with the funding answers.', '');
     $('caution').textContent = a.caution;
     $('headline').textContent = a.headline;
