@@ -414,6 +414,8 @@ func (s *confidenceSearch) confidentTargets(t *trial) []ConfidentTarget {
 // budget that meets every target with its confidence is added for min-cost
 // plans and for plans that do not reach the confidence.
 func planConfident(sc *Scenario, opt Options) (*Result, error) {
+	// Its plans change the targets' margins: no answer is budget-free.
+	opt.BudgetFree = nil
 	warm := opt.Warm
 	if warm == nil {
 		warm = &optimize.Warm{}

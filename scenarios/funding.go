@@ -92,8 +92,9 @@ const unreachableText = "no amount of money meets the targets"
 // that no amount of money meets are named with what is reachable, and the
 // questions are answered for the others. The answers never fail the plan:
 // when a funding LP gives no answer on any path, the error comes back as a
-// warning.
-func funding(sc *Scenario, p *optimize.Problem, status optimize.Status) (*Funding, error) {
+// warning. The answers that do not depend on the network's budget come
+// from bf when it has them.
+func funding(sc *Scenario, p *optimize.Problem, status optimize.Status, bf *BudgetFree) (*Funding, error) {
 	f := &Funding{}
 	wantExtra := status == optimize.TargetsNotMet
 	wantLevel := len(sc.Targets) > 0 && (sc.Objective == optimize.MinCost || status == optimize.TargetsNotMet)
@@ -101,8 +102,10 @@ func funding(sc *Scenario, p *optimize.Problem, status optimize.Status) (*Fundin
 		return nil, nil
 	}
 	q := p
+	var reach []optimize.TargetReach
 	if status == optimize.TargetsNotMet {
-		reach, err := optimize.Reachability(p)
+		var err error
+		reach, err = bf.reachability(p)
 		if err != nil {
 			return nil, fmt.Errorf("targets no money meets: %w", err)
 		}
@@ -128,7 +131,7 @@ func funding(sc *Scenario, p *optimize.Problem, status optimize.Status) (*Fundin
 		}
 	}
 	if wantLevel && (f.Unreachable == "" || f.OtherTargetsOnly) {
-		if err := levelBudget(sc, q, f); err != nil {
+		if err := levelBudget(sc, q, f, bf, reach); err != nil {
 			return f, err
 		}
 	}
@@ -237,9 +240,11 @@ func reachValue(sc *Scenario, t Target, v float64) string {
 	return strconv.FormatFloat(v, 'g', 4, 64)
 }
 
-// levelBudget answers "the least level budget that meets the targets".
-func levelBudget(sc *Scenario, p *optimize.Problem, f *Funding) error {
-	level, err := optimize.LevelBudget(p)
+// levelBudget answers "the least level budget that meets the targets" for
+// p, the scenario's problem less the targets in dropped, from bf when it
+// has the answer.
+func levelBudget(sc *Scenario, p *optimize.Problem, f *Funding, bf *BudgetFree, dropped []optimize.TargetReach) error {
+	level, err := bf.levelBudget(p, dropped)
 	var hb *optimize.HeldBackError
 	switch {
 	case errors.As(err, &hb):

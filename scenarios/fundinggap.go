@@ -31,8 +31,9 @@ const FundingDetailColumns = 8000
 
 // fundingDetail adds to f the hold budget, the level budget where the plan
 // did not need it, and the money per missed target, when the model is
-// small enough (FundingDetailColumns).
-func fundingDetail(sc *Scenario, p *optimize.Problem, r *Result, f *Funding) error {
+// small enough (FundingDetailColumns). The hold and level budgets come from
+// bf when it has them.
+func fundingDetail(sc *Scenario, p *optimize.Problem, r *Result, f *Funding, bf *BudgetFree) error {
 	if cols := flatColumns(p); cols > FundingDetailColumns {
 		f.Notes = append(f.Notes, fmt.Sprintf("the least level budgets that hold today's condition and that meet the targets, and the money per missed target, are left out: the network's flat model has %d columns, more than the %d these extra solves are made for", cols, FundingDetailColumns))
 		return nil
@@ -59,14 +60,12 @@ func fundingDetail(sc *Scenario, p *optimize.Problem, r *Result, f *Funding) err
 		}
 	}
 	jobs = append(jobs, func() error {
-		q := *p
-		q.Targets = []optimize.Target{{Label: "hold", Class: optimize.Network, Kind: optimize.Hold}}
-		hold, holdErr = optimize.LevelBudget(&q)
+		hold, holdErr = bf.holdBudget(p)
 		return nil
 	})
 	if needLevel {
 		jobs = append(jobs, func() error {
-			levelErr = levelBudget(sc, p, &levelF)
+			levelErr = levelBudget(sc, p, &levelF, bf, nil)
 			return nil
 		})
 	}

@@ -239,6 +239,8 @@ func PlanRobustContext(ctx context.Context, sc *Scenario, ro RobustOptions, opt 
 
 // planRobust is PlanRobust under opt's context.
 func planRobust(sc *Scenario, ro RobustOptions, opt Options) (*Result, error) {
+	// Kept answers belong to the point plan's problem: none are shared.
+	opt.BudgetFree = nil
 	if err := ro.normalise(); err != nil {
 		return nil, err
 	}

@@ -28,6 +28,10 @@ type Options struct {
 	// stated confidence (confidence.go); it matters only when a target
 	// has one.
 	Confidence ConfidenceOptions
+	// BudgetFree, when not nil, keeps the funding answers that do not
+	// depend on the network's yearly budget for the next plan of the same
+	// scenario at another budget (see BudgetFree).
+	BudgetFree *BudgetFree
 
 	// ctx is the context of one call (PlanContext and the rest set it on
 	// their copy); nil means context.Background().
@@ -136,7 +140,7 @@ func planResult(sc *Scenario, p *optimize.Problem, plan *optimize.Plan, opt Opti
 		r.Warnings = append(r.Warnings, w)
 	}
 	if !opt.SkipFunding {
-		f, err := funding(sc, p, plan.Status)
+		f, err := funding(sc, p, plan.Status, opt.BudgetFree)
 		if err != nil {
 			// The plan stands; only a funding answer is missing.
 			r.Warnings = append(r.Warnings, "a funding answer could not be computed: "+err.Error())
@@ -151,8 +155,8 @@ func planResult(sc *Scenario, p *optimize.Problem, plan *optimize.Plan, opt Opti
 		var notes []string
 		var detailErr error
 		if err := runParallel(opt.context(), []func() error{
-			func() error { detailErr = fundingDetail(sc, p, r, f); return nil },
-			func() (err error) { required, notes, err = requiredRenewal(sc, opt); return err },
+			func() error { detailErr = fundingDetail(sc, p, r, f, opt.BudgetFree); return nil },
+			func() (err error) { required, notes, err = opt.BudgetFree.requiredRenewal(sc, opt); return err },
 		}); err != nil {
 			return nil, err
 		}

@@ -257,6 +257,53 @@ func TestLowerBudgetRaisesThePoorShare(t *testing.T) {
 	}
 }
 
+// The page asks for its plans in parts (servePlan): a cut below the least
+// level budget that meets the demo's targets comes as the plan without its
+// funding answers, then the whole answer, which is, byte for byte, what a
+// plain request gets from a server of its own; a second ask is answered
+// whole from the memo.
+func TestPlanInParts(t *testing.T) {
+	_, ts := newTestServer(t, Options{}, "marrowby.yaml")
+	body := `{"scenario": 0, "changes": {"budget_level": 3200000}}`
+	parts := func() (reply, []map[string]json.RawMessage) {
+		r := call(t, ts, "POST", "/api/plan", "application/json", body, "Accept", ndjson)
+		if r.status != http.StatusOK || r.header.Get("Content-Type") != ndjson+"; charset=utf-8" {
+			t.Fatalf("status %d, type %q: %s", r.status, r.header.Get("Content-Type"), r.body)
+		}
+		var out []map[string]json.RawMessage
+		for _, line := range bytes.SplitAfter(r.body, []byte("\n")) {
+			if len(line) == 0 {
+				continue
+			}
+			var m map[string]json.RawMessage
+			if err := json.Unmarshal(line, &m); err != nil {
+				t.Fatalf("line %q: %v", line, err)
+			}
+			out = append(out, m)
+		}
+		return r, out
+	}
+	r, got := parts()
+	if len(got) != 2 || string(got[0]["part"]) != `"plan"` || string(got[1]["part"]) != `"whole"` || r.header.Get("X-Wearplan-From") != "solve" {
+		t.Fatalf("parts %d from %s: %s", len(got), r.header.Get("X-Wearplan-From"), r.body)
+	}
+	var first planAnswer
+	if err := json.Unmarshal(got[0]["answer"], &first); err != nil {
+		t.Fatal(err)
+	}
+	if first.Status != "targets-not-met" || len(first.Shortfalls) == 0 || strings.Contains(strings.Join(first.Funding, " "), "level budget") {
+		t.Errorf("plan part: status %s, shortfalls %q, funding %q", first.Status, first.Shortfalls, first.Funding)
+	}
+	_, plain := newTestServer(t, Options{}, "marrowby.yaml")
+	want := postJSON(t, plain, "/api/plan", body)
+	if w := bytes.TrimSuffix(want.body, []byte("\n")); !bytes.Equal(got[1]["answer"], w) {
+		t.Errorf("whole part differs from the plain answer:\n%s\n%s", got[1]["answer"], w)
+	}
+	if r, again := parts(); len(again) != 1 || string(again[0]["part"]) != `"whole"` || r.header.Get("X-Wearplan-From") != "memo" {
+		t.Errorf("asked again: %d parts from %s", len(again), r.header.Get("X-Wearplan-From"))
+	}
+}
+
 // A budget cut to zero, the commonest what-if, gets a plan on both example
 // scenarios, not "planning failed": the do-nothing plan, its targets
 // missed, nothing spent, and the condition of the do-nothing forecast (the

@@ -23,6 +23,9 @@ type seen struct {
 	SpendSVG  string
 	Headline  string
 	Shortfall int
+	Funding   string // the funding answers in words
+	Pending   bool   // the funding answers are still being worked out
+	Early     string // plans shown before their funding answers
 	Caution   string
 	Problems  bool
 }
@@ -45,6 +48,9 @@ const readPage = `(() => {
 		SpendSVG: svg('current-chart-spend'),
 		Headline: document.getElementById('headline').textContent,
 		Shortfall: document.querySelectorAll('#shortfalls li').length,
+		Funding: document.getElementById('funding').textContent,
+		Pending: document.getElementById('funding').classList.contains('pending'),
+		Early: document.body.dataset.early || '',
 		Caution: document.getElementById('caution').textContent,
 		Problems: !document.getElementById('problems').hidden,
 	};
@@ -64,7 +70,8 @@ func shareOf(t *testing.T, s string) float64 {
 // plan, lowers the yearly budget by clicking on the slider at a third of
 // its track, and checks that the plan is made again: the level-of-service
 // table and the charts change, the network's poor share at the end of the
-// plan rises, and the shortfall is told in words. It then keeps the
+// plan rises, and the shortfall is told in words; the plan was shown
+// before its funding answers, which then followed in words. It then keeps the
 // alternative and checks the side-by-side list. No console errors, no
 // policy violations, no requests to anywhere but the server.
 func TestPageInChromium(t *testing.T) {
@@ -132,6 +139,14 @@ func TestPageInChromium(t *testing.T) {
 	}
 	if after.Shortfall == 0 || !strings.Contains(after.Headline, "Not every target") {
 		t.Errorf("lower budget: headline %q, %d shortfalls in words", after.Headline, after.Shortfall)
+	}
+	// The cut came in two parts, the plan first (servePlan): the page
+	// showed it, then the funding answers in words when they followed.
+	if after.Early == "" || after.Early == "0" {
+		t.Errorf("no plan was shown before its funding answers (data-early %q)", after.Early)
+	}
+	if after.Pending || !strings.Contains(after.Funding, "extra") || !strings.Contains(after.Funding, "level budget") {
+		t.Errorf("lower budget: funding answers pending %v, in words %q; want the extra money and the least level budget", after.Pending, after.Funding)
 	}
 
 	// Keep it: the side-by-side list shows the page's plan and the kept one.

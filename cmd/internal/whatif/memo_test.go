@@ -10,6 +10,7 @@ import (
 	"time"
 
 	"wearplan/optimize/optimizetest"
+	"wearplan/scenarios"
 )
 
 func TestMemoSharesOneComputation(t *testing.T) {
@@ -141,12 +142,50 @@ func TestSolveStopsWhenCalledOff(t *testing.T) {
 	src := &s.sources[0]
 	ch := src.Scenario.Current()
 	full := optimizetest.NewCountdownContext(1 << 40)
-	if _, err := s.solve(full, src, ch, true); err != nil {
+	if _, err := s.solve(full, 0, ch, true); err != nil {
 		t.Fatal(err)
 	}
+	// The same solve again, without the funding answers kept by the first.
+	s.kept = newKeptAnswers(1)
 	mid := optimizetest.NewCountdownContext(full.Polls() / 2)
-	out, err := s.solve(mid, src, ch, true)
+	out, err := s.solve(mid, 0, ch, true)
 	if !errors.Is(err, context.Canceled) || out != nil {
 		t.Errorf("called off at poll %d of %d: %v, %v; want no outcome and context.Canceled", full.Polls()/2+1, full.Polls(), out, err)
+	}
+}
+
+// The budget-free answers are shared by changes that differ only in the
+// network's budget and the name, not by other changes or scenarios, and
+// the oldest key is forgotten beyond the bound; many requests at once get
+// one BudgetFree per key (run with -race).
+func TestKeptAnswersKeyAndBound(t *testing.T) {
+	k := newKeptAnswers(2)
+	lvl, other, esc, cut := 3e6, 4e6, 0.05, -10.0
+	base := k.get(0, scenarios.Changes{BudgetLevel: &lvl})
+	if k.get(0, scenarios.Changes{BudgetLevel: &other, Name: "cut", BudgetSteps: []scenarios.BudgetStep{{FromYear: 2029, Percent: &cut}}}) != base {
+		t.Error("another budget got other answers")
+	}
+	if k.get(0, scenarios.Changes{BudgetLevel: &lvl, Escalation: &esc}) == base {
+		t.Error("another cost escalation shared the budget-free answers")
+	}
+	if k.get(1, scenarios.Changes{}) == base {
+		t.Error("another scenario shared the budget-free answers")
+	}
+	if k.order.Len() != 2 || k.get(0, scenarios.Changes{}) == base {
+		t.Errorf("%d keys kept; the oldest should be forgotten", k.order.Len())
+	}
+	var wg sync.WaitGroup
+	got := make([]*scenarios.BudgetFree, 8)
+	for i := range got {
+		wg.Go(func() {
+			v := float64(i) * 1e6
+			got[i] = k.get(2, scenarios.Changes{BudgetLevel: &v})
+		})
+	}
+	wg.Wait()
+	for _, bf := range got {
+		if bf != got[0] {
+			t.Fatal("requests at once got different budget-free answers")
+		}
 	}
 }

@@ -8,16 +8,19 @@
 // the full set of changes to /api/plan; the server lays them over the
 // loaded scenario with scenarios.Editable (so they are checked exactly as
 // the same keys in a file would be, and problems come back as the same
-// Issues), plans with scenarios.Plan and the scenarios.Options it was given
+// Issues), plans with scenarios.PlanStaged and the scenarios.Options it was given
 // (so a faster engine plugs in without changes here), and answers with
 // report fragments (report.RunPanel: charts drawn on the server by the
 // reports' own chart code), plain-words shortfalls and the figures a
-// side-by-side comparison needs. Kept alternatives live in the page, not
+// side-by-side comparison needs. The page asks for that answer in two
+// parts (NDJSON): the plan first, then the plan with its funding answers,
+// which take several more solves. Kept alternatives live in the page, not
 // on the server; /api/download turns one of them into a scenario file or a
 // report, or several into a comparison report.
 //
 // The server holds no state that requests change except a bounded memo of
-// recent plans (solve.go), guarded by a mutex; identical requests share one
+// recent plans and one of the funding answers that do not depend on the
+// budget (solve.go), each guarded by a mutex; identical requests share one
 // solve. It reads no file after start-up.
 package whatif
 
@@ -97,6 +100,7 @@ type Server struct {
 	log     *log.Logger
 	sem     chan struct{}
 	memo    *memo
+	kept    *keptAnswers
 	index   []byte
 	palette []byte
 	icon    []byte
@@ -130,6 +134,7 @@ func New(sources []Source, opt Options) (*Server, error) {
 		log:     log.New(logw, "wearplan serve: ", log.LstdFlags),
 		sem:     make(chan struct{}, opt.MaxSolves),
 		memo:    newMemo(opt.MemoSize),
+		kept:    newKeptAnswers(opt.MemoSize),
 		palette: []byte(report.PaletteCSS()),
 		icon:    iconSVG(report.Palette()),
 	}

@@ -36,6 +36,8 @@
     inflight: null,
     timer: 0,
     solves: 0,
+    // early counts the plans shown before their funding answers.
+    early: 0,
     last: null, // {request, answer}
     kept: [], // {name, request, figures}
   };
@@ -277,10 +279,34 @@
     s.className = 'status' + (kind ? ' ' + kind : '');
   }
 
-  async function post(path, body, signal) {
-    return fetch(path, { method: 'POST', headers: { 'Content-Type': 'application/json' }, body: JSON.stringify(body), signal });
+  async function post(path, body, signal, accept) {
+    const headers = { 'Content-Type': 'application/json' };
+    if (accept) headers.Accept = accept;
+    return fetch(path, { method: 'POST', headers, body: JSON.stringify(body), signal });
   }
 
+  // readParts calls onPart with each JSON line of an NDJSON answer as it
+  // arrives.
+  async function readParts(res, onPart) {
+    const reader = res.body.getReader();
+    const dec = new TextDecoder();
+    let buf = '';
+    for (;;) {
+      const { value, done } = await reader.read();
+      if (value) buf += dec.decode(value, { stream: true });
+      let nl;
+      while ((nl = buf.indexOf('\n')) >= 0) {
+        const line = buf.slice(0, nl);
+        buf = buf.slice(nl + 1);
+        if (line.trim()) onPart(JSON.parse(line));
+      }
+      if (done) return;
+    }
+  }
+
+  // plan asks for the plan of the controls in parts (servePlan): the
+  // plan shows as soon as it is made, and again with the funding answers
+  // when they follow.
   async function plan() {
     const request = { scenario: state.info.id, changes: changes(), bands: $('bands').checked };
     const seq = ++state.seq;
@@ -289,10 +315,32 @@
     state.inflight = ctl;
     setStatus('Planning\u2026', 'busy');
     const started = performance.now();
-    let res, body;
+    let res, body, whole = false, planMs = 0;
     try {
-      res = await post('/api/plan', request, ctl.signal);
-      body = await res.json();
+      res = await post('/api/plan', request, ctl.signal, 'application/x-ndjson');
+      if (!res.ok || !(res.headers.get('Content-Type') || '').startsWith('application/x-ndjson')) {
+        body = await res.json();
+      } else {
+        await readParts(res, (p) => {
+          if (seq !== state.seq) return;
+          if (p.part === 'plan') {
+            planMs = performance.now() - started;
+            showPlan(p.answer, request, res.headers, planMs, false);
+            return;
+          }
+          whole = true;
+          if (p.error) {
+            showProblems(p);
+            setStatus('The plan is shown, but its funding answers failed: see the problems below.', 'failed');
+            return;
+          }
+          showPlan(p.answer, request, res.headers, performance.now() - started, true, planMs);
+        });
+        if (seq !== state.seq) return;
+        state.inflight = null;
+        if (!whole) failed('The server stopped before it sent the funding answers. Is wearplan serve still running?');
+        return;
+      }
     } catch (e) {
       if (e.name === 'AbortError') return;
       if (seq === state.seq) failed('No answer from the server (' + e.message + '). Is wearplan serve still running?');
@@ -306,7 +354,7 @@
       $('results').classList.add('stale');
       return;
     }
-    showPlan(body, request, res.headers, performance.now() - started);
+    showPlan(body, request, res.headers, performance.now() - started, true);
   }
 
   function failed(text) {
@@ -372,16 +420,23 @@
     $(id).replaceChildren(...items.map((t) => el('li', { text: t })));
   }
 
-  function showPlan(a, request, headers, ms) {
+  // showPlan shows an answer: the plan alone (whole false; its funding
+  // answers follow) or the whole answer, ms after the request (planMs
+  // after it the plan alone, when it came first).
+  function showPlan(a, request, headers, ms, whole, planMs) {
     clearProblems();
     $('results').classList.remove('stale');
     const from = headers.get('X-Wearplan-From');
     const took = headers.get('X-Wearplan-Solve-Ms');
-    setStatus(from === 'memo' ? 'Planned before; shown from memory (' + Math.round(ms) + ' ms).' : 'Planned in ' + took + ' ms on the server; shown after ' + Math.round(ms) + ' ms.', '');
+    if (!whole) setStatus('Planned in ' + took + ' ms on the server; shown after ' + Math.round(ms) + ' ms. Working out the funding answers\u2026', 'busy');
+    else if (from === 'memo') setStatus('Planned before; shown from memory (' + Math.round(ms) + ' ms).', '');
+    else if (planMs) setStatus('Planned in ' + took + ' ms on the server; shown after ' + Math.round(planMs) + ' ms, the funding answers after ' + Math.round(ms) + ' ms.', '');
+    else setStatus('Planned in ' + took + ' ms on the server; shown after ' + Math.round(ms) + ' ms, with the funding answers.', '');
     $('caution').textContent = a.caution;
     $('headline').textContent = a.headline;
     fill('shortfalls', a.shortfalls);
-    fill('funding', a.funding);
+    fill('funding', whole ? a.funding : ['Working out what money would meet the targets\u2026']);
+    $('funding').classList.toggle('pending', !whole);
     fill('warnings', a.warnings.map((w) => 'Note: ' + w));
     $('class-warnings').replaceChildren(...a.class_warnings.map(classWarning));
     const charts = a.panel.charts;
@@ -395,8 +450,13 @@
     $('work-table').innerHTML = a.panel.work;
     $('summary').innerHTML = a.panel.summary;
     state.last = { request, answer: a };
-    state.solves++;
-    document.body.dataset.solves = String(state.solves);
+    if (whole) {
+      state.solves++;
+      document.body.dataset.solves = String(state.solves);
+    } else {
+      state.early++;
+      document.body.dataset.early = String(state.early);
+    }
     drawCompare();
   }
 
