@@ -101,11 +101,12 @@ deps-bench: deps-test
 # Then the simulations: 1,000 runs of the trial network (4 classes, about
 # 200,000 units, 15 years) and of the demo with their default pieces, and
 # the what-if page's bands for the demo (200 runs), each with its median
-# wall time and peak resident memory.
+# wall time and peak resident memory; and the what-if page's budget cuts
+# (15 budgets from 3.0 to 5.5 million, the plan part first).
 bench: deps-bench
 	go run ./optimize/internal/benchtable $(BENCH_FLAGS)
 	go test -run '^$$' -bench 'SimulateDefaultPieces' -benchtime 5x ./scenarios/
-	go test -run '^$$' -bench 'PlanRequest/bands' -benchtime 10x ./cmd/internal/whatif/
+	go test -run '^$$' -bench 'PlanRequest/(bands|cuts-parts)' -benchtime 10x ./cmd/internal/whatif/
 
 # Past state-wide: whole `plan` processes on 50, 100, 200 and 1,000 classes
 # x 10 states x 8 treatments x 40 years, and on 100 classes with 6 and 14

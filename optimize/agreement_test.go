@@ -143,7 +143,7 @@ func solverSettings() []struct {
 		{"auto", optimize.Options{Method: optimize.Auto}},
 		{"flat", optimize.Options{Method: optimize.Flat}},
 		{"decomposed", optimize.Options{Method: optimize.Decomposed}},
-		{"decomposed, live master", optimize.LiveMaster(optimize.Options{Method: optimize.Decomposed})},
+		{"decomposed, live master", optimize.Options{Method: optimize.Decomposed, Master: optimize.MasterLive}},
 	}
 }
 

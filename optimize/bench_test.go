@@ -91,16 +91,16 @@ func BenchmarkMasterForm(b *testing.B) {
 	} {
 		p := Generate(rand.New(rand.NewPCG(1, 1)), spec)
 		work := newDecomposer(p, Options{}).pricingWork
-		for _, form := range []masterForm{masterDual, masterLive} {
+		for _, form := range []MasterForm{MasterDual, MasterLive} {
 			name := "dual"
-			if form == masterLive {
+			if form == MasterLive {
 				name = "live"
 			}
 			b.Run(fmt.Sprintf("%s/targets=%v/%s", spec, spec.Targets, name), func(b *testing.B) {
 				var plan *Plan
 				for b.Loop() {
 					var err error
-					if plan, err = SolveWith(p, Options{Method: Decomposed, master: form}); err != nil {
+					if plan, err = SolveWith(p, Options{Method: Decomposed, Master: form}); err != nil {
 						b.Fatal(err)
 					}
 				}

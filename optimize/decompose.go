@@ -57,20 +57,30 @@ type Options struct {
 	// MaxIterations caps the column-generation rounds of each stage of a
 	// decomposed solve; zero means DefaultMaxIterations.
 	MaxIterations int
-	// master chooses the decomposition's master form instead of the
-	// network's size: tests and benchmarks use it to check and time
-	// either form on any network.
-	master masterForm
+	// Master chooses the decomposition's master form; the zero value
+	// chooses by the network's size (see MasterForm).
+	Master MasterForm
 }
 
-// masterForm is the form of the decomposition's restricted master.
-type masterForm int
+// MasterForm is the form of the decomposition's restricted master: the
+// dual form re-solved from its last basis, or the primal form kept alive
+// in lp_solve (the live master; see doc.go). Both reach the optimum; where
+// a plan has several, they may land on different ones.
+type MasterForm int
 
 const (
-	masterBySize masterForm = iota // live above liveMasterMinWork, else dual
-	masterDual                     // dualMaster (holdMaster with holds)
-	masterLive                     // colMaster
+	// MasterBySize: live when a pricing round evaluates more than
+	// liveMasterMinWork rewards, else dual.
+	MasterBySize MasterForm = iota
+	MasterDual
+	MasterLive
 )
+
+// LiveMaster reports whether a decomposed solve of p with MasterBySize
+// keeps its master alive.
+func LiveMaster(p *Problem) bool {
+	return newDecomposer(p, Options{}).live
+}
 
 // DefaultMaxIterations caps the rounds of one decomposition stage.
 const DefaultMaxIterations = 2000
@@ -302,7 +312,7 @@ func newDecomposer(p *Problem, o Options) *decomposer {
 	for _, d := range dw.classes {
 		dw.pricingWork += len(d.pairs) * d.years
 	}
-	dw.live = o.master == masterLive || (o.master == masterBySize && dw.pricingWork > liveMasterMinWork)
+	dw.live = o.Master == MasterLive || (o.Master == MasterBySize && dw.pricingWork > liveMasterMinWork)
 	return dw
 }
 

@@ -171,10 +171,3 @@ func BestReachableReference(t *testing.T, p *Problem, n, y int) float64 {
 	}
 	return z
 }
-
-// LiveMaster returns o with the live master (colMaster) forced on every
-// decomposed solve, whatever the network's size.
-func LiveMaster(o Options) Options {
-	o.master = masterLive
-	return o
-}

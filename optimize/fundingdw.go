@@ -78,7 +78,7 @@ func closingMoneyDecomposed(p *Problem, b *builder, m *Model, extras []extraMone
 // for), and returns the answer as values of m's columns, checked against
 // every row of m.
 func fundingDecomposed(p *Problem, b *builder, m *Model, addExtras func(dw *decomposer) []int) ([]float64, error) {
-	o := Options{Method: Decomposed, master: masterLive}
+	o := Options{Method: Decomposed, Master: MasterLive}
 	dw := newDecomposer(p, o)
 	cols := addExtras(dw)
 	dw.seed(o)

@@ -311,11 +311,20 @@ func networkRatios(r *Result) {
 	}
 }
 
+// RenewalDetailClasses is the most classes whose renewal funding ratios a
+// plan works out: each needs a plan of its class alone, about 20 ms of one
+// core for a class of 10 states, 8 treatments and 40 years, so at 200
+// classes about 2 s on 2 cores, more than the network's own plan.
+const RenewalDetailClasses = 200
+
 // requiredRenewal plans each class alone, with no budget caps and the
 // min-cost objective, under a target that keeps its condition score at or
 // above today's in every year, and returns the renewal spend of each year
 // (nil for a class whose condition no plan holds, with a note).
 func requiredRenewal(sc *Scenario, opt Options) ([][]float64, []string, error) {
+	if n := len(sc.Classes); n > RenewalDetailClasses {
+		return nil, []string{fmt.Sprintf("the renewal funding ratios are left out: they need a plan of each class alone, and %d classes are more than the %d these extra solves are made for", n, RenewalDetailClasses)}, nil
+	}
 	out := make([][]float64, len(sc.Classes))
 	classNotes := make([]string, len(sc.Classes))
 	jobs := make([]func() error, len(sc.Classes))
@@ -361,7 +370,7 @@ func classRenewal(sc *Scenario, k int, opt Options) ([]float64, string, error) {
 	label := c.Name + " condition score at least today's in every year"
 	sub.Targets = []Target{{Label: label, Class: c.Name, FromYear: sc.Year(1), ToYear: sc.Year(sc.Horizon),
 		Spec: optimize.Target{Label: label, Class: 0, Kind: optimize.MinScore, Value: today - holdSlack, From: 1, To: sc.Horizon}}}
-	res, err := plan(&sub, Options{Timeout: opt.Timeout, Solver: opt.Solver, SkipFunding: true, ctx: opt.ctx})
+	res, err := plan(&sub, Options{Timeout: opt.Timeout, Solver: opt.Solver, SkipFunding: true, ctx: opt.ctx, master: opt.master})
 	if err != nil {
 		return nil, "", fmt.Errorf("class %q: the plan that holds today's condition: %w", c.Name, err)
 	}

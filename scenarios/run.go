@@ -36,6 +36,11 @@ type Options struct {
 	// ctx is the context of one call (PlanContext and the rest set it on
 	// their copy); nil means context.Background().
 	ctx context.Context
+	// master is the decomposition's master form (the zero value chooses
+	// by size): a class planned alone for the renewal indicators takes its
+	// network's, so that the answers of small networks stay as they were
+	// and large ones get the faster live master.
+	master optimize.MasterForm
 }
 
 // Forecast rolls today's condition forward with no work done.
@@ -93,7 +98,7 @@ func plan(sc *Scenario, opt Options) (*Result, error) {
 		return nil, err
 	}
 	p.Timeout = opt.Timeout
-	plan, err := optimize.SolveWith(p, optimize.Options{Method: opt.Solver, Warm: opt.Warm})
+	plan, err := optimize.SolveWith(p, optimize.Options{Method: opt.Solver, Warm: opt.Warm, Master: opt.master})
 	if err != nil {
 		return nil, err
 	}
@@ -156,7 +161,14 @@ func planResult(sc *Scenario, p *optimize.Problem, plan *optimize.Plan, opt Opti
 		var detailErr error
 		if err := runParallel(opt.context(), []func() error{
 			func() error { detailErr = fundingDetail(sc, p, r, f, opt.BudgetFree); return nil },
-			func() (err error) { required, notes, err = opt.BudgetFree.requiredRenewal(sc, opt); return err },
+			func() (err error) {
+				ropt := opt
+				if optimize.LiveMaster(p) {
+					ropt.master = optimize.MasterLive
+				}
+				required, notes, err = opt.BudgetFree.requiredRenewal(sc, ropt)
+				return err
+			},
 		}); err != nil {
 			return nil, err
 		}

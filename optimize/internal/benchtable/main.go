@@ -54,7 +54,6 @@ var models = []optimize.GenSpec{
 	{Classes: 60, States: 10, Treatments: 8, Years: 40, Catalogue: true},
 }
 
-
 // run is one process's outcome.
 type run struct {
 	secs    float64
