@@ -14,31 +14,7 @@ import (
 // probability 0.2 a year; replacement (to sound, 500 a km) is the only
 // treatment, with 5,000 a year to spend; replacement cost 1,000 a km; no
 // escalation; two years.
-const twoStateYAML = `name: Two-state indicators (invented example)
-start_year: 2030
-horizon: 2
-currency: USD
-discount_rate: 0.05
-cost_escalation: 0
-scales:
-  two:
-    states:
-      - {name: Sound, min: 50, max: 100, value: 100}
-      - {name: Failed, min: 0, max: 50, value: 0}
-    groups: {good: [Sound], poor: [Failed]}
-classes:
-  - name: pipes
-    scale: two
-    unit: km
-    inventory: {Sound: 60, Failed: 40}
-    replacement_cost: 1000
-    deterioration: {matrix: [[0.8, 0.2], [0, 1]]}
-    treatments: [replace]
-treatments:
-  - {name: replace, applies_to: [Failed], cost: 500, effect: {to: Sound}}
-budget: {yearly: 5000}
-objective: max-condition
-`
+const twoStateYAML = scenarios.TwoStateYAML
 
 // The two-state network by hand.
 //

@@ -8,10 +8,10 @@ import (
 	"wearplan/optimize"
 )
 
-// renewalYAML is the two-state network of indicators_test.go (invented
-// numbers), worked by hand there: holding today's condition needs 15 km
-// replaced each year at 500 a km, 7,500 a year.
-const renewalYAML = `name: Two-state renewal (invented example)
+// TwoStateYAML is a one-class network (invented numbers), worked by hand
+// in indicators_test.go, which uses it too: holding today's condition
+// needs 15 km replaced each year at 500 a km, 7,500 a year.
+const TwoStateYAML = `name: Two-state indicators (invented example)
 start_year: 2030
 horizon: 2
 currency: USD
@@ -42,7 +42,7 @@ objective: max-condition
 // of large networks get): 7,500 a year, worked by hand in
 // indicators_test.go.
 func TestRequiredRenewalEitherMaster(t *testing.T) {
-	sc, err := Parse("two.yaml", []byte(renewalYAML))
+	sc, err := Parse("two.yaml", []byte(TwoStateYAML))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -63,7 +63,7 @@ func TestRequiredRenewalEitherMaster(t *testing.T) {
 // renewal funding ratios are left out with a note saying why, before any
 // class is planned.
 func TestRenewalLeftOutPastItsSize(t *testing.T) {
-	sc, err := Parse("two.yaml", []byte(renewalYAML))
+	sc, err := Parse("two.yaml", []byte(TwoStateYAML))
 	if err != nil {
 		t.Fatal(err)
 	}
