@@ -1243,14 +1243,7 @@ func (dw *decomposer) plan(res *masterResult) (*Plan, error) {
 	b := dw.b
 	nx := b.structural()
 	x := make([]float64, nx)
-	for j, w := range res.lambda { // the pool may have grown since
-		if w <= 0 {
-			continue
-		}
-		col := dw.pool[j]
-		k := col.class
-		dw.classes[k].occupation(col.pol, w, x, func(t, n int) int { return b.lay.col(k, t, n) })
-	}
+	dw.quantities(res, b, x)
 	// Shortfalls are measured on the plan against the targets' own
 	// bounds (readPlan reports those above shortfallFloor).
 	var slacks []slackCol
@@ -1280,6 +1273,19 @@ func (dw *decomposer) plan(res *masterResult) (*Plan, error) {
 	dw.stats.Columns = len(dw.pool)
 	plan.Stats = dw.stats
 	return plan, nil
+}
+
+// quantities adds the master plan res's treated and untreated quantities
+// into x, laid out as b's flat model's columns.
+func (dw *decomposer) quantities(res *masterResult, b *builder, x []float64) {
+	for j, w := range res.lambda { // the pool may have grown since
+		if w <= 0 {
+			continue
+		}
+		col := dw.pool[j]
+		k := col.class
+		dw.classes[k].occupation(col.pol, w, x, func(t, n int) int { return b.lay.col(k, t, n) })
+	}
 }
 
 // verify checks a decomposed plan against the flat model it stands for:

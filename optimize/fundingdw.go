@@ -93,14 +93,7 @@ func fundingDecomposed(p *Problem, b *builder, m *Model, addExtras func(dw *deco
 		return nil, err
 	}
 	x := make([]float64, len(m.Cols))
-	for j, w := range res.lambda {
-		if w <= 0 {
-			continue
-		}
-		col := dw.pool[j]
-		k := col.class
-		dw.classes[k].occupation(col.pol, w, x, func(t, n int) int { return b.lay.col(k, t, n) })
-	}
+	dw.quantities(res, b, x)
 	for i, c := range cols {
 		x[c] = res.extra[i]
 	}
