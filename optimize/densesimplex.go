@@ -1,0 +1,596 @@
+package optimize
+
+import (
+	"math"
+)
+
+// denseLP is a small linear program, max c·x over rows a·x (>=, <=, =) b
+// and x >= 0, solved by the bounded primal simplex method on a dense
+// explicit basis inverse. It serves the live master of a decomposition
+// with few rows (denseMasterRows): a class planned alone under a yearly
+// score target has about 40. lp_solve spends most of its time on such a
+// master setting up each solve (about 0.1 ms, measured with
+// BenchmarkRenewalPlan), while a warm-started pivot on a 40-row dense
+// inverse costs a few microseconds.
+//
+// The method is the textbook one (Chvátal, Linear Programming, 1983,
+// chapters 8 and 10; Maros, Computational Techniques of the Simplex
+// Method, 2003, chapter 9 for phase 1): every row i has a logical
+// variable r_i = a_i·x, bounded by its sense ([b, inf) for >=, (-inf, b]
+// for <=, [b, b] for =), so that the constraints read A x - r = 0 and a
+// basis is R of the n+R variables. Phase 1 maximises minus the sum of the
+// basic variables' bound violations; phase 2 maximises c·x. Pricing is
+// Dantzig's largest reduced cost, switching to Bland's smallest index
+// after a run of degenerate pivots so that it cannot cycle; the ratio
+// test is Harris's two-pass test. The inverse is updated by elementary
+// row operations and computed afresh every refactorEvery pivots and
+// before an answer is reported.
+//
+// Columns and rows can be added between solves and the next solve goes on
+// from the last basis: a new column enters at zero, a new row's logical
+// is basic. Nothing here is trusted on its own: the live master checks
+// every answer (colMaster.read) and turns to lp_solve when one fails.
+type denseLP struct {
+	rows  int
+	sense []Sense
+	rhs   []float64
+	obj   []float64   // per column
+	cols  [][]float64 // per column, dense over rows
+	// basis[i] is the variable basic in position i: j >= 0 for column j,
+	// -1-i for row i's logical. atUpper marks a nonbasic logical at its
+	// upper bound (a <= row's, or an = row's); others sit at their lower
+	// bound (columns at zero).
+	basis    []int
+	colPos   []int  // per column: its basis position, -1 when nonbasic
+	rowPos   []int  // per row logical: likewise
+	atUpper  []bool // per row logical
+	inv      [][]float64
+	xB       []float64
+	pivots   int
+	iters    int
+	degRun   int
+	valid    bool // inv and xB describe basis
+	lastStat denseStatus
+}
+
+type denseStatus int
+
+const (
+	denseOptimal denseStatus = iota
+	denseInfeasible
+	denseUnbounded
+	denseIterationLimit
+	denseSingular
+)
+
+const (
+	denseFeasTol   = 1e-9  // bound violation a basic variable may show
+	denseOptTol    = 1e-9  // reduced cost that counts as improving, relative
+	densePivotTol  = 1e-9  // smallest pivot element the ratio test accepts
+	refactorEvery  = 50    // pivots between fresh inverses
+	blandAfter     = 50    // degenerate pivots in a row before Bland's rule
+	denseHugeBound = 1e300 // a bound this large is no bound
+)
+
+func newDenseLP() *denseLP { return &denseLP{} }
+
+// addRow adds a row over the given 0-based columns; its logical becomes
+// basic.
+func (d *denseLP) addRow(cols []int32, vals []float64, sense Sense, rhs float64) {
+	i := d.rows
+	d.rows++
+	d.sense = append(d.sense, sense)
+	d.rhs = append(d.rhs, rhs)
+	d.atUpper = append(d.atUpper, false)
+	for j := range d.cols {
+		d.cols[j] = append(d.cols[j], 0)
+	}
+	for k, c := range cols {
+		d.cols[c][i] += vals[k]
+	}
+	d.rowPos = append(d.rowPos, len(d.basis))
+	d.basis = append(d.basis, -1-i)
+	d.valid = false
+}
+
+// addColumn adds a column: rows are 0 for the objective and i for row i
+// (1-based), as lp_solve's add_columnex takes them. It enters nonbasic at
+// zero.
+func (d *denseLP) addColumn(rows []int32, vals []float64) {
+	col := make([]float64, d.rows)
+	c := 0.0
+	for k, r := range rows {
+		if r == 0 {
+			c += vals[k]
+		} else {
+			col[r-1] += vals[k]
+		}
+	}
+	d.obj = append(d.obj, c)
+	d.cols = append(d.cols, col)
+	d.colPos = append(d.colPos, -1)
+}
+
+// pos is variable v's basis position, -1 when nonbasic.
+func (d *denseLP) pos(v int) int {
+	if v >= 0 {
+		return d.colPos[v]
+	}
+	return d.rowPos[-1-v]
+}
+
+func (d *denseLP) setPos(v, p int) {
+	if v >= 0 {
+		d.colPos[v] = p
+	} else {
+		d.rowPos[-1-v] = p
+	}
+}
+
+// order is variable v's place in Bland's rule: columns, then logicals.
+func (d *denseLP) order(v int) int {
+	if v >= 0 {
+		return v
+	}
+	return len(d.cols) - 1 - v
+}
+
+// bounds are variable v's lower and upper bounds.
+func (d *denseLP) bounds(v int) (float64, float64) {
+	if v >= 0 {
+		return 0, math.Inf(1)
+	}
+	i := -1 - v
+	switch d.sense[i] {
+	case GreaterEq:
+		return d.rhs[i], math.Inf(1)
+	case LessEq:
+		return math.Inf(-1), d.rhs[i]
+	}
+	return d.rhs[i], d.rhs[i]
+}
+
+// nonbasicValue is where nonbasic variable v sits.
+func (d *denseLP) nonbasicValue(v int) float64 {
+	if v >= 0 {
+		return 0
+	}
+	lo, hi := d.bounds(v)
+	if d.atUpper[-1-v] || math.IsInf(lo, -1) {
+		return hi
+	}
+	return lo
+}
+
+// column writes variable v's column of [A | -I] into out.
+func (d *denseLP) column(v int, out []float64) {
+	if v >= 0 {
+		copy(out, d.cols[v])
+		return
+	}
+	clear(out)
+	out[-1-v] = -1
+}
+
+// refactor computes the basis inverse afresh by Gauss-Jordan elimination
+// with partial pivoting, and the basic variables' values from it.
+func (d *denseLP) refactor() bool {
+	R := d.rows
+	a := make([][]float64, R)
+	for i := range a {
+		a[i] = make([]float64, 2*R)
+		a[i][R+i] = 1
+	}
+	col := make([]float64, R)
+	for p, v := range d.basis {
+		d.column(v, col)
+		for i := 0; i < R; i++ {
+			a[i][p] = col[i]
+		}
+	}
+	for c := 0; c < R; c++ {
+		best, bi := 0.0, -1
+		for i := c; i < R; i++ {
+			if v := math.Abs(a[i][c]); v > best {
+				best, bi = v, i
+			}
+		}
+		if best < 1e-12 {
+			return false
+		}
+		a[c], a[bi] = a[bi], a[c]
+		inv := 1 / a[c][c]
+		for k := c; k < 2*R; k++ {
+			a[c][k] *= inv
+		}
+		for i := 0; i < R; i++ {
+			if i == c || a[i][c] == 0 {
+				continue
+			}
+			f := a[i][c]
+			for k := c; k < 2*R; k++ {
+				a[i][k] -= f * a[c][k]
+			}
+		}
+	}
+	if len(d.inv) != R {
+		d.inv = make([][]float64, R)
+	}
+	for i := range a {
+		d.inv[i] = a[i][R:]
+	}
+	d.computeXB()
+	d.pivots = 0
+	d.valid = true
+	return true
+}
+
+// computeXB sets the basic values: B xB = -N xN.
+func (d *denseLP) computeXB() {
+	R := d.rows
+	// Columns nonbasic sit at zero and add nothing; a nonbasic logical's
+	// column is -e_i.
+	rhs := make([]float64, R)
+	for i := 0; i < R; i++ {
+		if v := -1 - i; d.rowPos[i] < 0 {
+			rhs[i] = d.nonbasicValue(v)
+		}
+	}
+	d.xB = make([]float64, R)
+	for p := 0; p < R; p++ {
+		s := 0.0
+		row := d.inv[p]
+		for i, r := range rhs {
+			if r != 0 {
+				s += row[i] * r
+			}
+		}
+		d.xB[p] = s
+	}
+}
+
+// infeasibility is how far basic position p is outside its bounds:
+// negative below, positive above, zero within.
+func (d *denseLP) infeasibility(p int) float64 {
+	lo, hi := d.bounds(d.basis[p])
+	x := d.xB[p]
+	tol := denseFeasTol * math.Max(1, math.Abs(x))
+	switch {
+	case x < lo-tol:
+		return x - lo
+	case x > hi+tol:
+		return x - hi
+	}
+	return 0
+}
+
+// solve runs the simplex method from the current basis, at most limit
+// iterations.
+func (d *denseLP) solve(limit int) denseStatus {
+	R := d.rows
+	if !d.valid && !d.refactor() {
+		if !d.resetBasis() {
+			return denseSingular
+		}
+	}
+	d.iters = 0
+	cB := make([]float64, R)
+	y := make([]float64, R)
+	alpha := make([]float64, R)
+	col := make([]float64, R)
+	for {
+		if d.pivots >= refactorEvery && !d.refactor() {
+			return denseSingular
+		}
+		// The costs: phase 1 while any basic variable is out of bounds.
+		phase1 := false
+		for p := 0; p < R; p++ {
+			cB[p] = 0
+			if f := d.infeasibility(p); f < 0 {
+				cB[p], phase1 = 1, true
+			} else if f > 0 {
+				cB[p], phase1 = -1, true
+			}
+		}
+		if !phase1 {
+			for p, v := range d.basis {
+				if v >= 0 {
+					cB[p] = d.obj[v]
+				}
+			}
+		}
+		for i := 0; i < R; i++ {
+			s := 0.0
+			for p := 0; p < R; p++ {
+				if cB[p] != 0 {
+					s += cB[p] * d.inv[p][i]
+				}
+			}
+			y[i] = s
+		}
+		// Pricing: a column at zero may rise (reduced cost > 0); a
+		// logical may leave a finite bound in the direction its reduced
+		// cost favours.
+		enter, dir, best := 0, 0.0, 0.0
+		bland := d.degRun >= blandAfter
+		consider := func(v int, rc, scale float64) {
+			lo, hi := d.bounds(v)
+			at := d.nonbasicValue(v)
+			tol := denseOptTol * math.Max(1, scale)
+			var dd float64
+			switch {
+			case rc > tol && at < hi:
+				dd = 1
+			case rc < -tol && at > lo:
+				dd = -1
+			default:
+				return
+			}
+			if dir == 0 || (!bland && math.Abs(rc) > best) {
+				enter, dir, best = v, dd, math.Abs(rc)
+			}
+		}
+		for j, a := range d.cols {
+			if d.colPos[j] >= 0 {
+				continue
+			}
+			c := 0.0
+			if !phase1 {
+				c = d.obj[j]
+			}
+			rc, scale := c, math.Abs(c)
+			for i, v := range a {
+				if v != 0 {
+					rc -= y[i] * v
+					scale = math.Max(scale, math.Abs(y[i]*v))
+				}
+			}
+			consider(j, rc, scale)
+			if bland && dir != 0 {
+				break
+			}
+		}
+		if !(bland && dir != 0) {
+			for i := 0; i < R; i++ {
+				v := -1 - i
+				if d.rowPos[i] >= 0 || d.sense[i] == Equal {
+					continue
+				}
+				consider(v, y[i], math.Abs(y[i]))
+				if bland && dir != 0 {
+					break
+				}
+			}
+		}
+		if dir == 0 {
+			if phase1 {
+				return d.finish(denseInfeasible)
+			}
+			return d.finish(denseOptimal)
+		}
+		if d.iters >= limit {
+			return denseIterationLimit
+		}
+		d.iters++
+		// alpha = B^-1 a_q; basic values move by -t·dir·alpha.
+		d.column(enter, col)
+		for p := 0; p < R; p++ {
+			s := 0.0
+			for i, v := range col {
+				if v != 0 {
+					s += d.inv[p][i] * v
+				}
+			}
+			alpha[p] = s
+		}
+		leave, step, flip := d.ratio(enter, dir, alpha, phase1, bland)
+		if leave < 0 && !flip {
+			if phase1 {
+				// A phase-1 direction always meets a bound of the
+				// variables it is repairing; reaching here is rounding.
+				return denseSingular
+			}
+			return d.finish(denseUnbounded)
+		}
+		if step <= denseFeasTol {
+			d.degRun++
+		} else {
+			d.degRun = 0
+		}
+		for p := 0; p < R; p++ {
+			d.xB[p] -= step * dir * alpha[p]
+		}
+		if flip {
+			// The entering logical crossed to its other bound; the basis
+			// stays.
+			d.atUpper[-1-enter] = !d.atUpper[-1-enter]
+			continue
+		}
+		enterValue := d.nonbasicValue(enter) + step*dir
+		out := d.basis[leave]
+		// The leaving variable stops at the bound it reached.
+		if out < 0 {
+			lo, hi := d.bounds(out)
+			moved := d.xB[leave]
+			d.atUpper[-1-out] = !math.IsInf(hi, 1) && math.Abs(moved-hi) <= math.Abs(moved-lo)
+		}
+		d.pivot(leave, alpha)
+		d.setPos(out, -1)
+		d.basis[leave] = enter
+		d.setPos(enter, leave)
+		d.xB[leave] = enterValue
+	}
+}
+
+// ratio is Harris's two-pass ratio test: the largest step the entering
+// variable can take with every basic variable within its bounds widened
+// by the tolerance, then among the rows that block within that step the
+// one with the largest pivot. In phase 1 an infeasible basic variable
+// blocks where it reaches the bound it violates. flip reports that the
+// entering variable's own other bound comes first.
+func (d *denseLP) ratio(enter int, dir float64, alpha []float64, phase1, bland bool) (leave int, step float64, flip bool) {
+	limitOf := func(p int, tol float64) float64 {
+		a := dir * alpha[p] // xB[p] changes by -t·a
+		if math.Abs(a) < densePivotTol {
+			return math.Inf(1)
+		}
+		lo, hi := d.bounds(d.basis[p])
+		x := d.xB[p]
+		if phase1 {
+			switch f := d.infeasibility(p); {
+			case f < 0: // below lo: blocks only when rising to lo
+				if a < 0 {
+					return (lo - x + tol) / -a
+				}
+				return math.Inf(1)
+			case f > 0:
+				if a > 0 {
+					return (x - hi + tol) / a
+				}
+				return math.Inf(1)
+			}
+		}
+		if a > 0 { // falling
+			if math.IsInf(lo, -1) {
+				return math.Inf(1)
+			}
+			return math.Max(x-lo+tol, 0) / a
+		}
+		if math.IsInf(hi, 1) {
+			return math.Inf(1)
+		}
+		return math.Max(hi-x+tol, 0) / -a
+	}
+	R := d.rows
+	bound := math.Inf(1)
+	for p := 0; p < R; p++ {
+		tol := denseFeasTol * math.Max(1, math.Abs(d.xB[p]))
+		bound = math.Min(bound, limitOf(p, tol))
+	}
+	lo, hi := d.bounds(enter)
+	own := hi - lo
+	if own < bound && !math.IsInf(own, 1) {
+		return -1, own, true
+	}
+	if math.IsInf(bound, 1) {
+		return -1, 0, false
+	}
+	// Under Bland's rule, the tie goes to the smallest variable.
+	leave, big := -1, 0.0
+	for p := 0; p < R; p++ {
+		if limitOf(p, 0) > bound || math.Abs(alpha[p]) < densePivotTol {
+			continue
+		}
+		switch {
+		case leave < 0,
+			bland && d.order(d.basis[p]) < d.order(d.basis[leave]),
+			!bland && math.Abs(alpha[p]) > big:
+			leave, big = p, math.Abs(alpha[p])
+		}
+	}
+	if leave < 0 {
+		return -1, 0, false
+	}
+	return leave, math.Max(limitOf(leave, 0), 0), false
+}
+
+// pivot updates the inverse for column alpha entering at position r.
+func (d *denseLP) pivot(r int, alpha []float64) {
+	R := d.rows
+	pr := d.inv[r]
+	inv := 1 / alpha[r]
+	for i := 0; i < R; i++ {
+		pr[i] *= inv
+	}
+	for p := 0; p < R; p++ {
+		if p == r || alpha[p] == 0 {
+			continue
+		}
+		f := alpha[p]
+		row := d.inv[p]
+		for i := 0; i < R; i++ {
+			row[i] -= f * pr[i]
+		}
+	}
+	d.pivots++
+}
+
+// finish refactors before an answer is read, so that it comes from a
+// fresh inverse; a basis that turns out infeasible on it goes round again.
+func (d *denseLP) finish(st denseStatus) denseStatus {
+	if d.pivots > 0 && !d.refactor() {
+		return denseSingular
+	}
+	d.lastStat = st
+	return st
+}
+
+// resetBasis makes every logical basic: the slack basis, always
+// nonsingular.
+func (d *denseLP) resetBasis() bool {
+	d.basis = d.basis[:0]
+	for j := range d.colPos {
+		d.colPos[j] = -1
+	}
+	for i := 0; i < d.rows; i++ {
+		d.rowPos[i] = i
+		d.basis = append(d.basis, -1-i)
+		d.atUpper[i] = false
+	}
+	return d.refactor()
+}
+
+// variables are the columns' values.
+func (d *denseLP) variables() []float64 {
+	x := make([]float64, len(d.cols))
+	for p, v := range d.basis {
+		if v >= 0 {
+			x[v] = d.xB[p]
+		}
+	}
+	return x
+}
+
+// duals are the rows' prices y = c_B B^-1 (for a maximisation: <= 0 on a
+// >= row, >= 0 on a <= row), lp_solve's sign convention.
+func (d *denseLP) duals() []float64 {
+	R := d.rows
+	y := make([]float64, R)
+	for p, v := range d.basis {
+		if v < 0 {
+			continue
+		}
+		c := d.obj[v]
+		if c == 0 {
+			continue
+		}
+		for i := 0; i < R; i++ {
+			y[i] += c * d.inv[p][i]
+		}
+	}
+	return y
+}
+
+// keepColumns drops the nonbasic columns not kept, renumbering the rest
+// in order; basic columns are always kept. It returns the new index of
+// every old column (-1: dropped).
+func (d *denseLP) keepColumns(keep []bool) []int {
+	newIndex := make([]int, len(d.cols))
+	n := 0
+	for j := range d.cols {
+		if d.colPos[j] >= 0 || keep[j] {
+			newIndex[j] = n
+			d.cols[n], d.obj[n], d.colPos[n] = d.cols[j], d.obj[j], d.colPos[j]
+			n++
+		} else {
+			newIndex[j] = -1
+		}
+	}
+	d.cols, d.obj, d.colPos = d.cols[:n], d.obj[:n], d.colPos[:n]
+	for p, v := range d.basis {
+		if v >= 0 {
+			d.basis[p] = newIndex[v]
+		}
+	}
+	return newIndex
+}
