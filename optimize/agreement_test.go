@@ -130,8 +130,9 @@ func TestAgreesWithGLPKOnGeneratedScenarios(t *testing.T) {
 
 // solverSettings are the settings the agreement checks run: the automatic
 // choice, the flat LP, the decomposition, and the decomposition with its
-// master kept alive in lp_solve (which the solver uses only on networks
-// larger than these, so it is forced here).
+// master kept alive (which the solver uses only on networks larger than
+// these, so it is forced here), in the dense simplex (these masters are
+// small enough) and in lp_solve.
 func solverSettings() []struct {
 	name string
 	o    optimize.Options
@@ -144,6 +145,7 @@ func solverSettings() []struct {
 		{"flat", optimize.Options{Method: optimize.Flat}},
 		{"decomposed", optimize.Options{Method: optimize.Decomposed}},
 		{"decomposed, live master", optimize.Options{Method: optimize.Decomposed, Master: optimize.MasterLive}},
+		{"decomposed, live master in lp_solve", optimize.InLPSolve(optimize.Options{Method: optimize.Decomposed, Master: optimize.MasterLive})},
 	}
 }
 

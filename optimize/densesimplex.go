@@ -9,9 +9,9 @@ import (
 // explicit basis inverse. It serves the live master of a decomposition
 // with few rows (denseMasterRows): a class planned alone under a yearly
 // score target has about 40. lp_solve spends most of its time on such a
-// master setting up each solve (about 0.1 ms, measured with
-// BenchmarkRenewalPlan), while a warm-started pivot on a 40-row dense
-// inverse costs a few microseconds.
+// master setting up each solve (about 0.1 ms; see BenchmarkMasterForm),
+// while a warm-started pivot on a 40-row dense inverse costs a few
+// microseconds.
 //
 // The method is the textbook one (Chvátal, Linear Programming, 1983,
 // chapters 8 and 10; Maros, Computational Techniques of the Simplex
@@ -40,17 +40,16 @@ type denseLP struct {
 	// -1-i for row i's logical. atUpper marks a nonbasic logical at its
 	// upper bound (a <= row's, or an = row's); others sit at their lower
 	// bound (columns at zero).
-	basis    []int
-	colPos   []int  // per column: its basis position, -1 when nonbasic
-	rowPos   []int  // per row logical: likewise
-	atUpper  []bool // per row logical
-	inv      [][]float64
-	xB       []float64
-	pivots   int
-	iters    int
-	degRun   int
-	valid    bool // inv and xB describe basis
-	lastStat denseStatus
+	basis   []int
+	colPos  []int  // per column: its basis position, -1 when nonbasic
+	rowPos  []int  // per row logical: likewise
+	atUpper []bool // per row logical
+	inv     [][]float64
+	xB      []float64
+	pivots  int
+	iters   int
+	degRun  int
+	valid   bool // inv and xB describe basis
 }
 
 type denseStatus int
@@ -62,6 +61,20 @@ const (
 	denseIterationLimit
 	denseSingular
 )
+
+func (s denseStatus) String() string {
+	switch s {
+	case denseOptimal:
+		return "optimal"
+	case denseInfeasible:
+		return "infeasible"
+	case denseUnbounded:
+		return "unbounded"
+	case denseIterationLimit:
+		return "iteration limit"
+	}
+	return "singular basis"
+}
 
 const (
 	denseFeasTol   = 1e-9  // bound violation a basic variable may show
@@ -88,9 +101,33 @@ func (d *denseLP) addRow(cols []int32, vals []float64, sense Sense, rhs float64)
 	for k, c := range cols {
 		d.cols[c][i] += vals[k]
 	}
+	if d.valid {
+		// The bordered inverse: with the new logical basic, B' is
+		// [[B, 0], [r, -1]] (r the row over the basic columns), whose
+		// inverse is [[B^-1, 0], [r B^-1, -1]]; the logical's value is
+		// the row's activity.
+		newRow := make([]float64, i+1)
+		x := 0.0
+		for p, v := range d.basis {
+			if v < 0 {
+				continue
+			}
+			if r := d.cols[v][i]; r != 0 {
+				x += r * d.xB[p]
+				for k, w := range d.inv[p] {
+					newRow[k] += r * w
+				}
+			}
+		}
+		newRow[i] = -1
+		for p := range d.inv {
+			d.inv[p] = append(d.inv[p], 0)
+		}
+		d.inv = append(d.inv, newRow)
+		d.xB = append(d.xB, x)
+	}
 	d.rowPos = append(d.rowPos, len(d.basis))
 	d.basis = append(d.basis, -1-i)
-	d.valid = false
 }
 
 // addColumn adds a column: rows are 0 for the objective and i for row i
@@ -109,14 +146,6 @@ func (d *denseLP) addColumn(rows []int32, vals []float64) {
 	d.obj = append(d.obj, c)
 	d.cols = append(d.cols, col)
 	d.colPos = append(d.colPos, -1)
-}
-
-// pos is variable v's basis position, -1 when nonbasic.
-func (d *denseLP) pos(v int) int {
-	if v >= 0 {
-		return d.colPos[v]
-	}
-	return d.rowPos[-1-v]
 }
 
 func (d *denseLP) setPos(v, p int) {
@@ -252,9 +281,12 @@ func (d *denseLP) computeXB() {
 // infeasibility is how far basic position p is outside its bounds:
 // negative below, positive above, zero within.
 func (d *denseLP) infeasibility(p int) float64 {
-	lo, hi := d.bounds(d.basis[p])
 	x := d.xB[p]
-	tol := denseFeasTol * math.Max(1, math.Abs(x))
+	if d.basis[p] >= 0 && x >= -denseFeasTol {
+		return 0 // a column: at least zero, no upper bound
+	}
+	lo, hi := d.bounds(d.basis[p])
+	tol := denseFeasTol * max(1, math.Abs(x))
 	switch {
 	case x < lo-tol:
 		return x - lo
@@ -277,7 +309,7 @@ func (d *denseLP) solve(limit int) denseStatus {
 	cB := make([]float64, R)
 	y := make([]float64, R)
 	alpha := make([]float64, R)
-	col := make([]float64, R)
+	var col []float64
 	for {
 		if d.pivots >= refactorEvery && !d.refactor() {
 			return denseSingular
@@ -299,14 +331,14 @@ func (d *denseLP) solve(limit int) denseStatus {
 				}
 			}
 		}
-		for i := 0; i < R; i++ {
-			s := 0.0
-			for p := 0; p < R; p++ {
-				if cB[p] != 0 {
-					s += cB[p] * d.inv[p][i]
-				}
+		clear(y)
+		for p, c := range cB {
+			if c == 0 {
+				continue
 			}
-			y[i] = s
+			for i, w := range d.inv[p] {
+				y[i] += c * w
+			}
 		}
 		// Pricing: a column at zero may rise (reduced cost > 0); a
 		// logical may leave a finite bound in the direction its reduced
@@ -314,9 +346,12 @@ func (d *denseLP) solve(limit int) denseStatus {
 		enter, dir, best := 0, 0.0, 0.0
 		bland := d.degRun >= blandAfter
 		consider := func(v int, rc, scale float64) {
+			tol := denseOptTol * max(1, scale)
+			if rc <= tol && rc >= -tol {
+				return
+			}
 			lo, hi := d.bounds(v)
 			at := d.nonbasicValue(v)
-			tol := denseOptTol * math.Max(1, scale)
 			var dd float64
 			switch {
 			case rc > tol && at < hi:
@@ -341,8 +376,13 @@ func (d *denseLP) solve(limit int) denseStatus {
 			rc, scale := c, math.Abs(c)
 			for i, v := range a {
 				if v != 0 {
-					rc -= y[i] * v
-					scale = math.Max(scale, math.Abs(y[i]*v))
+					t := y[i] * v
+					rc -= t
+					if t > scale {
+						scale = t
+					} else if -t > scale {
+						scale = -t
+					}
 				}
 			}
 			consider(j, rc, scale)
@@ -373,15 +413,20 @@ func (d *denseLP) solve(limit int) denseStatus {
 		}
 		d.iters++
 		// alpha = B^-1 a_q; basic values move by -t·dir·alpha.
-		d.column(enter, col)
-		for p := 0; p < R; p++ {
-			s := 0.0
-			for i, v := range col {
-				if v != 0 {
-					s += d.inv[p][i] * v
+		if enter >= 0 {
+			col = d.cols[enter]
+			for p, row := range d.inv {
+				s := 0.0
+				for i, v := range col {
+					s += row[i] * v
 				}
+				alpha[p] = s
 			}
-			alpha[p] = s
+		} else {
+			i := -1 - enter // the logical's column is -e_i
+			for p, row := range d.inv {
+				alpha[p] = -row[i]
+			}
 		}
 		leave, step, flip := d.ratio(enter, dir, alpha, phase1, bland)
 		if leave < 0 && !flip {
@@ -515,13 +560,14 @@ func (d *denseLP) pivot(r int, alpha []float64) {
 	d.pivots++
 }
 
-// finish refactors before an answer is read, so that it comes from a
-// fresh inverse; a basis that turns out infeasible on it goes round again.
+// finish refactors before an answer is read when the inverse has been
+// updated as many times as the solve loop allows. The answer is refined
+// when read (variables, duals) and checked by its reader, which solves
+// again from a fresh inverse when the check fails.
 func (d *denseLP) finish(st denseStatus) denseStatus {
-	if d.pivots > 0 && !d.refactor() {
+	if d.pivots >= refactorEvery && !d.refactor() {
 		return denseSingular
 	}
-	d.lastStat = st
 	return st
 }
 
@@ -540,8 +586,32 @@ func (d *denseLP) resetBasis() bool {
 	return d.refactor()
 }
 
-// variables are the columns' values.
+// variables are the columns' values, refined once against the
+// residual of B xB = -N xN (iterative refinement: Wilkinson; Golub and
+// Van Loan, Matrix Computations, section 3.5.3), which takes the rounding
+// of an inverse near singularity (policies much alike) out of the answer.
 func (d *denseLP) variables() []float64 {
+	R := d.rows
+	res := make([]float64, R)
+	for i := 0; i < R; i++ {
+		if d.rowPos[i] < 0 {
+			res[i] = d.nonbasicValue(-1 - i)
+		}
+	}
+	col := make([]float64, R)
+	for p, v := range d.basis {
+		d.column(v, col)
+		for i, a := range col {
+			res[i] -= a * d.xB[p]
+		}
+	}
+	for p := range d.xB {
+		s := 0.0
+		for i, w := range d.inv[p] {
+			s += w * res[i]
+		}
+		d.xB[p] += s
+	}
 	x := make([]float64, len(d.cols))
 	for p, v := range d.basis {
 		if v >= 0 {
@@ -552,22 +622,39 @@ func (d *denseLP) variables() []float64 {
 }
 
 // duals are the rows' prices y = c_B B^-1 (for a maximisation: <= 0 on a
-// >= row, >= 0 on a <= row), lp_solve's sign convention.
+// >= row, >= 0 on a <= row), lp_solve's sign convention, refined once
+// against the residual of y B = c_B as the variables are.
 func (d *denseLP) duals() []float64 {
 	R := d.rows
 	y := make([]float64, R)
+	cB := make([]float64, R)
 	for p, v := range d.basis {
-		if v < 0 {
-			continue
-		}
-		c := d.obj[v]
-		if c == 0 {
-			continue
-		}
-		for i := 0; i < R; i++ {
-			y[i] += c * d.inv[p][i]
+		if v >= 0 {
+			cB[p] = d.obj[v]
 		}
 	}
+	mul := func(r []float64) {
+		for p, c := range r {
+			if c == 0 {
+				continue
+			}
+			for i, w := range d.inv[p] {
+				y[i] += c * w
+			}
+		}
+	}
+	mul(cB)
+	res := make([]float64, R)
+	col := make([]float64, R)
+	for p, v := range d.basis {
+		d.column(v, col)
+		s := cB[p]
+		for i, a := range col {
+			s -= y[i] * a
+		}
+		res[p] = s
+	}
+	mul(res)
 	return y
 }
 

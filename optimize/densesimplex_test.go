@@ -170,22 +170,6 @@ func glpsolDense(t *testing.T, c *denseCase) denseRef {
 	return denseRef{}
 }
 
-func (s denseStatus) String() string {
-	switch s {
-	case denseOptimal:
-		return "optimal"
-	case denseInfeasible:
-		return "infeasible"
-	case denseUnbounded:
-		return "unbounded"
-	case denseIterationLimit:
-		return "iteration limit"
-	case denseSingular:
-		return "singular"
-	}
-	return fmt.Sprintf("status %d", int(s))
-}
-
 // denseLimit is far more iterations than the simplex method needs on the
 // tests' LPs; reaching it means a stall.
 const denseLimit = 20000
@@ -351,9 +335,7 @@ func TestDenseLPTextbookExamples(t *testing.T) {
 		t.Run(tc.name, func(t *testing.T) {
 			c := &denseCase{}
 			c.a = [][]float64{}
-			for _, v := range tc.obj {
-				c.obj = append(c.obj, v)
-			}
+			c.obj = append(c.obj, tc.obj...)
 			for _, r := range tc.rows {
 				c.a = append(c.a, r.a)
 				c.sense = append(c.sense, r.sense)

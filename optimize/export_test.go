@@ -171,3 +171,10 @@ func BestReachableReference(t *testing.T, p *Problem, n, y int) float64 {
 	}
 	return z
 }
+
+// InLPSolve keeps a live master in lp_solve even when the dense simplex
+// would take it, so that the agreement checks reach both.
+func InLPSolve(o Options) Options {
+	o.lpSolveMaster = true
+	return o
+}
