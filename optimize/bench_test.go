@@ -78,29 +78,32 @@ func BenchmarkSolveDecomposed(b *testing.B) {
 	}
 }
 
-// BenchmarkMasterForm compares the decomposition's two masters, the dual
+// BenchmarkMasterForm compares the decomposition's masters, the dual
 // form (re-solved from its last basis as rows are added) and the live
-// primal form (colMaster), on networks of several sizes, most with
-// targets (so hold and target rows enter the masters).
+// primal form (colMaster) in lp_solve and, while it has at most
+// denseMasterRows rows, in the dense simplex, on networks of several
+// sizes, most with targets (so hold and target rows enter the masters),
+// and on single classes planned as the renewal indicators plan them (the
+// least cost that keeps today's condition score in every year: one
+// target row a year).
 func BenchmarkMasterForm(b *testing.B) {
-	for _, spec := range []GenSpec{
-		{Classes: 4, States: 5, Treatments: 4, Years: 20, BudgetShare: 0.15},
-		{Classes: 4, States: 5, Treatments: 4, Years: 20, Targets: true, BudgetShare: 0.15},
-		{Classes: 10, States: 6, Treatments: 5, Years: 20, Targets: true, BudgetShare: 0.15},
-		{Classes: 20, States: 7, Treatments: 6, Years: 30, Targets: true, BudgetShare: 0.15},
-	} {
-		p := Generate(rand.New(rand.NewPCG(1, 1)), spec)
+	type form struct {
+		name string
+		o    Options
+	}
+	forms := []form{
+		{"dual", Options{Method: Decomposed, Master: MasterDual}},
+		{"live-lpsolve", Options{Method: Decomposed, Master: MasterLive, lpSolveMaster: true}},
+		{"live-dense", Options{Method: Decomposed, Master: MasterLive}},
+	}
+	run := func(b *testing.B, name string, p *Problem) {
 		work := newDecomposer(p, Options{}).pricingWork
-		for _, form := range []MasterForm{MasterDual, MasterLive} {
-			name := "dual"
-			if form == MasterLive {
-				name = "live"
-			}
-			b.Run(fmt.Sprintf("%s/targets=%v/%s", spec, spec.Targets, name), func(b *testing.B) {
+		for _, f := range forms {
+			b.Run(name+"/"+f.name, func(b *testing.B) {
 				var plan *Plan
 				for b.Loop() {
 					var err error
-					if plan, err = SolveWith(p, Options{Method: Decomposed, Master: form}); err != nil {
+					if plan, err = SolveWith(p, f.o); err != nil {
 						b.Fatal(err)
 					}
 				}
@@ -109,4 +112,30 @@ func BenchmarkMasterForm(b *testing.B) {
 			})
 		}
 	}
+	for _, spec := range []GenSpec{
+		{Classes: 4, States: 5, Treatments: 4, Years: 20, BudgetShare: 0.15},
+		{Classes: 4, States: 5, Treatments: 4, Years: 20, Targets: true, BudgetShare: 0.15},
+		{Classes: 10, States: 6, Treatments: 5, Years: 20, Targets: true, BudgetShare: 0.15},
+		{Classes: 20, States: 7, Treatments: 6, Years: 30, Targets: true, BudgetShare: 0.15},
+	} {
+		run(b, fmt.Sprintf("%s/targets=%v", spec, spec.Targets), Generate(rand.New(rand.NewPCG(1, 1)), spec))
+	}
+	for _, spec := range []GenSpec{
+		{Classes: 1, States: 7, Treatments: 6, Years: 30},
+		{Classes: 1, States: 10, Treatments: 8, Years: 40},
+		{Classes: 1, States: 10, Treatments: 8, Years: 40, Catalogue: true},
+	} {
+		run(b, spec.String()+"/hold", holdToday(Generate(rand.New(rand.NewPCG(1, 1)), spec)))
+	}
+}
+
+// holdToday makes p the plan the renewal indicators make of a class:
+// least cost, no budget, the class's score at least today's in every
+// year.
+func holdToday(p *Problem) *Problem {
+	p.Budget, p.GroupBudgets, p.RoutineInBudget = nil, nil, false
+	p.Objective = MinCost
+	c := &p.Classes[0]
+	p.Targets = []Target{{Label: "hold", Class: 0, Kind: MinScore, Value: c.ScoreOf(c.Initial) - 1e-7, From: 1, To: p.Horizon}}
+	return p
 }

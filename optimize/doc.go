@@ -230,7 +230,22 @@
 // target rows gave answers these checks rejected. Hold rows are rows of
 // this master, as in the primal fallback; the Lagrangian warm-up runs on
 // these networks too (keeping the last 10 steps' policies), since a
-// pricing round is cheap beside the rounds it saves.
+// pricing round is cheap beside the rounds it saves; a live master of a
+// single class goes without it, having converged in as many rounds.
+//
+// A live master of at most 64 rows (a class planned alone under one
+// target row a year, as the renewal indicators plan each class, has the
+// horizon plus two) is not handed to lp_solve but solved in Go by a dense
+// bounded primal simplex (Chvátal, Linear Programming, 1983; phase 1 by
+// the sum of infeasibilities, Maros, Computational Techniques of the
+// Simplex Method, 2003): logicals bounded by each row's sense, Dantzig's
+// pricing with Bland's rule after a run of degenerate pivots, Harris's
+// ratio test, an explicit inverse updated per pivot, bordered when a row
+// is added, and computed afresh every 50 pivots. lp_solve's set-up cost
+// per solve (about 0.1 ms) was most of such a master's time; the dense
+// simplex took a 10-state, 8-treatment, 40-year class from 22 to 13.5 ms
+// (BenchmarkMasterForm, .../hold). Its answers pass the same checks, and
+// one that fails is solved again in lp_solve.
 //
 // Funding questions. The least level budget (LevelBudget) and the extra
 // money that closes the targets (ClosingMoney) are one LP each: the plan's
