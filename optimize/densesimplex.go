@@ -1,7 +1,10 @@
 package optimize
 
 import (
+	"errors"
 	"math"
+
+	"gonum.org/v1/gonum/mat"
 )
 
 // denseLP is a small linear program, max c·x over rows a·x (>=, <=, =) b
@@ -201,52 +204,31 @@ func (d *denseLP) column(v int, out []float64) {
 	out[-1-v] = -1
 }
 
-// refactor computes the basis inverse afresh by Gauss-Jordan elimination
-// with partial pivoting, and the basic variables' values from it.
+// refactor computes the basis inverse afresh (gonum's LU with partial
+// pivoting), and the basic variables' values from it. A basis gonum
+// finds singular is no basis; one it finds ill-conditioned is kept, its
+// answers being refined and checked by their reader.
 func (d *denseLP) refactor() bool {
 	R := d.rows
-	a := make([][]float64, R)
-	for i := range a {
-		a[i] = make([]float64, 2*R)
-		a[i][R+i] = 1
-	}
+	b := mat.NewDense(R, R, nil)
 	col := make([]float64, R)
 	for p, v := range d.basis {
 		d.column(v, col)
-		for i := 0; i < R; i++ {
-			a[i][p] = col[i]
-		}
+		b.SetCol(p, col)
 	}
-	for c := 0; c < R; c++ {
-		best, bi := 0.0, -1
-		for i := c; i < R; i++ {
-			if v := math.Abs(a[i][c]); v > best {
-				best, bi = v, i
-			}
-		}
-		if best < 1e-12 {
+	var inv mat.Dense
+	if err := inv.Inverse(b); err != nil {
+		var c mat.Condition
+		if !errors.As(err, &c) || math.IsInf(float64(c), 1) {
 			return false
-		}
-		a[c], a[bi] = a[bi], a[c]
-		inv := 1 / a[c][c]
-		for k := c; k < 2*R; k++ {
-			a[c][k] *= inv
-		}
-		for i := 0; i < R; i++ {
-			if i == c || a[i][c] == 0 {
-				continue
-			}
-			f := a[i][c]
-			for k := c; k < 2*R; k++ {
-				a[i][k] -= f * a[c][k]
-			}
 		}
 	}
 	if len(d.inv) != R {
 		d.inv = make([][]float64, R)
 	}
-	for i := range a {
-		d.inv[i] = a[i][R:]
+	for p := range d.inv {
+		// A full slice: a row added later appends to each row on its own.
+		d.inv[p] = inv.RawRowView(p)[:R:R]
 	}
 	d.computeXB()
 	d.pivots = 0
